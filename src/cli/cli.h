@@ -1,0 +1,131 @@
+/* cli.h - what every subcommand of the rigmat program shares.
+ *
+ * A subcommand is one file src/cli/cmd_<name>.c defining
+ *     rigmat_status cmd_<name>(int argc, char **argv, struct cli_env *env);
+ * and one row in the table in src/cli/main.c.  It parses its options with
+ * cli_parse() from a table (src/cli/opt.c), loads the model with
+ * cli_load_model(), and writes its result to env->out, a memory stream:
+ * main() copies it to standard output or to the -o file only when the
+ * command returns RIGMAT_OK, so output is written whole or not at all.
+ * Diagnostics go to env->err (standard error) as they happen.
+ */
+#ifndef RIGMAT_CLI_H
+#define RIGMAT_CLI_H
+
+#include "rigmat.h"
+#include <stdio.h>
+
+struct cli_env {
+    const char *command;    /* "linearize" */
+    FILE *out;              /* memory stream for the result */
+    FILE *err;              /* standard error */
+    rigmat_options opt;     /* defaults, adjusted by common options */
+    const char *output;     /* -o FILE, or NULL for standard output */
+};
+
+enum cli_opt_type {
+    CLI_OPT_END = 0,
+    CLI_OPT_FLAG,   /* int *: set to 1 */
+    CLI_OPT_STRING, /* const char **: last one wins */
+    CLI_OPT_LIST    /* struct cli_list *: repeatable */
+};
+
+struct cli_list {
+    const char *items[64];
+    size_t count;
+};
+
+struct cli_opt {
+    char short_name;        /* 0 for none */
+    const char *long_name;  /* without the dashes */
+    enum cli_opt_type type;
+    void *value;
+    const char *arg;        /* "FREQ" in the help; NULL for flags */
+    const char *help;       /* one line */
+};
+
+#define CLI_OPT_END_ROW { 0, NULL, CLI_OPT_END, NULL, NULL, NULL }
+
+/* The options most commands take: --set, --format, -o, --catalog. */
+struct cli_common {
+    struct cli_list sets;
+    const char *format;  /* NULL = text */
+    const char *catalog;
+    int help;
+};
+#define CLI_COMMON_ROWS(c) \
+    { 0, "set", CLI_OPT_LIST, &(c)->sets, "PATH=VALUE", \
+      "override a model value, with units (repeatable)" }, \
+    { 0, "format", CLI_OPT_STRING, &(c)->format, "FORMAT", "output format: text or json" }, \
+    { 'o', "output", CLI_OPT_STRING, NULL, "FILE", \
+      "write the result to FILE (whole or not at all)" }, \
+    { 0, "catalog", CLI_OPT_STRING, &(c)->catalog, "DIR", "look for catalog parts in DIR first" }, \
+    { 'h', "help", CLI_OPT_FLAG, &(c)->help, NULL, "show this help" }
+
+/* Parse argv[1..argc-1] against opts; positional arguments are returned in
+ * pos (pointers into argv).  `-o`/`--output` always sets env->output.
+ * On misuse prints one line to env->err ("rigmat linearize: unknown option
+ * '--x'") and returns RIGMAT_EUSAGE. */
+rigmat_status cli_parse(int argc, char **argv, const struct cli_opt *opts, struct cli_env *env,
+        const char **pos, size_t maxpos, size_t *npos);
+
+/* Print "usage: ..." lines and the option table to f. */
+void cli_usage(FILE *f, const char *const *usage, const struct cli_opt *opts);
+
+/* Check a --format value against the accepted names (NULL-terminated);
+ * text when fmt is NULL.  Returns the index, or -1 after a usage message. */
+int cli_format(struct cli_env *env, const char *fmt, const char *const *accepted);
+
+/* Load FILE with the common options applied; prints diagnostics to
+ * env->err.  Returns RIGMAT_EMODEL / RIGMAT_EIO on failure. */
+rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct cli_common *c,
+        rigmat_model **out);
+
+/* Report a rigmat_error on env->err as "rigmat CMD: error: message" (with
+ * its place when it has one) and the hint; returns err->status. */
+rigmat_status cli_report(struct cli_env *env, const rigmat_error *err);
+
+/* Parse a quantity given on the command line for an option, e.g.
+ * --rate 200Hz as a frequency; prints a usage error on failure. */
+rigmat_status cli_quantity(struct cli_env *env, const char *option, const char *text, int kind,
+        double *value_si);
+
+/* ------------------------------------------------------------ writers */
+
+/* A small JSON emitter over a FILE: numbers with 17 significant digits (so
+ * they round-trip), strings escaped, non-finite numbers refused (the
+ * emitter remembers the failure; cli_json_end returns RIGMAT_ENUMERIC). */
+struct cli_json {
+    FILE *f;
+    int depth;
+    int first[32]; /* first item at this depth */
+    int bad;       /* a non-finite number was asked for */
+    int pretty;
+};
+void cli_json_begin(struct cli_json *j, FILE *f);       /* opens the top object */
+rigmat_status cli_json_end(struct cli_json *j);         /* closes it, newline */
+void cli_json_key(struct cli_json *j, const char *key); /* inside an object */
+void cli_json_obj_open(struct cli_json *j);
+void cli_json_obj_close(struct cli_json *j);
+void cli_json_arr_open(struct cli_json *j);
+void cli_json_arr_close(struct cli_json *j);
+void cli_json_str(struct cli_json *j, const char *s);
+void cli_json_num(struct cli_json *j, double v);
+void cli_json_int(struct cli_json *j, long v);
+void cli_json_bool(struct cli_json *j, int v);
+void cli_json_null(struct cli_json *j);
+/* A matrix as a list of rows; NULL or empty gives [] rows of the given
+ * shape (rows x 0 gives rows empty lists). */
+void cli_json_matrix(struct cli_json *j, const gsl_matrix *m, size_t rows, size_t cols);
+void cli_json_vector(struct cli_json *j, const gsl_vector *v, size_t n);
+/* [{name, unit[, role]}...] for a signal list. */
+void cli_json_signals(struct cli_json *j, const rigmat_signal *s, size_t n, int with_role);
+/* The common head: rigmat, model, kind, order_hash, states, inputs, outputs. */
+void cli_json_head(struct cli_json *j, const rigmat_model *m, const char *kind);
+
+/* Text: a labelled matrix, aligned, rows and columns named "name [unit]".
+ * m may be NULL when a dimension is 0 (prints "(empty)"). */
+void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigmat_signal *rows,
+        size_t nrows, const rigmat_signal *cols, size_t ncols);
+
+#endif /* RIGMAT_CLI_H */

@@ -1,0 +1,48 @@
+/* common.c - model loading and error reporting shared by the commands. */
+#include "cli.h"
+
+#include <string.h>
+
+static void put_clean(FILE *f, const char *s)
+{
+    for (; s != NULL && *s; s++) {
+        unsigned char c = (unsigned char)*s;
+        fputc((c < 0x20 || c == 0x7f) ? '?' : c, f);
+    }
+}
+
+rigmat_status cli_report(struct cli_env *env, const rigmat_error *err)
+{
+    if (err->where.file != NULL) {
+        put_clean(env->err, err->where.file);
+        if (err->where.line > 0)
+            fprintf(env->err, ":%lu:%lu", err->where.line, err->where.col);
+        fputs(": error: ", env->err);
+    } else {
+        fprintf(env->err, "rigmat %s: error: ", env->command);
+    }
+    put_clean(env->err, err->message);
+    fputc('\n', env->err);
+    if (err->hint[0] != '\0') {
+        fputs("  hint: ", env->err);
+        put_clean(env->err, err->hint);
+        fputc('\n', env->err);
+    }
+    return err->status != RIGMAT_OK ? err->status : RIGMAT_EINTERNAL;
+}
+
+rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct cli_common *c,
+        rigmat_model **out)
+{
+    rigmat_diags d;
+    rigmat_status st;
+
+    if (c->catalog != NULL)
+        env->opt.catalog_dir = c->catalog;
+    rigmat_diags_init(&d);
+    d.max_errors = env->opt.max_errors;
+    st = rigmat_model_load(file, c->sets.items, c->sets.count, &env->opt, out, &d);
+    rigmat_diags_print(&d, env->err);
+    rigmat_diags_release(&d);
+    return st;
+}

@@ -1,0 +1,168 @@
+/* main.c - the rigmat program: the command table, the shared set-up and
+ * tear-down, and the one mapping from status to exit code.
+ *
+ * Every command writes its result into a memory stream; only when it
+ * returns RIGMAT_OK is the result copied to standard output or to the -o
+ * file, so a failure part-way never leaves half a result behind.
+ */
+#include "cli.h"
+#include "outfile.h"
+
+#include <errno.h>
+#include <stdlib.h>
+#include <string.h>
+#include <gsl/gsl_errno.h>
+
+#define CMD(name) rigmat_status cmd_##name(int argc, char **argv, struct cli_env *env);
+CMD(check)
+CMD(linearize)
+CMD(trim)
+CMD(discretize)
+CMD(parts)
+#undef CMD
+
+struct command {
+    const char *name;
+    rigmat_status (*fn)(int, char **, struct cli_env *);
+    const char *summary;
+};
+
+static const struct command commands[] = {
+    { "check", cmd_check, "validate a model; summary, noise per sample, sign table" },
+    { "linearize", cmd_linearize, "continuous A, B, C, D at the operating point" },
+    { "discretize", cmd_discretize, "sampled model and Kalman noise model at a rate" },
+    { "trim", cmd_trim, "solve the operating point; print it and the residual" },
+    { "parts", cmd_parts, "list the catalog, or show one part" },
+};
+
+/* Exit codes, documented in README.md. */
+static int exit_code(rigmat_status st)
+{
+    switch (st) {
+    case RIGMAT_OK: return 0;
+    case RIGMAT_EMODEL: return 1;
+    case RIGMAT_EUSAGE: return 2;
+    case RIGMAT_ENUMERIC: return 3;
+    case RIGMAT_EIO: return 4;
+    case RIGMAT_ENOMEM: return 4;
+    case RIGMAT_EINTERNAL: return 5;
+    }
+    return 5;
+}
+
+static void main_usage(FILE *f)
+{
+    size_t i;
+
+    fputs("usage: rigmat COMMAND FILE [options]\n\n"
+          "Turn a YAML description of a planar mechanism into its state-space model.\n\n"
+          "commands:\n", f);
+    for (i = 0; i < sizeof commands / sizeof commands[0]; i++)
+        fprintf(f, "  %-12s %s\n", commands[i].name, commands[i].summary);
+    fputs("\n'rigmat COMMAND --help' shows a command's options.\n"
+          "exit codes: 0 ok, 1 bad model, 2 bad usage, 3 numerical failure,\n"
+          "            4 input/output error, 5 internal error\n", f);
+}
+
+/* The test hook of the output writer: RIGMAT_TEST_WRITE_FAIL=N makes the
+ * write fail after N bytes (tests/cli.sh uses it; root can write anywhere,
+ * so permission bits cannot provoke the failure). */
+static size_t fault_after(void)
+{
+    const char *s = getenv("RIGMAT_TEST_WRITE_FAIL");
+    char *end;
+    unsigned long v;
+
+    if (s == NULL || *s == '\0')
+        return RIGMAT_OUTFILE_NO_FAULT;
+    v = strtoul(s, &end, 10);
+    return *end == '\0' ? (size_t)v : RIGMAT_OUTFILE_NO_FAULT;
+}
+
+static rigmat_status emit(struct cli_env *env, const char *data, size_t len)
+{
+    rigmat_error e;
+    const size_t fail = fault_after();
+
+    memset(&e, 0, sizeof e);
+    if (env->output != NULL && strcmp(env->output, "-") != 0) {
+        if (rigmat_outfile_write(env->output, data, len, fail, &e) != RIGMAT_OK)
+            return cli_report(env, &e);
+        return RIGMAT_OK;
+    }
+    if (fail != RIGMAT_OUTFILE_NO_FAULT && fail < len) {
+        fwrite(data, 1, fail, stdout);
+        fprintf(env->err, "rigmat %s: error: cannot write the output: %s\n", env->command,
+                strerror(ENOSPC));
+        return RIGMAT_EIO;
+    }
+    if (len > 0 && fwrite(data, 1, len, stdout) != len) {
+        fprintf(env->err, "rigmat %s: error: cannot write the output: %s\n", env->command,
+                strerror(errno));
+        return RIGMAT_EIO;
+    }
+    return RIGMAT_OK;
+}
+
+int main(int argc, char **argv)
+{
+    struct cli_env env;
+    const struct command *cmd = NULL;
+    char *buf = NULL;
+    size_t len = 0, i;
+    rigmat_status st;
+
+    gsl_set_error_handler_off();
+    memset(&env, 0, sizeof env);
+    env.err = stderr;
+    env.opt = rigmat_options_default();
+    env.opt.catalog_env = getenv("RIGMAT_CATALOG");
+    env.opt.catalog_share = RIGMAT_SHARE_DIR;
+
+    if (argc < 2) {
+        main_usage(stderr);
+        return exit_code(RIGMAT_EUSAGE);
+    }
+    if (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
+            strcmp(argv[1], "help") == 0) {
+        main_usage(stdout);
+        st = RIGMAT_OK;
+        goto out;
+    }
+    if (strcmp(argv[1], "--version") == 0) {
+        printf("rigmat %s (model schema %d)\n", RIGMAT_VERSION, RIGMAT_SCHEMA);
+        st = RIGMAT_OK;
+        goto out;
+    }
+    for (i = 0; i < sizeof commands / sizeof commands[0]; i++)
+        if (strcmp(argv[1], commands[i].name) == 0)
+            cmd = &commands[i];
+    if (cmd == NULL) {
+        fprintf(stderr, "rigmat: unknown command '%s'\n", argv[1]);
+        fputs("  hint: 'rigmat --help' lists the commands\n", stderr);
+        return exit_code(RIGMAT_EUSAGE);
+    }
+    env.command = cmd->name;
+    env.out = open_memstream(&buf, &len);
+    if (env.out == NULL) {
+        fprintf(stderr, "rigmat: out of memory\n");
+        return exit_code(RIGMAT_ENOMEM);
+    }
+    st = cmd->fn(argc - 1, argv + 1, &env);
+    if (fclose(env.out) != 0 && st == RIGMAT_OK) {
+        fprintf(stderr, "rigmat %s: out of memory while writing the result\n", cmd->name);
+        st = RIGMAT_ENOMEM;
+    }
+    if (st == RIGMAT_OK)
+        st = emit(&env, buf, len);
+    free(buf);
+out:
+    /* A lost result must not exit 0 (a full disk, /dev/full). */
+    if (fflush(stdout) != 0 || ferror(stdout) || fclose(stdout) != 0) {
+        if (st == RIGMAT_OK || st == RIGMAT_EUSAGE) {
+            fprintf(stderr, "rigmat: error: writing the output failed: %s\n", strerror(errno));
+            st = RIGMAT_EIO;
+        }
+    }
+    return exit_code(st);
+}

@@ -1,0 +1,112 @@
+/* load.h - the model loader's internal interface.
+ *
+ * Loading runs in four steps, each in its own file:
+ *   load_yaml.c  file -> a generic tree of nodes (libyaml's event API), with
+ *                the 1-based line and column of every key and value; the
+ *                only file that sees libyaml's 1/0 returns and 0-based marks;
+ *                enforces the input limits of rigmat_options;
+ *   load_part.c  `part: motors/x` entries merged with their catalog file
+ *                (the model's keys override the part's);
+ *   load_set.c   --set PATH=VALUE overrides applied to the tree;
+ *   load.c       the tree interpreted as schema 1 into a rigmat_model.
+ *
+ * Every node owns its children and strings.  A loc's file pointer is an
+ * interned name owned by the rigmat_diags passed as `files` (the model's
+ * owner_diags), so locs stay valid as long as the model.
+ */
+#ifndef RIGMAT_LOAD_H
+#define RIGMAT_LOAD_H
+
+#include "rigmat.h"
+
+typedef enum rigmat_node_type {
+    RIGMAT_NODE_SCALAR, RIGMAT_NODE_SEQ, RIGMAT_NODE_MAP
+} rigmat_node_type;
+
+typedef struct rigmat_node rigmat_node;
+
+/* One key: value pair of a mapping. */
+typedef struct rigmat_entry {
+    char *key;          /* owned; never contains NUL */
+    rigmat_loc key_loc; /* where the key starts */
+    rigmat_node *value; /* owned */
+} rigmat_entry;
+
+struct rigmat_node {
+    rigmat_node_type type;
+    rigmat_loc loc;        /* where the value starts (1-based) */
+    char *text;            /* SCALAR: owned, NUL-terminated */
+    int plain;             /* SCALAR: written without quotes */
+    rigmat_node **items;   /* SEQ: owned */
+    rigmat_entry *entries; /* MAP: owned, in file order */
+    size_t n, cap;         /* items or entries */
+};
+
+/* Parse a YAML text into a tree.  file is the name for locs (interned in
+ * files); first_line and first_col shift every loc (1 and 1 for a file; a
+ * --set value is parsed with the column where it starts).  Limits come from
+ * opt (depth, node count).  Errors go to d; returns RIGMAT_OK with *out set
+ * (NULL for an empty document), RIGMAT_EMODEL, or RIGMAT_ENOMEM. */
+rigmat_status rigmat_load_yaml_text(const char *text, size_t len, const char *file,
+        unsigned long first_line, unsigned long first_col, const rigmat_options *opt,
+        rigmat_diags *files, rigmat_diags *d, rigmat_node **out);
+
+/* Read a whole file (at most opt->max_file_bytes) and parse it as above.
+ * RIGMAT_EIO with a diagnostic when it cannot be read (missing, a folder,
+ * unreadable); RIGMAT_EMODEL when it is too large or not valid YAML. */
+rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
+        rigmat_diags *files, rigmat_diags *d, rigmat_node **out);
+
+/* Free a tree; NULL does nothing. */
+void rigmat_node_free(rigmat_node *n);
+
+/* A new scalar node (text copied), or NULL when out of memory. */
+rigmat_node *rigmat_node_scalar(const char *text, rigmat_loc loc);
+/* A new empty mapping, or NULL. */
+rigmat_node *rigmat_node_map(rigmat_loc loc);
+/* Append key: value to a mapping, taking value; RIGMAT_ENOMEM (value freed)
+ * when out of memory. */
+rigmat_status rigmat_node_map_add(rigmat_node *map, const char *key, rigmat_loc key_loc,
+        rigmat_node *value);
+/* Deep copy, or NULL when out of memory. */
+rigmat_node *rigmat_node_copy(const rigmat_node *n);
+
+/* The entry with this key in a mapping, or NULL (also when n is not a map). */
+rigmat_entry *rigmat_node_get(const rigmat_node *n, const char *key);
+
+/* Words for a node type in messages: "a value", "a list", "a mapping". */
+const char *rigmat_node_type_words(rigmat_node_type t);
+
+/* Levenshtein distance between a and b, capped at cap (returns cap when
+ * the distance is cap or more); for "did you mean" hints. */
+size_t rigmat_load_distance(const char *a, const char *b, size_t cap);
+
+/* Replace every `part:` entry of the model's sections with the merged part
+ * (load_part.c).  model_path is the model file (its folder is searched). */
+rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path,
+        const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d);
+
+/* Resolve a part name to a file path (malloc'd, caller frees) by the
+ * lookup order documented in load_part.c.  model_path may be NULL (then
+ * the current folder stands in for the model's folder).  Returns RIGMAT_OK,
+ * RIGMAT_EMODEL with a message in err (bad name, not found) or
+ * RIGMAT_ENOMEM. */
+rigmat_status rigmat_load_part_path(const char *name, const char *model_path,
+        const rigmat_options *opt, char **path, rigmat_error *err);
+
+/* The folders searched for parts, in order (at most 6; each malloc'd,
+ * caller frees each and sets *n).  Folders that do not exist are left out. */
+rigmat_status rigmat_load_part_folders(const char *model_path, const rigmat_options *opt,
+        char **folders, size_t max, size_t *n);
+
+/* Apply --set overrides (load_set.c).  Errors are placed at "--set", line =
+ * the override's 1-based position, column = the character in it. */
+rigmat_status rigmat_load_sets(rigmat_node *root, const char *const *sets, size_t nsets,
+        const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d);
+
+/* Interpret a tree (after parts and sets) as schema 1 (load.c).  Fills m,
+ * whose file and owner_diags are already set.  Errors go to d. */
+rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
+        const rigmat_options *opt, rigmat_diags *d);
+
+#endif /* RIGMAT_LOAD_H */

@@ -1,0 +1,88 @@
+/* lti.c - the continuous linear model container. */
+#include "rigmat.h"
+
+#include <stdlib.h>
+
+static gsl_matrix *zeros(size_t r, size_t c, int *bad)
+{
+    gsl_matrix *m;
+
+    if (r == 0 || c == 0)
+        return NULL;
+    m = gsl_matrix_calloc(r, c);
+    if (m == NULL)
+        *bad = 1;
+    return m;
+}
+
+static gsl_vector *zvec(size_t n, int *bad)
+{
+    gsl_vector *v;
+
+    if (n == 0)
+        return NULL;
+    v = gsl_vector_calloc(n);
+    if (v == NULL)
+        *bad = 1;
+    return v;
+}
+
+static double *zarr(size_t n, int *bad)
+{
+    double *p = calloc(n ? n : 1, sizeof *p);
+
+    if (p == NULL)
+        *bad = 1;
+    return p;
+}
+
+rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control)
+{
+    rigmat_lti *s = calloc(1, sizeof *s);
+    int bad = 0;
+
+    if (s == NULL)
+        return NULL;
+    s->nx = nx;
+    s->nu = nu;
+    s->ny = ny;
+    s->nu_control = nu_control;
+    s->A = zeros(nx, nx, &bad);
+    s->B = zeros(nx, nu, &bad);
+    s->C = zeros(ny, nx, &bad);
+    s->D = zeros(ny, nu, &bad);
+    s->x0 = zvec(nx, &bad);
+    s->u0 = zvec(nu, &bad);
+    s->y0 = zvec(ny, &bad);
+    s->f0 = zvec(nx, &bad);
+    s->input_intensity = zarr(nu, &bad);
+    s->output_noise_sd = zarr(ny, &bad);
+    s->output_density = zarr(ny, &bad);
+    s->output_bandwidth_hz = zarr(ny, &bad);
+    s->output_resolution = zarr(ny, &bad);
+    if (bad) {
+        rigmat_lti_free(s);
+        return NULL;
+    }
+    return s;
+}
+
+void rigmat_lti_free(rigmat_lti *s)
+{
+    if (s == NULL)
+        return;
+    if (s->A) gsl_matrix_free(s->A);
+    if (s->B) gsl_matrix_free(s->B);
+    if (s->C) gsl_matrix_free(s->C);
+    if (s->D) gsl_matrix_free(s->D);
+    if (s->x0) gsl_vector_free(s->x0);
+    if (s->u0) gsl_vector_free(s->u0);
+    if (s->y0) gsl_vector_free(s->y0);
+    if (s->f0) gsl_vector_free(s->f0);
+    free(s->input_intensity);
+    free(s->output_noise_sd);
+    free(s->output_density);
+    free(s->output_bandwidth_hz);
+    free(s->output_resolution);
+    free(s);
+}

@@ -1,0 +1,106 @@
+/* outfile.c - write a result whole or not at all.
+ *
+ * A regular file (or a name that does not exist yet) is written to a
+ * temporary file in the same folder, flushed to disk with fsync and renamed
+ * over the target, so a reader sees either the old file or the new one
+ * (the calling sequence of git's lockfile.h, in our own code).  A target
+ * that exists and is not a regular file (a terminal, a pipe, /dev/stdout, a
+ * device) is written directly and never renamed over.  The whole result is
+ * in memory before this is called, so an error in the model found after
+ * output began never reaches the file.
+ */
+#include "rigmat.h"
+#include "outfile.h"
+
+#include <errno.h>
+#include <fcntl.h>
+#include <signal.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+static rigmat_status write_all(int fd, const char *data, size_t len, size_t fail_after,
+        const char *path, rigmat_error *err)
+{
+    size_t done = 0;
+
+    while (done < len) {
+        size_t chunk = len - done;
+        ssize_t n;
+        if (fail_after != RIGMAT_OUTFILE_NO_FAULT && done + chunk > fail_after) {
+            chunk = fail_after > done ? fail_after - done : 0;
+            if (chunk == 0) {
+                errno = ENOSPC; /* the injected fault */
+                return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path,
+                        strerror(errno));
+            }
+        }
+        n = write(fd, data + done, chunk);
+        if (n < 0) {
+            if (errno == EINTR)
+                continue;
+            return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+        }
+        done += (size_t)n;
+    }
+    return RIGMAT_OK;
+}
+
+rigmat_status rigmat_outfile_write(const char *path, const char *data, size_t len,
+        size_t fail_after, rigmat_error *err)
+{
+    struct stat st;
+    char *tmp = NULL;
+    int fd = -1;
+    rigmat_status rc;
+    sigset_t block, old;
+
+    if (stat(path, &st) == 0 && !S_ISREG(st.st_mode)) {
+        if (S_ISDIR(st.st_mode))
+            return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': it is a folder", path);
+        fd = open(path, O_WRONLY | O_APPEND);
+        if (fd < 0)
+            return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot open '%s': %s", path, strerror(errno));
+        rc = write_all(fd, data, len, fail_after, path, err);
+        if (close(fd) != 0 && rc == RIGMAT_OK)
+            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+        return rc;
+    }
+    tmp = malloc(strlen(path) + 16);
+    if (tmp == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    strcpy(tmp, path);
+    strcat(tmp, ".tmp-XXXXXX");
+    /* A signal between mkstemp and rename must not leave the temporary
+     * behind: hold the usual terminating signals until we are done. */
+    sigemptyset(&block);
+    sigaddset(&block, SIGINT);
+    sigaddset(&block, SIGTERM);
+    sigaddset(&block, SIGHUP);
+    sigprocmask(SIG_BLOCK, &block, &old);
+    fd = mkstemp(tmp);
+    if (fd < 0) {
+        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot create a file beside '%s': %s", path,
+                strerror(errno));
+        goto done;
+    }
+    rc = write_all(fd, data, len, fail_after, path, err);
+    if (rc == RIGMAT_OK && fsync(fd) != 0)
+        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+    if (close(fd) != 0 && rc == RIGMAT_OK)
+        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+    fd = -1;
+    if (rc == RIGMAT_OK) {
+        if (stat(path, &st) != 0)
+            st.st_mode = 0644;
+        if (chmod(tmp, st.st_mode & 07777) != 0 || rename(tmp, path) != 0)
+            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot replace '%s': %s", path, strerror(errno));
+    }
+    if (rc != RIGMAT_OK)
+        unlink(tmp);
+done:
+    sigprocmask(SIG_SETMASK, &old, NULL);
+    free(tmp);
+    return rc;
+}

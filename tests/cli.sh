@@ -1,0 +1,92 @@
+#!/bin/sh
+# cli.sh - command-line behaviour: exit codes, help, diagnostics on stderr,
+# whole-or-nothing output.  Run by `make check` with RIGMAT=path/to/rigmat.
+set -u
+R=${RIGMAT:-build/rigmat}
+DEMO=examples/balancer.yaml
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT INT TERM
+pass=0
+fail=0
+
+ok() { pass=$((pass + 1)); }
+bad() { fail=$((fail + 1)); echo "FAIL: $*" >&2; }
+
+# expect CODE DESCRIPTION -- command...
+expect() {
+    want=$1; what=$2; shift 3
+    "$@" >"$T/out" 2>"$T/err"
+    got=$?
+    if [ "$got" = "$want" ]; then ok; else bad "$what: exit $got, want $want"; sed 's/^/  | /' "$T/err" >&2; fi
+}
+
+has() { # has FILE PATTERN DESCRIPTION
+    if grep -q -- "$2" "$1"; then ok; else bad "$3: '$2' not in $1"; sed 's/^/  | /' "$1" >&2; fi
+}
+
+expect 0 "top-level help" -- "$R" --help
+has "$T/out" "usage: rigmat" "help goes to stdout"
+expect 0 "version" -- "$R" --version
+has "$T/out" "rigmat [0-9]" "version line"
+expect 2 "no command" -- "$R"
+expect 2 "unknown command" -- "$R" frobnicate
+has "$T/err" "unknown command" "unknown command message"
+expect 0 "check help" -- "$R" check --help
+has "$T/out" "usage:" "check help text"
+expect 2 "unknown option" -- "$R" check "$DEMO" --no-such-option
+expect 2 "missing file" -- "$R" check
+expect 4 "model file does not exist" -- "$R" check "$T/nope.yaml"
+expect 4 "model is a folder" -- "$R" check "$T"
+
+expect 0 "demo checks" -- "$R" check "$DEMO"
+has "$T/out" "tilt" "summary names the tilt joint"
+expect 0 "demo json" -- "$R" check "$DEMO" --format json
+expect 2 "bad format" -- "$R" check "$DEMO" --format yamlish
+
+# A broken model: exit 1, FILE:LINE:COL: error: on stderr, nothing on stdout.
+printf 'rigmat: 1\nbodies:\n  b: {mass: 3 m}\n' >"$T/bad.yaml"
+expect 1 "bad model" -- "$R" check "$T/bad.yaml"
+has "$T/err" "bad.yaml:3:[0-9]*: error: " "diagnostic format"
+if [ -s "$T/out" ]; then bad "bad model printed a result"; else ok; fi
+
+# Output is written whole or not at all.
+expect 0 "-o writes a file" -- "$R" check "$DEMO" -o "$T/sum.txt"
+if [ -s "$T/sum.txt" ]; then ok; else bad "-o file empty"; fi
+cp "$T/sum.txt" "$T/before.txt"
+expect 1 "bad model with -o" -- "$R" check "$T/bad.yaml" -o "$T/sum.txt"
+if cmp -s "$T/sum.txt" "$T/before.txt"; then ok; else bad "failed run changed the -o file"; fi
+RIGMAT_TEST_WRITE_FAIL=10 "$R" check "$DEMO" -o "$T/sum.txt" >/dev/null 2>"$T/err"
+if [ $? = 4 ]; then ok; else bad "injected write fault: want exit 4"; fi
+if cmp -s "$T/sum.txt" "$T/before.txt"; then ok; else bad "injected write fault changed the file"; fi
+if ls "$T" | grep -q 'tmp-'; then bad "temporary file left behind"; else ok; fi
+expect 4 "-o into a missing folder" -- "$R" check "$DEMO" -o "$T/no/such/dir/out.txt"
+if [ -w /dev/full ]; then
+    "$R" check "$DEMO" >/dev/full 2>"$T/err"
+    if [ $? = 4 ]; then ok; else bad "/dev/full: want exit 4"; fi
+    "$R" check "$DEMO" -o /dev/full 2>"$T/err"
+    if [ $? = 4 ]; then ok; else bad "-o /dev/full: want exit 4"; fi
+fi
+"$R" check "$DEMO" -o /dev/stdout >"$T/viastdout" 2>"$T/err"
+if [ $? = 0 ] && [ -s "$T/viastdout" ]; then ok; else bad "-o /dev/stdout"; fi
+
+# Later stages, when present.
+if "$R" --help | grep -q '^  linearize'; then
+    expect 0 "linearize demo" -- "$R" linearize "$DEMO"
+    expect 0 "linearize demo json" -- "$R" linearize "$DEMO" --format json
+    has "$T/out" '"order_hash"' "linearize json has order_hash"
+    expect 1 "linearize bad model" -- "$R" linearize "$T/bad.yaml"
+fi
+if "$R" --help | grep -q '^  discretize'; then
+    expect 0 "discretize demo" -- "$R" discretize "$DEMO" --rate 200Hz
+    expect 0 "discretize demo json" -- "$R" discretize "$DEMO" --period 5ms --format json
+    has "$T/out" '"Qd"' "discretize json has Qd"
+    expect 2 "discretize without rate" -- "$R" discretize "$DEMO"
+    expect 2 "rate in rad/s" -- "$R" discretize "$DEMO" --rate 100rad/s
+fi
+
+for f in examples/*.yaml; do
+    expect 0 "example $f checks" -- "$R" check "$f"
+done
+
+echo "cli: $pass passed, $fail failed"
+[ "$fail" = 0 ]
