@@ -12,7 +12,7 @@
  * and cycle are base dimensions of their own: rad, deg and rev are angles,
  * rpm is an angle per time (2*pi/60 rad/s exactly), Hz is a cycle per time.
  * A field that wants an angular rate does not take Hz, and the reverse;
- * 2*pi enters only where a field asks for it (rigmat_units_expect with
+ * 2*pi enters only where a field asks for it (rigmat_units_expect_flags with
  * RIGMAT_UNITS_CYCLE_AS_ANGLE).
  *
  * Exact definitions used (NIST SP 811, 2008 edition, Appendix B):
@@ -67,9 +67,25 @@ rigmat_status rigmat_units_parse(const char *text, rigmat_quantity *q, rigmat_er
 rigmat_status rigmat_units_expect(const char *text, rigmat_kind kind, double *value_si,
         rigmat_error *err);
 
+/* Flags for rigmat_units_expect_flags. */
+typedef enum rigmat_units_flags {
+    RIGMAT_UNITS_PER_SQRT_HZ = 1 << 0,    /* expect the kind divided by sqrt(Hz) (a density) */
+    RIGMAT_UNITS_CYCLE_AS_ANGLE = 1 << 1  /* let cycles stand for angles: 1 cycle = 2*pi rad, so
+                                           * 5 Hz gives 31.4 rad/s; only for a field whose
+                                           * documentation says so */
+} rigmat_units_flags;
+
+/* rigmat_units_expect with flags (a bitwise or of rigmat_units_flags);
+ * rigmat_units_expect is this with 0, rigmat_units_expect_density with
+ * RIGMAT_UNITS_PER_SQRT_HZ.  Statuses as for rigmat_units_expect. */
+rigmat_status rigmat_units_expect_flags(const char *text, rigmat_kind kind, unsigned flags,
+        double *value_si, rigmat_error *err);
+
 /* Like rigmat_units_expect, for a dimension built from a kind: the kind
  * divided by sqrt(Hz) when per_sqrt_hz is set (a noise density such as
- * N/sqrt(Hz) or rad/s/sqrt(Hz)).  Messages name the composed unit. */
+ * N/sqrt(Hz) or rad/s/sqrt(Hz)).  Messages name the composed unit.  A
+ * density may also be written per sqrt(s) inverted, as sheets give an
+ * angle random walk (deg/sqrt(h)): 1/sqrt(Hz) is read as sqrt(s). */
 rigmat_status rigmat_units_expect_density(const char *text, rigmat_kind kind, double *value_si,
         rigmat_error *err);
 
@@ -79,7 +95,26 @@ rigmat_status rigmat_units_expect_density(const char *text, rigmat_kind kind, do
  *     constant (rpm/V, rad/s/V), which is inverted;
  *   LEAD takes m/rev (any length per angle) and a plain length, read as per
  *     turn;
- *   ROT_STIFFNESS / ROT_DAMPING also take N*m and N*m*s (per radian implied).
+ *   ROT_STIFFNESS / ROT_DAMPING also take N*m and N*m*s (per radian implied);
+ *   INERTIA also takes a per-radian form (N*m*s^2/rad).
+ *
+ * The value returned is in the unit of rigmat_units_kind_symbol(kind): SI
+ * for every kind except LEAD, whose value is metres per turn (what
+ * rigmat_motor.lead_m holds): "4 mm/rev", "4 mm" and a bare 0.004 all give
+ * 0.004.
+ *
+ * Details every caller may rely on:
+ *   - a unit alone ("kgf*cm", "rpm/V") stands for one of it;
+ *   - a symbol is matched whole before prefix + unit, so min is the minute
+ *     (not a milli-inch), h the hour and there is no hecto; prefixes are
+ *     p n u (also the micro sign and mu) m c d k M G, and apply to the SI
+ *     units and to g, gf, g0, Hz, rpm, ohm (krpm, ug0, mohm);
+ *   - a product needs '*' or a space: Nm is refused with "write N*m", so
+ *     mN (millinewton) and N*m never meet;
+ *   - nan, inf, a number beyond the double range and a value longer than
+ *     256 bytes are errors; parentheses and sqrt nest at most 16 deep;
+ *   - on an error err->where.col is set; where.file and where.line are
+ *     left as the caller set them, so a loader may fill them first.
  */
 
 /* The dimension of a kind, its words ("a mass") and its SI symbol ("kg"). */
