@@ -12,11 +12,13 @@ PYTHON  ?= /usr/bin/python3
 
 # Debian packages the build, tests and reference scripts need.
 DEB_PKGS = build-essential pkg-config libgsl-dev libyaml-dev check libsubunit-dev \
-           libopenblas-dev python3-numpy python3-scipy python3-sympy python3-mpmath
+           libopenblas-dev python3-numpy python3-scipy python3-sympy python3-mpmath \
+           time valgrind clang libclang-rt-14-dev
 # Headers / files whose presence shows each package is installed.
 DEB_PROBES = /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h /usr/include/check.h \
              /usr/lib/python3/dist-packages/scipy /usr/lib/python3/dist-packages/sympy \
-             /usr/lib/python3/dist-packages/mpmath /usr/lib/python3/dist-packages/numpy
+             /usr/lib/python3/dist-packages/mpmath /usr/lib/python3/dist-packages/numpy \
+             /usr/bin/time /usr/bin/valgrind /usr/bin/clang
 
 BUILD = build
 PROJECT_CFLAGS = -std=c99 -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc -Isrc/util -I$(BUILD) \
@@ -68,7 +70,8 @@ $(BUILD)/suites.h: $(sort $(wildcard tests/check_*.c))
 	@sed -n 's/^Suite \*\([a-z_0-9]*\)_suite(void)$$/RIGMAT_SUITE(\1)/p' $^ > $@.tmp && mv $@.tmp $@
 
 .PHONY: all deps check check-unit check-cli check-ref check-san check-valgrind demo bench \
-        install uninstall clean fuzz format
+        install uninstall clean fuzz format check-hostile check-fuzz check-fuzz-replay \
+        check-fuzz-short check-valgrind-cli
 all: deps-ok $(BUILD)/rigmat $(BUILD)/librigmat.a
 
 $(BUILD)/rigmat: $(BUILD)/plain/rigmat
@@ -99,7 +102,7 @@ demo: all
 
 # check: unit suites (plain), command-line tests, reference scripts, then the
 # unit suites again under AddressSanitizer + UndefinedBehaviorSanitizer.
-check: all check-symbols check-unit check-cli check-ref check-san
+check: all check-symbols check-unit check-cli check-ref check-san check-hostile check-fuzz
 	@echo "rigmat: all checks passed"
 check-symbols: $(BUILD)/librigmat.a
 	@nm -g --defined-only $< | awk 'NF==3 && $$3 !~ /^rigmat_/ {bad=1; print "non-prefixed symbol: " $$3} END {exit bad}'
@@ -114,9 +117,66 @@ check-san: $(BUILD)/san/check_rigmat $(BUILD)/san/rigmat
 	cd tests && ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 UBSAN_OPTIONS=print_stacktrace=1 \
 	    CK_DEFAULT_TIMEOUT=300 ../$(BUILD)/san/check_rigmat
 	RIGMAT=$(BUILD)/san/rigmat sh tests/cli.sh
-check-valgrind: $(BUILD)/vg/check_rigmat
+check-valgrind: $(BUILD)/vg/check_rigmat check-valgrind-cli
 	cd tests && CK_FORK=no CK_DEFAULT_TIMEOUT=600 valgrind --error-exitcode=9 --leak-check=full \
 	    --errors-for-leak-kinds=definite,indirect -q ../$(BUILD)/vg/check_rigmat
+# The program under memcheck on the examples and a few hostile files
+# (tests/valgrind-cli.sh); exit 9 from valgrind is a memory error.
+check-valgrind-cli: $(BUILD)/vg/rigmat
+	RIGMAT=$(BUILD)/vg/rigmat sh tests/valgrind-cli.sh
+
+# ------------------------------------------------------------ hostile input and fuzzing
+# check-hostile: every file of tests/hostile/ (and big ones generated into
+# $(BUILD)/hostile) refused with exit 1 or 4 and a diagnostic, under a memory
+# and time bound, by the plain build (tests/hostile.sh).
+check-hostile: $(BUILD)/rigmat
+	RIGMAT=$(BUILD)/rigmat HOSTILE_GEN=$(BUILD)/hostile sh tests/hostile.sh
+
+# Fuzz targets (tests/fuzz/): libFuzzer builds with clang in $(BUILD)/fuzz;
+# the same entry points linked to tests/fuzz/replay.c with the sanitizer
+# flavour replay the regression corpus and the seeds in `make check`.
+# `make fuzz FUZZ_SECONDS=N` fuzzes each target for N seconds, one after the
+# other, and logs the run in tests/fuzz/LOG.md; `make check` fuzzes each for
+# FUZZ_CHECK_SECONDS without logging (skipped, with a message, when
+# $(FUZZ_CC) cannot link libFuzzer).  fuzz_pipeline needs the linearize and
+# discretize modules and is built once their headers exist.
+FUZZ_CC ?= clang
+FUZZ_SECONDS ?= 60
+FUZZ_CHECK_SECONDS ?= 15
+FUZZ_SAN = -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
+FUZZ_NAMES = units load $(if $(and $(wildcard src/linearize.h),$(wildcard src/discretize.h)),pipeline)
+FUZZ_OBJ_LIB = $(LIB_SRC:%.c=$(BUILD)/fuzz/%.o)
+$(BUILD)/fuzz/%.o: %.c
+	@mkdir -p $(@D)
+	$(FUZZ_CC) $(PROJECT_CFLAGS) $(PKG_CFLAGS) -O1 -g $(FUZZ_SAN) -fsanitize=fuzzer-no-link -c $< -o $@
+$(BUILD)/fuzz/librigmat.a: $(FUZZ_OBJ_LIB)
+	@rm -f $@
+	ar rcs $@ $^
+$(BUILD)/fuzz/fuzz_%: $(BUILD)/fuzz/tests/fuzz/fuzz_%.o $(BUILD)/fuzz/librigmat.a
+	$(FUZZ_CC) $(FUZZ_SAN) -fsanitize=fuzzer -o $@ $^ $(LIBS)
+$(BUILD)/san/fuzz-replay-%: $(BUILD)/san/tests/fuzz/fuzz_%.o $(BUILD)/san/tests/fuzz/replay.o \
+        $(BUILD)/san/librigmat.a
+	$(CC) $(SAN_FLAGS) $(LDFLAGS) -o $@ $^ $(LIBS)
+-include $(FUZZ_OBJ_LIB:.o=.d) $(wildcard $(BUILD)/fuzz/tests/fuzz/*.d $(BUILD)/san/tests/fuzz/*.d)
+
+fuzz: $(FUZZ_NAMES:%=$(BUILD)/fuzz/fuzz_%)
+	@for t in $(FUZZ_NAMES); do \
+	    sh tests/fuzz/run.sh $$t $(FUZZ_SECONDS) $(BUILD)/fuzz tests/fuzz/LOG.md || exit 1; done
+check-fuzz: check-fuzz-replay check-fuzz-short
+check-fuzz-replay: $(FUZZ_NAMES:%=$(BUILD)/san/fuzz-replay-%)
+	@for t in $(FUZZ_NAMES); do \
+	    sh tests/fuzz/seeds.sh $$t $(BUILD)/fuzz-seeds/$$t || exit 1; \
+	    echo "fuzz replay: $$t"; \
+	    RIGMAT_CATALOG=$(CURDIR)/catalog ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=print_stacktrace=1 \
+	        $(BUILD)/san/fuzz-replay-$$t tests/fuzz/regressions/$$t $(BUILD)/fuzz-seeds/$$t || exit 1; \
+	done
+check-fuzz-short:
+	@mkdir -p $(BUILD); if printf 'int LLVMFuzzerTestOneInput(const char *d, unsigned long n);\nint LLVMFuzzerTestOneInput(const char *d, unsigned long n) { return d == 0 && n > 0; }\n' \
+	        | $(FUZZ_CC) -x c -fsanitize=fuzzer - -o $(BUILD)/fuzz-probe 2>/dev/null; then \
+	    $(MAKE) --no-print-directory $(FUZZ_NAMES:%=$(BUILD)/fuzz/fuzz_%) || exit 1; \
+	    for t in $(FUZZ_NAMES); do \
+	        sh tests/fuzz/run.sh $$t $(FUZZ_CHECK_SECONDS) $(BUILD)/fuzz || exit 1; done; \
+	else echo "fuzz: $(FUZZ_CC) cannot link libFuzzer; short fuzz run skipped (make deps)"; fi
 
 bench: all
 	@for b in $(BENCH_SRC:bench/%.c=$(BUILD)/bench/%); do $(MAKE) --no-print-directory $$b; done

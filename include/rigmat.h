@@ -424,4 +424,68 @@ typedef struct rigmat_lti {
 rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control);
 void rigmat_lti_free(rigmat_lti *s);
 
+/* ------------------------------------------- layout, equations, linearize */
+/* (src/layout.h, src/mechanics.h, src/linearize.h, src/trim.h) */
+
+/* Fill m->layout from the model: names, units, kinds and order of x, u and
+ * y (DESIGN.md section 2), after the optional states/inputs/outputs lists
+ * and `order: interleaved`, and the order hash.  Also checks that the
+ * model's equations can be built (driven joints give every derivative the
+ * model needs; a `states` list leaves out only cyclic coordinates).
+ * Problems go to d with the place of the offending entry; returns
+ * RIGMAT_EMODEL after recording at least one error, RIGMAT_ENOMEM.  The
+ * layout is owned by the model: release it with rigmat_layout_release. */
+rigmat_status rigmat_layout_build(rigmat_model *m, rigmat_diags *d);
+void rigmat_layout_release(rigmat_layout *l);
+
+/* The nonlinear model x' = f(x, u), y = h(x, u) in the order of m->layout
+ * (built), for extended Kalman filters and one's own simulators.  States
+ * a `states` list leaves out (cyclic coordinates) are held at their
+ * operating-point values.  Returns a new object owned by the caller
+ * (rigmat_system_free); it borrows m, which must outlive it.
+ * RIGMAT_EMODEL when the equations cannot be built (a driven joint gives
+ * too low a derivative: the message names the element). */
+typedef struct rigmat_system rigmat_system;
+rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, rigmat_error *err);
+void rigmat_system_free(rigmat_system *s);
+/* f and h at (x, u), arrays of length nx, nu (in), nx and ny (out; either
+ * may be NULL).  RIGMAT_ENUMERIC for a singular mass matrix (naming the
+ * coordinate without inertia) or a point spring of zero length. */
+rigmat_status rigmat_system_eval(rigmat_system *s, const double *x, const double *u, double *xdot,
+        double *y, rigmat_error *err);
+/* The exact Jacobians df/dx, df/du, dh/dx, dh/du at (x, u) by the complex
+ * step; matrices of the layout's sizes, any may be NULL. */
+rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const double *u,
+        gsl_matrix *A, gsl_matrix *B, gsl_matrix *C, gsl_matrix *D, rigmat_error *err);
+
+/* The continuous linear model at the model's operating point, after trim
+ * when operating_point.solve names unknowns.  *out is a new lti owned by the
+ * caller (rigmat_lti_free) whose layout points into m.  warnings (may be
+ * NULL) receives warnings: a steady motion along a coordinate that is not
+ * cyclic makes the model time-varying.  RIGMAT_ENUMERIC when the trim does
+ * not converge or a result is not finite; RIGMAT_EMODEL as for the system. */
+rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt, rigmat_lti **out,
+        rigmat_diags *warnings, rigmat_error *err);
+
+/* Trim: a steady state over the names in operating_point.solve, by
+ * Gauss-Newton with the exact Jacobian and an SVD step (src/trim.h). */
+typedef struct rigmat_trim_result {
+    size_t nx, nu;
+    double *x, *u;          /* the point found (or the last iterate), layout order */
+    double residual;        /* max |f| over the balance equations */
+    size_t iterations;
+    int converged;          /* residual <= opt->trim_tol */
+    char **free_unknowns;   /* unknowns the equations do not fix */
+    size_t nfree;
+    char **unmet_equations; /* equations no choice of the unknowns meets */
+    size_t nunmet;
+} rigmat_trim_result;
+/* Fill r (caller-owned struct, released with rigmat_trim_result_release
+ * whatever the status).  RIGMAT_ENUMERIC when it does not converge (r then
+ * holds the last iterate and its residual), RIGMAT_EMODEL for a name in
+ * solve that matches nothing. */
+rigmat_status rigmat_trim_model(const rigmat_model *m, const rigmat_options *opt,
+        rigmat_trim_result *r, rigmat_error *err);
+void rigmat_trim_result_release(rigmat_trim_result *r);
+
 #endif /* RIGMAT_H */

@@ -87,8 +87,8 @@ rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path,
         const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d);
 
 /* Resolve a part name to a file path (malloc'd, caller frees) by the
- * lookup order documented in load_part.c.  model_path may be NULL (then
- * the current folder stands in for the model's folder).  Returns RIGMAT_OK,
+ * lookup order documented in load_part.c.  model_path may be NULL (no
+ * model: the catalog folders alone, see load_part.c).  Returns RIGMAT_OK,
  * RIGMAT_EMODEL with a message in err (bad name, not found) or
  * RIGMAT_ENOMEM. */
 rigmat_status rigmat_load_part_path(const char *name, const char *model_path,

@@ -1,0 +1,384 @@
+/* cmd_parts.c - `rigmat parts [NAME]`: the catalog.
+ *
+ * Without NAME: one line per part found in the catalog folders (the lookup
+ * order of src/load_part.c without a model: --catalog, $RIGMAT_CATALOG,
+ * ./catalog, the installed share folder), its name and the first comment
+ * line of its file; a part in an earlier folder hides one of the same name
+ * in a later folder, as it does when a model is loaded.
+ * With NAME: the part's values after its own `part:` chain is resolved,
+ * each as written and in SI.
+ */
+#include "cli.h"
+#include "load.h"
+#include "units.h"
+
+#include <dirent.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+#define MAX_PARTS 2000 /* a catalog is dozens of files; the cap bounds a wrong --catalog */
+#define MAX_WALK_DEPTH 4
+
+static const char *const parts_usage[] = { "rigmat parts [NAME] [--catalog DIR] [--format "
+        "text|json]", NULL };
+
+struct part_row {
+    char *name;
+    char *summary;
+    char *file;
+};
+
+struct part_list {
+    struct part_row *rows;
+    size_t n, cap;
+};
+
+static char *dup_s(const char *s)
+{
+    const size_t n = strlen(s) + 1;
+    char *p = malloc(n);
+    if (p != NULL)
+        memcpy(p, s, n);
+    return p;
+}
+
+/* The first comment line, without '#' and the blanks after it. */
+static char *first_comment(const char *file)
+{
+    FILE *f = fopen(file, "r");
+    char line[512];
+    char *out = NULL;
+
+    if (f == NULL)
+        return dup_s("");
+    while (fgets(line, sizeof line, f) != NULL) {
+        char *p = line;
+        size_t len;
+        while (*p == ' ' || *p == '\t')
+            p++;
+        if (*p != '#')
+            continue;
+        p++;
+        while (*p == ' ' || *p == '\t')
+            p++;
+        len = strcspn(p, "\r\n");
+        p[len] = '\0';
+        out = dup_s(p);
+        break;
+    }
+    fclose(f);
+    return out ? out : dup_s("");
+}
+
+static int seen(const struct part_list *l, const char *name)
+{
+    size_t i;
+    for (i = 0; i < l->n; i++)
+        if (strcmp(l->rows[i].name, name) == 0)
+            return 1;
+    return 0;
+}
+
+static rigmat_status walk(struct part_list *l, const char *dir, const char *prefix, int depth)
+{
+    DIR *d;
+    struct dirent *de;
+    rigmat_status st = RIGMAT_OK;
+
+    if (depth > MAX_WALK_DEPTH || (d = opendir(dir)) == NULL)
+        return RIGMAT_OK;
+    while (st == RIGMAT_OK && l->n < MAX_PARTS && (de = readdir(d)) != NULL) {
+        const char *nm = de->d_name;
+        const size_t len = strlen(nm);
+        char path[4096], name[1024];
+        struct stat sb;
+        if (nm[0] == '.')
+            continue;
+        if ((size_t)snprintf(path, sizeof path, "%s/%s", dir, nm) >= sizeof path ||
+                (size_t)snprintf(name, sizeof name, "%s%s", prefix, nm) >= sizeof name ||
+                stat(path, &sb) != 0)
+            continue;
+        if (S_ISDIR(sb.st_mode)) {
+            char sub[1024];
+            if ((size_t)snprintf(sub, sizeof sub, "%s/", name) < sizeof sub)
+                st = walk(l, path, sub, depth + 1);
+            continue;
+        }
+        if (!S_ISREG(sb.st_mode) || len <= 5 || strcmp(nm + len - 5, ".yaml") != 0)
+            continue;
+        name[strlen(name) - 5] = '\0';
+        if (seen(l, name))
+            continue;
+        if (l->n == l->cap) {
+            const size_t cap = l->cap ? 2 * l->cap : 32;
+            struct part_row *g = realloc(l->rows, cap * sizeof *g);
+            if (g == NULL) {
+                st = RIGMAT_ENOMEM;
+                break;
+            }
+            l->rows = g;
+            l->cap = cap;
+        }
+        l->rows[l->n].name = dup_s(name);
+        l->rows[l->n].summary = first_comment(path);
+        l->rows[l->n].file = dup_s(path);
+        if (l->rows[l->n].name == NULL || l->rows[l->n].summary == NULL ||
+                l->rows[l->n].file == NULL) {
+            free(l->rows[l->n].name);
+            free(l->rows[l->n].summary);
+            free(l->rows[l->n].file);
+            st = RIGMAT_ENOMEM;
+            break;
+        }
+        l->n++;
+    }
+    closedir(d);
+    return st;
+}
+
+static int cmp_row(const void *a, const void *b)
+{
+    return strcmp(((const struct part_row *)a)->name, ((const struct part_row *)b)->name);
+}
+
+static rigmat_status list_parts(struct cli_env *env, int json)
+{
+    char *folders[8];
+    size_t nf = 0, i;
+    struct part_list l = { NULL, 0, 0 };
+    rigmat_status st = rigmat_load_part_folders(NULL, &env->opt, folders, 8, &nf);
+
+    for (i = 0; st == RIGMAT_OK && i < nf; i++)
+        st = walk(&l, folders[i], "", 0);
+    if (st == RIGMAT_OK) {
+        qsort(l.rows, l.n, sizeof *l.rows, cmp_row);
+        if (json) {
+            struct cli_json j;
+            cli_json_begin(&j, env->out);
+            cli_json_key(&j, "folders");
+            cli_json_arr_open(&j);
+            for (i = 0; i < nf; i++)
+                cli_json_str(&j, folders[i]);
+            cli_json_arr_close(&j);
+            cli_json_key(&j, "parts");
+            cli_json_arr_open(&j);
+            for (i = 0; i < l.n; i++) {
+                cli_json_obj_open(&j);
+                cli_json_key(&j, "name");
+                cli_json_str(&j, l.rows[i].name);
+                cli_json_key(&j, "summary");
+                cli_json_str(&j, l.rows[i].summary);
+                cli_json_key(&j, "file");
+                cli_json_str(&j, l.rows[i].file);
+                cli_json_obj_close(&j);
+            }
+            cli_json_arr_close(&j);
+            st = cli_json_end(&j);
+        } else if (nf == 0) {
+            fprintf(env->err, "rigmat parts: error: no catalog folder found\n"
+                    "  hint: give one with --catalog DIR or $RIGMAT_CATALOG\n");
+            st = RIGMAT_EIO;
+        } else {
+            size_t w = 0;
+            for (i = 0; i < l.n; i++)
+                if (strlen(l.rows[i].name) > w)
+                    w = strlen(l.rows[i].name);
+            for (i = 0; i < l.n; i++)
+                fprintf(env->out, "%-*s  %s\n", (int)w, l.rows[i].name, l.rows[i].summary);
+        }
+    }
+    for (i = 0; i < l.n; i++) {
+        free(l.rows[i].name);
+        free(l.rows[i].summary);
+        free(l.rows[i].file);
+    }
+    free(l.rows);
+    for (i = 0; i < nf; i++)
+        free(folders[i]);
+    return st;
+}
+
+static void text_value(FILE *f, const rigmat_node *n, int depth)
+{
+    size_t i;
+
+    if (depth > 8) {
+        fputs("...", f);
+        return;
+    }
+    switch (n->type) {
+    case RIGMAT_NODE_SCALAR:
+        fputs(n->text, f);
+        break;
+    case RIGMAT_NODE_SEQ:
+        fputc('[', f);
+        for (i = 0; i < n->n; i++) {
+            fputs(i ? ", " : "", f);
+            text_value(f, n->items[i], depth + 1);
+        }
+        fputc(']', f);
+        break;
+    case RIGMAT_NODE_MAP:
+        fputc('{', f);
+        for (i = 0; i < n->n; i++) {
+            fprintf(f, "%s%s: ", i ? ", " : "", n->entries[i].key);
+            text_value(f, n->entries[i].value, depth + 1);
+        }
+        fputc('}', f);
+        break;
+    }
+}
+
+/* A part with its chain resolved: wrap it as the only entry of a section,
+ * so load_part.c merges it exactly as for a model. */
+static rigmat_status show_part(struct cli_env *env, const char *name, int json)
+{
+    rigmat_diags files, d;
+    rigmat_error e;
+    rigmat_node *root = NULL, *sec = NULL, *ent = NULL, *val = NULL;
+    const rigmat_loc at = { "parts", 0, 0 };
+    rigmat_status st;
+    struct cli_json j;
+    char *path = NULL;
+    size_t i;
+
+    memset(&e, 0, sizeof e);
+    rigmat_diags_init(&files);
+    rigmat_diags_init(&d);
+    st = rigmat_load_part_path(name, NULL, &env->opt, &path, &e);
+    if (st != RIGMAT_OK) {
+        fprintf(env->err, "rigmat parts: error: %s\n", e.message);
+        if (e.hint[0])
+            fprintf(env->err, "  hint: %s\n", e.hint);
+        goto done;
+    }
+    root = rigmat_node_map(at);
+    sec = rigmat_node_map(at);
+    ent = rigmat_node_map(at);
+    val = rigmat_node_scalar(name, at);
+    st = RIGMAT_ENOMEM;
+    if (root == NULL || sec == NULL || ent == NULL || val == NULL ||
+            rigmat_node_map_add(ent, "part", at, val) != RIGMAT_OK) {
+        rigmat_node_free(sec);
+        rigmat_node_free(ent);
+        val = NULL;
+        goto done;
+    }
+    if (rigmat_node_map_add(sec, name, at, ent) != RIGMAT_OK) {
+        rigmat_node_free(sec);
+        goto done;
+    }
+    if (rigmat_node_map_add(root, "motors", at, sec) != RIGMAT_OK)
+        goto done;
+    st = rigmat_load_parts(root, NULL, &env->opt, &files, &d);
+    rigmat_diags_print(&d, env->err);
+    if (st != RIGMAT_OK)
+        goto done;
+    if (json) {
+        cli_json_begin(&j, env->out);
+        cli_json_key(&j, "part");
+        cli_json_str(&j, name);
+        cli_json_key(&j, "file");
+        cli_json_str(&j, path);
+        cli_json_key(&j, "values");
+        cli_json_obj_open(&j);
+    } else {
+        fprintf(env->out, "part %s (%s)\n", name, path);
+    }
+    for (i = 0; i < ent->n; i++) {
+        const rigmat_entry *en = &ent->entries[i];
+        rigmat_quantity q;
+        rigmat_error qe;
+        char dim[64];
+        char *text = NULL;
+        size_t tlen = 0;
+        FILE *mf;
+        int have_si;
+        if (strcmp(en->key, "part") == 0)
+            continue;
+        memset(&qe, 0, sizeof qe);
+        have_si = en->value->type == RIGMAT_NODE_SCALAR &&
+                rigmat_units_parse(en->value->text, &q, &qe) == RIGMAT_OK;
+        dim[0] = '\0';
+        if (have_si)
+            rigmat_units_format_dim(q.dim, dim, sizeof dim);
+        mf = open_memstream(&text, &tlen);
+        if (mf == NULL) {
+            st = RIGMAT_ENOMEM;
+            goto done;
+        }
+        text_value(mf, en->value, 0);
+        if (fclose(mf) != 0) {
+            free(text);
+            st = RIGMAT_ENOMEM;
+            goto done;
+        }
+        if (json) {
+            cli_json_key(&j, en->key);
+            cli_json_obj_open(&j);
+            cli_json_key(&j, "written");
+            cli_json_str(&j, text);
+            if (have_si) {
+                cli_json_key(&j, "si");
+                cli_json_num(&j, q.value);
+                cli_json_key(&j, "unit");
+                cli_json_str(&j, dim);
+            }
+            cli_json_obj_close(&j);
+        } else {
+            fprintf(env->out, "  %-20s %s", en->key, text);
+            if (have_si)
+                fprintf(env->out, "  = %.6g%s%s", q.value, dim[0] ? " " : "", dim);
+            fputc('\n', env->out);
+        }
+        free(text);
+    }
+    if (json) {
+        cli_json_obj_close(&j);
+        st = cli_json_end(&j);
+        goto done;
+    }
+    st = RIGMAT_OK;
+done:
+    free(path);
+    rigmat_node_free(root);
+    rigmat_diags_release(&files);
+    rigmat_diags_release(&d);
+    return st;
+}
+
+/* called from the table in main.c */
+rigmat_status cmd_parts(int argc, char **argv, struct cli_env *env);
+rigmat_status cmd_parts(int argc, char **argv, struct cli_env *env)
+{
+    struct cli_common c;
+    const struct cli_opt opts[] = { { 0, "format", CLI_OPT_STRING, &c.format, "FORMAT",
+                                            "output format: text or json" },
+        { 0, "catalog", CLI_OPT_STRING, &c.catalog, "DIR", "look for catalog parts in DIR first" },
+        { 'h', "help", CLI_OPT_FLAG, &c.help, NULL, "show this help" }, CLI_OPT_END_ROW };
+    static const char *const formats[] = { "text", "json", NULL };
+    const char *pos[1];
+    size_t npos = 0;
+    int fmt;
+    rigmat_status st;
+
+    memset(&c, 0, sizeof c);
+    st = cli_parse(argc, argv, opts, env, pos, 1, &npos);
+    if (st != RIGMAT_OK) {
+        cli_usage(env->err, parts_usage, opts);
+        return st;
+    }
+    if (c.help) {
+        cli_usage(stdout, parts_usage, opts);
+        return RIGMAT_OK;
+    }
+    fmt = cli_format(env, c.format, formats);
+    if (fmt < 0)
+        return RIGMAT_EUSAGE;
+    if (c.catalog != NULL)
+        env->opt.catalog_dir = c.catalog;
+    if (npos == 0)
+        return list_parts(env, fmt == 1);
+    return show_part(env, pos[0], fmt == 1);
+}

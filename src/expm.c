@@ -1,0 +1,419 @@
+/* expm.c - scaling and squaring with Pade approximants (Higham 2005).
+ *
+ * The coefficient tables and the evaluation schemes follow Higham (2005),
+ * Algorithm 2.3; the degree-13 scheme needs 6 products:
+ *     A2 = A^2, A4 = A2^2, A6 = A2 A4,
+ *     U = A [A6 (b13 A6 + b11 A4 + b9 A2) + b7 A6 + b5 A4 + b3 A2 + b1 I],
+ *     V = A6 (b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I,
+ * and r_13 = (V - U)^-1 (V + U).
+ */
+#include "expm.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <gsl/gsl_blas.h>
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_linalg.h>
+
+/* theta_m for m = 3, 5, 7, 9, 13: Higham (2005), Table 2.3, u = 2^-53. */
+static const double theta3 = 1.495585217958292e-2;
+static const double theta5 = 2.539398330063230e-1;
+static const double theta7 = 9.504178996162932e-1;
+static const double theta9 = 2.097847961257068e0;
+static const double theta13 = 5.371920351148152e0;
+
+/* b_j = c_j / c_m of p_m, c_j = (2m-j)! m! / ((2m)! j! (m-j)!): Higham (2005)
+ * section 2; every value is an exact double. */
+static const double b3[] = { 120.0, 60.0, 12.0, 1.0 };
+static const double b5[] = { 30240.0, 15120.0, 3360.0, 420.0, 30.0, 1.0 };
+static const double b7[] = { 17297280.0, 8648640.0, 1995840.0, 277200.0, 25200.0, 1512.0, 56.0,
+    1.0 };
+static const double b9[] = { 17643225600.0, 8821612800.0, 2075673600.0, 302702400.0, 30270240.0,
+    2162160.0, 110880.0, 3960.0, 90.0, 1.0 };
+static const double b13[] = { 64764752532480000.0, 32382376266240000.0, 7771770303897600.0,
+    1187353796428800.0, 129060195264000.0, 10559470521600.0, 670442572800.0, 33522128640.0,
+    1323241920.0, 40840800.0, 960960.0, 16380.0, 182.0, 1.0 };
+
+double rigmat_expm_norm1(const gsl_matrix *A)
+{
+    double best = 0.0;
+    size_t i, j;
+
+    for (j = 0; j < A->size2; j++) {
+        double s = 0.0;
+        for (i = 0; i < A->size1; i++)
+            s += fabs(gsl_matrix_get(A, i, j));
+        if (s > best || isnan(s))
+            best = s;
+    }
+    return best;
+}
+
+static gsl_matrix *alloc_or_flag(size_t n, int *bad)
+{
+    gsl_matrix *m = gsl_matrix_alloc(n, n);
+
+    if (m == NULL)
+        *bad = 1;
+    return m;
+}
+
+rigmat_expm_ws *rigmat_expm_ws_alloc(size_t nmax)
+{
+    rigmat_expm_ws *w;
+    int bad = 0;
+
+    if (nmax == 0)
+        return NULL;
+    w = calloc(1, sizeof *w);
+    if (w == NULL)
+        return NULL;
+    w->nmax = nmax;
+    w->As = alloc_or_flag(nmax, &bad);
+    w->A2 = alloc_or_flag(nmax, &bad);
+    w->A4 = alloc_or_flag(nmax, &bad);
+    w->A6 = alloc_or_flag(nmax, &bad);
+    w->A8 = alloc_or_flag(nmax, &bad);
+    w->U = alloc_or_flag(nmax, &bad);
+    w->V = alloc_or_flag(nmax, &bad);
+    w->T = alloc_or_flag(nmax, &bad);
+    w->perm = gsl_permutation_alloc(nmax);
+    w->scale = gsl_vector_alloc(nmax);
+    if (bad || w->perm == NULL || w->scale == NULL) {
+        rigmat_expm_ws_free(w);
+        return NULL;
+    }
+    return w;
+}
+
+void rigmat_expm_ws_free(rigmat_expm_ws *w)
+{
+    size_t i;
+
+    if (w == NULL)
+        return;
+    {
+        gsl_matrix *const m[] = { w->As, w->A2, w->A4, w->A6, w->A8, w->U, w->V, w->T };
+        for (i = 0; i < sizeof m / sizeof m[0]; i++)
+            if (m[i] != NULL)
+                gsl_matrix_free(m[i]);
+    }
+    if (w->perm != NULL)
+        gsl_permutation_free(w->perm);
+    if (w->scale != NULL)
+        gsl_vector_free(w->scale);
+    free(w);
+}
+
+/* The leading n x n block of a workspace buffer. */
+static gsl_matrix_view block(gsl_matrix *m, size_t n)
+{
+    return gsl_matrix_submatrix(m, 0, 0, n, n);
+}
+
+/* dst = sum_k c[k] M[k] + c0 I, elementwise (no products). */
+static void lincomb(gsl_matrix *dst, double c0, const double *c, gsl_matrix *const *M, size_t count)
+{
+    const size_t n = dst->size1;
+    size_t i, j, k;
+
+    for (i = 0; i < n; i++) {
+        double *d = gsl_matrix_ptr(dst, i, 0);
+        for (j = 0; j < n; j++)
+            d[j] = 0.0;
+        for (k = 0; k < count; k++) {
+            const double *s = gsl_matrix_const_ptr(M[k], i, 0);
+            const double ck = c[k];
+            for (j = 0; j < n; j++)
+                d[j] += ck * s[j];
+        }
+        d[i] += c0;
+    }
+}
+
+static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B, rigmat_error *err)
+{
+    const int gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A, B, 0.0, C);
+
+    if (gs != GSL_SUCCESS)
+        return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed: %s", gsl_strerror(gs));
+    return RIGMAT_OK;
+}
+
+/* Form U and V of r_m(A) for m <= 9 into U, V; returns the product count. */
+static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4,
+        gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U, gsl_matrix *V, gsl_matrix *T,
+        unsigned *products, rigmat_error *err)
+{
+    const double *b = m == 3 ? b3 : m == 5 ? b5 : m == 7 ? b7 : b9;
+    gsl_matrix *pw[4];
+    double codd[4], ceven[4];
+    size_t k, npw;
+    rigmat_status rc;
+
+    rc = mul(A2, A, A, err);
+    (*products)++;
+    if (rc == RIGMAT_OK && m >= 5) {
+        rc = mul(A4, A2, A2, err);
+        (*products)++;
+    }
+    if (rc == RIGMAT_OK && m >= 7) {
+        rc = mul(A6, A2, A4, err);
+        (*products)++;
+    }
+    if (rc == RIGMAT_OK && m >= 9) {
+        rc = mul(A8, A4, A4, err);
+        (*products)++;
+    }
+    if (rc != RIGMAT_OK)
+        return rc;
+    pw[0] = A2;
+    pw[1] = A4;
+    pw[2] = A6;
+    pw[3] = A8;
+    npw = (m - 1) / 2; /* A^2 .. A^(m-1) */
+    for (k = 0; k < npw; k++) {
+        codd[k] = b[2 * k + 3];
+        ceven[k] = b[2 * k + 2];
+    }
+    lincomb(T, b[1], codd, pw, npw);
+    rc = mul(U, A, T, err);
+    (*products)++;
+    lincomb(V, b[0], ceven, pw, npw);
+    return rc;
+}
+
+static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_matrix *A6,
+        gsl_matrix *U, gsl_matrix *V, gsl_matrix *T, unsigned *products, rigmat_error *err)
+{
+    gsl_matrix *const pw[3] = { A2, A4, A6 };
+    const double ui[3] = { b13[9], b13[11], b13[13] };
+    const double uo[3] = { b13[3], b13[5], b13[7] };
+    const double vi[3] = { b13[8], b13[10], b13[12] };
+    const double vo[3] = { b13[2], b13[4], b13[6] };
+    rigmat_status rc;
+
+    rc = mul(A2, A, A, err);
+    if (rc == RIGMAT_OK)
+        rc = mul(A4, A2, A2, err);
+    if (rc == RIGMAT_OK)
+        rc = mul(A6, A2, A4, err);
+    if (rc != RIGMAT_OK)
+        return rc;
+    /* U: T = b13 A6 + b11 A4 + b9 A2; V = A6 T + (b7 A6 + b5 A4 + b3 A2 + b1 I); U = A V */
+    lincomb(T, 0.0, ui, pw, 3);
+    lincomb(V, b13[1], uo, pw, 3);
+    rc = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) == GSL_SUCCESS
+            ? RIGMAT_OK
+            : RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
+    if (rc == RIGMAT_OK)
+        rc = mul(U, A, V, err);
+    if (rc != RIGMAT_OK)
+        return rc;
+    /* V = A6 (b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I */
+    lincomb(T, 0.0, vi, pw, 3);
+    lincomb(V, b13[0], vo, pw, 3);
+    if (gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) != GSL_SUCCESS)
+        return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
+    *products += 6;
+    return RIGMAT_OK;
+}
+
+/* X = (V - U)^-1 (V + U).  P receives V - U and its LU factors; X must be
+ * distinct from U, V and P. */
+static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl_matrix *X,
+        gsl_permutation *perm, rigmat_error *err)
+{
+    const size_t n = U->size1;
+    size_t i, j;
+    int signum, gs;
+
+    for (i = 0; i < n; i++) {
+        const double *u = gsl_matrix_const_ptr(U, i, 0);
+        const double *v = gsl_matrix_const_ptr(V, i, 0);
+        double *p = gsl_matrix_ptr(P, i, 0);
+        for (j = 0; j < n; j++) {
+            p[j] = v[j] - u[j];
+            /* V + U overwrites V */
+            gsl_matrix_set(V, i, j, v[j] + u[j]);
+        }
+    }
+    gs = gsl_linalg_LU_decomp(P, perm, &signum);
+    if (gs != GSL_SUCCESS)
+        return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "LU of the Pade denominator failed: %s",
+                gsl_strerror(gs));
+    for (i = 0; i < n; i++) {
+        const double d = gsl_matrix_get(P, i, i);
+        if (d == 0.0 || !isfinite(d))
+            return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                    "the Pade denominator of the matrix exponential is singular");
+    }
+    /* X = P^T-permuted rows of V + U, then L \ and U \ */
+    for (i = 0; i < n; i++) {
+        gsl_vector_const_view src = gsl_matrix_const_row(V, gsl_permutation_get(perm, i));
+        gsl_vector_view dst = gsl_matrix_row(X, i);
+        gs = gsl_vector_memcpy(&dst.vector, &src.vector);
+        if (gs != GSL_SUCCESS)
+            return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "row copy failed: %s", gsl_strerror(gs));
+    }
+    gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasNoTrans, CblasUnit, 1.0, P, X);
+    if (gs == GSL_SUCCESS)
+        gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, P, X);
+    if (gs != GSL_SUCCESS)
+        return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "triangular solve failed: %s", gsl_strerror(gs));
+    return RIGMAT_OK;
+}
+
+/* ceil(log2(x)) for x > 1, exact at powers of two (frexp, not log2). */
+static unsigned ceil_log2(double x)
+{
+    int e;
+    const double f = frexp(x, &e); /* x = f 2^e, f in [0.5, 1) */
+
+    if (f == 0.5)
+        e--;
+    return e > 0 ? (unsigned)e : 0u;
+}
+
+rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, rigmat_expm_ws *w,
+        rigmat_expm_info *info, rigmat_error *err)
+{
+    rigmat_expm_info inf;
+    size_t n, i, j;
+    double nrm;
+    unsigned m, s, k;
+    gsl_matrix_view As, A2, A4, A6, A8, U, V, T;
+    gsl_matrix *X, *Y;
+    gsl_permutation perm;
+    rigmat_status rc;
+    int gs;
+
+    memset(&inf, 0, sizeof inf);
+    if (info != NULL)
+        *info = inf;
+    if (A == NULL || eA == NULL || w == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "matrix exponential: missing argument");
+    n = A->size1;
+    if (A->size2 != n)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "matrix exponential of a %zux%zu matrix: not square",
+                A->size1, A->size2);
+    if (eA->size1 != n || eA->size2 != n)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+                "matrix exponential: result is %zux%zu, expected %zux%zu", eA->size1,
+                eA->size2, n, n);
+    if (n > w->nmax)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+                "matrix exponential: workspace holds %zux%zu, matrix is %zux%zu", w->nmax,
+                w->nmax, n, n);
+    As = block(w->As, n);
+    A2 = block(w->A2, n);
+    A4 = block(w->A4, n);
+    A6 = block(w->A6, n);
+    A8 = block(w->A8, n);
+    U = block(w->U, n);
+    V = block(w->V, n);
+    T = block(w->T, n);
+    /* a permutation of length n over the workspace's storage */
+    perm.size = n;
+    perm.data = w->perm->data;
+    for (i = 0; i < n; i++)
+        for (j = 0; j < n; j++) {
+            const double a = gsl_matrix_get(A, i, j);
+            if (!isfinite(a))
+                return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "matrix exponential: entry (%zu, %zu) is not finite", i + 1, j + 1);
+            gsl_matrix_set(&As.matrix, i, j, a);
+        }
+    nrm = rigmat_expm_norm1(&As.matrix);
+    if ((flags & RIGMAT_EXPM_BALANCE) && n > 1) {
+        gsl_vector_view D = gsl_vector_subvector(w->scale, 0, n);
+        gs = gsl_matrix_memcpy(&T.matrix, &As.matrix);
+        if (gs == GSL_SUCCESS)
+            gs = gsl_linalg_balance_matrix(&T.matrix, &D.vector);
+        if (gs != GSL_SUCCESS)
+            return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "balancing failed: %s", gsl_strerror(gs));
+        {
+            const double nb = rigmat_expm_norm1(&T.matrix);
+            if (nb < nrm) {
+                gs = gsl_matrix_memcpy(&As.matrix, &T.matrix);
+                if (gs != GSL_SUCCESS)
+                    return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "copy failed");
+                nrm = nb;
+                inf.balanced = 1;
+            }
+        }
+    }
+    inf.norm1 = nrm;
+    if (nrm == 0.0) {
+        gsl_matrix_set_identity(eA);
+        if (info != NULL)
+            *info = inf;
+        return RIGMAT_OK;
+    }
+    /* Higham (2005), Algorithm 2.3: the lowest degree whose theta covers ||A||_1 */
+    s = 0;
+    if (nrm <= theta3)
+        m = 3;
+    else if (nrm <= theta5)
+        m = 5;
+    else if (nrm <= theta7)
+        m = 7;
+    else if (nrm <= theta9)
+        m = 9;
+    else {
+        m = 13;
+        if (nrm > theta13)
+            s = ceil_log2(nrm / theta13);
+        if (s > 0)
+            for (i = 0; i < n; i++)
+                for (j = 0; j < n; j++)
+                    gsl_matrix_set(&As.matrix, i, j,
+                            ldexp(gsl_matrix_get(&As.matrix, i, j), -(int)s));
+    }
+    inf.degree = m;
+    inf.squarings = s;
+    if (m == 13)
+        rc = pade13(&As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix,
+                &T.matrix, &inf.products, err);
+    else
+        rc = pade_low(m, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix, &U.matrix,
+                &V.matrix, &T.matrix, &inf.products, err);
+    if (rc != RIGMAT_OK)
+        return rc;
+    /* X = r_m in A2 (free now); P = V - U in A4 */
+    rc = pade_solve(&U.matrix, &V.matrix, &A4.matrix, &A2.matrix, &perm, err);
+    if (rc != RIGMAT_OK)
+        return rc;
+    X = &A2.matrix;
+    Y = &A6.matrix;
+    for (k = 0; k < s; k++) {
+        gsl_matrix *const t = X;
+        rc = mul(Y, X, X, err);
+        if (rc != RIGMAT_OK)
+            return rc;
+        X = Y;
+        Y = t;
+        inf.products++;
+    }
+    if (inf.balanced) {
+        /* e^A = D e^A' D^-1 */
+        for (i = 0; i < n; i++) {
+            const double di = gsl_vector_get(w->scale, i);
+            for (j = 0; j < n; j++)
+                gsl_matrix_set(X, i, j,
+                        gsl_matrix_get(X, i, j) * di / gsl_vector_get(w->scale, j));
+        }
+    }
+    for (i = 0; i < n; i++)
+        for (j = 0; j < n; j++) {
+            const double x = gsl_matrix_get(X, i, j);
+            if (!isfinite(x))
+                return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "matrix exponential overflows (||A||_1 = %.3g)", nrm);
+            gsl_matrix_set(eA, i, j, x);
+        }
+    if (info != NULL)
+        *info = inf;
+    return RIGMAT_OK;
+}

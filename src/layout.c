@@ -1,0 +1,496 @@
+/* layout.c - names, units, kinds and order of the state, input and output
+ * vectors (see layout.h), and the check of a `states` list that leaves out
+ * cyclic coordinates. */
+#include "layout.h"
+#include "mechanics.h"
+
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+void rigmat_layout_release(rigmat_layout *l)
+{
+    size_t i;
+
+    if (l == NULL)
+        return;
+    for (i = 0; i < l->nx; i++)
+        free(l->states[i].name);
+    for (i = 0; i < l->nu; i++)
+        free(l->inputs[i].name);
+    for (i = 0; i < l->ny; i++)
+        free(l->outputs[i].name);
+    free(l->states);
+    free(l->inputs);
+    free(l->outputs);
+    memset(l, 0, sizeof *l);
+}
+
+static int linear_joint(const rigmat_joint *j)
+{
+    return j->type != RIGMAT_JOINT_HINGE;
+}
+
+static int has_coord_state(const rigmat_joint *j)
+{
+    return j->type != RIGMAT_JOINT_FIXED && j->driven != RIGMAT_DRIVEN_POSITION;
+}
+
+static int has_rate_state(const rigmat_joint *j)
+{
+    return j->type != RIGMAT_JOINT_FIXED &&
+            (j->driven == RIGMAT_DRIVEN_NONE || j->driven == RIGMAT_DRIVEN_ACCELERATION);
+}
+
+static int has_current_state(const rigmat_motor *mo)
+{
+    return mo->drive != RIGMAT_DRIVE_CURRENT && !mo->inductance_neglected;
+}
+
+static rigmat_status add_sig(rigmat_signal *arr, size_t *count, const char *name,
+        const char *suffix, const char *unit, rigmat_signal_kind kind, size_t index,
+        rigmat_role role, rigmat_error *err)
+{
+    rigmat_signal *s = &arr[*count];
+    const size_t len = strlen(name) + (suffix ? strlen(suffix) : 0) + 1;
+
+    s->name = malloc(len);
+    if (s->name == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    snprintf(s->name, len, "%s%s", name, suffix ? suffix : "");
+    snprintf(s->unit, sizeof s->unit, "%s", unit);
+    s->kind = kind;
+    s->index = index;
+    s->role = role;
+    (*count)++;
+    return RIGMAT_OK;
+}
+
+static const char *driven_unit(const rigmat_joint *j)
+{
+    static const char *const lin[] = { "m", "m", "m/s", "m/s^2" };
+    static const char *const ang[] = { "rad", "rad", "rad/s", "rad/s^2" };
+    return linear_joint(j) ? lin[j->driven] : ang[j->driven];
+}
+
+static const char *force_unit(const rigmat_model *m, const rigmat_force *f)
+{
+    if (f->kind == RIGMAT_FORCE_POINT)
+        return "N";
+    if (f->kind == RIGMAT_FORCE_TORQUE)
+        return "N*m";
+    return linear_joint(&m->joints[f->joint]) ? "N" : "N*m";
+}
+
+static const char *sensor_unit(const rigmat_model *m, const rigmat_sensor *se)
+{
+    switch (se->kind) {
+    case RIGMAT_SENSE_JOINT_POSITION: return linear_joint(&m->joints[se->joint]) ? "m" : "rad";
+    case RIGMAT_SENSE_JOINT_VELOCITY:
+        return linear_joint(&m->joints[se->joint]) ? "m/s" : "rad/s";
+    case RIGMAT_SENSE_ANGLE:
+    case RIGMAT_SENSE_RELATIVE_ANGLE: return "rad";
+    case RIGMAT_SENSE_RATE:
+    case RIGMAT_SENSE_RELATIVE_RATE: return "rad/s";
+    case RIGMAT_SENSE_MOTOR_ANGLE: return se->unit_counts ? "counts" : "rad";
+    case RIGMAT_SENSE_POINT_POSITION: return "m";
+    case RIGMAT_SENSE_POINT_VELOCITY: return "m/s";
+    case RIGMAT_SENSE_SPECIFIC_FORCE: return "m/s^2";
+    case RIGMAT_SENSE_CURRENT: return "A";
+    case RIGMAT_SENSE_DRIVE_FORCE: return linear_joint(&m->joints[se->joint]) ? "N" : "N*m";
+    }
+    return "1";
+}
+
+static int shaped(const rigmat_model *m, const rigmat_signal *in)
+{
+    if (in->role != RIGMAT_ROLE_DISTURBANCE)
+        return 0;
+    if (in->kind == RIGMAT_SIG_FORCE)
+        return m->forces[in->index].bandwidth_hz > 0.0;
+    if (in->kind == RIGMAT_SIG_DRIVEN)
+        return m->joints[in->index].bandwidth_hz > 0.0;
+    return 0;
+}
+
+static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int interleaved,
+        rigmat_error *err)
+{
+    static const char *const motor_units[] = { "V", "A", "1" };
+    rigmat_status st = RIGMAT_OK;
+    size_t j, k, g;
+    const size_t maxx = 2 * m->njoints + m->nmotors + m->njoints + m->nforces;
+    const size_t maxu = m->njoints + m->nmotors + m->nforces;
+
+    memset(l, 0, sizeof *l);
+    l->states = calloc(maxx ? maxx : 1, sizeof *l->states);
+    l->inputs = calloc(maxu ? maxu : 1, sizeof *l->inputs);
+    l->outputs = calloc(m->nsensors ? m->nsensors : 1, sizeof *l->outputs);
+    if (l->states == NULL || l->inputs == NULL || l->outputs == NULL) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        goto fail;
+    }
+    /* inputs: control then disturbances; driven joints, motors, forces */
+    for (g = 0; g < 2 && st == RIGMAT_OK; g++) {
+        const rigmat_role role = g == 0 ? RIGMAT_ROLE_INPUT : RIGMAT_ROLE_DISTURBANCE;
+        for (j = 0; j < m->njoints && st == RIGMAT_OK; j++) {
+            const rigmat_joint *jt = &m->joints[j];
+            if (jt->type != RIGMAT_JOINT_FIXED && jt->driven != RIGMAT_DRIVEN_NONE &&
+                    jt->role == role)
+                st = add_sig(l->inputs, &l->nu, jt->name, NULL, driven_unit(jt),
+                        RIGMAT_SIG_DRIVEN, j, role, err);
+        }
+        for (k = 0; k < m->nmotors && st == RIGMAT_OK && role == RIGMAT_ROLE_INPUT; k++)
+            st = add_sig(l->inputs, &l->nu, m->motors[k].name, NULL,
+                    motor_units[m->motors[k].drive], RIGMAT_SIG_MOTOR, k, role, err);
+        for (k = 0; k < m->nforces && st == RIGMAT_OK; k++)
+            if (m->forces[k].role == role)
+                st = add_sig(l->inputs, &l->nu, m->forces[k].name, NULL,
+                        force_unit(m, &m->forces[k]), RIGMAT_SIG_FORCE, k, role, err);
+        if (g == 0)
+            l->nu_control = l->nu;
+    }
+    /* states */
+    for (j = 0; j < m->njoints && st == RIGMAT_OK; j++) {
+        const rigmat_joint *jt = &m->joints[j];
+        const int lin = linear_joint(jt);
+        if (has_coord_state(jt))
+            st = add_sig(l->states, &l->nx, jt->name, lin ? ".position" : ".angle",
+                    lin ? "m" : "rad", RIGMAT_SIG_COORD, j, RIGMAT_ROLE_INPUT, err);
+        if (interleaved && st == RIGMAT_OK && has_rate_state(jt))
+            st = add_sig(l->states, &l->nx, jt->name, lin ? ".velocity" : ".rate",
+                    lin ? "m/s" : "rad/s", RIGMAT_SIG_RATE, j, RIGMAT_ROLE_INPUT, err);
+    }
+    for (j = 0; j < m->njoints && st == RIGMAT_OK && !interleaved; j++) {
+        const rigmat_joint *jt = &m->joints[j];
+        const int lin = linear_joint(jt);
+        if (has_rate_state(jt))
+            st = add_sig(l->states, &l->nx, jt->name, lin ? ".velocity" : ".rate",
+                    lin ? "m/s" : "rad/s", RIGMAT_SIG_RATE, j, RIGMAT_ROLE_INPUT, err);
+    }
+    for (k = 0; k < m->nmotors && st == RIGMAT_OK; k++)
+        if (has_current_state(&m->motors[k]))
+            st = add_sig(l->states, &l->nx, m->motors[k].name, ".current", "A",
+                    RIGMAT_SIG_CURRENT, k, RIGMAT_ROLE_INPUT, err);
+    for (k = 0; k < l->nu && st == RIGMAT_OK; k++)
+        if (shaped(m, &l->inputs[k]))
+            st = add_sig(l->states, &l->nx, l->inputs[k].name, ".shaped", l->inputs[k].unit,
+                    RIGMAT_SIG_SHAPING, k, RIGMAT_ROLE_DISTURBANCE, err);
+    for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
+        st = add_sig(l->outputs, &l->ny, m->sensors[k].name, NULL,
+                sensor_unit(m, &m->sensors[k]), RIGMAT_SIG_SENSOR, k, RIGMAT_ROLE_INPUT, err);
+    if (st != RIGMAT_OK)
+        goto fail;
+    rigmat_layout_hash(l);
+    return RIGMAT_OK;
+fail:
+    rigmat_layout_release(l);
+    return st;
+}
+
+rigmat_status rigmat_layout_canonical(const rigmat_model *m, rigmat_layout *l, rigmat_error *err)
+{
+    return canonical(m, l, 0, err);
+}
+
+static uint64_t fnv_bytes(uint64_t h, const char *s, size_t n)
+{
+    size_t i;
+    for (i = 0; i < n; i++) {
+        h ^= (unsigned char)s[i];
+        h *= UINT64_C(0x100000001b3);
+    }
+    return h;
+}
+
+static uint64_t fnv_signals(uint64_t h, const rigmat_signal *s, size_t n)
+{
+    size_t i;
+    for (i = 0; i < n; i++) {
+        h = fnv_bytes(h, s[i].name, strlen(s[i].name));
+        h = fnv_bytes(h, "\t", 1);
+        h = fnv_bytes(h, s[i].unit, strlen(s[i].unit));
+        h = fnv_bytes(h, "\n", 1);
+    }
+    return h;
+}
+
+void rigmat_layout_hash(rigmat_layout *l)
+{
+    uint64_t h = UINT64_C(0xcbf29ce484222325);
+
+    h = fnv_signals(h, l->states, l->nx);
+    h = fnv_bytes(h, "|", 1);
+    h = fnv_signals(h, l->inputs, l->nu);
+    h = fnv_bytes(h, "|", 1);
+    h = fnv_signals(h, l->outputs, l->ny);
+    snprintf(l->order_hash, sizeof l->order_hash, "%016llx", (unsigned long long)h);
+}
+
+/* ------------------------------------------------------------- lists */
+
+static rigmat_loc list_loc(const rigmat_namelist *nl, size_t i)
+{
+    rigmat_loc none = { NULL, 0, 0 };
+    if (nl->locs == NULL || nl->count == 0)
+        return none;
+    return nl->locs[i < nl->count ? i : 0];
+}
+
+static rigmat_status diag(rigmat_diags *d, rigmat_loc where, const char *hint, const char *what,
+        const char *name)
+{
+    rigmat_loc none = { NULL, 0, 0 };
+    if (d == NULL)
+        return RIGMAT_EMODEL;
+    if (rigmat_diags_add(d, RIGMAT_ERROR, where, none, NULL, hint, "%s '%s'", what, name) !=
+            RIGMAT_OK)
+        return RIGMAT_ENOMEM;
+    return RIGMAT_EMODEL;
+}
+
+/* Reorder sig[0..n) by the names in nl.  used[i] says canonical entry i was
+ * listed; pos[i] its new place.  Unknown and repeated names are errors;
+ * missing ones are left to the caller (allow_missing) or errors. */
+static rigmat_status reorder(rigmat_signal *sig, size_t *n, const rigmat_namelist *nl,
+        const char *group, int allow_missing, size_t *pos, int *missing_out, rigmat_diags *d)
+{
+    rigmat_status st = RIGMAT_OK, s2;
+    rigmat_signal *tmp;
+    size_t i, k, kept = 0;
+    char what[64];
+
+    for (i = 0; i < *n; i++)
+        pos[i] = RIGMAT_NONE;
+    for (k = 0; k < nl->count; k++) {
+        for (i = 0; i < *n; i++)
+            if (strcmp(sig[i].name, nl->names[k]) == 0)
+                break;
+        if (i == *n) {
+            snprintf(what, sizeof what, "the %s list names no %s", group,
+                    group[0] == 's' ? "state" : group[0] == 'i' ? "input" : "output");
+            st = diag(d, list_loc(nl, k), "names are listed by 'rigmat check'", what,
+                    nl->names[k]);
+            if (st == RIGMAT_ENOMEM)
+                return st;
+            continue;
+        }
+        if (pos[i] != RIGMAT_NONE) {
+            snprintf(what, sizeof what, "the %s list repeats", group);
+            st = diag(d, list_loc(nl, k), NULL, what, nl->names[k]);
+            if (st == RIGMAT_ENOMEM)
+                return st;
+            continue;
+        }
+        pos[i] = kept++;
+    }
+    for (i = 0; i < *n; i++) {
+        missing_out[i] = pos[i] == RIGMAT_NONE;
+        if (missing_out[i] && !allow_missing) {
+            snprintf(what, sizeof what, "the %s list leaves out", group);
+            s2 = diag(d, list_loc(nl, 0), "list every one exactly once", what, sig[i].name);
+            if (s2 == RIGMAT_ENOMEM)
+                return s2;
+            st = s2;
+        }
+    }
+    if (st != RIGMAT_OK)
+        return st;
+    tmp = calloc(*n ? *n : 1, sizeof *tmp);
+    if (tmp == NULL)
+        return RIGMAT_ENOMEM;
+    for (i = 0; i < *n; i++)
+        if (pos[i] != RIGMAT_NONE)
+            tmp[pos[i]] = sig[i];
+        else
+            free(sig[i].name);
+    memcpy(sig, tmp, kept * sizeof *tmp);
+    free(tmp);
+    *n = kept;
+    return RIGMAT_OK;
+}
+
+/* Whether canonical state k's column of df/dx and dh/dx is exactly zero at
+ * the operating point and at a second, generic point: the coordinate
+ * appears in no equation (the complex step gives exact zeros there). */
+static rigmat_status is_cyclic(const rigmat_model *m, size_t k, int *cyclic, rigmat_error *err)
+{
+    rigmat_mech *s = NULL;
+    rigmat_status st;
+    const rigmat_layout *L;
+    double *x = NULL, *u = NULL, *A = NULL, *C = NULL;
+    size_t i, pass;
+
+    *cyclic = 1;
+    st = rigmat_mech_alloc(m, &s, err);
+    if (st != RIGMAT_OK)
+        return st;
+    L = rigmat_mech_canonical(s);
+    x = calloc(L->nx + 1, sizeof *x);
+    u = calloc(L->nu + 1, sizeof *u);
+    A = calloc(L->nx * L->nx + 1, sizeof *A);
+    C = calloc(L->ny * L->nx + 1, sizeof *C);
+    if (x == NULL || u == NULL || A == NULL || C == NULL) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        goto done;
+    }
+    st = rigmat_mech_operating_point(s, x, u, err);
+    for (pass = 0; pass < 2 && st == RIGMAT_OK && *cyclic; pass++) {
+        if (pass == 1)
+            for (i = 0; i < L->nx; i++)
+                x[i] += 0.0517 * (double)(i + 1);
+        st = rigmat_mech_jacobians(s, x, u, A, NULL, C, NULL, NULL, NULL, err);
+        for (i = 0; i < L->nx && st == RIGMAT_OK; i++)
+            if (A[i * L->nx + k] != 0.0)
+                *cyclic = 0;
+        for (i = 0; i < L->ny && st == RIGMAT_OK; i++)
+            if (C[i * L->nx + k] != 0.0)
+                *cyclic = 0;
+    }
+done:
+    free(x);
+    free(u);
+    free(A);
+    free(C);
+    rigmat_mech_free(s);
+    return st;
+}
+
+static rigmat_status error_to_diag(rigmat_diags *d, const rigmat_error *e)
+{
+    if (d == NULL)
+        return e->status;
+    if (rigmat_diags_add(d, RIGMAT_ERROR, e->where, e->within, NULL,
+                e->hint[0] ? e->hint : NULL, "%s", e->message) != RIGMAT_OK)
+        return RIGMAT_ENOMEM;
+    return e->status == RIGMAT_ENOMEM ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
+}
+
+rigmat_status rigmat_layout_build(rigmat_model *m, rigmat_diags *d)
+{
+    rigmat_layout l;
+    rigmat_error e;
+    rigmat_status st;
+    rigmat_mech *s = NULL;
+    size_t *pos = NULL, i, k;
+    int *missing = NULL;
+    size_t *shape_in = NULL;
+
+    memset(&e, 0, sizeof e);
+    rigmat_layout_release(&m->layout);
+    /* the equations must be buildable whatever the order */
+    st = rigmat_mech_alloc(m, &s, &e);
+    rigmat_mech_free(s);
+    if (st != RIGMAT_OK)
+        return error_to_diag(d, &e);
+    st = canonical(m, &l, m->order_interleaved, &e);
+    if (st != RIGMAT_OK)
+        return error_to_diag(d, &e);
+    k = l.nx > l.nu ? l.nx : l.nu;
+    k = k > l.ny ? k : l.ny;
+    pos = calloc(k + 1, sizeof *pos);
+    missing = calloc(k + 1, sizeof *missing);
+    shape_in = calloc(l.nx + 1, sizeof *shape_in);
+    if (pos == NULL || missing == NULL || shape_in == NULL) {
+        st = RIGMAT_ENOMEM;
+        goto done;
+    }
+    /* shaping states name their input by index: remember the canonical one */
+    for (i = 0; i < l.nx; i++)
+        shape_in[i] = l.states[i].index;
+    if (m->order_inputs.count > 0) {
+        rigmat_signal *before = calloc(l.nu + 1, sizeof *before);
+        if (before == NULL) {
+            st = RIGMAT_ENOMEM;
+            goto done;
+        }
+        st = reorder(l.inputs, &l.nu, &m->order_inputs, "inputs", 0, pos, missing, d);
+        for (i = 0; i < l.nx && st == RIGMAT_OK; i++)
+            if (l.states[i].kind == RIGMAT_SIG_SHAPING)
+                l.states[i].index = pos[shape_in[i]];
+        /* control inputs must stay ahead of disturbances for nu_control */
+        for (i = 0; i + 1 < l.nu && st == RIGMAT_OK; i++)
+            if (l.inputs[i].role == RIGMAT_ROLE_DISTURBANCE &&
+                    l.inputs[i + 1].role == RIGMAT_ROLE_INPUT)
+                st = diag(d, list_loc(&m->order_inputs, i + 1),
+                        "control inputs come first, then disturbances",
+                        "the inputs list puts a control input after a disturbance:",
+                        l.inputs[i + 1].name);
+        free(before);
+        if (st != RIGMAT_OK)
+            goto done;
+    }
+    if (m->order_states.count > 0) {
+        size_t nx0 = l.nx;
+        rigmat_signal *copy = calloc(nx0 + 1, sizeof *copy);
+        const rigmat_layout *canon;
+        if (copy == NULL) {
+            st = RIGMAT_ENOMEM;
+            goto done;
+        }
+        memcpy(copy, l.states, nx0 * sizeof *copy);
+        /* reorder() frees the names it drops: keep the copies' names valid by
+         * checking cyclicity first on the canonical order */
+        for (i = 0; i < nx0; i++)
+            missing[i] = 1;
+        for (k = 0; k < m->order_states.count; k++)
+            for (i = 0; i < nx0; i++)
+                if (strcmp(copy[i].name, m->order_states.names[k]) == 0)
+                    missing[i] = 0;
+        st = RIGMAT_OK;
+        s = NULL;
+        for (i = 0; i < nx0 && st == RIGMAT_OK; i++) {
+            int cyc = 0;
+            size_t ci;
+            if (!missing[i])
+                continue;
+            if (copy[i].kind != RIGMAT_SIG_COORD) {
+                st = diag(d, list_loc(&m->order_states, 0),
+                        "only a cyclic coordinate may be left out",
+                        "the states list leaves out", copy[i].name);
+                continue;
+            }
+            /* the canonical index of this coordinate */
+            if (rigmat_mech_alloc(m, &s, &e) != RIGMAT_OK) {
+                st = error_to_diag(d, &e);
+                break;
+            }
+            canon = rigmat_mech_canonical(s);
+            for (ci = 0; ci < canon->nx; ci++)
+                if (canon->states[ci].kind == RIGMAT_SIG_COORD &&
+                        canon->states[ci].index == copy[i].index)
+                    break;
+            rigmat_mech_free(s);
+            s = NULL;
+            if (is_cyclic(m, ci, &cyc, &e) != RIGMAT_OK) {
+                st = error_to_diag(d, &e);
+                break;
+            }
+            if (!cyc)
+                st = diag(d, list_loc(&m->order_states, 0),
+                        "only a coordinate that appears in no equation (cyclic) may be left out",
+                        "the states list leaves out a coordinate that is not cyclic:",
+                        copy[i].name);
+        }
+        free(copy);
+        if (st == RIGMAT_OK)
+            st = reorder(l.states, &l.nx, &m->order_states, "states", 1, pos, missing, d);
+        if (st != RIGMAT_OK)
+            goto done;
+    }
+    if (m->order_outputs.count > 0) {
+        st = reorder(l.outputs, &l.ny, &m->order_outputs, "outputs", 0, pos, missing, d);
+        if (st != RIGMAT_OK)
+            goto done;
+    }
+    rigmat_layout_hash(&l);
+    m->layout = l;
+    memset(&l, 0, sizeof l);
+done:
+    rigmat_layout_release(&l);
+    free(pos);
+    free(missing);
+    free(shape_in);
+    return st;
+}

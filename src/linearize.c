@@ -1,0 +1,409 @@
+/* linearize.c - the public nonlinear system in layout order and the
+ * linearization at the operating point (see linearize.h). */
+#include "linearize.h"
+#include "trim.h"
+
+#include <math.h>
+#include <gsl/gsl_math.h>
+#include <stdlib.h>
+#include <string.h>
+
+struct rigmat_system {
+    const rigmat_model *m;
+    rigmat_mech *mech;
+    size_t nx, nu, ny;       /* layout sizes */
+    size_t cnx, cnu, cny;    /* canonical sizes */
+    size_t *xmap, *umap, *ymap; /* layout -> canonical */
+    double *xc, *uc, *fc, *yc;  /* canonical scratch */
+    double *A, *B, *C, *D;      /* canonical Jacobians */
+};
+
+rigmat_mech *rigmat_system_mech(rigmat_system *s)
+{
+    return s->mech;
+}
+
+size_t rigmat_system_state_canon(const rigmat_system *s, size_t k)
+{
+    return s->xmap[k];
+}
+
+size_t rigmat_system_input_canon(const rigmat_system *s, size_t k)
+{
+    return s->umap[k];
+}
+
+void rigmat_system_free(rigmat_system *s)
+{
+    if (s == NULL)
+        return;
+    rigmat_mech_free(s->mech);
+    free(s->xmap); free(s->umap); free(s->ymap);
+    free(s->xc); free(s->uc); free(s->fc); free(s->yc);
+    free(s->A); free(s->B); free(s->C); free(s->D);
+    free(s);
+}
+
+static size_t find_sig(const rigmat_signal *arr, size_t n, rigmat_signal_kind kind, size_t index)
+{
+    size_t k;
+    for (k = 0; k < n; k++)
+        if (arr[k].kind == kind && arr[k].index == index)
+            return k;
+    return RIGMAT_NONE;
+}
+
+void rigmat_system_set_base(rigmat_system *s, const double *x_canon)
+{
+    memcpy(s->xc, x_canon, s->cnx * sizeof *s->xc);
+}
+
+rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, rigmat_error *err)
+{
+    rigmat_system *s = calloc(1, sizeof *s);
+    const rigmat_layout *L = &m->layout, *C;
+    rigmat_status st;
+    size_t k;
+
+    *out = NULL;
+    if (s == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    s->m = m;
+    st = rigmat_mech_alloc(m, &s->mech, err);
+    if (st != RIGMAT_OK)
+        goto fail;
+    C = rigmat_mech_canonical(s->mech);
+    if (L->nx + L->nu + L->ny == 0 && C->nx + C->nu + C->ny > 0) {
+        st = RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the model's layout is not built");
+        rigmat_error_hint(err, "call rigmat_layout_build first");
+        goto fail;
+    }
+    s->nx = L->nx;
+    s->nu = L->nu;
+    s->ny = L->ny;
+    s->cnx = C->nx;
+    s->cnu = C->nu;
+    s->cny = C->ny;
+    s->xmap = calloc(s->nx + 1, sizeof *s->xmap);
+    s->umap = calloc(s->nu + 1, sizeof *s->umap);
+    s->ymap = calloc(s->ny + 1, sizeof *s->ymap);
+    s->xc = calloc(s->cnx + 1, sizeof *s->xc);
+    s->uc = calloc(s->cnu + 1, sizeof *s->uc);
+    s->fc = calloc(s->cnx + 1, sizeof *s->fc);
+    s->yc = calloc(s->cny + 1, sizeof *s->yc);
+    s->A = calloc(s->cnx * s->cnx + 1, sizeof *s->A);
+    s->B = calloc(s->cnx * s->cnu + 1, sizeof *s->B);
+    s->C = calloc(s->cny * s->cnx + 1, sizeof *s->C);
+    s->D = calloc(s->cny * s->cnu + 1, sizeof *s->D);
+    if (!s->xmap || !s->umap || !s->ymap || !s->xc || !s->uc || !s->fc || !s->yc || !s->A ||
+            !s->B || !s->C || !s->D) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        goto fail;
+    }
+    for (k = 0; k < s->nu; k++)
+        s->umap[k] = find_sig(C->inputs, C->nu, L->inputs[k].kind, L->inputs[k].index);
+    for (k = 0; k < s->nx; k++) {
+        const rigmat_signal *sg = &L->states[k];
+        if (sg->kind == RIGMAT_SIG_SHAPING)
+            s->xmap[k] = sg->index < s->nu ?
+                    find_sig(C->states, C->nx, RIGMAT_SIG_SHAPING, s->umap[sg->index]) :
+                    RIGMAT_NONE;
+        else
+            s->xmap[k] = find_sig(C->states, C->nx, sg->kind, sg->index);
+    }
+    for (k = 0; k < s->ny; k++)
+        s->ymap[k] = find_sig(C->outputs, C->ny, L->outputs[k].kind, L->outputs[k].index);
+    for (k = 0; k < s->nx + s->nu + s->ny; k++) {
+        const size_t v = k < s->nx ? s->xmap[k] :
+                         k < s->nx + s->nu ? s->umap[k - s->nx] : s->ymap[k - s->nx - s->nu];
+        if (v == RIGMAT_NONE) {
+            st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "the layout does not match the model");
+            goto fail;
+        }
+    }
+    /* states the layout leaves out sit at the operating point */
+    st = rigmat_mech_operating_point(s->mech, s->xc, s->uc, err);
+    if (st != RIGMAT_OK)
+        goto fail;
+    *out = s;
+    return RIGMAT_OK;
+fail:
+    rigmat_system_free(s);
+    return st;
+}
+
+static void scatter(rigmat_system *s, const double *x, const double *u)
+{
+    size_t k;
+    for (k = 0; k < s->nx; k++)
+        s->xc[s->xmap[k]] = x[k];
+    for (k = 0; k < s->nu; k++)
+        s->uc[s->umap[k]] = u[k];
+}
+
+rigmat_status rigmat_system_eval(rigmat_system *s, const double *x, const double *u, double *xdot,
+        double *y, rigmat_error *err)
+{
+    rigmat_status st;
+    size_t k;
+
+    scatter(s, x, u);
+    st = rigmat_mech_eval_real(s->mech, s->xc, s->uc, s->fc, s->yc, err);
+    if (st != RIGMAT_OK)
+        return st;
+    if (xdot != NULL)
+        for (k = 0; k < s->nx; k++)
+            xdot[k] = s->fc[s->xmap[k]];
+    if (y != NULL)
+        for (k = 0; k < s->ny; k++)
+            y[k] = s->yc[s->ymap[k]];
+    return RIGMAT_OK;
+}
+
+static rigmat_status check_size(const gsl_matrix *M, size_t r, size_t c, const char *name,
+        rigmat_error *err)
+{
+    if (M != NULL && (M->size1 != r || M->size2 != c))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "%s is %zux%zu, expected %zux%zu", name,
+                M->size1, M->size2, r, c);
+    return RIGMAT_OK;
+}
+
+/* Pick the layout's rows and columns out of the canonical Jacobians. */
+static void pick(const rigmat_system *s, gsl_matrix *A, gsl_matrix *B, gsl_matrix *C,
+        gsl_matrix *D)
+{
+    size_t i, j;
+    for (i = 0; i < s->nx; i++) {
+        for (j = 0; j < s->nx && A; j++)
+            gsl_matrix_set(A, i, j, s->A[s->xmap[i] * s->cnx + s->xmap[j]]);
+        for (j = 0; j < s->nu && B; j++)
+            gsl_matrix_set(B, i, j, s->B[s->xmap[i] * s->cnu + s->umap[j]]);
+    }
+    for (i = 0; i < s->ny; i++) {
+        for (j = 0; j < s->nx && C; j++)
+            gsl_matrix_set(C, i, j, s->C[s->ymap[i] * s->cnx + s->xmap[j]]);
+        for (j = 0; j < s->nu && D; j++)
+            gsl_matrix_set(D, i, j, s->D[s->ymap[i] * s->cnu + s->umap[j]]);
+    }
+}
+
+rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const double *u,
+        gsl_matrix *A, gsl_matrix *B, gsl_matrix *C, gsl_matrix *D, rigmat_error *err)
+{
+    rigmat_status st;
+
+    if ((st = check_size(A, s->nx, s->nx, "A", err)) != RIGMAT_OK ||
+            (st = check_size(B, s->nx, s->nu, "B", err)) != RIGMAT_OK ||
+            (st = check_size(C, s->ny, s->nx, "C", err)) != RIGMAT_OK ||
+            (st = check_size(D, s->ny, s->nu, "D", err)) != RIGMAT_OK)
+        return st;
+    scatter(s, x, u);
+    st = rigmat_mech_jacobians(s->mech, s->xc, s->uc, s->A, s->B, s->C, s->D, s->fc, s->yc, err);
+    if (st != RIGMAT_OK)
+        return st;
+    pick(s, A, B, C, D);
+    return RIGMAT_OK;
+}
+
+/* ------------------------------------------------------------ linearize */
+
+static int all_finite(const gsl_matrix *M)
+{
+    size_t i, j;
+    if (M == NULL)
+        return 1;
+    for (i = 0; i < M->size1; i++)
+        for (j = 0; j < M->size2; j++)
+            if (!isfinite(gsl_matrix_get(M, i, j)))
+                return 0;
+    return 1;
+}
+
+static int vec_finite(const gsl_vector *v)
+{
+    size_t i;
+    if (v == NULL)
+        return 1;
+    for (i = 0; i < v->size; i++)
+        if (!isfinite(gsl_vector_get(v, i)))
+            return 0;
+    return 1;
+}
+
+static rigmat_loc rate_loc(const rigmat_model *m, const char *joint)
+{
+    rigmat_loc none = { NULL, 0, 0 };
+    size_t k;
+    for (k = 0; k < m->nop_rates; k++)
+        if (strcmp(m->op_rates[k].name, joint) == 0)
+            return m->op_rates[k].loc;
+    return none;
+}
+
+/* A coordinate moving at a non-zero rate must not appear in f (cyclic),
+ * else the linear model holds only at t = 0: warn. */
+static rigmat_status warn_steady_motion(const rigmat_system *s, const rigmat_layout *CL,
+        rigmat_diags *w)
+{
+    const rigmat_model *m = s->m;
+    size_t k, r;
+
+    for (k = 0; k < CL->nx; k++) {
+        const rigmat_signal *sg = &CL->states[k];
+        const rigmat_joint *jt;
+        double rate = 0.0;
+        size_t kr;
+        int moves = 0;
+        if (sg->kind != RIGMAT_SIG_COORD)
+            continue;
+        jt = &m->joints[sg->index];
+        kr = find_sig(CL->states, CL->nx, RIGMAT_SIG_RATE, sg->index);
+        if (kr != RIGMAT_NONE)
+            rate = s->xc[kr];
+        else if (jt->driven == RIGMAT_DRIVEN_VELOCITY)
+            rate = s->uc[find_sig(CL->inputs, CL->nu, RIGMAT_SIG_DRIVEN, sg->index)];
+        if (rate == 0.0)
+            continue;
+        for (r = 0; r < CL->nx; r++)
+            if (s->A[r * CL->nx + k] != 0.0)
+                moves = 1;
+        if (moves && w != NULL) {
+            rigmat_loc none = { NULL, 0, 0 };
+            if (rigmat_diags_add(w, RIGMAT_WARNING, rate_loc(m, jt->name), none, NULL,
+                        "a steady motion is linearized exactly only along a coordinate that "
+                        "appears in no equation (a balancer's travel)",
+                        "joint '%s' moves at %.6g %s but its coordinate appears in the "
+                        "equations: the model is time-varying along it and holds at t = 0 only",
+                        jt->name, rate, jt->type == RIGMAT_JOINT_HINGE ? "rad/s" : "m/s") !=
+                    RIGMAT_OK)
+                return RIGMAT_ENOMEM;
+        }
+    }
+    return RIGMAT_OK;
+}
+
+static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti *lti)
+{
+    size_t k;
+
+    for (k = 0; k < L->nu; k++) {
+        const rigmat_signal *in = &L->inputs[k];
+        double dens = 0.0;
+        if (in->role != RIGMAT_ROLE_DISTURBANCE)
+            continue;
+        if (in->kind == RIGMAT_SIG_FORCE)
+            dens = m->forces[in->index].density;
+        else if (in->kind == RIGMAT_SIG_DRIVEN)
+            dens = m->joints[in->index].density;
+        /* DESIGN.md, noise: density N means intensity Qc = N^2 */
+        lti->input_intensity[k] = dens * dens;
+    }
+    for (k = 0; k < L->ny; k++) {
+        const rigmat_sensor *se = &m->sensors[L->outputs[k].index];
+        double scale = fabs(se->gain), res = se->resolution;
+        if (se->kind == RIGMAT_SENSE_MOTOR_ANGLE && se->counts_per_rev > 0.0) {
+            if (res == 0.0)
+                res = 2.0 * M_PI / se->counts_per_rev; /* one decoded count */
+            if (se->unit_counts)
+                scale *= se->counts_per_rev / (2.0 * M_PI);
+        }
+        lti->output_noise_sd[k] = se->noise * scale;
+        lti->output_density[k] = se->density * scale;
+        lti->output_bandwidth_hz[k] = se->bandwidth_hz;
+        lti->output_resolution[k] = res * scale;
+    }
+}
+
+rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt, rigmat_lti **out,
+        rigmat_diags *warnings, rigmat_error *err)
+{
+    rigmat_system *s = NULL;
+    rigmat_lti *lti = NULL;
+    const rigmat_layout *L = &m->layout, *CL;
+    rigmat_status st;
+    double residual = 0.0;
+    size_t k;
+
+    *out = NULL;
+    st = rigmat_system_alloc(m, &s, err);
+    if (st != RIGMAT_OK)
+        return st;
+    CL = rigmat_mech_canonical(s->mech);
+    if (m->op_solve.count > 0) {
+        st = rigmat_trim_run(s->mech, m, opt, s->xc, s->uc, NULL, err);
+        if (st != RIGMAT_OK)
+            goto done;
+    }
+    st = rigmat_mech_jacobians(s->mech, s->xc, s->uc, s->A, s->B, s->C, s->D, s->fc, s->yc, err);
+    if (st != RIGMAT_OK)
+        goto done;
+    st = warn_steady_motion(s, CL, warnings);
+    if (st != RIGMAT_OK) {
+        (void)RIGMAT_FAIL(err, st, "out of memory");
+        goto done;
+    }
+    for (k = 0; k < CL->nx; k++)
+        if (rigmat_mech_is_balance_row(s->mech, k) && fabs(s->fc[k]) > residual)
+            residual = fabs(s->fc[k]);
+    lti = rigmat_lti_alloc(L->nx, L->nu, L->ny, L->nu_control);
+    if (lti == NULL) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        goto done;
+    }
+    lti->layout = L;
+    pick(s, lti->A, lti->B, lti->C, lti->D);
+    for (k = 0; k < L->nx; k++) {
+        gsl_vector_set(lti->x0, k, s->xc[s->xmap[k]]);
+        gsl_vector_set(lti->f0, k, s->fc[s->xmap[k]]);
+    }
+    for (k = 0; k < L->nu; k++)
+        gsl_vector_set(lti->u0, k, s->uc[s->umap[k]]);
+    for (k = 0; k < L->ny; k++)
+        gsl_vector_set(lti->y0, k, s->yc[s->ymap[k]]);
+    lti->residual = residual;
+    lti->is_steady = residual <= opt->trim_tol;
+    fill_noise(m, L, lti);
+    if (!isfinite(residual) || !all_finite(lti->A) || !all_finite(lti->B) ||
+            !all_finite(lti->C) || !all_finite(lti->D) || !vec_finite(lti->x0) ||
+            !vec_finite(lti->u0) || !vec_finite(lti->y0) || !vec_finite(lti->f0)) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the linear model is not finite (NaN or Inf)");
+        rigmat_error_hint(err, "check the model's parameters and operating point");
+        goto done;
+    }
+    *out = lti;
+    lti = NULL;
+done:
+    rigmat_lti_free(lti);
+    rigmat_system_free(s);
+    return st;
+}
+
+rigmat_status rigmat_trim_model(const rigmat_model *m, const rigmat_options *opt,
+        rigmat_trim_result *r, rigmat_error *err)
+{
+    rigmat_system *s = NULL;
+    rigmat_status st, st2;
+    size_t k;
+
+    memset(r, 0, sizeof *r);
+    st = rigmat_system_alloc(m, &s, err);
+    if (st != RIGMAT_OK)
+        return st;
+    r->nx = s->nx;
+    r->nu = s->nu;
+    r->x = calloc(s->nx + 1, sizeof *r->x);
+    r->u = calloc(s->nu + 1, sizeof *r->u);
+    if (r->x == NULL || r->u == NULL) {
+        rigmat_system_free(s);
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    }
+    st = rigmat_trim_run(s->mech, m, opt, s->xc, s->uc, r, err);
+    for (k = 0; k < s->nx; k++)
+        r->x[k] = s->xc[s->xmap[k]];
+    for (k = 0; k < s->nu; k++)
+        r->u[k] = s->uc[s->umap[k]];
+    st2 = st;
+    rigmat_system_free(s);
+    return st2;
+}

@@ -1,0 +1,28 @@
+/* linearize.h - exact linearization of f(x, u), h(x, u) (src/mechanics.h)
+ * at the model's operating point, in the model's layout order.
+ *
+ * A = df/dx, B = df/du, C = dh/dx, D = dh/du by the complex step
+ * (J. R. R. A. Martins, P. Sturdza, J. J. Alonso, ACM TOMS 29(3), 2003): each
+ * column costs one complex evaluation and carries no truncation or
+ * cancellation error.  The operating point is the model's (unnamed = 0),
+ * trimmed first when operating_point.solve is not empty (src/trim.h).
+ * residual = max |f0| over the balance equations (accelerations, current and
+ * shaping derivatives); is_steady = residual <= opt->trim_tol.
+ * The public entry points are rigmat_system_* and rigmat_linearize in
+ * include/rigmat.h.
+ */
+#ifndef RIGMAT_LINEARIZE_H
+#define RIGMAT_LINEARIZE_H
+
+#include "rigmat.h"
+#include "mechanics.h"
+
+/* The system's canonical equations (borrowed). */
+rigmat_mech *rigmat_system_mech(rigmat_system *s);
+/* Canonical index of layout state / input / output k. */
+size_t rigmat_system_state_canon(const rigmat_system *s, size_t k);
+size_t rigmat_system_input_canon(const rigmat_system *s, size_t k);
+/* The values held by states the layout leaves out (canonical x; copied). */
+void rigmat_system_set_base(rigmat_system *s, const double *x_canon);
+
+#endif /* RIGMAT_LINEARIZE_H */

@@ -1,0 +1,2041 @@
+/* load.c - schema 1 (DESIGN.md section 3): the tree from load_yaml.c,
+ * after parts and --set overrides, read into a rigmat_model.
+ *
+ * Every field declares its kind (a rigmat_kind for numbers with units, a
+ * body/joint/motor reference, a word from a fixed list, a name list) and is
+ * read through one helper per kind, so every value gets the same checks:
+ * the YAML type, NaN/Inf, the unit's dimension, the range.  An error is
+ * recorded with the offending key or value and its entry, and reading goes
+ * on (up to opt->max_errors), so one run reports all it can.
+ *
+ * Decisions beyond DESIGN.md, made here:
+ *   - names match [A-Za-z_][A-Za-z0-9_-]*; each section's names are unique;
+ *     joints, motors, forces and sensors are also unique among each other,
+ *     because they name states, inputs and outputs ("tilt.angle", "drive",
+ *     "gyro") and operating-point entries.  Bodies, springs and dampers
+ *     have namespaces of their own: a body may share its hinge's name, as
+ *     a body `hub` on a slider `hub` does in examples/quarter-car.yaml;
+ *   - `mass` is required (write `mass: 0` for a massless link): a
+ *     forgotten mass would otherwise pass as a massless body;
+ *   - a rod's centre of mass is its middle; `com` together with `rod` is an
+ *     error (give `inertia` and `com` for anything else);
+ *   - a spring's stiffness may be negative (a destabilizing magnet); a
+ *     damper's coefficient may not (it would create energy);
+ *   - `friction` may be given in either motor form; in datasheet form it
+ *     replaces the friction derived from the no-load figures;
+ *   - `supply` is accepted only with `drive: duty`;
+ *   - operating point and `solve`: a bare joint name is its coordinate,
+ *     `<joint>.rate`/`<joint>.velocity` its rate, `<joint>.angle`/
+ *     `<joint>.position` the coordinate again; inputs by their names.
+ */
+#include "load.h"
+#include "units.h"
+
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* C99 has no M_PI; the digits are those of any libm header */
+#ifndef M_PI
+#define M_PI 3.14159265358979323846
+#endif
+
+static const rigmat_loc no_loc = { NULL, 0, 0 };
+
+struct ld {
+    rigmat_model *m;
+    rigmat_diags *d;
+    const rigmat_options *opt;
+    int nomem;
+};
+
+/* The entry being read: "body 'chassis'" and its mapping. */
+struct ent {
+    const char *name;
+    rigmat_loc loc;
+    char words[160];
+    const rigmat_node *map;
+};
+
+/* ------------------------------------------------------------ messages */
+
+static void lerr(struct ld *L, const struct ent *e, rigmat_loc where, const char *hint,
+        const char *fmt, ...) RIGMAT_PRINTF(5, 6);
+static void lerr(struct ld *L, const struct ent *e, rigmat_loc where, const char *hint,
+        const char *fmt, ...)
+{
+    char buf[256];
+    va_list ap;
+    const int same = e != NULL && e->loc.line == where.line && e->loc.col == where.col;
+
+    va_start(ap, fmt);
+    vsnprintf(buf, sizeof buf, fmt, ap);
+    va_end(ap);
+    if (rigmat_diags_add(L->d, RIGMAT_ERROR, where, (e && !same) ? e->loc : no_loc,
+                (e && !same) ? e->words : NULL, hint, "%s", buf) != RIGMAT_OK)
+        L->nomem = 1;
+}
+
+static void lwarn(struct ld *L, const struct ent *e, rigmat_loc where, const char *hint,
+        const char *fmt, ...) RIGMAT_PRINTF(5, 6);
+static void lwarn(struct ld *L, const struct ent *e, rigmat_loc where, const char *hint,
+        const char *fmt, ...)
+{
+    char buf[256];
+    va_list ap;
+
+    va_start(ap, fmt);
+    vsnprintf(buf, sizeof buf, fmt, ap);
+    va_end(ap);
+    if (rigmat_diags_add(L->d, RIGMAT_WARNING, where, e ? e->loc : no_loc, e ? e->words : NULL,
+                hint, "%s", buf) != RIGMAT_OK)
+        L->nomem = 1;
+}
+
+/* The nearest of n words to s, or NULL when none is close enough to be a
+ * likely typo (distance at most 2, or a third of the word). */
+static const char *nearest(const char *s, const char *const *words, size_t n)
+{
+    const char *best = NULL;
+    size_t bestd = (size_t)-1, i;
+
+    for (i = 0; i < n; i++) {
+        const size_t d = rigmat_load_distance(s, words[i], 8);
+        const size_t len = strlen(words[i]);
+        const size_t limit = len / 3 > 2 ? len / 3 : 2;
+        if (d <= limit && d < bestd) {
+            bestd = d;
+            best = words[i];
+        }
+    }
+    return best;
+}
+
+/* "did you mean 'x'?", or "use one of: a, b, c" when nothing is close. */
+static void hint_for(char *hint, size_t len, const char *s, const char *const *words, size_t n)
+{
+    const char *near = nearest(s, words, n);
+    size_t used, i;
+
+    if (near != NULL) {
+        snprintf(hint, len, "did you mean '%s'?", near);
+        return;
+    }
+    used = (size_t)snprintf(hint, len, "%s", n ? "use one of: " : "");
+    for (i = 0; i < n && used + strlen(words[i]) + 6 < len; i++)
+        used += (size_t)snprintf(hint + used, len - used, "%s%s", i ? ", " : "", words[i]);
+    if (i < n && used + 5 < len)
+        snprintf(hint + used, len - used, ", ...");
+}
+
+static char *dup_s(struct ld *L, const char *s)
+{
+    const size_t n = strlen(s) + 1;
+    char *p = malloc(n);
+
+    if (p == NULL) {
+        L->nomem = 1;
+        return NULL;
+    }
+    memcpy(p, s, n);
+    return p;
+}
+
+/* ------------------------------------------------------------- fields */
+
+static const rigmat_entry *field(const struct ent *e, const char *key)
+{
+    return rigmat_node_get(e->map, key);
+}
+
+/* Unknown keys, with the nearest valid key as hint.  `other` lists keys
+ * that are valid elsewhere in this kind of entry but not in this form. */
+static void check_keys(struct ld *L, const struct ent *e, const char *const *keys, size_t n,
+        const char *const *other, size_t nother, const char *form)
+{
+    size_t i, k;
+    char hint[160];
+
+    for (i = 0; i < e->map->n; i++) {
+        const rigmat_entry *f = &e->map->entries[i];
+        int ok = 0;
+        for (k = 0; k < n && !ok; k++)
+            ok = strcmp(f->key, keys[k]) == 0;
+        if (ok)
+            continue;
+        for (k = 0; k < nother && !ok; k++)
+            ok = strcmp(f->key, other[k]) == 0;
+        if (ok) {
+            lerr(L, e, f->key_loc, NULL, "'%s' does not apply to %s", f->key, form);
+            continue;
+        }
+        hint_for(hint, sizeof hint, f->key, keys, n);
+        lerr(L, e, f->key_loc, hint, "unknown key '%s'", f->key);
+    }
+}
+
+static int is_null(const rigmat_node *n)
+{
+    return n->type == RIGMAT_NODE_SCALAR && n->plain &&
+            (n->text[0] == '\0' || strcmp(n->text, "~") == 0 || strcmp(n->text, "null") == 0);
+}
+
+static int want_scalar(struct ld *L, const struct ent *e, const rigmat_node *n, const char *what)
+{
+    if (n->type == RIGMAT_NODE_SCALAR && !is_null(n))
+        return 1;
+    lerr(L, e, n->loc, NULL, "expected %s, got %s", what,
+            is_null(n) ? "nothing" : rigmat_node_type_words(n->type));
+    return 0;
+}
+
+static void kind_label(char *buf, size_t len, rigmat_kind kind, int density)
+{
+    if (density)
+        snprintf(buf, len, "%s per sqrt(Hz) (%s/sqrt(Hz))", rigmat_units_kind_words(kind),
+                rigmat_units_kind_symbol(kind));
+    else if (kind == RIGMAT_Q_NUMBER)
+        snprintf(buf, len, "a number");
+    else
+        snprintf(buf, len, "%s (%s)", rigmat_units_kind_words(kind),
+                rigmat_units_kind_symbol(kind));
+}
+
+/* A number with a unit of the given kind (or kind/sqrt(Hz)). */
+static int num_node(struct ld *L, const struct ent *e, const rigmat_node *n, rigmat_kind kind,
+        int density, double *out)
+{
+    char what[96];
+    rigmat_error err;
+    char *end;
+    double lead;
+    rigmat_status st;
+
+    kind_label(what, sizeof what, kind, density);
+    if (!want_scalar(L, e, n, what))
+        return 0;
+    lead = strtod(n->text, &end);
+    if (end != n->text && !isfinite(lead)) {
+        lerr(L, e, n->loc, "write a finite number", "'%s' is not a finite number", n->text);
+        return 0;
+    }
+    memset(&err, 0, sizeof err);
+    st = density ? rigmat_units_expect_density(n->text, kind, out, &err)
+                 : rigmat_units_expect(n->text, kind, out, &err);
+    if (st == RIGMAT_ENOMEM) {
+        L->nomem = 1;
+        return 0;
+    }
+    if (st != RIGMAT_OK) {
+        lerr(L, e, n->loc, err.hint[0] ? err.hint : NULL, "%s", err.message);
+        return 0;
+    }
+    if (!isfinite(*out)) {
+        lerr(L, e, n->loc, NULL, "'%s' is out of range", n->text);
+        return 0;
+    }
+    return 1;
+}
+
+/* Optional number: 1 read, 0 absent, -1 error. */
+static int opt_num(struct ld *L, const struct ent *e, const char *key, rigmat_kind kind,
+        double *out)
+{
+    const rigmat_entry *f = field(e, key);
+
+    if (f == NULL)
+        return 0;
+    return num_node(L, e, f->value, kind, 0, out) ? 1 : -1;
+}
+
+static int opt_density(struct ld *L, const struct ent *e, const char *key, rigmat_kind kind,
+        double *out)
+{
+    const rigmat_entry *f = field(e, key);
+
+    if (f == NULL)
+        return 0;
+    return num_node(L, e, f->value, kind, 1, out) ? 1 : -1;
+}
+
+static void missing(struct ld *L, const struct ent *e, const char *key, const char *hint)
+{
+    lerr(L, e, e->loc, hint, "missing required field '%s'", key);
+}
+
+static int req_num(struct ld *L, const struct ent *e, const char *key, rigmat_kind kind,
+        double *out, const char *hint)
+{
+    const int r = opt_num(L, e, key, kind, out);
+
+    if (r == 0)
+        missing(L, e, key, hint);
+    return r == 1;
+}
+
+/* Range checks on a field read as a number. */
+static void must_positive(struct ld *L, const struct ent *e, const char *key, double v)
+{
+    const rigmat_entry *f = field(e, key);
+    if (f != NULL && !(v > 0.0))
+        lerr(L, e, f->value->loc, NULL, "'%s' must be positive, got %s", key, f->value->text);
+}
+
+static void must_nonneg(struct ld *L, const struct ent *e, const char *key, double v)
+{
+    const rigmat_entry *f = field(e, key);
+    if (f != NULL && v < 0.0)
+        lerr(L, e, f->value->loc, NULL, "'%s' must not be negative, got %s", key,
+                f->value->text);
+}
+
+/* [x, y] of a kind. */
+static int vec2_node(struct ld *L, const struct ent *e, const rigmat_node *n, rigmat_kind kind,
+        double out[2])
+{
+    char what[96];
+    int ok;
+
+    if (n->type != RIGMAT_NODE_SEQ || n->n != 2) {
+        kind_label(what, sizeof what, kind, 0);
+        if (n->type == RIGMAT_NODE_SEQ)
+            lerr(L, e, n->loc, "write [x, y]", "expected a list of 2 values, got %zu", n->n);
+        else
+            lerr(L, e, n->loc, "write [x, y]", "expected a list [x, y] of %s, got %s", what,
+                    rigmat_node_type_words(n->type));
+        return 0;
+    }
+    ok = num_node(L, e, n->items[0], kind, 0, &out[0]);
+    ok = num_node(L, e, n->items[1], kind, 0, &out[1]) && ok;
+    return ok;
+}
+
+static int opt_vec2(struct ld *L, const struct ent *e, const char *key, rigmat_kind kind,
+        double out[2])
+{
+    const rigmat_entry *f = field(e, key);
+
+    if (f == NULL)
+        return 0;
+    return vec2_node(L, e, f->value, kind, out) ? 1 : -1;
+}
+
+/* A direction: [x, y] (normalised) or an angle from +x. */
+static int dir_node(struct ld *L, const struct ent *e, const rigmat_node *n, double out[2])
+{
+    double v[2], a, len;
+
+    if (n->type == RIGMAT_NODE_SEQ) {
+        if (!vec2_node(L, e, n, RIGMAT_Q_NUMBER, v))
+            return 0;
+        len = hypot(v[0], v[1]);
+        if (!(len > 0.0)) {
+            lerr(L, e, n->loc, "give a non-zero vector, e.g. [1, 0], or an angle",
+                    "a direction of length zero");
+            return 0;
+        }
+        out[0] = v[0] / len;
+        out[1] = v[1] / len;
+        return 1;
+    }
+    if (n->type == RIGMAT_NODE_MAP) {
+        lerr(L, e, n->loc, "write [x, y] or an angle such as 90 deg",
+                "expected a direction, got a mapping");
+        return 0;
+    }
+    if (!num_node(L, e, n, RIGMAT_Q_ANGLE, 0, &a))
+        return 0;
+    out[0] = cos(a);
+    out[1] = sin(a);
+    return 1;
+}
+
+/* A word from a list; returns its index or -1. */
+static int word_node(struct ld *L, const struct ent *e, const rigmat_node *n,
+        const char *const *words, size_t nw, const char *what)
+{
+    char hint[160];
+    size_t i;
+
+    if (!want_scalar(L, e, n, what))
+        return -1;
+    for (i = 0; i < nw; i++)
+        if (strcmp(n->text, words[i]) == 0)
+            return (int)i;
+    hint_for(hint, sizeof hint, n->text, words, nw);
+    lerr(L, e, n->loc, hint, "'%s' is not %s", n->text, what);
+    return -1;
+}
+
+static int opt_word(struct ld *L, const struct ent *e, const char *key, const char *const *words,
+        size_t nw, const char *what, int dflt)
+{
+    const rigmat_entry *f = field(e, key);
+
+    if (f == NULL)
+        return dflt;
+    return word_node(L, e, f->value, words, nw, what);
+}
+
+#define NW(a) (sizeof(a) / sizeof(a)[0])
+
+/* -------------------------------------------------------- references */
+
+static size_t find_body(const rigmat_model *m, const char *s)
+{
+    size_t i;
+    for (i = 0; i < m->nbodies; i++)
+        if (m->bodies[i].name != NULL && strcmp(m->bodies[i].name, s) == 0)
+            return i;
+    return RIGMAT_NONE;
+}
+
+static size_t find_joint(const rigmat_model *m, const char *s)
+{
+    size_t i;
+    for (i = 0; i < m->njoints; i++)
+        if (m->joints[i].name != NULL && strcmp(m->joints[i].name, s) == 0)
+            return i;
+    return RIGMAT_NONE;
+}
+
+static size_t find_motor(const rigmat_model *m, const char *s)
+{
+    size_t i;
+    for (i = 0; i < m->nmotors; i++)
+        if (m->motors[i].name != NULL && strcmp(m->motors[i].name, s) == 0)
+            return i;
+    return RIGMAT_NONE;
+}
+
+static size_t find_force(const rigmat_model *m, const char *s)
+{
+    size_t i;
+    for (i = 0; i < m->nforces; i++)
+        if (m->forces[i].name != NULL && strcmp(m->forces[i].name, s) == 0)
+            return i;
+    return RIGMAT_NONE;
+}
+
+/* A hint naming the nearest of up to 64 candidate names. */
+static void name_hint(char *hint, size_t len, const char *s, const char *const *names, size_t n)
+{
+    const char *near = nearest(s, names, n);
+
+    if (near != NULL)
+        snprintf(hint, len, "did you mean '%s'?", near);
+    else if (n == 0)
+        snprintf(hint, len, "there is none in this model");
+    else
+        hint_for(hint, len, s, names, n);
+}
+
+static size_t collect_names(const char **names, size_t max, const void *base, size_t count,
+        size_t stride, size_t first)
+{
+    size_t i, n = 0;
+    for (i = first; i < count && n < max; i++) {
+        const char *nm = *(char *const *)((const char *)base + i * stride);
+        if (nm != NULL)
+            names[n++] = nm;
+    }
+    return n;
+}
+
+static size_t body_ref(struct ld *L, const struct ent *e, const rigmat_node *n)
+{
+    const char *names[64];
+    char hint[160];
+    size_t b, k;
+
+    if (!want_scalar(L, e, n, "a body name"))
+        return RIGMAT_NONE;
+    b = find_body(L->m, n->text);
+    if (b != RIGMAT_NONE)
+        return b;
+    k = collect_names(names, 64, L->m->bodies, L->m->nbodies, sizeof(rigmat_body), 0);
+    name_hint(hint, sizeof hint, n->text, names, k);
+    lerr(L, e, n->loc, hint, "unknown body '%s'", n->text);
+    return RIGMAT_NONE;
+}
+
+static size_t joint_ref(struct ld *L, const struct ent *e, const rigmat_node *n)
+{
+    const char *names[64];
+    char hint[160];
+    size_t j, k;
+
+    if (!want_scalar(L, e, n, "a joint name"))
+        return RIGMAT_NONE;
+    j = find_joint(L->m, n->text);
+    if (j != RIGMAT_NONE)
+        return j;
+    k = collect_names(names, 64, L->m->joints, L->m->njoints, sizeof(rigmat_joint), 0);
+    name_hint(hint, sizeof hint, n->text, names, k);
+    lerr(L, e, n->loc, hint, "unknown joint '%s'", n->text);
+    return RIGMAT_NONE;
+}
+
+static size_t motor_ref(struct ld *L, const struct ent *e, const rigmat_node *n)
+{
+    const char *names[64];
+    char hint[160];
+    size_t j, k;
+
+    if (!want_scalar(L, e, n, "a motor name"))
+        return RIGMAT_NONE;
+    j = find_motor(L->m, n->text);
+    if (j != RIGMAT_NONE)
+        return j;
+    k = collect_names(names, 64, L->m->motors, L->m->nmotors, sizeof(rigmat_motor), 0);
+    name_hint(hint, sizeof hint, n->text, names, k);
+    lerr(L, e, n->loc, hint, "unknown motor '%s'", n->text);
+    return RIGMAT_NONE;
+}
+
+/* ----------------------------------------------------------- sections */
+
+static int valid_name(const char *s)
+{
+    if (!((*s >= 'a' && *s <= 'z') || (*s >= 'A' && *s <= 'Z') || *s == '_'))
+        return 0;
+    for (s++; *s; s++)
+        if (!((*s >= 'a' && *s <= 'z') || (*s >= 'A' && *s <= 'Z') || (*s >= '0' && *s <= '9') ||
+                    *s == '_' || *s == '-'))
+            return 0;
+    return 1;
+}
+
+/* The entries of a section: a mapping of name: mapping.  Returns the
+ * section node (NULL when absent, empty or wrong). */
+static const rigmat_node *section(struct ld *L, const rigmat_node *root, const char *key)
+{
+    const rigmat_entry *s = rigmat_node_get(root, key);
+
+    if (s == NULL || is_null(s->value))
+        return NULL;
+    if (s->value->type != RIGMAT_NODE_MAP) {
+        lerr(L, NULL, s->value->loc, "write one entry per line: 'name: {key: value, ...}'",
+                "expected a mapping of names to entries, got %s",
+                rigmat_node_type_words(s->value->type));
+        return NULL;
+    }
+    if (s->value->n > L->opt->max_entries) {
+        lerr(L, NULL, s->value->entries[L->opt->max_entries].key_loc, NULL,
+                "more than %zu entries in '%s'", L->opt->max_entries, key);
+        return NULL;
+    }
+    return s->value;
+}
+
+/* Set up e for entry i of a section; 0 if it cannot be read at all.
+ * Reports bad names and a value that is not a mapping. */
+static int entry(struct ld *L, const rigmat_node *sec, size_t i, const char *what, struct ent *e)
+{
+    const rigmat_entry *en = &sec->entries[i];
+    size_t k;
+
+    e->name = en->key;
+    e->loc = en->key_loc;
+    e->map = en->value;
+    snprintf(e->words, sizeof e->words, "%s '%s'", what, en->key);
+    for (k = 0; k < i; k++)
+        if (strcmp(sec->entries[k].key, en->key) == 0)
+            return 0; /* a duplicate key, reported by the YAML reader */
+    if (!valid_name(en->key)) {
+        lerr(L, NULL, en->key_loc,
+                "a name starts with a letter or '_' and holds letters, digits, '_' and '-'",
+                "invalid name '%s'", en->key);
+        return 0;
+    }
+    if (en->value->type != RIGMAT_NODE_MAP) {
+        lerr(L, e, en->value->loc, "write the fields as a mapping: {key: value, ...}",
+                "expected a mapping of the %s's fields, got %s", what,
+                is_null(en->value) ? "nothing" : rigmat_node_type_words(en->value->type));
+        return 0;
+    }
+    return 1;
+}
+
+/* Joints, motors, forces and sensors name signals: unique among each other. */
+static int signal_name_taken(struct ld *L, const struct ent *e)
+{
+    const rigmat_model *m = L->m;
+    const char *kind = NULL;
+    size_t i;
+
+    for (i = 0; i < m->njoints && !kind; i++)
+        if (m->joints[i].name && strcmp(m->joints[i].name, e->name) == 0)
+            kind = "joint";
+    for (i = 0; i < m->nmotors && !kind; i++)
+        if (m->motors[i].name && strcmp(m->motors[i].name, e->name) == 0)
+            kind = "motor";
+    for (i = 0; i < m->nforces && !kind; i++)
+        if (m->forces[i].name && strcmp(m->forces[i].name, e->name) == 0)
+            kind = "force";
+    for (i = 0; i < m->nsensors && !kind; i++)
+        if (m->sensors[i].name && strcmp(m->sensors[i].name, e->name) == 0)
+            kind = "sensor";
+    if (kind == NULL)
+        return 0;
+    lerr(L, NULL, e->loc,
+            "joints, motors, forces and sensors name states, inputs and outputs, so their "
+            "names must differ", "duplicate name '%s': already a %s", e->name, kind);
+    return 1;
+}
+
+static void *alloc_array(struct ld *L, size_t n, size_t size)
+{
+    void *p = calloc(n ? n : 1, size);
+    if (p == NULL)
+        L->nomem = 1;
+    return p;
+}
+
+/* --------------------------------------------------------------- bodies */
+
+static const char *const body_keys[] = { "mass", "inertia", "shape", "com", "part" };
+static const char *const shape_words[] = { "point", "rod", "disc", "ring", "sphere", "box" };
+
+static void read_shape(struct ld *L, const struct ent *e, const rigmat_node *n, rigmat_body *b)
+{
+    const rigmat_node *args = NULL;
+    const char *word;
+    struct ent sub;
+    int k;
+
+    if (n->type == RIGMAT_NODE_SCALAR) {
+        k = word_node(L, e, n, shape_words, NW(shape_words), "a shape");
+        if (k < 0)
+            return;
+        if (k != 0) {
+            lerr(L, e, n->loc, "write e.g. shape: {disc: {radius: 61 mm}}",
+                    "shape '%s' needs its dimensions", n->text);
+            return;
+        }
+        b->shape = RIGMAT_SHAPE_POINT;
+        return;
+    }
+    if (n->type != RIGMAT_NODE_MAP || n->n != 1) {
+        lerr(L, e, n->loc, "write e.g. shape: {disc: {radius: 61 mm}}",
+                "expected a shape: a mapping with one of point, rod, disc, ring, sphere, box");
+        return;
+    }
+    word = n->entries[0].key;
+    for (k = 0; k < (int)NW(shape_words); k++)
+        if (strcmp(word, shape_words[k]) == 0)
+            break;
+    if (k == (int)NW(shape_words)) {
+        char hint[160];
+        hint_for(hint, sizeof hint, word, shape_words, NW(shape_words));
+        lerr(L, e, n->entries[0].key_loc, hint, "unknown shape '%s'", word);
+        return;
+    }
+    args = n->entries[0].value;
+    b->shape = (rigmat_shape)(RIGMAT_SHAPE_POINT + k);
+    if (b->shape == RIGMAT_SHAPE_POINT)
+        return;
+    if (args->type != RIGMAT_NODE_MAP) {
+        lerr(L, e, args->loc, "write e.g. {radius: 61 mm}",
+                "expected the %s's dimensions as a mapping, got %s", word,
+                rigmat_node_type_words(args->type));
+        b->shape = RIGMAT_SHAPE_GIVEN;
+        return;
+    }
+    sub = *e;
+    sub.map = args;
+    switch (b->shape) {
+    case RIGMAT_SHAPE_ROD: {
+        static const char *const keys[] = { "length", "direction" };
+        check_keys(L, &sub, keys, NW(keys), NULL, 0, "a rod");
+        b->direction_rad = M_PI / 2.0;
+        if (req_num(L, &sub, "length", RIGMAT_Q_LENGTH, &b->length_m, NULL))
+            must_positive(L, &sub, "length", b->length_m);
+        opt_num(L, &sub, "direction", RIGMAT_Q_ANGLE, &b->direction_rad);
+        break;
+    }
+    case RIGMAT_SHAPE_BOX: {
+        static const char *const keys[] = { "width", "height" };
+        check_keys(L, &sub, keys, NW(keys), NULL, 0, "a box");
+        if (req_num(L, &sub, "width", RIGMAT_Q_LENGTH, &b->width_m, NULL))
+            must_positive(L, &sub, "width", b->width_m);
+        if (req_num(L, &sub, "height", RIGMAT_Q_LENGTH, &b->height_m, NULL))
+            must_positive(L, &sub, "height", b->height_m);
+        break;
+    }
+    default: {
+        static const char *const keys[] = { "radius" };
+        check_keys(L, &sub, keys, NW(keys), NULL, 0, "this shape");
+        if (req_num(L, &sub, "radius", RIGMAT_Q_LENGTH, &b->radius_m, NULL))
+            must_positive(L, &sub, "radius", b->radius_m);
+        break;
+    }
+    }
+}
+
+/* Inertia about the centre of mass from the shape (common practice:
+ * rod m L^2/12, disc m r^2/2, ring m r^2, solid sphere 2/5 m r^2 (its
+ * 3-D moment about the axis, also for a planar model of it rolling), box
+ * m (w^2 + h^2)/12, point 0). */
+static double shape_inertia(const rigmat_body *b)
+{
+    const double m = b->mass_kg;
+
+    switch (b->shape) {
+    case RIGMAT_SHAPE_GIVEN: return b->inertia_kgm2;
+    case RIGMAT_SHAPE_POINT: return 0.0;
+    case RIGMAT_SHAPE_ROD: return m * b->length_m * b->length_m / 12.0;
+    case RIGMAT_SHAPE_DISC: return m * b->radius_m * b->radius_m / 2.0;
+    case RIGMAT_SHAPE_RING: return m * b->radius_m * b->radius_m;
+    case RIGMAT_SHAPE_SPHERE: return 0.4 * m * b->radius_m * b->radius_m;
+    case RIGMAT_SHAPE_BOX: return m * (b->width_m * b->width_m + b->height_m * b->height_m) / 12.0;
+    }
+    return 0.0;
+}
+
+static void read_bodies(struct ld *L, const rigmat_node *root)
+{
+    const rigmat_node *sec = section(L, root, "bodies");
+    const size_t n = sec ? sec->n : 0;
+    rigmat_model *m = L->m;
+    size_t i;
+
+    m->bodies = alloc_array(L, n + 1, sizeof *m->bodies);
+    if (m->bodies == NULL)
+        return;
+    m->nbodies = 1;
+    m->bodies[0].name = dup_s(L, "ground");
+    m->bodies[0].joint = RIGMAT_NONE;
+    for (i = 0; i < n; i++) {
+        rigmat_body *b = &m->bodies[m->nbodies];
+        const rigmat_entry *f;
+        struct ent e;
+        if (!entry(L, sec, i, "body", &e))
+            continue;
+        if (strcmp(e.name, "ground") == 0) {
+            lerr(L, NULL, e.loc, "name the body differently; joints use 'ground' as parent",
+                    "'ground' is the fixed world body and may not be defined");
+            continue;
+        }
+        m->nbodies++;
+        b->name = dup_s(L, e.name);
+        b->loc = e.loc;
+        b->joint = RIGMAT_NONE;
+        check_keys(L, &e, body_keys, NW(body_keys), NULL, 0, "a body");
+        if (req_num(L, &e, "mass", RIGMAT_Q_MASS, &b->mass_kg, "write 'mass: 0' for a "
+                    "massless link"))
+            must_nonneg(L, &e, "mass", b->mass_kg);
+        if (opt_num(L, &e, "inertia", RIGMAT_Q_INERTIA, &b->inertia_kgm2) == 1)
+            must_nonneg(L, &e, "inertia", b->inertia_kgm2);
+        f = field(&e, "shape");
+        if (f != NULL) {
+            if (field(&e, "inertia") != NULL)
+                lerr(L, &e, f->key_loc, "give either 'inertia' or 'shape', not both",
+                        "'shape' and 'inertia' together");
+            else
+                read_shape(L, &e, f->value, b);
+        }
+        f = field(&e, "com");
+        if (f != NULL && b->shape == RIGMAT_SHAPE_ROD)
+            lerr(L, &e, f->key_loc, "a rod's centre of mass is its middle; for another "
+                    "centre give 'inertia' and 'com'", "'com' and a rod shape together");
+        else if (f != NULL)
+            vec2_node(L, &e, f->value, RIGMAT_Q_LENGTH, b->com_m);
+        if (b->shape == RIGMAT_SHAPE_ROD) {
+            b->com_m[0] = 0.5 * b->length_m * cos(b->direction_rad);
+            b->com_m[1] = 0.5 * b->length_m * sin(b->direction_rad);
+        }
+        b->inertia_kgm2 = shape_inertia(b);
+    }
+}
+
+/* --------------------------------------------------------------- joints */
+
+static const char *const joint_types[] = { "slider", "hinge", "rolling", "fixed" };
+static const char *const joint_common[] = { "type", "parent", "child", "at", "angle", "part" };
+static const char *const joint_all[] = { "type", "parent", "child", "at", "angle", "part",
+    "axis", "reference", "radius", "driven", "role", "density", "bandwidth" };
+static const char *const driven_words[] = { "none", "position", "velocity", "acceleration" };
+static const char *const role_words[] = { "input", "disturbance" };
+
+/* Units of a joint's coordinate and its derivatives (order 0, 1, 2). */
+static rigmat_kind joint_kind(const rigmat_joint *j, int order)
+{
+    const int rot = j->type == RIGMAT_JOINT_HINGE;
+    static const rigmat_kind lin[] = { RIGMAT_Q_LENGTH, RIGMAT_Q_VELOCITY, RIGMAT_Q_ACCELERATION };
+    static const rigmat_kind ang[] = { RIGMAT_Q_ANGLE, RIGMAT_Q_ANGULAR_RATE,
+        RIGMAT_Q_ANGULAR_ACCEL };
+    return rot ? ang[order] : lin[order];
+}
+
+/* Force or torque along a joint's coordinate. */
+static rigmat_kind joint_effort(const rigmat_joint *j)
+{
+    return j->type == RIGMAT_JOINT_HINGE ? RIGMAT_Q_TORQUE : RIGMAT_Q_FORCE;
+}
+
+static void read_joints(struct ld *L, const rigmat_node *root)
+{
+    const rigmat_node *sec = section(L, root, "joints");
+    const size_t n = sec ? sec->n : 0;
+    rigmat_model *m = L->m;
+    size_t i;
+
+    m->joints = alloc_array(L, n, sizeof *m->joints);
+    if (m->joints == NULL)
+        return;
+    for (i = 0; i < n; i++) {
+        rigmat_joint *j = &m->joints[m->njoints];
+        const rigmat_entry *f;
+        const char *keys[16];
+        size_t nk = 0, k;
+        struct ent e;
+        int t;
+        if (!entry(L, sec, i, "joint", &e) || signal_name_taken(L, &e))
+            continue;
+        m->njoints++;
+        j->name = dup_s(L, e.name);
+        j->loc = e.loc;
+        j->parent = j->child = RIGMAT_NONE;
+        j->axis[0] = 1.0;
+        f = field(&e, "type");
+        t = -1;
+        if (f == NULL)
+            missing(L, &e, "type", "one of slider, hinge, rolling, fixed");
+        else
+            t = word_node(L, &e, f->value, joint_types, NW(joint_types), "a joint type");
+        if (t < 0) {
+            check_keys(L, &e, joint_all, NW(joint_all), NULL, 0, "a joint");
+            t = RIGMAT_JOINT_FIXED;
+            f = NULL;
+        }
+        j->type = (rigmat_joint_type)t;
+        for (k = 0; k < NW(joint_common); k++)
+            keys[nk++] = joint_common[k];
+        if (j->type == RIGMAT_JOINT_SLIDER)
+            keys[nk++] = "axis";
+        if (j->type == RIGMAT_JOINT_HINGE)
+            keys[nk++] = "reference";
+        if (j->type == RIGMAT_JOINT_ROLLING)
+            keys[nk++] = "radius";
+        if (j->type == RIGMAT_JOINT_SLIDER || j->type == RIGMAT_JOINT_HINGE) {
+            keys[nk++] = "driven";
+            if (field(&e, "driven") != NULL) {
+                keys[nk++] = "role";
+                keys[nk++] = "density";
+                keys[nk++] = "bandwidth";
+            }
+        }
+        if (f != NULL) {
+            char form[64];
+            snprintf(form, sizeof form, "a %s joint", joint_types[t]);
+            check_keys(L, &e, keys, nk, joint_all, NW(joint_all), form);
+        }
+        f = field(&e, "parent");
+        if (f == NULL)
+            missing(L, &e, "parent", "the body this joint is attached to, or ground");
+        else
+            j->parent = body_ref(L, &e, f->value);
+        f = field(&e, "child");
+        if (f == NULL) {
+            missing(L, &e, "child", "the body this joint carries");
+        } else {
+            j->child = body_ref(L, &e, f->value);
+            if (j->child == 0) {
+                lerr(L, &e, f->value->loc, "ground is fixed; swap parent and child",
+                        "a joint's child cannot be ground");
+                j->child = RIGMAT_NONE;
+            } else if (j->child != RIGMAT_NONE && j->child == j->parent) {
+                lerr(L, &e, f->value->loc, NULL, "a joint's child cannot be its parent");
+                j->child = RIGMAT_NONE;
+            }
+        }
+        opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, j->at_m);
+        opt_num(L, &e, "angle", RIGMAT_Q_ANGLE, &j->angle_rad);
+        f = field(&e, "axis");
+        if (f != NULL && j->type == RIGMAT_JOINT_SLIDER)
+            dir_node(L, &e, f->value, j->axis);
+        if (j->type == RIGMAT_JOINT_HINGE) {
+            static const char *const refs[] = { "parent", "world" };
+            j->reference_world = opt_word(L, &e, "reference", refs, NW(refs),
+                    "a reference (parent or world)", 0) == 1;
+        }
+        if (j->type == RIGMAT_JOINT_ROLLING) {
+            if (req_num(L, &e, "radius", RIGMAT_Q_LENGTH, &j->radius_m, "the wheel's rolling "
+                        "radius"))
+                must_positive(L, &e, "radius", j->radius_m);
+        }
+        if (j->type == RIGMAT_JOINT_SLIDER || j->type == RIGMAT_JOINT_HINGE) {
+            int dv = opt_word(L, &e, "driven", driven_words + 1, NW(driven_words) - 1,
+                    "a driven derivative (position, velocity or acceleration)", -1);
+            j->driven = dv < 0 ? RIGMAT_DRIVEN_NONE : (rigmat_driven)(dv + 1);
+            if (j->driven != RIGMAT_DRIVEN_NONE) {
+                const int r = opt_word(L, &e, "role", role_words, NW(role_words),
+                        "a role (input or disturbance)", 0);
+                j->role = r == 1 ? RIGMAT_ROLE_DISTURBANCE : RIGMAT_ROLE_INPUT;
+                if (opt_density(L, &e, "density", joint_kind(j, (int)j->driven - 1),
+                            &j->density) == 1)
+                    must_nonneg(L, &e, "density", j->density);
+                if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &j->bandwidth_hz) == 1)
+                    must_positive(L, &e, "bandwidth", j->bandwidth_hz);
+            }
+        }
+    }
+}
+
+/* Each body the child of exactly one joint, every chain reaching ground. */
+static void check_tree(struct ld *L)
+{
+    rigmat_model *m = L->m;
+    unsigned char *state;
+    size_t i, j;
+
+    for (j = 0; j < m->njoints; j++) {
+        const size_t c = m->joints[j].child;
+        if (c == RIGMAT_NONE)
+            continue;
+        if (m->bodies[c].joint != RIGMAT_NONE) {
+            const rigmat_entry *f;
+            struct ent e;
+            e.name = m->joints[j].name;
+            e.loc = m->joints[j].loc;
+            e.map = NULL;
+            snprintf(e.words, sizeof e.words, "joint '%s'", m->joints[j].name);
+            f = NULL;
+            (void)f;
+            lerr(L, &e, e.loc, "a body hangs from exactly one joint; use 'fixed' to weld "
+                    "bodies", "body '%s' is already the child of joint '%s'", m->bodies[c].name,
+                    m->joints[m->bodies[c].joint].name);
+            continue;
+        }
+        m->bodies[c].joint = j;
+    }
+    for (i = 1; i < m->nbodies; i++)
+        if (m->bodies[i].joint == RIGMAT_NONE)
+            lerr(L, NULL, m->bodies[i].loc, "add a joint with 'child: %s'",
+                    "body '%s' is not attached to the tree: no joint has it as child",
+                    m->bodies[i].name);
+    /* 0 unknown, 1 on the current path, 2 reaches ground */
+    state = calloc(m->nbodies ? m->nbodies : 1, 1);
+    if (state == NULL) {
+        L->nomem = 1;
+        return;
+    }
+    state[0] = 2;
+    for (i = 1; i < m->nbodies; i++) {
+        size_t b = i, steps = 0;
+        if (m->bodies[i].joint == RIGMAT_NONE)
+            state[i] = 2; /* reported above */
+        while (state[b] == 0 && steps++ <= m->nbodies) {
+            const size_t jj = m->bodies[b].joint;
+            state[b] = 1;
+            if (jj == RIGMAT_NONE || m->joints[jj].parent == RIGMAT_NONE)
+                break;
+            b = m->joints[jj].parent;
+        }
+        if (state[b] == 1 && m->bodies[b].joint != RIGMAT_NONE &&
+                m->joints[m->bodies[b].joint].parent != RIGMAT_NONE) {
+            const rigmat_joint *jt = &m->joints[m->bodies[b].joint];
+            lerr(L, NULL, jt->loc, "every chain of parents must end at ground",
+                    "joints form a loop: body '%s' never reaches ground", m->bodies[b].name);
+        }
+        /* mark the whole path as settled, one report per loop */
+        b = i;
+        steps = 0;
+        while (state[b] == 1 && steps++ <= m->nbodies) {
+            const size_t jj = m->bodies[b].joint;
+            state[b] = 2;
+            if (jj == RIGMAT_NONE || m->joints[jj].parent == RIGMAT_NONE)
+                break;
+            b = m->joints[jj].parent;
+        }
+    }
+    free(state);
+}
+
+/* ------------------------------------------------------ springs, dampers */
+
+static const char *const link_form_words[] = { "across", "between", "from", "to" };
+
+static void read_links(struct ld *L, const rigmat_node *root, int springs)
+{
+    const char *key = springs ? "springs" : "dampers";
+    const char *what = springs ? "spring" : "damper";
+    const rigmat_node *sec = section(L, root, key);
+    const size_t n = sec ? sec->n : 0;
+    rigmat_model *m = L->m;
+    rigmat_link *arr = alloc_array(L, n, sizeof *arr);
+    size_t i, count = 0;
+
+    if (arr == NULL)
+        return;
+    if (springs)
+        m->springs = arr;
+    else
+        m->dampers = arr;
+    for (i = 0; i < n; i++) {
+        rigmat_link *lk = &arr[count];
+        static const char *const spring_keys[] = { "across", "between", "from", "to",
+            "stiffness", "rest", "part" };
+        static const char *const damper_keys[] = { "across", "between", "from", "to",
+            "coefficient", "part" };
+        const rigmat_entry *fa, *fb, *ff, *ft, *f;
+        int linear = 1, forms;
+        struct ent e;
+        if (!entry(L, sec, i, what, &e))
+            continue;
+        count++;
+        lk->name = dup_s(L, e.name);
+        lk->loc = e.loc;
+        lk->joint = lk->body_a = lk->body_b = RIGMAT_NONE;
+        if (springs)
+            check_keys(L, &e, spring_keys, NW(spring_keys), NULL, 0, "a spring");
+        else
+            check_keys(L, &e, damper_keys, NW(damper_keys), NULL, 0, "a damper");
+        fa = field(&e, "across");
+        fb = field(&e, "between");
+        ff = field(&e, "from");
+        ft = field(&e, "to");
+        forms = (fa != NULL) + (fb != NULL) + (ff != NULL || ft != NULL);
+        if (forms == 0) {
+            lerr(L, &e, e.loc, "use 'across: JOINT', 'between: [A, B]' or 'from: {A: [x, y]}' "
+                    "with 'to: {B: [x, y]}'", "missing where the %s acts", what);
+        } else if (forms > 1) {
+            const rigmat_entry *second = fb ? (fa ? fb : (ff ? ff : ft)) : (ff ? ff : ft);
+            lerr(L, &e, second->key_loc, "use exactly one of across, between, from/to",
+                    "'%s' together with another placement", second->key);
+        } else if (fa != NULL) {
+            lk->attach = RIGMAT_ATTACH_ACROSS;
+            lk->joint = joint_ref(L, &e, fa->value);
+            if (lk->joint != RIGMAT_NONE) {
+                const rigmat_joint *j = &m->joints[lk->joint];
+                if (j->type == RIGMAT_JOINT_FIXED)
+                    lerr(L, &e, fa->value->loc, NULL,
+                            "joint '%s' is fixed: nothing moves across it", j->name);
+                linear = j->type != RIGMAT_JOINT_HINGE;
+            }
+        } else if (fb != NULL) {
+            lk->attach = RIGMAT_ATTACH_BETWEEN;
+            linear = 0;
+            if (fb->value->type != RIGMAT_NODE_SEQ || fb->value->n != 2) {
+                lerr(L, &e, fb->value->loc, "write between: [bodyA, bodyB]",
+                        "expected a list of two body names");
+            } else {
+                lk->body_a = body_ref(L, &e, fb->value->items[0]);
+                lk->body_b = body_ref(L, &e, fb->value->items[1]);
+                if (lk->body_a != RIGMAT_NONE && lk->body_a == lk->body_b)
+                    lerr(L, &e, fb->value->items[1]->loc, NULL,
+                            "a %s between a body and itself does nothing", what);
+            }
+        } else {
+            const rigmat_entry *pair[2];
+            int k;
+            pair[0] = ff;
+            pair[1] = ft;
+            lk->attach = RIGMAT_ATTACH_POINTS;
+            for (k = 0; k < 2; k++) {
+                const rigmat_node *v;
+                if (pair[k] == NULL) {
+                    missing(L, &e, k ? "to" : "from", "a point-to-point link needs 'from' and "
+                            "'to'");
+                    continue;
+                }
+                v = pair[k]->value;
+                if (v->type != RIGMAT_NODE_MAP || v->n != 1) {
+                    lerr(L, &e, v->loc, "write e.g. {chassis: [0, 0.2 m]}",
+                            "expected one body with a point: {BODY: [x, y]}");
+                    continue;
+                }
+                {
+                    const char *names[64];
+                    char hint[160];
+                    size_t b = find_body(m, v->entries[0].key), nn;
+                    if (b == RIGMAT_NONE) {
+                        nn = collect_names(names, 64, m->bodies, m->nbodies,
+                                sizeof(rigmat_body), 0);
+                        name_hint(hint, sizeof hint, v->entries[0].key, names, nn);
+                        lerr(L, &e, v->entries[0].key_loc, hint, "unknown body '%s'",
+                                v->entries[0].key);
+                    }
+                    if (k == 0)
+                        lk->body_a = b;
+                    else
+                        lk->body_b = b;
+                    vec2_node(L, &e, v->entries[0].value, RIGMAT_Q_LENGTH,
+                            k ? lk->point_b_m : lk->point_a_m);
+                }
+            }
+        }
+        (void)link_form_words;
+        if (springs) {
+            req_num(L, &e, "stiffness", linear ? RIGMAT_Q_LIN_STIFFNESS : RIGMAT_Q_ROT_STIFFNESS,
+                    &lk->stiffness, NULL);
+            f = field(&e, "rest");
+            if (f == NULL && lk->attach == RIGMAT_ATTACH_POINTS && forms == 1)
+                missing(L, &e, "rest", "a point-to-point spring needs its rest length");
+            else if (f != NULL &&
+                    num_node(L, &e, f->value, linear ? RIGMAT_Q_LENGTH : RIGMAT_Q_ANGLE, 0,
+                            &lk->rest) && lk->attach == RIGMAT_ATTACH_POINTS)
+                must_nonneg(L, &e, "rest", lk->rest);
+        } else {
+            if (req_num(L, &e, "coefficient",
+                        linear ? RIGMAT_Q_LIN_DAMPING : RIGMAT_Q_ROT_DAMPING, &lk->coefficient,
+                        NULL))
+                must_nonneg(L, &e, "coefficient", lk->coefficient);
+        }
+    }
+    if (springs)
+        m->nsprings = count;
+    else
+        m->ndampers = count;
+}
+
+/* --------------------------------------------------------------- motors */
+
+static const char *const motor_circuit[] = { "resistance", "torque_constant",
+    "back_emf_constant" };
+static const char *const motor_sheet[] = { "rated_voltage", "stall_torque", "stall_current",
+    "no_load_speed", "no_load_current", "figures_at" };
+static const char *const motor_keys[] = { "resistance", "inductance", "torque_constant",
+    "back_emf_constant", "rotor_inertia", "friction", "rated_voltage", "stall_torque",
+    "stall_current", "no_load_speed", "no_load_current", "figures_at", "drive", "supply",
+    "gear_ratio", "efficiency", "radius", "lead", "load_inertia", "across", "mounted_on",
+    "stator", "rotor", "count", "polarity", "part" };
+
+static const rigmat_entry *first_of(const struct ent *e, const char *const *keys, size_t n)
+{
+    const rigmat_entry *best = NULL;
+    size_t i;
+    /* the one written first in the file, for a stable message */
+    for (i = 0; i < n; i++) {
+        const rigmat_entry *f = field(e, keys[i]);
+        if (f != NULL && (best == NULL || f < best))
+            best = f;
+    }
+    return best;
+}
+
+/* Datasheet figures to circuit values at the motor shaft (REFERENCES.md
+ * section 6, common practice): R = V/I_stall; output-shaft figures moved
+ * to the motor (T_m = T_out/(N eta), w_m = N w_out); Kt = T_m/I_stall;
+ * Ke = (V - R I_nl)/w_m; b = eta Kt I_nl/w_m, so that the no-load point is
+ * a steady state of the model, whose efficiency acts on Kt i. */
+static void motor_sheet_values(struct ld *L, const struct ent *e, rigmat_motor *mo)
+{
+    static const char *const at_words[] = { "motor", "output" };
+    double t_m, w_m;
+    int ok = 1, at;
+
+    mo->datasheet = 1;
+    ok &= req_num(L, e, "rated_voltage", RIGMAT_Q_VOLTAGE, &mo->rated_voltage_v, NULL);
+    ok &= req_num(L, e, "stall_torque", RIGMAT_Q_TORQUE, &mo->stall_torque_nm, NULL);
+    ok &= req_num(L, e, "stall_current", RIGMAT_Q_CURRENT, &mo->stall_current_a, NULL);
+    ok &= req_num(L, e, "no_load_speed", RIGMAT_Q_ANGULAR_RATE, &mo->no_load_speed_rad_s, NULL);
+    ok &= req_num(L, e, "no_load_current", RIGMAT_Q_CURRENT, &mo->no_load_current_a, NULL);
+    must_positive(L, e, "rated_voltage", mo->rated_voltage_v);
+    must_positive(L, e, "stall_torque", mo->stall_torque_nm);
+    must_positive(L, e, "stall_current", mo->stall_current_a);
+    must_positive(L, e, "no_load_speed", mo->no_load_speed_rad_s);
+    must_nonneg(L, e, "no_load_current", mo->no_load_current_a);
+    at = opt_word(L, e, "figures_at", at_words, NW(at_words), "motor or output", -2);
+    if (at == -2 && mo->gear_ratio != 1.0) {
+        missing(L, e, "figures_at", "with a gearbox say whether the sheet gives motor-shaft "
+                "or output-shaft figures: figures_at: motor | output");
+        ok = 0;
+    }
+    if (at == -1)
+        ok = 0;
+    mo->figures_at_output = at == 1;
+    if (!ok || !(mo->rated_voltage_v > 0) || !(mo->stall_torque_nm > 0) ||
+            !(mo->stall_current_a > 0) || !(mo->no_load_speed_rad_s > 0) ||
+            mo->no_load_current_a < 0)
+        return;
+    if (mo->no_load_current_a >= mo->stall_current_a) {
+        lerr(L, e, field(e, "no_load_current")->value->loc, NULL,
+                "the no-load current must be below the stall current");
+        return;
+    }
+    t_m = mo->stall_torque_nm;
+    w_m = mo->no_load_speed_rad_s;
+    if (mo->figures_at_output) {
+        t_m /= mo->gear_ratio * mo->efficiency;
+        w_m *= mo->gear_ratio;
+    }
+    mo->resistance_ohm = mo->rated_voltage_v / mo->stall_current_a;
+    mo->kt_from_sheet = t_m / mo->stall_current_a;
+    mo->ke_from_sheet = (mo->rated_voltage_v - mo->resistance_ohm * mo->no_load_current_a) / w_m;
+    mo->torque_constant_nm_a = mo->kt_from_sheet;
+    mo->back_emf_v_s_rad = mo->ke_from_sheet;
+    if (field(e, "friction") == NULL)
+        mo->friction_nm_s_rad =
+                mo->efficiency * mo->kt_from_sheet * mo->no_load_current_a / w_m;
+    if (fabs(mo->kt_from_sheet - mo->ke_from_sheet) >
+            0.05 * fmax(mo->kt_from_sheet, mo->ke_from_sheet))
+        lwarn(L, NULL, e->loc, "the model uses Kt for torque and Ke for the back-EMF",
+                "motor '%s': Kt from the sheet (%.4g N*m/A) and Ke (%.4g V*s/rad) differ by "
+                "%.0f%%", e->name, mo->kt_from_sheet, mo->ke_from_sheet,
+                100.0 * fabs(mo->kt_from_sheet - mo->ke_from_sheet) /
+                        fmax(mo->kt_from_sheet, mo->ke_from_sheet));
+}
+
+static void read_motors(struct ld *L, const rigmat_node *root)
+{
+    const rigmat_node *sec = section(L, root, "motors");
+    const size_t n = sec ? sec->n : 0;
+    rigmat_model *m = L->m;
+    size_t i;
+
+    m->motors = alloc_array(L, n, sizeof *m->motors);
+    if (m->motors == NULL)
+        return;
+    for (i = 0; i < n; i++) {
+        static const char *const drives[] = { "voltage", "current", "duty" };
+        static const char *const mounts[] = { "parent", "child" };
+        rigmat_motor *mo = &m->motors[m->nmotors];
+        const rigmat_entry *circ, *sheet, *f, *fa, *fs, *fr;
+        struct ent e;
+        int d;
+        if (!entry(L, sec, i, "motor", &e) || signal_name_taken(L, &e))
+            continue;
+        m->nmotors++;
+        mo->name = dup_s(L, e.name);
+        mo->loc = e.loc;
+        mo->joint = mo->stator = mo->rotor = RIGMAT_NONE;
+        mo->gear_ratio = 1.0;
+        mo->efficiency = 1.0;
+        mo->count = 1;
+        mo->polarity = 1;
+        check_keys(L, &e, motor_keys, NW(motor_keys), NULL, 0, "a motor");
+        f = field(&e, "part");
+        if (f != NULL && f->value->type == RIGMAT_NODE_SCALAR)
+            mo->part = dup_s(L, f->value->text);
+        /* transmission first: the datasheet form needs it */
+        if (opt_num(L, &e, "gear_ratio", RIGMAT_Q_NUMBER, &mo->gear_ratio) == 1 &&
+                !(mo->gear_ratio > 0)) {
+            must_positive(L, &e, "gear_ratio", mo->gear_ratio);
+            mo->gear_ratio = 1.0;
+        }
+        if (opt_num(L, &e, "efficiency", RIGMAT_Q_NUMBER, &mo->efficiency) == 1) {
+            f = field(&e, "efficiency");
+            if (!(mo->efficiency > 0.0 && mo->efficiency <= 1.0)) {
+                lerr(L, &e, f->value->loc, "a gearbox efficiency lies in (0, 1]",
+                        "efficiency %s is out of range", f->value->text);
+                mo->efficiency = 1.0;
+            } else if (mo->efficiency < 0.5) {
+                lwarn(L, &e, f->value->loc, "below 0.5 a gearbox is often self-locking when "
+                        "back-driven", "efficiency %s: a back-driven linear model means little "
+                        "here", f->value->text);
+            }
+        }
+        circ = first_of(&e, motor_circuit, NW(motor_circuit));
+        sheet = first_of(&e, motor_sheet, NW(motor_sheet));
+        if (circ != NULL && sheet != NULL) {
+            lerr(L, &e, (sheet > circ ? sheet : circ)->key_loc,
+                    "give either the circuit form (resistance, torque_constant, ...) or the "
+                    "datasheet form (rated_voltage, stall_torque, ...)",
+                    "'%s' (circuit form) and '%s' (datasheet form) together", circ->key,
+                    sheet->key);
+        } else if (sheet != NULL) {
+            motor_sheet_values(L, &e, mo);
+        } else if (circ != NULL) {
+            if (req_num(L, &e, "resistance", RIGMAT_Q_RESISTANCE, &mo->resistance_ohm, NULL))
+                must_positive(L, &e, "resistance", mo->resistance_ohm);
+            if (req_num(L, &e, "torque_constant", RIGMAT_Q_TORQUE_CONSTANT,
+                        &mo->torque_constant_nm_a, NULL))
+                must_positive(L, &e, "torque_constant", mo->torque_constant_nm_a);
+            mo->back_emf_v_s_rad = mo->torque_constant_nm_a;
+            if (opt_num(L, &e, "back_emf_constant", RIGMAT_Q_BACK_EMF, &mo->back_emf_v_s_rad) ==
+                    1)
+                must_positive(L, &e, "back_emf_constant", mo->back_emf_v_s_rad);
+        } else {
+            lerr(L, &e, e.loc, "circuit form: resistance, inductance, torque_constant, "
+                    "rotor_inertia; or datasheet form: rated_voltage, stall_torque, ...",
+                    "missing the motor's values");
+        }
+        f = field(&e, "inductance");
+        if (f == NULL)
+            missing(L, &e, "inductance", "a value, or 'neglect' for a current that follows the "
+                    "voltage at once");
+        else if (f->value->type == RIGMAT_NODE_SCALAR && strcmp(f->value->text, "neglect") == 0)
+            mo->inductance_neglected = 1;
+        else if (num_node(L, &e, f->value, RIGMAT_Q_INDUCTANCE, 0, &mo->inductance_h))
+            must_positive(L, &e, "inductance", mo->inductance_h);
+        if (req_num(L, &e, "rotor_inertia", RIGMAT_Q_INERTIA, &mo->rotor_inertia_kgm2,
+                    "write 0 to leave it out"))
+            must_nonneg(L, &e, "rotor_inertia", mo->rotor_inertia_kgm2);
+        if (opt_num(L, &e, "friction", RIGMAT_Q_ROT_DAMPING, &mo->friction_nm_s_rad) == 1)
+            must_nonneg(L, &e, "friction", mo->friction_nm_s_rad);
+        d = opt_word(L, &e, "drive", drives, NW(drives), "a drive (voltage, current or duty)", 0);
+        mo->drive = d < 0 ? RIGMAT_DRIVE_VOLTAGE : (rigmat_motor_drive)d;
+        f = field(&e, "supply");
+        if (mo->drive == RIGMAT_DRIVE_DUTY && f == NULL && d >= 0)
+            lerr(L, &e, field(&e, "drive")->value->loc, "add 'supply: 24 V': duty 1 is the "
+                    "full supply voltage", "duty drive needs 'supply'");
+        else if (f != NULL && mo->drive != RIGMAT_DRIVE_DUTY && d >= 0)
+            lerr(L, &e, f->key_loc, "'supply' scales a duty cycle; add 'drive: duty'",
+                    "'supply' applies only to drive: duty");
+        else if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_VOLTAGE, 0, &mo->supply_v))
+            must_positive(L, &e, "supply", mo->supply_v);
+        if (opt_num(L, &e, "load_inertia", RIGMAT_Q_INERTIA, &mo->load_inertia_kgm2) == 1)
+            must_nonneg(L, &e, "load_inertia", mo->load_inertia_kgm2);
+        f = field(&e, "count");
+        if (f != NULL) {
+            double c;
+            if (num_node(L, &e, f->value, RIGMAT_Q_NUMBER, 0, &c)) {
+                if (c < 1 || c > 1000 || c != floor(c))
+                    lerr(L, &e, f->value->loc, "identical motors in parallel: 1, 2, ...",
+                            "count must be a whole number from 1 to 1000, got %s",
+                            f->value->text);
+                else
+                    mo->count = (unsigned)c;
+            }
+        }
+        f = field(&e, "polarity");
+        if (f != NULL) {
+            double p;
+            if (num_node(L, &e, f->value, RIGMAT_Q_NUMBER, 0, &p)) {
+                if (p != 1.0 && p != -1.0)
+                    lerr(L, &e, f->value->loc, "+1 keeps the leads, -1 swaps them",
+                            "polarity must be +1 or -1, got %s", f->value->text);
+                else
+                    mo->polarity = p > 0 ? 1 : -1;
+            }
+        }
+        /* placement */
+        fa = field(&e, "across");
+        fs = field(&e, "stator");
+        fr = field(&e, "rotor");
+        if (fa != NULL && (fs != NULL || fr != NULL)) {
+            lerr(L, &e, (fs ? fs : fr)->key_loc, "place a motor either across a joint or by "
+                    "stator and rotor bodies", "'across' together with '%s'",
+                    fs ? "stator" : "rotor");
+        } else if (fa != NULL) {
+            const int mt = opt_word(L, &e, "mounted_on", mounts, NW(mounts), "parent or child", 0);
+            mo->mounted_on_child = mt == 1;
+            mo->joint = joint_ref(L, &e, fa->value);
+            if (mo->joint != RIGMAT_NONE) {
+                const rigmat_joint *j = &m->joints[mo->joint];
+                const rigmat_entry *frad = field(&e, "radius"), *flead = field(&e, "lead");
+                if (j->type == RIGMAT_JOINT_FIXED) {
+                    lerr(L, &e, fa->value->loc, NULL, "joint '%s' is fixed: a motor across it "
+                            "cannot move anything", j->name);
+                } else if (j->type == RIGMAT_JOINT_SLIDER) {
+                    if (frad != NULL && flead != NULL)
+                        lerr(L, &e, flead->key_loc, "a pulley or pinion has a radius, a screw "
+                                "a lead", "'radius' and 'lead' together");
+                    else if (frad == NULL && flead == NULL)
+                        lerr(L, &e, fa->value->loc, "give 'radius' (pulley, pinion, drum) or "
+                                "'lead' (screw, length per turn)",
+                                "a motor across slider '%s' needs 'radius' or 'lead'", j->name);
+                    else if (frad != NULL && num_node(L, &e, frad->value, RIGMAT_Q_LENGTH, 0,
+                                                     &mo->radius_m))
+                        must_positive(L, &e, "radius", mo->radius_m);
+                    else if (flead != NULL && num_node(L, &e, flead->value, RIGMAT_Q_LEAD, 0,
+                                                      &mo->lead_m))
+                        must_positive(L, &e, "lead", mo->lead_m);
+                    mo->stator = mo->mounted_on_child ? j->child : j->parent;
+                    mo->rotor = RIGMAT_NONE;
+                } else {
+                    mo->stator = mo->mounted_on_child ? j->child : j->parent;
+                    mo->rotor = mo->mounted_on_child ? j->parent : j->child;
+                }
+                if (j->type != RIGMAT_JOINT_SLIDER && (frad != NULL || flead != NULL))
+                    lerr(L, &e, (frad ? frad : flead)->key_loc, NULL,
+                            "'%s' applies only to a motor across a slider", frad ? "radius" :
+                            "lead");
+            }
+        } else if (fs != NULL || fr != NULL) {
+            if (fs == NULL)
+                missing(L, &e, "stator", "the body holding the motor's housing");
+            else
+                mo->stator = body_ref(L, &e, fs->value);
+            if (fr == NULL)
+                missing(L, &e, "rotor", "the body turned through the gearbox");
+            else
+                mo->rotor = body_ref(L, &e, fr->value);
+            if (fs && fr && mo->stator != RIGMAT_NONE && mo->stator == mo->rotor)
+                lerr(L, &e, fr->value->loc, NULL, "a motor's rotor and stator are the same "
+                        "body");
+            if (field(&e, "mounted_on") != NULL)
+                lerr(L, &e, field(&e, "mounted_on")->key_loc, "the stator says where it is "
+                        "mounted", "'mounted_on' applies only to a motor across a joint");
+            if (field(&e, "radius") != NULL || field(&e, "lead") != NULL) {
+                const rigmat_entry *x = field(&e, "radius") ? field(&e, "radius")
+                                                            : field(&e, "lead");
+                lerr(L, &e, x->key_loc, NULL, "'%s' applies only to a motor across a slider",
+                        x->key);
+            }
+        } else {
+            lerr(L, &e, e.loc, "add 'across: JOINT', or 'stator: BODY' and 'rotor: BODY'",
+                    "missing where the motor sits");
+        }
+    }
+}
+
+/* --------------------------------------------------------------- forces */
+
+static void read_forces(struct ld *L, const rigmat_node *root)
+{
+    static const char *const keys_point[] = { "on", "at", "direction", "frame", "role",
+        "density", "bandwidth", "part" };
+    static const char *const keys_torque[] = { "torque_on", "reacting", "role", "density",
+        "bandwidth", "part" };
+    static const char *const keys_across[] = { "across", "role", "density", "bandwidth",
+        "part" };
+    static const char *const keys_all[] = { "on", "at", "direction", "frame", "torque_on",
+        "reacting", "across", "role", "density", "bandwidth", "part" };
+    const rigmat_node *sec = section(L, root, "forces");
+    const size_t n = sec ? sec->n : 0;
+    rigmat_model *m = L->m;
+    size_t i;
+
+    m->forces = alloc_array(L, n, sizeof *m->forces);
+    if (m->forces == NULL)
+        return;
+    for (i = 0; i < n; i++) {
+        rigmat_force *fo = &m->forces[m->nforces];
+        const rigmat_entry *fon, *ftq, *fac, *f;
+        rigmat_kind effort = RIGMAT_Q_FORCE;
+        struct ent e;
+        int forms, r;
+        if (!entry(L, sec, i, "force", &e) || signal_name_taken(L, &e))
+            continue;
+        m->nforces++;
+        fo->name = dup_s(L, e.name);
+        fo->loc = e.loc;
+        fo->body = fo->reacting = fo->joint = RIGMAT_NONE;
+        fon = field(&e, "on");
+        ftq = field(&e, "torque_on");
+        fac = field(&e, "across");
+        forms = (fon != NULL) + (ftq != NULL) + (fac != NULL);
+        if (forms != 1) {
+            check_keys(L, &e, keys_all, NW(keys_all), NULL, 0, "a force");
+            if (forms == 0)
+                lerr(L, &e, e.loc, "use 'on: BODY' with 'direction', 'torque_on: BODY' or "
+                        "'across: JOINT'", "missing where the force acts");
+            else
+                lerr(L, &e, (fac ? fac : ftq)->key_loc, "use exactly one of on, torque_on, "
+                        "across", "'%s' together with another placement",
+                        (fac ? fac : ftq)->key);
+        } else if (fon != NULL) {
+            check_keys(L, &e, keys_point, NW(keys_point), keys_all, NW(keys_all),
+                    "a force 'on' a body");
+            fo->kind = RIGMAT_FORCE_POINT;
+            fo->body = body_ref(L, &e, fon->value);
+            opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, fo->at_m);
+            f = field(&e, "direction");
+            if (f == NULL)
+                missing(L, &e, "direction", "[x, y] or an angle such as 90 deg");
+            else
+                dir_node(L, &e, f->value, fo->direction);
+            {
+                static const char *const frames[] = { "world", "body" };
+                fo->frame_body = opt_word(L, &e, "frame", frames, NW(frames),
+                        "a frame (world or body)", 0) == 1;
+            }
+        } else if (ftq != NULL) {
+            check_keys(L, &e, keys_torque, NW(keys_torque), keys_all, NW(keys_all),
+                    "a torque");
+            fo->kind = RIGMAT_FORCE_TORQUE;
+            effort = RIGMAT_Q_TORQUE;
+            fo->body = body_ref(L, &e, ftq->value);
+            f = field(&e, "reacting");
+            if (f != NULL) {
+                fo->reacting = body_ref(L, &e, f->value);
+                if (fo->reacting != RIGMAT_NONE && fo->reacting == fo->body)
+                    lerr(L, &e, f->value->loc, NULL, "a torque reacting on its own body does "
+                            "nothing");
+            }
+        } else {
+            check_keys(L, &e, keys_across, NW(keys_across), keys_all, NW(keys_all),
+                    "a force across a joint");
+            fo->kind = RIGMAT_FORCE_ACROSS;
+            fo->joint = joint_ref(L, &e, fac->value);
+            if (fo->joint != RIGMAT_NONE) {
+                if (m->joints[fo->joint].type == RIGMAT_JOINT_FIXED)
+                    lerr(L, &e, fac->value->loc, NULL, "joint '%s' is fixed: a force across "
+                            "it does no work", m->joints[fo->joint].name);
+                effort = joint_effort(&m->joints[fo->joint]);
+            }
+        }
+        r = opt_word(L, &e, "role", role_words, NW(role_words), "a role (input or disturbance)",
+                0);
+        fo->role = r == 1 ? RIGMAT_ROLE_DISTURBANCE : RIGMAT_ROLE_INPUT;
+        if (opt_density(L, &e, "density", effort, &fo->density) == 1)
+            must_nonneg(L, &e, "density", fo->density);
+        if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &fo->bandwidth_hz) == 1)
+            must_positive(L, &e, "bandwidth", fo->bandwidth_hz);
+    }
+}
+
+/* -------------------------------------------------------------- sensors */
+
+static const char *const measures_words[] = { "position", "velocity", "angle", "rate",
+    "relative_angle", "relative_rate", "motor_angle", "specific_force", "current",
+    "drive_force" };
+static const char *const sensor_all[] = { "measures", "of", "at", "axis", "gain", "offset",
+    "noise", "density", "bandwidth", "resolution", "counts_per_rev", "unit", "part" };
+
+/* A point sensor's axis: x, y or a vector. */
+static void read_axis(struct ld *L, const struct ent *e, const rigmat_node *n, double out[2])
+{
+    if (n->type == RIGMAT_NODE_SCALAR && strcmp(n->text, "x") == 0) {
+        out[0] = 1.0;
+        out[1] = 0.0;
+    } else if (n->type == RIGMAT_NODE_SCALAR && strcmp(n->text, "y") == 0) {
+        out[0] = 0.0;
+        out[1] = 1.0;
+    } else if (n->type == RIGMAT_NODE_SEQ) {
+        dir_node(L, e, n, out);
+    } else {
+        lerr(L, e, n->loc, "write x, y or a vector [x, y]", "expected an axis, got %s",
+                n->type == RIGMAT_NODE_SCALAR ? n->text : rigmat_node_type_words(n->type));
+    }
+}
+
+static void read_sensors(struct ld *L, const rigmat_node *root)
+{
+    const rigmat_node *sec = section(L, root, "sensors");
+    const size_t n = sec ? sec->n : 0;
+    rigmat_model *m = L->m;
+    size_t i;
+
+    m->sensors = alloc_array(L, n, sizeof *m->sensors);
+    if (m->sensors == NULL)
+        return;
+    for (i = 0; i < n; i++) {
+        rigmat_sensor *s = &m->sensors[m->nsensors];
+        const rigmat_entry *fm, *fof, *f;
+        const char *keys[16];
+        size_t nk = 0;
+        rigmat_kind q = RIGMAT_Q_NUMBER;
+        struct ent e;
+        char form[64];
+        int k, ok = 1;
+        if (!entry(L, sec, i, "sensor", &e) || signal_name_taken(L, &e))
+            continue;
+        m->nsensors++;
+        s->name = dup_s(L, e.name);
+        s->loc = e.loc;
+        s->joint = s->body = s->body_b = s->motor = RIGMAT_NONE;
+        s->gain = 1.0;
+        fm = field(&e, "measures");
+        fof = field(&e, "of");
+        if (fm == NULL) {
+            missing(L, &e, "measures", "e.g. measures: rate");
+            check_keys(L, &e, sensor_all, NW(sensor_all), NULL, 0, "a sensor");
+            continue;
+        }
+        k = word_node(L, &e, fm->value, measures_words, NW(measures_words),
+                "a quantity a sensor measures");
+        if (k < 0) {
+            check_keys(L, &e, sensor_all, NW(sensor_all), NULL, 0, "a sensor");
+            continue;
+        }
+        keys[nk++] = "measures";
+        keys[nk++] = "of";
+        keys[nk++] = "gain";
+        keys[nk++] = "offset";
+        keys[nk++] = "noise";
+        keys[nk++] = "density";
+        keys[nk++] = "bandwidth";
+        keys[nk++] = "resolution";
+        keys[nk++] = "part";
+        if (fof == NULL) {
+            missing(L, &e, "of", "what the sensor is on: a joint, a body, a motor");
+            ok = 0;
+        }
+        switch (k) {
+        case 0: /* position */
+        case 1: /* velocity */
+            if (field(&e, "at") != NULL || field(&e, "axis") != NULL) {
+                keys[nk++] = "at";
+                keys[nk++] = "axis";
+                s->kind = k == 0 ? RIGMAT_SENSE_POINT_POSITION : RIGMAT_SENSE_POINT_VELOCITY;
+                q = k == 0 ? RIGMAT_Q_LENGTH : RIGMAT_Q_VELOCITY;
+                if (ok)
+                    s->body = body_ref(L, &e, fof->value);
+                opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, s->at_m);
+                f = field(&e, "axis");
+                if (f == NULL)
+                    missing(L, &e, "axis", "the world axis: x, y or a vector");
+                else
+                    read_axis(L, &e, f->value, s->axis);
+            } else {
+                s->kind = k == 0 ? RIGMAT_SENSE_JOINT_POSITION : RIGMAT_SENSE_JOINT_VELOCITY;
+                q = k == 0 ? RIGMAT_Q_LENGTH : RIGMAT_Q_VELOCITY;
+                if (ok)
+                    s->joint = joint_ref(L, &e, fof->value);
+                if (s->joint != RIGMAT_NONE) {
+                    const rigmat_joint *j = &m->joints[s->joint];
+                    if (j->type == RIGMAT_JOINT_FIXED)
+                        lerr(L, &e, fof->value->loc, "to measure a point of a body, give "
+                                "'at' and 'axis'", "joint '%s' is fixed: it has no "
+                                "coordinate", j->name);
+                    q = joint_kind(j, k);
+                }
+            }
+            break;
+        case 2: /* angle */
+        case 3: /* rate */
+            s->kind = k == 2 ? RIGMAT_SENSE_ANGLE : RIGMAT_SENSE_RATE;
+            q = k == 2 ? RIGMAT_Q_ANGLE : RIGMAT_Q_ANGULAR_RATE;
+            if (ok)
+                s->body = body_ref(L, &e, fof->value);
+            break;
+        case 4:
+        case 5:
+            s->kind = k == 4 ? RIGMAT_SENSE_RELATIVE_ANGLE : RIGMAT_SENSE_RELATIVE_RATE;
+            q = k == 4 ? RIGMAT_Q_ANGLE : RIGMAT_Q_ANGULAR_RATE;
+            if (ok && (fof->value->type != RIGMAT_NODE_SEQ || fof->value->n != 2)) {
+                lerr(L, &e, fof->value->loc, "write of: [A, B]; the sensor reads B minus A",
+                        "expected a list of two body names");
+            } else if (ok) {
+                s->body = body_ref(L, &e, fof->value->items[0]);
+                s->body_b = body_ref(L, &e, fof->value->items[1]);
+                if (s->body != RIGMAT_NONE && s->body == s->body_b)
+                    lerr(L, &e, fof->value->items[1]->loc, NULL,
+                            "a relative reading of a body against itself is always zero");
+            }
+            break;
+        case 6: /* motor_angle */
+            keys[nk++] = "counts_per_rev";
+            keys[nk++] = "unit";
+            s->kind = RIGMAT_SENSE_MOTOR_ANGLE;
+            q = RIGMAT_Q_ANGLE;
+            if (ok)
+                s->motor = motor_ref(L, &e, fof->value);
+            f = field(&e, "counts_per_rev");
+            if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_NUMBER, 0, &s->counts_per_rev))
+                must_positive(L, &e, "counts_per_rev", s->counts_per_rev);
+            {
+                static const char *const units[] = { "rad", "counts" };
+                s->unit_counts = opt_word(L, &e, "unit", units, NW(units), "rad or counts", 0) ==
+                        1;
+                if (s->unit_counts && f == NULL)
+                    lerr(L, &e, field(&e, "unit")->value->loc, "add counts_per_rev",
+                            "'unit: counts' needs 'counts_per_rev'");
+            }
+            break;
+        case 7: /* specific_force */
+            keys[nk++] = "at";
+            keys[nk++] = "axis";
+            s->kind = RIGMAT_SENSE_SPECIFIC_FORCE;
+            q = RIGMAT_Q_ACCELERATION;
+            if (ok)
+                s->body = body_ref(L, &e, fof->value);
+            if (opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, s->at_m) == 0)
+                missing(L, &e, "at", "where the accelerometer sits on the body: [x, y]");
+            f = field(&e, "axis");
+            if (f == NULL)
+                missing(L, &e, "axis", "the body axis it reads: x, y or a vector");
+            else
+                read_axis(L, &e, f->value, s->axis);
+            break;
+        case 8: /* current */
+            s->kind = RIGMAT_SENSE_CURRENT;
+            q = RIGMAT_Q_CURRENT;
+            if (ok)
+                s->motor = motor_ref(L, &e, fof->value);
+            break;
+        default: /* drive_force */
+            s->kind = RIGMAT_SENSE_DRIVE_FORCE;
+            q = RIGMAT_Q_FORCE;
+            if (ok)
+                s->joint = joint_ref(L, &e, fof->value);
+            if (s->joint != RIGMAT_NONE) {
+                const rigmat_joint *j = &m->joints[s->joint];
+                if (j->driven == RIGMAT_DRIVEN_NONE)
+                    lerr(L, &e, fof->value->loc, "only a driven joint has a drive force; add "
+                            "'driven:' to the joint", "joint '%s' is not driven", j->name);
+                q = joint_effort(j);
+            }
+            break;
+        }
+        snprintf(form, sizeof form, "a '%s' sensor", measures_words[k]);
+        check_keys(L, &e, keys, nk, sensor_all, NW(sensor_all), form);
+        f = field(&e, "gain");
+        if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_NUMBER, 0, &s->gain) &&
+                s->gain == 0.0)
+            lerr(L, &e, f->value->loc, "a sensor with gain 0 reads nothing", "gain must not "
+                    "be zero");
+        opt_num(L, &e, "offset", s->unit_counts ? RIGMAT_Q_NUMBER : q, &s->offset);
+        if (field(&e, "noise") != NULL && field(&e, "density") != NULL)
+            lerr(L, &e, field(&e, "density")->key_loc, "give 'noise' (per sample) or "
+                    "'density' (per sqrt(Hz)), not both", "'noise' and 'density' together");
+        else if (opt_num(L, &e, "noise", q, &s->noise) == 1)
+            must_nonneg(L, &e, "noise", s->noise);
+        else if (opt_density(L, &e, "density", q, &s->density) == 1)
+            must_nonneg(L, &e, "density", s->density);
+        if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &s->bandwidth_hz) == 1)
+            must_positive(L, &e, "bandwidth", s->bandwidth_hz);
+        if (opt_num(L, &e, "resolution", q, &s->resolution) == 1)
+            must_positive(L, &e, "resolution", s->resolution);
+    }
+}
+
+/* ------------------------------------------------------- operating point */
+
+/* What an input name is: its kind and unit.  0 if it is no input. */
+static int input_kind(const rigmat_model *m, const char *name, rigmat_kind *q)
+{
+    size_t k = find_motor(m, name);
+
+    if (k != RIGMAT_NONE) {
+        static const rigmat_kind dq[] = { RIGMAT_Q_VOLTAGE, RIGMAT_Q_CURRENT, RIGMAT_Q_NUMBER };
+        *q = dq[m->motors[k].drive];
+        return 1;
+    }
+    k = find_force(m, name);
+    if (k != RIGMAT_NONE) {
+        const rigmat_force *f = &m->forces[k];
+        *q = f->kind == RIGMAT_FORCE_TORQUE ? RIGMAT_Q_TORQUE
+                : f->kind == RIGMAT_FORCE_ACROSS && f->joint != RIGMAT_NONE
+                ? joint_effort(&m->joints[f->joint])
+                : RIGMAT_Q_FORCE;
+        return 1;
+    }
+    k = find_joint(m, name);
+    if (k != RIGMAT_NONE && m->joints[k].driven != RIGMAT_DRIVEN_NONE) {
+        *q = joint_kind(&m->joints[k], (int)m->joints[k].driven - 1);
+        return 1;
+    }
+    return 0;
+}
+
+static size_t input_names(const rigmat_model *m, const char **names, size_t max)
+{
+    size_t i, n = 0;
+    for (i = 0; i < m->njoints && n < max; i++)
+        if (m->joints[i].driven != RIGMAT_DRIVEN_NONE)
+            names[n++] = m->joints[i].name;
+    for (i = 0; i < m->nmotors && n < max; i++)
+        names[n++] = m->motors[i].name;
+    for (i = 0; i < m->nforces && n < max; i++)
+        names[n++] = m->forces[i].name;
+    return n;
+}
+
+/* which: 0 coordinates, 1 rates, 2 inputs. */
+static void read_settings(struct ld *L, const struct ent *op, const char *key, int which,
+        rigmat_setting **out, size_t *nout)
+{
+    const rigmat_entry *f = field(op, key);
+    rigmat_model *m = L->m;
+    const rigmat_node *map;
+    size_t i, k;
+
+    if (f == NULL || is_null(f->value))
+        return;
+    map = f->value;
+    if (map->type != RIGMAT_NODE_MAP) {
+        lerr(L, op, map->loc, "write e.g. {tilt: 0 deg}", "expected a mapping of names to "
+                "values, got %s", rigmat_node_type_words(map->type));
+        return;
+    }
+    *out = alloc_array(L, map->n, sizeof **out);
+    if (*out == NULL)
+        return;
+    for (i = 0; i < map->n; i++) {
+        const rigmat_entry *en = &map->entries[i];
+        const char *names[64];
+        char hint[160];
+        rigmat_kind q = RIGMAT_Q_NUMBER;
+        int ok = 1;
+        size_t nn;
+        for (k = 0; k < i; k++)
+            if (strcmp(map->entries[k].key, en->key) == 0)
+                ok = 0; /* duplicate key, reported already */
+        if (!ok)
+            continue;
+        if (which == 2) {
+            if (!input_kind(m, en->key, &q)) {
+                nn = input_names(m, names, 64);
+                name_hint(hint, sizeof hint, en->key, names, nn);
+                lerr(L, op, en->key_loc, hint, "unknown input '%s'", en->key);
+                continue;
+            }
+        } else {
+            const size_t j = find_joint(m, en->key);
+            if (j == RIGMAT_NONE) {
+                nn = collect_names(names, 64, m->joints, m->njoints, sizeof(rigmat_joint), 0);
+                name_hint(hint, sizeof hint, en->key, names, nn);
+                lerr(L, op, en->key_loc, hint, "unknown joint '%s'", en->key);
+                continue;
+            }
+            if (m->joints[j].type == RIGMAT_JOINT_FIXED) {
+                lerr(L, op, en->key_loc, NULL, "joint '%s' is fixed: it has no coordinate",
+                        en->key);
+                continue;
+            }
+            if ((int)m->joints[j].driven > 0 && which + 1 >= (int)m->joints[j].driven) {
+                lerr(L, op, en->key_loc, "set the driven value under 'inputs'",
+                        "joint '%s' is driven: its %s is an input, not a state", en->key,
+                        which ? "rate" : "coordinate");
+                continue;
+            }
+            q = joint_kind(&m->joints[j], which);
+        }
+        {
+            rigmat_setting *s = &(*out)[*nout];
+            struct ent sub = *op;
+            if (!num_node(L, &sub, en->value, q, 0, &s->value))
+                continue;
+            s->name = dup_s(L, en->key);
+            s->loc = en->key_loc;
+            (*nout)++;
+        }
+    }
+}
+
+static void read_namelist(struct ld *L, const struct ent *e, const rigmat_node *n,
+        rigmat_namelist *out)
+{
+    size_t i;
+
+    if (is_null(n))
+        return;
+    if (n->type != RIGMAT_NODE_SEQ) {
+        lerr(L, e, n->loc, "write a list: [a, b]", "expected a list of names, got %s",
+                rigmat_node_type_words(n->type));
+        return;
+    }
+    out->names = alloc_array(L, n->n, sizeof *out->names);
+    out->locs = alloc_array(L, n->n, sizeof *out->locs);
+    if (out->names == NULL || out->locs == NULL)
+        return;
+    for (i = 0; i < n->n; i++) {
+        size_t k;
+        int dup = 0;
+        if (!want_scalar(L, e, n->items[i], "a name"))
+            continue;
+        for (k = 0; k < out->count; k++)
+            if (strcmp(out->names[k], n->items[i]->text) == 0)
+                dup = 1;
+        if (dup) {
+            lerr(L, e, n->items[i]->loc, "each name may appear once", "'%s' is listed twice",
+                    n->items[i]->text);
+            continue;
+        }
+        out->names[out->count] = dup_s(L, n->items[i]->text);
+        out->locs[out->count] = n->items[i]->loc;
+        if (out->names[out->count] != NULL)
+            out->count++;
+    }
+}
+
+static void read_operating_point(struct ld *L, const rigmat_node *root)
+{
+    static const char *const keys[] = { "coordinates", "rates", "inputs", "solve" };
+    const rigmat_entry *f = rigmat_node_get(root, "operating_point");
+    rigmat_model *m = L->m;
+    struct ent e;
+    size_t i;
+
+    if (f == NULL || is_null(f->value))
+        return;
+    e.name = "operating_point";
+    e.loc = f->key_loc;
+    e.map = f->value;
+    snprintf(e.words, sizeof e.words, "the operating point");
+    if (f->value->type != RIGMAT_NODE_MAP) {
+        lerr(L, NULL, f->value->loc, NULL, "expected a mapping (coordinates, rates, inputs, "
+                "solve), got %s", rigmat_node_type_words(f->value->type));
+        return;
+    }
+    check_keys(L, &e, keys, NW(keys), NULL, 0, "the operating point");
+    read_settings(L, &e, "coordinates", 0, &m->op_coordinates, &m->nop_coordinates);
+    read_settings(L, &e, "rates", 1, &m->op_rates, &m->nop_rates);
+    read_settings(L, &e, "inputs", 2, &m->op_inputs, &m->nop_inputs);
+    f = field(&e, "solve");
+    if (f == NULL)
+        return;
+    read_namelist(L, &e, f->value, &m->op_solve);
+    for (i = 0; i < m->op_solve.count; i++) {
+        const char *s = m->op_solve.names[i];
+        const char *dot = strrchr(s, '.');
+        rigmat_kind q;
+        char base[128];
+        size_t j;
+        if (input_kind(m, s, &q)) {
+            j = find_joint(m, s);
+            if (j == RIGMAT_NONE || m->joints[j].driven == RIGMAT_DRIVEN_NONE)
+                continue;
+        }
+        snprintf(base, sizeof base, "%s", s);
+        if (dot != NULL && (size_t)(dot - s) < sizeof base)
+            base[dot - s] = '\0';
+        j = find_joint(m, base);
+        if (j != RIGMAT_NONE && m->joints[j].type != RIGMAT_JOINT_FIXED) {
+            const int hinge = m->joints[j].type == RIGMAT_JOINT_HINGE;
+            const char *coord = hinge ? "angle" : "position";
+            const char *rate = hinge ? "rate" : "velocity";
+            if (dot == NULL || strcmp(dot + 1, coord) == 0 || strcmp(dot + 1, rate) == 0)
+                continue;
+            lerr(L, &e, m->op_solve.locs[i], NULL, "joint '%s' has '%s.%s' and '%s.%s'", base,
+                    base, coord, base, rate);
+            continue;
+        }
+        {
+            const char *names[128];
+            char hint[160];
+            size_t nn = collect_names(names, 64, m->joints, m->njoints, sizeof(rigmat_joint), 0);
+            nn += input_names(m, names + nn, 64);
+            name_hint(hint, sizeof hint, s, names, nn);
+            lerr(L, &e, m->op_solve.locs[i], hint, "unknown name '%s' in solve: neither a "
+                    "coordinate, a rate nor an input", s);
+        }
+    }
+}
+
+/* ------------------------------------------------------------ top level */
+
+static const char *const top_keys[] = { "rigmat", "name", "gravity", "slope", "bodies",
+    "joints", "springs", "dampers", "motors", "forces", "sensors", "operating_point", "order",
+    "states", "inputs", "outputs" };
+
+static void read_top(struct ld *L, const rigmat_node *root)
+{
+    static const char *const orders[] = { "default", "interleaved" };
+    rigmat_model *m = L->m;
+    const rigmat_entry *f;
+    struct ent e;
+    int o;
+
+    e.name = "model";
+    e.loc = root->loc;
+    e.map = root;
+    e.words[0] = '\0';
+    check_keys(L, &e, top_keys, NW(top_keys), NULL, 0, "a model");
+    f = field(&e, "rigmat");
+    if (f == NULL) {
+        lerr(L, NULL, root->loc, "start the file with the line 'rigmat: 1'",
+                "missing 'rigmat: 1', the schema version");
+    } else if (f->value->type != RIGMAT_NODE_SCALAR || strcmp(f->value->text, "1") != 0) {
+        lerr(L, NULL, f->value->loc, "this rigmat reads schema 1; write 'rigmat: 1'",
+                "schema version '%s' is not supported",
+                f->value->type == RIGMAT_NODE_SCALAR ? f->value->text : "?");
+    }
+    f = field(&e, "name");
+    if (f != NULL && want_scalar(L, NULL, f->value, "a name for the model"))
+        m->name = dup_s(L, f->value->text);
+    m->gravity_m_s2 = 9.80665; /* standard gravity, CGPM 1901 */
+    if (opt_num(L, &e, "gravity", RIGMAT_Q_ACCELERATION, &m->gravity_m_s2) == 1)
+        must_nonneg(L, &e, "gravity", m->gravity_m_s2);
+    if (opt_num(L, &e, "slope", RIGMAT_Q_ANGLE, &m->slope_rad) == 1 &&
+            !(fabs(m->slope_rad) < M_PI / 2))
+        lerr(L, NULL, field(&e, "slope")->value->loc, NULL, "a slope must lie between -90 and "
+                "90 deg");
+    o = opt_word(L, &e, "order", orders, NW(orders), "an order (default or interleaved)", 0);
+    m->order_interleaved = o == 1;
+    f = field(&e, "states");
+    if (f != NULL)
+        read_namelist(L, NULL, f->value, &m->order_states);
+    f = field(&e, "inputs");
+    if (f != NULL)
+        read_namelist(L, NULL, f->value, &m->order_inputs);
+    f = field(&e, "outputs");
+    if (f != NULL)
+        read_namelist(L, NULL, f->value, &m->order_outputs);
+}
+
+rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
+        const rigmat_options *opt, rigmat_diags *d)
+{
+    struct ld L;
+    const size_t before = d->errors;
+
+    L.m = m;
+    L.d = d;
+    L.opt = opt;
+    L.nomem = 0;
+    if (root == NULL) {
+        const rigmat_loc at = { m->file, 1, 1 };
+        lerr(&L, NULL, at, "a model starts with 'rigmat: 1'", "the model file is empty");
+        return L.nomem ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
+    }
+    if (root->type != RIGMAT_NODE_MAP) {
+        lerr(&L, NULL, root->loc, "a model starts with 'rigmat: 1' and then its sections",
+                "expected a mapping of keys, got %s", rigmat_node_type_words(root->type));
+        return L.nomem ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
+    }
+    read_top(&L, root);
+    read_bodies(&L, root);
+    if (!L.nomem)
+        read_joints(&L, root);
+    if (!L.nomem)
+        check_tree(&L);
+    if (!L.nomem)
+        read_links(&L, root, 1);
+    if (!L.nomem)
+        read_links(&L, root, 0);
+    if (!L.nomem)
+        read_motors(&L, root);
+    if (!L.nomem)
+        read_forces(&L, root);
+    if (!L.nomem)
+        read_sensors(&L, root);
+    if (!L.nomem)
+        read_operating_point(&L, root);
+    if (L.nomem)
+        return RIGMAT_ENOMEM;
+    return d->errors > before ? RIGMAT_EMODEL : RIGMAT_OK;
+}
+
+rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_t nsets,
+        const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags)
+{
+    rigmat_model *m;
+    rigmat_node *root = NULL;
+    rigmat_status st, st2;
+    const size_t before = diags->errors;
+    struct ld L;
+
+    *out = NULL;
+    m = calloc(1, sizeof *m);
+    if (m == NULL)
+        return RIGMAT_ENOMEM;
+    m->owner_diags = calloc(1, sizeof *m->owner_diags);
+    L.m = m;
+    L.d = diags;
+    L.opt = opt;
+    L.nomem = 0;
+    m->file = m->owner_diags ? dup_s(&L, path) : NULL;
+    if (m->file == NULL) {
+        rigmat_model_free(m);
+        return RIGMAT_ENOMEM;
+    }
+    rigmat_diags_init(m->owner_diags);
+    st = rigmat_load_yaml_file(path, opt, m->owner_diags, diags, &root);
+    if (st == RIGMAT_EIO || st == RIGMAT_ENOMEM || (st != RIGMAT_OK && root == NULL)) {
+        rigmat_node_free(root);
+        rigmat_model_free(m);
+        return st;
+    }
+    /* Keep going after duplicate keys: more errors are worth reporting. */
+    st2 = rigmat_load_parts(root, path, opt, m->owner_diags, diags);
+    if (st2 != RIGMAT_ENOMEM)
+        st2 = rigmat_load_sets(root, sets, nsets, opt, m->owner_diags, diags);
+    if (st2 != RIGMAT_ENOMEM)
+        st2 = rigmat_load_schema(root, m, opt, diags);
+    rigmat_node_free(root);
+    if (st2 == RIGMAT_ENOMEM) {
+        rigmat_model_free(m);
+        return st2;
+    }
+    if (diags->errors == before) {
+        st2 = rigmat_layout_build(m, diags);
+        if (st2 == RIGMAT_ENOMEM) {
+            rigmat_model_free(m);
+            return st2;
+        }
+    }
+    if (diags->errors > before) {
+        rigmat_model_free(m);
+        return RIGMAT_EMODEL;
+    }
+    *out = m;
+    return RIGMAT_OK;
+}

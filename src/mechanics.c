@@ -1,0 +1,1240 @@
+/* mechanics.c - planar kinematics and dynamics of the body tree in complex
+ * arithmetic (see mechanics.h for the method and the complex-step rules).
+ *
+ * Frames: a body's frame sits at its joint; R(th) rotates body coordinates
+ * into the world; S = [[0, -1], [1, 0]] is d R / d th times R^-1.  For each
+ * body we keep its origin p, angle th, the Jacobians dp/dq (2 x n) and
+ * dth/dq (1 x n), the velocities v, om and the accelerations at qdd = 0
+ * (a, al: the velocity-product terms Jdot qd, jdot qd).  A child placed at
+ * r (parent frame) from its parent's origin has
+ *     p  = p_p + R r,            J = J_p + S R r j_p (+ R dr/dq e_q),
+ *     a  = a_p + al_p S R r - om_p^2 R r (+ 2 om_p S R dr/dq qd),
+ * the planar form of the usual rigid-body transport (Featherstone, Rigid
+ * Body Dynamics Algorithms, 2008, chapter 2; from memory).
+ *
+ * Rolling joint sign, worked: radius 0.061 m, q = +0.1 m of travel: the
+ * centre moves +0.1 m along the parent's x and the wheel turns by
+ * -0.1/0.061 = -1.64 rad (clockwise), as DESIGN.md section 2 states.
+ */
+#include "mechanics.h"
+#include "layout.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <gsl/gsl_math.h>
+
+/* complex step size (REFERENCES.md section 4: anything in 1e-20..1e-200) */
+static const double step_h = 1e-20;
+
+struct rigmat_mech {
+    const rigmat_model *m;
+    rigmat_layout canon;
+    size_t n, nb, nf;
+    size_t *coord;   /* per joint: coordinate or RIGMAT_NONE (fixed) */
+    size_t *cjoint;  /* per coordinate: joint */
+    size_t *order;   /* non-ground bodies, parents first */
+    size_t *bjoint;  /* per body: its joint (RIGMAT_NONE for ground) */
+    size_t *xq, *xr, *uq; /* per coordinate: q state, rate state, driven input */
+    size_t *freec;   /* the free coordinates, nf of them */
+    size_t *xi, *umot; /* per motor: current state (or NONE), input */
+    size_t *ufor;    /* per force: input */
+    size_t *xsh;     /* per input: shaping state or NONE */
+    /* motors: rotary (stator, rotor bodies) or linear (coordinate, k) */
+    size_t *mstator, *mrotor, *mlin;
+    double *mk;      /* linear: output rad per m of travel; 0 for rotary */
+    double *msign;   /* motor_angle sign: +1 or -1 */
+    double *mtheta0; /* theta_out at q = 0 */
+    /* workspace, all complex */
+    double complex *bp, *bth, *bJ, *bjth, *bv, *bom, *ba, *bal;
+    double complex *q, *qd, *qdd, *M, *hb, *Q, *ueff, *LU, *rhs;
+    double complex *tJa, *tJb, *tj, *jout, *cur, *wout, *bout;
+    size_t *perm;
+    double complex *xc, *uc, *fc, *yc;
+};
+
+#define BJ(s, b, k, c) ((s)->bJ[((b) * 2 + (k)) * (s)->n + (c)])
+#define BJTH(s, b, c) ((s)->bjth[(b) * (s)->n + (c)])
+
+const rigmat_layout *rigmat_mech_canonical(const rigmat_mech *s)
+{
+    return &s->canon;
+}
+
+void rigmat_mech_free(rigmat_mech *s)
+{
+    if (s == NULL)
+        return;
+    rigmat_layout_release(&s->canon);
+    free(s->coord); free(s->cjoint); free(s->order); free(s->bjoint);
+    free(s->xq); free(s->xr); free(s->uq); free(s->freec);
+    free(s->xi); free(s->umot); free(s->ufor); free(s->xsh);
+    free(s->mstator); free(s->mrotor); free(s->mlin); free(s->mk); free(s->msign);
+    free(s->mtheta0);
+    free(s->bp); free(s->bth); free(s->bJ); free(s->bjth); free(s->bv); free(s->bom);
+    free(s->ba); free(s->bal);
+    free(s->q); free(s->qd); free(s->qdd); free(s->M); free(s->hb); free(s->Q);
+    free(s->ueff); free(s->LU); free(s->rhs);
+    free(s->tJa); free(s->tJb); free(s->tj); free(s->jout); free(s->cur); free(s->wout);
+    free(s->bout); free(s->perm);
+    free(s->xc); free(s->uc); free(s->fc); free(s->yc);
+    free(s);
+}
+
+static void *zalloc(size_t n, size_t size, int *bad)
+{
+    void *p = calloc(n ? n : 1, size);
+    if (p == NULL)
+        *bad = 1;
+    return p;
+}
+
+static size_t *idx_alloc(size_t n, int *bad)
+{
+    size_t *p = zalloc(n, sizeof *p, bad), i;
+    if (p != NULL)
+        for (i = 0; i < n; i++)
+            p[i] = RIGMAT_NONE;
+    return p;
+}
+
+/* ------------------------------------------------------------ kinematics */
+
+/* R(th) r and S R(th) r for complex th and r. */
+static void rot(double complex c, double complex sn, double complex rx, double complex ry,
+        double complex *ox, double complex *oy)
+{
+    *ox = c * rx - sn * ry;
+    *oy = sn * rx + c * ry;
+}
+
+static void kinematics(rigmat_mech *s)
+{
+    const rigmat_model *m = s->m;
+    const size_t n = s->n;
+    size_t i, k, col;
+
+    /* ground (body 0) at rest at the origin */
+    s->bp[0] = s->bp[1] = 0;
+    s->bth[0] = s->bom[0] = s->bal[0] = 0;
+    s->bv[0] = s->bv[1] = s->ba[0] = s->ba[1] = 0;
+    for (col = 0; col < n; col++) {
+        BJ(s, 0, 0, col) = BJ(s, 0, 1, col) = 0;
+        BJTH(s, 0, col) = 0;
+    }
+    for (i = 0; i < s->nb - 1; i++) {
+        const size_t b = s->order[i];
+        const rigmat_joint *jt = &m->joints[s->bjoint[b]];
+        const size_t p = jt->parent, c = s->coord[s->bjoint[b]];
+        const double complex cp = ccos(s->bth[p]), sp = csin(s->bth[p]);
+        const double complex q = c != RIGMAT_NONE ? s->q[c] : 0;
+        const double complex qd = c != RIGMAT_NONE ? s->qd[c] : 0;
+        const double complex omp = s->bom[p];
+        double complex rx = jt->at_m[0], ry = jt->at_m[1], ux, uy, dx = 0, dy = 0;
+        int moves = 0; /* translation along dr/dq */
+
+        if (jt->type == RIGMAT_JOINT_SLIDER) {
+            rx += q * jt->axis[0];
+            ry += q * jt->axis[1];
+            rot(cp, sp, jt->axis[0], jt->axis[1], &dx, &dy);
+            moves = 1;
+        } else if (jt->type == RIGMAT_JOINT_ROLLING) {
+            rx += q;
+            ry += jt->radius_m;
+            rot(cp, sp, 1.0, 0.0, &dx, &dy);
+            moves = 1;
+        }
+        rot(cp, sp, rx, ry, &ux, &uy);
+        /* S R r = (-uy, ux) */
+        s->bp[2 * b] = s->bp[2 * p] + ux;
+        s->bp[2 * b + 1] = s->bp[2 * p + 1] + uy;
+        for (col = 0; col < n; col++) {
+            BJ(s, b, 0, col) = BJ(s, p, 0, col) - uy * BJTH(s, p, col);
+            BJ(s, b, 1, col) = BJ(s, p, 1, col) + ux * BJTH(s, p, col);
+            BJTH(s, b, col) = BJTH(s, p, col);
+        }
+        s->bv[2 * b] = s->bv[2 * p] - omp * uy;
+        s->bv[2 * b + 1] = s->bv[2 * p + 1] + omp * ux;
+        s->ba[2 * b] = s->ba[2 * p] - s->bal[p] * uy - omp * omp * ux;
+        s->ba[2 * b + 1] = s->ba[2 * p + 1] + s->bal[p] * ux - omp * omp * uy;
+        s->bth[b] = s->bth[p] + jt->angle_rad;
+        s->bom[b] = omp;
+        s->bal[b] = s->bal[p];
+        if (moves) {
+            BJ(s, b, 0, c) += dx;
+            BJ(s, b, 1, c) += dy;
+            s->bv[2 * b] += dx * qd;
+            s->bv[2 * b + 1] += dy * qd;
+            s->ba[2 * b] += -2.0 * omp * dy * qd;
+            s->ba[2 * b + 1] += 2.0 * omp * dx * qd;
+        }
+        if (jt->type == RIGMAT_JOINT_HINGE) {
+            if (jt->reference_world) {
+                /* absolute angle: the parent's rotation does not carry over */
+                s->bth[b] = jt->angle_rad + q;
+                for (col = 0; col < n; col++)
+                    BJTH(s, b, col) = 0;
+                s->bom[b] = 0;
+                s->bal[b] = 0;
+            } else {
+                s->bth[b] += q;
+            }
+            BJTH(s, b, c) += 1.0;
+            s->bom[b] += qd;
+        } else if (jt->type == RIGMAT_JOINT_ROLLING) {
+            s->bth[b] -= q / jt->radius_m;
+            BJTH(s, b, c) -= 1.0 / jt->radius_m;
+            s->bom[b] -= qd / jt->radius_m;
+        }
+        (void)k;
+    }
+}
+
+/* A point fixed in body b at r (body frame): position, Jacobian (2 x n,
+ * row-major; may be NULL), velocity and acceleration at qdd = 0 (may be
+ * NULL). */
+static void point_kin(const rigmat_mech *s, size_t b, const double r[2], double complex p[2],
+        double complex *J, double complex v[2], double complex a[2])
+{
+    const double complex c = ccos(s->bth[b]), sn = csin(s->bth[b]), om = s->bom[b];
+    double complex ux, uy;
+    size_t col;
+
+    rot(c, sn, r[0], r[1], &ux, &uy);
+    if (p != NULL) {
+        p[0] = s->bp[2 * b] + ux;
+        p[1] = s->bp[2 * b + 1] + uy;
+    }
+    if (J != NULL)
+        for (col = 0; col < s->n; col++) {
+            J[col] = BJ(s, b, 0, col) - uy * BJTH(s, b, col);
+            J[s->n + col] = BJ(s, b, 1, col) + ux * BJTH(s, b, col);
+        }
+    if (v != NULL) {
+        v[0] = s->bv[2 * b] - om * uy;
+        v[1] = s->bv[2 * b + 1] + om * ux;
+    }
+    if (a != NULL) {
+        a[0] = s->ba[2 * b] - s->bal[b] * uy - om * om * ux;
+        a[1] = s->ba[2 * b + 1] + s->bal[b] * ux - om * om * uy;
+    }
+}
+
+/* The relative displacement across joint j (slider, rolling: q; hinge:
+ * child angle - parent angle - angle, whatever its reference): value, its
+ * Jacobian row js (length n), its rate and its acceleration at qdd = 0. */
+static void joint_rel(const rigmat_mech *s, size_t j, double complex *val, double complex *js,
+        double complex *rate, double complex *bias)
+{
+    const rigmat_joint *jt = &s->m->joints[j];
+    const size_t c = s->coord[j];
+    size_t col;
+
+    if (jt->type == RIGMAT_JOINT_HINGE) {
+        const size_t ch = jt->child, pa = jt->parent;
+        *val = s->bth[ch] - s->bth[pa] - jt->angle_rad;
+        for (col = 0; col < s->n; col++)
+            js[col] = BJTH(s, ch, col) - BJTH(s, pa, col);
+        *rate = s->bom[ch] - s->bom[pa];
+        *bias = s->bal[ch] - s->bal[pa];
+        return;
+    }
+    for (col = 0; col < s->n; col++)
+        js[col] = 0;
+    *val = *rate = *bias = 0;
+    if (c == RIGMAT_NONE)
+        return;
+    js[c] = 1.0;
+    *val = s->q[c];
+    *rate = s->qd[c];
+}
+
+/* Relative output rotation of motor i: theta_out, its row jout, rate and
+ * velocity-product acceleration. */
+static void motor_out(const rigmat_mech *s, size_t i, double complex *theta, double complex *jo,
+        double complex *rate, double complex *bias)
+{
+    size_t col;
+
+    if (s->mlin[i] != RIGMAT_NONE) {
+        const size_t c = s->mlin[i];
+        for (col = 0; col < s->n; col++)
+            jo[col] = 0;
+        jo[c] = s->mk[i];
+        *theta = s->mk[i] * s->q[c];
+        *rate = s->mk[i] * s->qd[c];
+        *bias = 0;
+        return;
+    }
+    {
+        const size_t st = s->mstator[i], ro = s->mrotor[i];
+        for (col = 0; col < s->n; col++)
+            jo[col] = BJTH(s, ro, col) - BJTH(s, st, col);
+        *theta = s->bth[ro] - s->bth[st];
+        *rate = s->bom[ro] - s->bom[st];
+        *bias = s->bal[ro] - s->bal[st];
+    }
+}
+
+/* The stator body of motor i (its angular rate carries the rotor). */
+static size_t motor_stator(const rigmat_mech *s, size_t i)
+{
+    if (s->mlin[i] != RIGMAT_NONE) {
+        const rigmat_motor *mo = &s->m->motors[i];
+        const rigmat_joint *jt = &s->m->joints[mo->joint];
+        return mo->mounted_on_child ? jt->child : jt->parent;
+    }
+    return s->mstator[i];
+}
+
+/* ----------------------------------------------------------- assembly */
+
+static void add_inertia(rigmat_mech *s, double mass, double inertia, const double complex *Jc,
+        const double complex ac[2], const double complex *jth, double complex al)
+{
+    const size_t n = s->n;
+    size_t r, c;
+
+    for (r = 0; r < n; r++) {
+        for (c = 0; c < n; c++)
+            s->M[r * n + c] += mass * (Jc[r] * Jc[c] + Jc[n + r] * Jc[n + c]) +
+                    inertia * jth[r] * jth[c];
+        s->hb[r] += mass * (Jc[r] * ac[0] + Jc[n + r] * ac[1]) + inertia * jth[r] * al;
+    }
+}
+
+/* The rotor's absolute rate row (stator rate + N * relative) into s->tj;
+ * returns its velocity-product acceleration. */
+static double complex rotor_row(rigmat_mech *s, size_t i, double ratio)
+{
+    const size_t st = motor_stator(s, i);
+    double complex th, rate, bias;
+    size_t col;
+
+    motor_out(s, i, &th, s->jout + i * s->n, &rate, &bias);
+    for (col = 0; col < s->n; col++)
+        s->tj[col] = BJTH(s, st, col) + ratio * s->jout[i * s->n + col];
+    return s->bal[st] + ratio * bias;
+}
+
+/* The motor's drive voltage from its input. */
+static double complex motor_voltage(const rigmat_motor *mo, double complex u)
+{
+    return mo->drive == RIGMAT_DRIVE_DUTY ? u * mo->supply_v : u;
+}
+
+/* Fill M, hb, Q and the motor currents from the state of the workspace
+ * (q, qd, ueff and the current states in cur).  RIGMAT_ENUMERIC for a point
+ * spring or damper of zero length. */
+static rigmat_status assemble(rigmat_mech *s, rigmat_error *err)
+{
+    const rigmat_model *m = s->m;
+    const size_t n = s->n;
+    const double gx = -m->gravity_m_s2 * sin(m->slope_rad);
+    const double gy = -m->gravity_m_s2 * cos(m->slope_rad);
+    size_t b, i, r;
+
+    for (r = 0; r < n * n; r++)
+        s->M[r] = 0;
+    for (r = 0; r < n; r++)
+        s->hb[r] = s->Q[r] = 0;
+
+    for (b = 1; b < s->nb; b++) {
+        const rigmat_body *bd = &m->bodies[b];
+        double complex pc[2], ac[2];
+        if (bd->mass_kg == 0.0 && bd->inertia_kgm2 == 0.0)
+            continue;
+        point_kin(s, b, bd->com_m, pc, s->tJa, NULL, ac);
+        add_inertia(s, bd->mass_kg, bd->inertia_kgm2, s->tJa, ac, &BJTH(s, b, 0), s->bal[b]);
+        for (r = 0; r < n; r++)
+            s->Q[r] += bd->mass_kg * (s->tJa[r] * gx + s->tJa[n + r] * gy);
+    }
+
+    /* motors: rotor and load inertia (kinetic energy exact), torque */
+    for (i = 0; i < m->nmotors; i++) {
+        const rigmat_motor *mo = &m->motors[i];
+        const double N = mo->gear_ratio, cnt = (double)mo->count;
+        double complex th, bias, al, volt, tau, w;
+        double complex z2[2] = { 0, 0 };
+
+        motor_out(s, i, &th, s->jout + i * n, &s->wout[i], &bias);
+        s->bout[i] = bias;
+        w = s->wout[i];
+        if (mo->rotor_inertia_kgm2 > 0.0) {
+            al = rotor_row(s, i, N);
+            for (r = 0; r < 2 * n; r++)
+                s->tJb[r] = 0;
+            add_inertia(s, 0.0, cnt * mo->rotor_inertia_kgm2, s->tJb, z2, s->tj, al);
+        }
+        if (mo->load_inertia_kgm2 > 0.0) {
+            al = rotor_row(s, i, 1.0);
+            for (r = 0; r < 2 * n; r++)
+                s->tJb[r] = 0;
+            add_inertia(s, 0.0, mo->load_inertia_kgm2, s->tJb, z2, s->tj, al);
+        }
+        volt = motor_voltage(mo, s->ueff[s->umot[i]]);
+        if (mo->drive == RIGMAT_DRIVE_CURRENT)
+            s->cur[i] = s->ueff[s->umot[i]];
+        else if (mo->inductance_neglected)
+            s->cur[i] = (volt - mo->polarity * mo->back_emf_v_s_rad * N * w) /
+                    mo->resistance_ohm;
+        /* else cur[i] holds the state */
+        tau = cnt * (mo->polarity * mo->efficiency * mo->torque_constant_nm_a * s->cur[i] -
+                             mo->friction_nm_s_rad * N * w);
+        for (r = 0; r < n; r++)
+            s->Q[r] += N * tau * s->jout[i * n + r];
+    }
+
+    /* springs and dampers */
+    for (i = 0; i < m->nsprings + m->ndampers; i++) {
+        const int spring = i < m->nsprings;
+        const rigmat_link *lk = spring ? &m->springs[i] : &m->dampers[i - m->nsprings];
+        double complex val, rate, bias, gen;
+
+        if (lk->attach == RIGMAT_ATTACH_ACROSS) {
+            joint_rel(s, lk->joint, &val, s->tj, &rate, &bias);
+        } else if (lk->attach == RIGMAT_ATTACH_BETWEEN) {
+            for (r = 0; r < n; r++)
+                s->tj[r] = BJTH(s, lk->body_b, r) - BJTH(s, lk->body_a, r);
+            val = s->bth[lk->body_b] - s->bth[lk->body_a];
+            rate = s->bom[lk->body_b] - s->bom[lk->body_a];
+        } else {
+            double complex pa[2], pb[2], va[2], vb[2], dx, dy, d2, d, ex, ey;
+            point_kin(s, lk->body_a, lk->point_a_m, pa, s->tJa, va, NULL);
+            point_kin(s, lk->body_b, lk->point_b_m, pb, s->tJb, vb, NULL);
+            dx = pb[0] - pa[0];
+            dy = pb[1] - pa[1];
+            d2 = dx * dx + dy * dy;
+            if (!(creal(d2) > 0.0)) {
+                err != NULL ? (void)(err->where = lk->loc) : (void)0;
+                return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "%s '%s' has zero length: its line of action is undefined",
+                        spring ? "spring" : "damper", lk->name);
+            }
+            d = csqrt(d2); /* Re d2 > 0: the principal branch is analytic here */
+            ex = dx / d;
+            ey = dy / d;
+            for (r = 0; r < n; r++)
+                s->tj[r] = ex * (s->tJb[r] - s->tJa[r]) + ey * (s->tJb[n + r] - s->tJa[n + r]);
+            val = d;
+            rate = ex * (vb[0] - va[0]) + ey * (vb[1] - va[1]);
+        }
+        gen = spring ? -lk->stiffness * (val - lk->rest) : -lk->coefficient * rate;
+        for (r = 0; r < n; r++)
+            s->Q[r] += gen * s->tj[r];
+    }
+
+    /* forces, torques, generalized forces */
+    for (i = 0; i < m->nforces; i++) {
+        const rigmat_force *fo = &m->forces[i];
+        const double complex w = s->ueff[s->ufor[i]];
+        if (fo->kind == RIGMAT_FORCE_POINT) {
+            double complex p[2], fx = w * fo->direction[0], fy = w * fo->direction[1];
+            point_kin(s, fo->body, fo->at_m, p, s->tJa, NULL, NULL);
+            if (fo->frame_body) {
+                const double complex c = ccos(s->bth[fo->body]), sn = csin(s->bth[fo->body]);
+                rot(c, sn, w * fo->direction[0], w * fo->direction[1], &fx, &fy);
+            }
+            for (r = 0; r < n; r++)
+                s->Q[r] += s->tJa[r] * fx + s->tJa[n + r] * fy;
+        } else if (fo->kind == RIGMAT_FORCE_TORQUE) {
+            for (r = 0; r < n; r++) {
+                double complex jr = BJTH(s, fo->body, r);
+                if (fo->reacting != RIGMAT_NONE)
+                    jr -= BJTH(s, fo->reacting, r);
+                s->Q[r] += w * jr;
+            }
+        } else {
+            double complex val, rate, bias;
+            joint_rel(s, fo->joint, &val, s->tj, &rate, &bias);
+            for (r = 0; r < n; r++)
+                s->Q[r] += w * s->tj[r];
+        }
+    }
+    return RIGMAT_OK;
+}
+
+static const char *coord_state_name(const rigmat_mech *s, size_t c)
+{
+    return s->m->joints[s->cjoint[c]].name;
+}
+
+/* Solve M_FF qdd_F = (Q - hb)_F - M_FD qdd_D by LU with partial pivoting
+ * on the real parts (the imaginary parts are the complex step's tangent and
+ * must not steer the pivot order). */
+static rigmat_status solve(rigmat_mech *s, rigmat_error *err)
+{
+    const size_t n = s->n, nf = s->nf;
+    double dmax = 0.0;
+    size_t a, b, k;
+
+    for (a = 0; a < nf; a++) {
+        const size_t ca = s->freec[a];
+        double complex r = s->Q[ca] - s->hb[ca];
+        for (k = 0; k < n; k++)
+            if (s->m->joints[s->cjoint[k]].driven != RIGMAT_DRIVEN_NONE)
+                r -= s->M[ca * n + k] * s->qdd[k];
+        s->rhs[a] = r;
+        for (b = 0; b < nf; b++)
+            s->LU[a * nf + b] = s->M[ca * n + s->freec[b]];
+        if (creal(s->LU[a * nf + a]) > dmax)
+            dmax = creal(s->LU[a * nf + a]);
+        s->perm[a] = a;
+    }
+    for (a = 0; a < nf; a++)
+        if (!(creal(s->LU[a * nf + a]) > RIGMAT_MECH_PIVOT_RTOL * dmax)) {
+            const size_t c = s->freec[a];
+            (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                    "the mass matrix is singular: coordinate of joint '%s' has no inertia",
+                    coord_state_name(s, c));
+            rigmat_error_hint(err, "give the bodies it moves a mass or an inertia, or drive "
+                                   "the joint");
+            if (err != NULL)
+                err->where = s->m->joints[s->cjoint[c]].loc;
+            return RIGMAT_ENUMERIC;
+        }
+    for (k = 0; k < nf; k++) {
+        size_t piv = k;
+        double best = fabs(creal(s->LU[s->perm[k] * nf + k]));
+        for (a = k + 1; a < nf; a++) {
+            const double v = fabs(creal(s->LU[s->perm[a] * nf + k]));
+            if (v > best) {
+                best = v;
+                piv = a;
+            }
+        }
+        if (!(best > RIGMAT_MECH_PIVOT_RTOL * dmax)) {
+            const size_t c = s->freec[k];
+            (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                    "the mass matrix is singular: the motion of joint '%s' has no inertia of "
+                    "its own", coord_state_name(s, c));
+            rigmat_error_hint(err, "give the bodies it moves a mass or an inertia, or drive "
+                                   "the joint");
+            if (err != NULL)
+                err->where = s->m->joints[s->cjoint[c]].loc;
+            return RIGMAT_ENUMERIC;
+        }
+        {
+            const size_t t = s->perm[k];
+            s->perm[k] = s->perm[piv];
+            s->perm[piv] = t;
+        }
+        for (a = k + 1; a < nf; a++) {
+            double complex *ra = s->LU + s->perm[a] * nf;
+            const double complex *rk = s->LU + s->perm[k] * nf;
+            const double complex l = ra[k] / rk[k];
+            ra[k] = l;
+            for (b = k + 1; b < nf; b++)
+                ra[b] -= l * rk[b];
+            s->rhs[s->perm[a]] -= l * s->rhs[s->perm[k]];
+        }
+    }
+    for (a = nf; a-- > 0;) {
+        const double complex *ra = s->LU + s->perm[a] * nf;
+        double complex v = s->rhs[s->perm[a]];
+        for (b = a + 1; b < nf; b++)
+            v -= ra[b] * s->qdd[s->freec[b]];
+        s->qdd[s->freec[a]] = v / ra[a];
+    }
+    return RIGMAT_OK;
+}
+
+/* ------------------------------------------------------------- f and h */
+
+static void unpack(rigmat_mech *s, const double complex *x, const double complex *u)
+{
+    const rigmat_layout *L = &s->canon;
+    size_t c, i;
+
+    for (i = 0; i < L->nu; i++)
+        s->ueff[i] = s->xsh[i] != RIGMAT_NONE ? x[s->xsh[i]] : u[i];
+    for (c = 0; c < s->n; c++) {
+        const rigmat_driven dr = s->m->joints[s->cjoint[c]].driven;
+        s->q[c] = s->xq[c] != RIGMAT_NONE ? x[s->xq[c]] : 0;
+        s->qd[c] = s->xr[c] != RIGMAT_NONE ? x[s->xr[c]] : 0;
+        s->qdd[c] = 0;
+        if (dr == RIGMAT_DRIVEN_POSITION)
+            s->q[c] = s->ueff[s->uq[c]];
+        else if (dr == RIGMAT_DRIVEN_VELOCITY)
+            s->qd[c] = s->ueff[s->uq[c]];
+        else if (dr == RIGMAT_DRIVEN_ACCELERATION)
+            s->qdd[c] = s->ueff[s->uq[c]];
+    }
+    for (i = 0; i < s->m->nmotors; i++)
+        s->cur[i] = s->xi[i] != RIGMAT_NONE ? x[s->xi[i]] : 0;
+}
+
+static double complex sensor_value(rigmat_mech *s, size_t k)
+{
+    const rigmat_model *m = s->m;
+    const rigmat_sensor *se = &m->sensors[k];
+    const size_t n = s->n;
+    double complex v = 0, p[2], vel[2], a[2];
+    size_t r;
+
+    switch (se->kind) {
+    case RIGMAT_SENSE_JOINT_POSITION:
+    case RIGMAT_SENSE_JOINT_VELOCITY: {
+        const size_t c = s->coord[se->joint];
+        if (c != RIGMAT_NONE)
+            v = se->kind == RIGMAT_SENSE_JOINT_POSITION ? s->q[c] : s->qd[c];
+        break;
+    }
+    case RIGMAT_SENSE_ANGLE: v = s->bth[se->body]; break;
+    case RIGMAT_SENSE_RATE: v = s->bom[se->body]; break;
+    case RIGMAT_SENSE_RELATIVE_ANGLE: v = s->bth[se->body_b] - s->bth[se->body]; break;
+    case RIGMAT_SENSE_RELATIVE_RATE: v = s->bom[se->body_b] - s->bom[se->body]; break;
+    case RIGMAT_SENSE_MOTOR_ANGLE: {
+        const rigmat_motor *mo = &m->motors[se->motor];
+        double complex th, rate, bias;
+        motor_out(s, se->motor, &th, s->tj, &rate, &bias);
+        v = s->msign[se->motor] * mo->gear_ratio * (th - s->mtheta0[se->motor]);
+        if (se->unit_counts)
+            v *= se->counts_per_rev / (2.0 * M_PI);
+        break;
+    }
+    case RIGMAT_SENSE_POINT_POSITION:
+        point_kin(s, se->body, se->at_m, p, NULL, NULL, NULL);
+        v = se->axis[0] * p[0] + se->axis[1] * p[1];
+        break;
+    case RIGMAT_SENSE_POINT_VELOCITY:
+        point_kin(s, se->body, se->at_m, p, NULL, vel, NULL);
+        v = se->axis[0] * vel[0] + se->axis[1] * vel[1];
+        break;
+    case RIGMAT_SENSE_SPECIFIC_FORCE: {
+        const double gx = -m->gravity_m_s2 * sin(m->slope_rad);
+        const double gy = -m->gravity_m_s2 * cos(m->slope_rad);
+        const double complex c = ccos(s->bth[se->body]), sn = csin(s->bth[se->body]);
+        double complex ax, ay, bx, by;
+        point_kin(s, se->body, se->at_m, p, s->tJa, NULL, a);
+        ax = a[0] - gx;
+        ay = a[1] - gy;
+        for (r = 0; r < n; r++) {
+            ax += s->tJa[r] * s->qdd[r];
+            ay += s->tJa[n + r] * s->qdd[r];
+        }
+        /* R(th)^T: world into the body frame */
+        bx = c * ax + sn * ay;
+        by = -sn * ax + c * ay;
+        v = se->axis[0] * bx + se->axis[1] * by;
+        break;
+    }
+    case RIGMAT_SENSE_CURRENT: v = s->cur[se->motor]; break;
+    case RIGMAT_SENSE_DRIVE_FORCE: {
+        const size_t c = s->coord[se->joint];
+        if (c == RIGMAT_NONE)
+            break;
+        v = s->hb[c] - s->Q[c];
+        for (r = 0; r < n; r++)
+            v += s->M[c * n + r] * s->qdd[r];
+        break;
+    }
+    }
+    return se->gain * v + se->offset;
+}
+
+rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const double complex *u,
+        double complex *f, double complex *y, rigmat_error *err)
+{
+    const rigmat_layout *L = &s->canon;
+    const rigmat_model *m = s->m;
+    rigmat_status st;
+    size_t k;
+
+    unpack(s, x, u);
+    kinematics(s);
+    st = assemble(s, err);
+    if (st != RIGMAT_OK)
+        return st;
+    st = solve(s, err);
+    if (st != RIGMAT_OK)
+        return st;
+    if (f != NULL)
+        for (k = 0; k < L->nx; k++) {
+            const rigmat_signal *sg = &L->states[k];
+            switch (sg->kind) {
+            case RIGMAT_SIG_COORD: f[k] = s->qd[s->coord[sg->index]]; break;
+            case RIGMAT_SIG_RATE: f[k] = s->qdd[s->coord[sg->index]]; break;
+            case RIGMAT_SIG_CURRENT: {
+                const rigmat_motor *mo = &m->motors[sg->index];
+                const double complex volt = motor_voltage(mo, s->ueff[s->umot[sg->index]]);
+                f[k] = (volt - mo->resistance_ohm * s->cur[sg->index] -
+                               mo->polarity * mo->back_emf_v_s_rad * mo->gear_ratio *
+                                       s->wout[sg->index]) /
+                        mo->inductance_h;
+                break;
+            }
+            case RIGMAT_SIG_SHAPING: {
+                const rigmat_signal *in = &L->inputs[sg->index];
+                const double fc = in->kind == RIGMAT_SIG_FORCE ?
+                        m->forces[in->index].bandwidth_hz :
+                        m->joints[in->index].bandwidth_hz;
+                f[k] = 2.0 * M_PI * fc * (u[sg->index] - x[k]);
+                break;
+            }
+            default: f[k] = 0; break;
+            }
+        }
+    if (y != NULL)
+        for (k = 0; k < L->ny; k++)
+            y[k] = sensor_value(s, L->outputs[k].index);
+    return RIGMAT_OK;
+}
+
+rigmat_status rigmat_mech_eval_real(rigmat_mech *s, const double *x, const double *u, double *f,
+        double *y, rigmat_error *err)
+{
+    const rigmat_layout *L = &s->canon;
+    rigmat_status st;
+    size_t k;
+
+    for (k = 0; k < L->nx; k++)
+        s->xc[k] = x[k];
+    for (k = 0; k < L->nu; k++)
+        s->uc[k] = u[k];
+    st = rigmat_mech_eval(s, s->xc, s->uc, s->fc, s->yc, err);
+    if (st != RIGMAT_OK)
+        return st;
+    if (f != NULL)
+        for (k = 0; k < L->nx; k++)
+            f[k] = creal(s->fc[k]);
+    if (y != NULL)
+        for (k = 0; k < L->ny; k++)
+            y[k] = creal(s->yc[k]);
+    return RIGMAT_OK;
+}
+
+rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const double *u, double *A,
+        double *B, double *C, double *D, double *f0, double *y0, rigmat_error *err)
+{
+    const size_t nx = s->canon.nx, nu = s->canon.nu, ny = s->canon.ny;
+    rigmat_status st;
+    size_t j, k;
+
+    for (k = 0; k < nx; k++)
+        s->xc[k] = x[k];
+    for (k = 0; k < nu; k++)
+        s->uc[k] = u[k];
+    st = rigmat_mech_eval(s, s->xc, s->uc, s->fc, s->yc, err);
+    if (st != RIGMAT_OK)
+        return st;
+    if (f0 != NULL)
+        for (k = 0; k < nx; k++)
+            f0[k] = creal(s->fc[k]);
+    if (y0 != NULL)
+        for (k = 0; k < ny; k++)
+            y0[k] = creal(s->yc[k]);
+    for (j = 0; j < nx + nu; j++) {
+        double complex *z = j < nx ? &s->xc[j] : &s->uc[j - nx];
+        *z += step_h * (double complex)I;
+        st = rigmat_mech_eval(s, s->xc, s->uc, s->fc, s->yc, err);
+        *z = creal(*z);
+        if (st != RIGMAT_OK)
+            return st;
+        for (k = 0; k < nx; k++) {
+            double *dst = j < nx ? (A ? &A[k * nx + j] : NULL) : (B ? &B[k * nu + j - nx] : NULL);
+            if (dst != NULL)
+                *dst = cimag(s->fc[k]) / step_h;
+        }
+        for (k = 0; k < ny; k++) {
+            double *dst = j < nx ? (C ? &C[k * nx + j] : NULL) : (D ? &D[k * nu + j - nx] : NULL);
+            if (dst != NULL)
+                *dst = cimag(s->yc[k]) / step_h;
+        }
+    }
+    return RIGMAT_OK;
+}
+
+int rigmat_mech_is_balance_row(const rigmat_mech *s, size_t k)
+{
+    const rigmat_signal_kind kd = s->canon.states[k].kind;
+    return kd == RIGMAT_SIG_RATE || kd == RIGMAT_SIG_CURRENT || kd == RIGMAT_SIG_SHAPING;
+}
+
+/* ------------------------------------------------------- construction */
+
+static const char *driven_word(rigmat_driven d)
+{
+    return d == RIGMAT_DRIVEN_POSITION ? "position" :
+           d == RIGMAT_DRIVEN_VELOCITY ? "velocity" : "acceleration";
+}
+
+/* Fill err for an element that needs a higher derivative of a driven joint. */
+static rigmat_status need(rigmat_mech *s, rigmat_error *err, const char *what, const char *name,
+        rigmat_loc loc, size_t c, int accel)
+{
+    const rigmat_joint *jt = &s->m->joints[s->cjoint[c]];
+
+    (void)RIGMAT_FAIL(err, RIGMAT_EMODEL, "%s '%s' needs the %s of %s-driven joint '%s'", what,
+            name, accel ? "acceleration" : "rate", driven_word(jt->driven), jt->name);
+    rigmat_error_hint(err, "use driven: %s", accel ? "acceleration" : "velocity");
+    if (err != NULL) {
+        err->where = loc;
+        err->within = jt->loc;
+    }
+    return RIGMAT_EMODEL;
+}
+
+static int nonzero(double v, double scale)
+{
+    return fabs(v) > 1e-12 * (scale > 1.0 ? scale : 1.0);
+}
+
+static double row_scale(const double complex *r, size_t n)
+{
+    double mx = 0.0;
+    size_t i;
+    for (i = 0; i < n; i++)
+        if (fabs(creal(r[i])) > mx)
+            mx = fabs(creal(r[i]));
+    return mx;
+}
+
+/* The Jacobian row of a damper's displacement into s->tj; 0 when a point
+ * damper has zero length at this configuration. */
+static int link_row(rigmat_mech *s, const rigmat_link *lk)
+{
+    const size_t n = s->n;
+    size_t r;
+
+    if (lk->attach == RIGMAT_ATTACH_ACROSS) {
+        double complex v, rt, b;
+        joint_rel(s, lk->joint, &v, s->tj, &rt, &b);
+    } else if (lk->attach == RIGMAT_ATTACH_BETWEEN) {
+        for (r = 0; r < n; r++)
+            s->tj[r] = BJTH(s, lk->body_b, r) - BJTH(s, lk->body_a, r);
+    } else {
+        double complex pa[2], pb[2], dx, dy, d;
+        point_kin(s, lk->body_a, lk->point_a_m, pa, s->tJa, NULL, NULL);
+        point_kin(s, lk->body_b, lk->point_b_m, pb, s->tJb, NULL, NULL);
+        dx = pb[0] - pa[0];
+        dy = pb[1] - pa[1];
+        if (!(creal(dx * dx + dy * dy) > 0.0))
+            return 0;
+        d = csqrt(dx * dx + dy * dy);
+        for (r = 0; r < n; r++)
+            s->tj[r] = (dx * (s->tJb[r] - s->tJa[r]) + dy * (s->tJb[n + r] - s->tJa[n + r])) / d;
+    }
+    return 1;
+}
+
+/* The coupling of coordinates a and b in the mass matrix from one inertia:
+ * mass * Jc_a . Jc_b + inertia * j_a j_b (real parts). */
+static double coupling(const rigmat_mech *s, double mass, double inertia,
+        const double complex *Jc, const double complex *jth, size_t a, size_t b)
+{
+    const size_t n = s->n;
+    double v = inertia * creal(jth[a]) * creal(jth[b]);
+    if (Jc != NULL)
+        v += mass * (creal(Jc[a]) * creal(Jc[b]) + creal(Jc[n + a]) * creal(Jc[n + b]));
+    return v;
+}
+
+/* Check, at a generic configuration (structural zeros are exact there),
+ * that every derivative of a driven coordinate the equations use is given:
+ * rates of position-driven coordinates (dampers, back-emf and friction of
+ * motors, velocity sensors) and accelerations of position- and
+ * velocity-driven ones (an inertia coupled to a free coordinate, an
+ * accelerometer, a drive-force sensor). */
+static rigmat_status check_needs(rigmat_mech *s, rigmat_error *err)
+{
+    const rigmat_model *m = s->m;
+    const size_t n = s->n;
+    size_t c, i, f, b;
+
+    for (c = 0; c < n; c++) {
+        s->q[c] = 0.31 + 0.173 * (double)c;
+        s->qd[c] = s->qdd[c] = 0;
+    }
+    kinematics(s);
+    for (c = 0; c < n; c++) {
+        const rigmat_driven dr = m->joints[s->cjoint[c]].driven;
+        if (dr != RIGMAT_DRIVEN_POSITION)
+            continue;
+        for (i = 0; i < m->ndampers; i++)
+            if (link_row(s, &m->dampers[i]) &&
+                    nonzero(creal(s->tj[c]), row_scale(s->tj, n)))
+                return need(s, err, "damper", m->dampers[i].name, m->dampers[i].loc, c, 0);
+        for (i = 0; i < m->nmotors; i++) {
+            const rigmat_motor *mo = &m->motors[i];
+            double complex th, rt, bi;
+            if (mo->drive == RIGMAT_DRIVE_CURRENT && mo->friction_nm_s_rad == 0.0)
+                continue;
+            motor_out(s, i, &th, s->tj, &rt, &bi);
+            if (nonzero(creal(s->tj[c]), row_scale(s->tj, n)))
+                return need(s, err, "motor", mo->name, mo->loc, c, 0);
+        }
+        for (i = 0; i < m->nsensors; i++) {
+            const rigmat_sensor *se = &m->sensors[i];
+            int bad = 0;
+            if (se->kind == RIGMAT_SENSE_JOINT_VELOCITY)
+                bad = s->coord[se->joint] == c;
+            else if (se->kind == RIGMAT_SENSE_RATE)
+                bad = nonzero(creal(BJTH(s, se->body, c)), 1.0);
+            else if (se->kind == RIGMAT_SENSE_RELATIVE_RATE)
+                bad = nonzero(creal(BJTH(s, se->body_b, c) - BJTH(s, se->body, c)), 1.0);
+            else if (se->kind == RIGMAT_SENSE_POINT_VELOCITY) {
+                double complex p[2];
+                point_kin(s, se->body, se->at_m, p, s->tJa, NULL, NULL);
+                bad = nonzero(se->axis[0] * creal(s->tJa[c]) + se->axis[1] * creal(s->tJa[n + c]),
+                        1.0);
+            }
+            if (bad)
+                return need(s, err, "sensor", se->name, se->loc, c, 0);
+        }
+    }
+    for (c = 0; c < n; c++) {
+        const rigmat_driven dr = m->joints[s->cjoint[c]].driven;
+        if (dr != RIGMAT_DRIVEN_POSITION && dr != RIGMAT_DRIVEN_VELOCITY)
+            continue;
+        for (b = 1; b < s->nb; b++) {
+            const rigmat_body *bd = &m->bodies[b];
+            double complex pc[2];
+            if (bd->mass_kg == 0.0 && bd->inertia_kgm2 == 0.0)
+                continue;
+            point_kin(s, b, bd->com_m, pc, s->tJa, NULL, NULL);
+            for (f = 0; f < s->nf; f++)
+                if (nonzero(coupling(s, bd->mass_kg, bd->inertia_kgm2, s->tJa, &BJTH(s, b, 0),
+                                    s->freec[f], c),
+                            bd->mass_kg + bd->inertia_kgm2))
+                    return need(s, err, "body", bd->name, bd->loc, c, 1);
+        }
+        for (i = 0; i < m->nmotors; i++) {
+            const rigmat_motor *mo = &m->motors[i];
+            const double in[2] = { mo->rotor_inertia_kgm2 * mo->count, mo->load_inertia_kgm2 };
+            const double ratio[2] = { mo->gear_ratio, 1.0 };
+            size_t w;
+            for (w = 0; w < 2; w++) {
+                if (in[w] == 0.0)
+                    continue;
+                (void)rotor_row(s, i, ratio[w]);
+                for (f = 0; f < s->nf; f++)
+                    if (nonzero(coupling(s, 0.0, in[w], NULL, s->tj, s->freec[f], c), in[w]))
+                        return need(s, err, "motor", mo->name, mo->loc, c, 1);
+            }
+        }
+        for (i = 0; i < m->nsensors; i++) {
+            const rigmat_sensor *se = &m->sensors[i];
+            int bad = 0;
+            if (se->kind == RIGMAT_SENSE_SPECIFIC_FORCE) {
+                double complex p[2];
+                point_kin(s, se->body, se->at_m, p, s->tJa, NULL, NULL);
+                bad = nonzero(creal(s->tJa[c]), 1.0) || nonzero(creal(s->tJa[n + c]), 1.0);
+            } else if (se->kind == RIGMAT_SENSE_DRIVE_FORCE &&
+                    s->coord[se->joint] != RIGMAT_NONE) {
+                const size_t k = s->coord[se->joint];
+                for (b = 1; b < s->nb && !bad; b++) {
+                    const rigmat_body *bd = &m->bodies[b];
+                    double complex pc[2];
+                    point_kin(s, b, bd->com_m, pc, s->tJa, NULL, NULL);
+                    bad = nonzero(coupling(s, bd->mass_kg, bd->inertia_kgm2, s->tJa,
+                                          &BJTH(s, b, 0), k, c),
+                            bd->mass_kg + bd->inertia_kgm2);
+                }
+            }
+            if (bad)
+                return need(s, err, "sensor", se->name, se->loc, c, 1);
+        }
+    }
+    return RIGMAT_OK;
+}
+
+/* Parents before children; RIGMAT_EMODEL for a body without a joint or a
+ * loop (the loader reports these with places; this is the library's own
+ * guard for hand-built models). */
+static rigmat_status tree_order(rigmat_mech *s, rigmat_error *err)
+{
+    const rigmat_model *m = s->m;
+    size_t b, j, k = 0, depth;
+    size_t *dep = calloc(s->nb, sizeof *dep);
+
+    if (dep == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    for (j = 0; j < m->njoints; j++) {
+        const size_t ch = m->joints[j].child;
+        if (ch == 0 || ch >= s->nb || m->joints[j].parent >= s->nb ||
+                s->bjoint[ch] != RIGMAT_NONE) {
+            free(dep);
+            return RIGMAT_FAIL(err, RIGMAT_EMODEL, "joint '%s' does not make a tree",
+                    m->joints[j].name);
+        }
+        s->bjoint[ch] = j;
+    }
+    for (b = 1; b < s->nb; b++) {
+        size_t at = b, steps = 0;
+        while (at != 0 && steps <= s->nb) {
+            if (s->bjoint[at] == RIGMAT_NONE) {
+                free(dep);
+                return RIGMAT_FAIL(err, RIGMAT_EMODEL, "body '%s' is not attached by a joint",
+                        m->bodies[at].name);
+            }
+            at = m->joints[s->bjoint[at]].parent;
+            steps++;
+        }
+        if (steps > s->nb) {
+            free(dep);
+            return RIGMAT_FAIL(err, RIGMAT_EMODEL, "the joints above body '%s' form a loop",
+                    m->bodies[b].name);
+        }
+        dep[b] = steps;
+    }
+    for (depth = 1; depth < s->nb; depth++)
+        for (b = 1; b < s->nb; b++)
+            if (dep[b] == depth)
+                s->order[k++] = b;
+    free(dep);
+    return RIGMAT_OK;
+}
+
+rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat_error *err)
+{
+    rigmat_mech *s = calloc(1, sizeof *s);
+    rigmat_status st = RIGMAT_OK;
+    const rigmat_layout *L;
+    int bad = 0;
+    size_t j, k, n = 0, nm, nb;
+
+    *out = NULL;
+    if (s == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    s->m = m;
+    st = rigmat_layout_canonical(m, &s->canon, err);
+    if (st != RIGMAT_OK)
+        goto fail;
+    L = &s->canon;
+    if (m->nbodies == 0 || m->bodies[0].joint != RIGMAT_NONE) {
+        st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "body 0 must be the ground");
+        goto fail;
+    }
+    nb = s->nb = m->nbodies;
+    nm = m->nmotors;
+    s->coord = idx_alloc(m->njoints, &bad);
+    for (j = 0; j < m->njoints && !bad; j++)
+        if (m->joints[j].type != RIGMAT_JOINT_FIXED)
+            s->coord[j] = n++;
+    s->n = n;
+    s->cjoint = idx_alloc(n, &bad);
+    s->xq = idx_alloc(n, &bad);
+    s->xr = idx_alloc(n, &bad);
+    s->uq = idx_alloc(n, &bad);
+    s->freec = idx_alloc(n, &bad);
+    s->order = idx_alloc(nb, &bad);
+    s->bjoint = idx_alloc(nb, &bad);
+    s->xi = idx_alloc(nm, &bad);
+    s->umot = idx_alloc(nm, &bad);
+    s->ufor = idx_alloc(m->nforces, &bad);
+    s->xsh = idx_alloc(L->nu, &bad);
+    s->mstator = idx_alloc(nm, &bad);
+    s->mrotor = idx_alloc(nm, &bad);
+    s->mlin = idx_alloc(nm, &bad);
+    s->mk = zalloc(nm, sizeof(double), &bad);
+    s->msign = zalloc(nm, sizeof(double), &bad);
+    s->mtheta0 = zalloc(nm, sizeof(double), &bad);
+#define CZ(field, count) s->field = zalloc((count), sizeof(double complex), &bad)
+    CZ(bp, 2 * nb); CZ(bth, nb); CZ(bJ, 2 * nb * n); CZ(bjth, nb * n); CZ(bv, 2 * nb);
+    CZ(bom, nb); CZ(ba, 2 * nb); CZ(bal, nb);
+    CZ(q, n); CZ(qd, n); CZ(qdd, n); CZ(M, n * n); CZ(hb, n); CZ(Q, n); CZ(ueff, L->nu);
+    CZ(LU, n * n); CZ(rhs, n); CZ(tJa, 2 * n); CZ(tJb, 2 * n); CZ(tj, n); CZ(jout, nm * n);
+    CZ(cur, nm); CZ(wout, nm); CZ(bout, nm);
+    CZ(xc, L->nx); CZ(uc, L->nu); CZ(fc, L->nx); CZ(yc, L->ny);
+#undef CZ
+    s->perm = zalloc(n, sizeof(size_t), &bad);
+    if (bad) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        goto fail;
+    }
+    for (j = 0; j < m->njoints; j++)
+        if (s->coord[j] != RIGMAT_NONE) {
+            s->cjoint[s->coord[j]] = j;
+            if (m->joints[j].driven == RIGMAT_DRIVEN_NONE)
+                s->freec[s->nf++] = s->coord[j];
+        }
+    st = tree_order(s, err);
+    if (st != RIGMAT_OK)
+        goto fail;
+    for (k = 0; k < L->nx; k++) {
+        const rigmat_signal *sg = &L->states[k];
+        if (sg->kind == RIGMAT_SIG_COORD)
+            s->xq[s->coord[sg->index]] = k;
+        else if (sg->kind == RIGMAT_SIG_RATE)
+            s->xr[s->coord[sg->index]] = k;
+        else if (sg->kind == RIGMAT_SIG_CURRENT)
+            s->xi[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_SHAPING)
+            s->xsh[sg->index] = k;
+    }
+    for (k = 0; k < L->nu; k++) {
+        const rigmat_signal *sg = &L->inputs[k];
+        if (sg->kind == RIGMAT_SIG_DRIVEN)
+            s->uq[s->coord[sg->index]] = k;
+        else if (sg->kind == RIGMAT_SIG_MOTOR)
+            s->umot[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_FORCE)
+            s->ufor[sg->index] = k;
+    }
+    for (k = 0; k < nm; k++) {
+        const rigmat_motor *mo = &m->motors[k];
+        if (mo->joint == RIGMAT_NONE) {
+            s->mstator[k] = mo->stator;
+            s->mrotor[k] = mo->rotor;
+            continue;
+        }
+        {
+            const rigmat_joint *jt = &m->joints[mo->joint];
+            if (jt->type == RIGMAT_JOINT_SLIDER) {
+                s->mlin[k] = s->coord[mo->joint];
+                /* rotation per travel: a pulley of radius r turns 1/r rad per m, a
+                 * screw of lead l turns 2 pi / l rad per m */
+                s->mk[k] = mo->radius_m > 0.0 ? 1.0 / mo->radius_m :
+                           mo->lead_m > 0.0 ? 2.0 * M_PI / mo->lead_m : 0.0;
+                if (s->mk[k] == 0.0) {
+                    st = RIGMAT_FAIL(err, RIGMAT_EMODEL,
+                            "motor '%s' across slider '%s' needs a radius or a lead", mo->name,
+                            jt->name);
+                    goto fail;
+                }
+            } else if (jt->type == RIGMAT_JOINT_FIXED) {
+                st = RIGMAT_FAIL(err, RIGMAT_EMODEL, "motor '%s' is across fixed joint '%s'",
+                        mo->name, jt->name);
+                goto fail;
+            } else {
+                s->mstator[k] = mo->mounted_on_child ? jt->child : jt->parent;
+                s->mrotor[k] = mo->mounted_on_child ? jt->parent : jt->child;
+            }
+        }
+    }
+    /* theta_out(0) and the sign that makes motor_angle increase with the
+     * rotor's own joint (or the across joint) */
+    for (k = 0; k < n; k++)
+        s->q[k] = s->qd[k] = 0;
+    kinematics(s);
+    for (k = 0; k < nm; k++) {
+        const rigmat_motor *mo = &m->motors[k];
+        double complex th, rt, bi;
+        size_t c;
+        motor_out(s, k, &th, s->tj, &rt, &bi);
+        s->mtheta0[k] = creal(th);
+        c = mo->joint != RIGMAT_NONE ? s->coord[mo->joint] :
+            s->bjoint[s->mrotor[k]] != RIGMAT_NONE ? s->coord[s->bjoint[s->mrotor[k]]] :
+                                                      RIGMAT_NONE;
+        s->msign[k] = (c != RIGMAT_NONE && creal(s->tj[c]) < 0.0) ? -1.0 : 1.0;
+    }
+    st = check_needs(s, err);
+    if (st != RIGMAT_OK)
+        goto fail;
+    *out = s;
+    return RIGMAT_OK;
+fail:
+    rigmat_mech_free(s);
+    return st;
+}
+
+/* ----------------------------------------------------- operating point */
+
+static size_t input_named(const rigmat_layout *L, const char *name)
+{
+    size_t k;
+    for (k = 0; k < L->nu; k++)
+        if (strcmp(L->inputs[k].name, name) == 0)
+            return k;
+    return RIGMAT_NONE;
+}
+
+static size_t joint_named(const rigmat_model *m, const char *name)
+{
+    size_t j;
+    for (j = 0; j < m->njoints; j++)
+        if (strcmp(m->joints[j].name, name) == 0)
+            return j;
+    return RIGMAT_NONE;
+}
+
+static rigmat_status unknown_name(rigmat_error *err, const rigmat_setting *st, const char *what)
+{
+    (void)RIGMAT_FAIL(err, RIGMAT_EMODEL, "operating point: no %s named '%s'", what, st->name);
+    if (err != NULL)
+        err->where = st->loc;
+    return RIGMAT_EMODEL;
+}
+
+rigmat_status rigmat_mech_operating_point(const rigmat_mech *s, double *x, double *u,
+        rigmat_error *err)
+{
+    const rigmat_model *m = s->m;
+    const rigmat_layout *L = &s->canon;
+    size_t k;
+
+    for (k = 0; k < L->nx; k++)
+        x[k] = 0.0;
+    for (k = 0; k < L->nu; k++)
+        u[k] = 0.0;
+    for (k = 0; k < m->nop_coordinates; k++) {
+        const rigmat_setting *st = &m->op_coordinates[k];
+        const size_t j = joint_named(m, st->name);
+        const size_t c = j != RIGMAT_NONE ? s->coord[j] : RIGMAT_NONE;
+        if (c == RIGMAT_NONE)
+            return unknown_name(err, st, "moving joint");
+        if (s->xq[c] != RIGMAT_NONE)
+            x[s->xq[c]] = st->value;
+        else
+            u[s->uq[c]] = st->value;
+    }
+    for (k = 0; k < m->nop_rates; k++) {
+        const rigmat_setting *st = &m->op_rates[k];
+        const size_t j = joint_named(m, st->name);
+        const size_t c = j != RIGMAT_NONE ? s->coord[j] : RIGMAT_NONE;
+        if (c == RIGMAT_NONE)
+            return unknown_name(err, st, "moving joint");
+        if (s->xr[c] != RIGMAT_NONE)
+            x[s->xr[c]] = st->value;
+        else if (m->joints[j].driven == RIGMAT_DRIVEN_VELOCITY)
+            u[s->uq[c]] = st->value;
+        else if (st->value != 0.0) {
+            (void)RIGMAT_FAIL(err, RIGMAT_EMODEL,
+                    "operating point: position-driven joint '%s' has no rate to set", st->name);
+            if (err != NULL)
+                err->where = st->loc;
+            return RIGMAT_EMODEL;
+        }
+    }
+    for (k = 0; k < m->nop_inputs; k++) {
+        const rigmat_setting *st = &m->op_inputs[k];
+        const size_t i = input_named(L, st->name);
+        if (i == RIGMAT_NONE)
+            return unknown_name(err, st, "input");
+        u[i] = st->value;
+    }
+    /* a shaping filter at rest passes its input through */
+    for (k = 0; k < L->nu; k++)
+        if (s->xsh[k] != RIGMAT_NONE)
+            x[s->xsh[k]] = u[k];
+    return RIGMAT_OK;
+}
+
+int rigmat_mech_find_unknown(const rigmat_mech *s, const char *name, int *is_input,
+        size_t *index)
+{
+    const rigmat_layout *L = &s->canon;
+    const size_t j = joint_named(s->m, name);
+    size_t k;
+
+    if (j != RIGMAT_NONE && s->coord[j] != RIGMAT_NONE) {
+        const size_t c = s->coord[j];
+        *is_input = s->xq[c] == RIGMAT_NONE;
+        *index = *is_input ? s->uq[c] : s->xq[c];
+        return 1;
+    }
+    for (k = 0; k < L->nx; k++)
+        if (strcmp(L->states[k].name, name) == 0) {
+            *is_input = 0;
+            *index = k;
+            return 1;
+        }
+    k = input_named(L, name);
+    if (k != RIGMAT_NONE) {
+        *is_input = 1;
+        *index = k;
+        return 1;
+    }
+    return 0;
+}

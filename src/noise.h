@@ -1,0 +1,116 @@
+/* noise.h - the discrete noise model of a Kalman filter: Qd, Rd and the
+ * cross-covariance S.
+ *
+ * Convention (shared DESIGN.md section 3, "Noise, one convention"): a
+ * density N is white noise of intensity Qc = N^2, E[w(t) w(s)] = Qc
+ * delta(t - s).  Hence
+ *   - the average of such a signal over one period T has variance N^2 / T;
+ *   - behind a first-order low-pass of bandwidth f_c (Hz), H = 1/(1 + s/w_c)
+ *     with w_c = 2 pi f_c, its variance is N^2 int |H(jw)|^2 dw / (2 pi)
+ *     = N^2 w_c / 2 = N^2 pi f_c;
+ *   - a quantization step q adds q^2 / 12 (B. Widrow, I. Kollar, M.-C. Liu,
+ *     IEEE Trans. Instrum. Meas. 45(2):353-361, 1996);
+ *   - a sensor's `noise` is a standard deviation per sample.
+ *
+ * Process noise.  For x' = A x + G w, the covariance of the state noise
+ * accumulated over one period is
+ *     Qd = int_0^T e^{A s} G Qc G^T e^{A^T s} ds.
+ * It is computed by Van Loan's block method (C. F. Van Loan, "Computing
+ * integrals involving the matrix exponential", IEEE Trans. Automatic Control
+ * AC-23(3):395-404, 1978): e^{M h} with M = [[-A, G Qc G^T], [0, A^T]] has
+ * blocks [[F11, F12], [0, F22]], Phi = F22^T and Q(h) = F22^T F12.  On a stiff
+ * model e^{-A T} overflows, so the block form is applied only over
+ * h = T / 2^s with ||A||_1 h <= step_norm, and the s doublings
+ *     Q(2h) = Q(h) + Phi(h) Q(h) Phi(h)^T,   Phi(2h) = Phi(h)^2
+ * (exact, from splitting the integral at h) bring it to T; Q is symmetrized
+ * after every step.  Qd is the exact covariance of the sampled continuous
+ * system, i.e. it belongs to the ZOH Ad; for the other methods it is the
+ * same matrix, labelled approximate.
+ *
+ * Measurement noise.  Rd is diagonal in the sensors' own terms plus, when a
+ * disturbance with a density reaches an output directly (column j of the
+ * continuous D, j >= nu_control, is not zero: E = D[:, nu_control:]), that
+ * white noise inside the measurement, taken as its average over the
+ * period: Rd += E diag(Qc / T) E^T.  The same average over the interval
+ * [kT, (k+1)T) drives x[k+1], so process and measurement noise correlate:
+ *     S = E[w_k v_k^T] = Gamma_G diag(Qc) E^T / T,
+ * Gamma_G = int_0^T e^{A s} ds G (the exact ZOH disturbance matrix), in the
+ * form x[k+1] = Ad x[k] + ... + w_k, y[k] = Cd x[k] + ... + v_k.  S is NULL
+ * when no disturbance reaches an output directly.
+ *
+ * Units: SI throughout; variances in output units squared.
+ */
+#ifndef RIGMAT_NOISE_H
+#define RIGMAT_NOISE_H
+
+#include "rigmat.h"
+#include "discretize.h"
+#include "expm.h"
+
+typedef struct rigmat_noise_opts {
+    double step_norm;    /* ||A||_1 h <= step_norm for the block step; default 0.5 */
+    unsigned expm_flags; /* rigmat_expm_flags; default 0 */
+} rigmat_noise_opts;
+
+rigmat_noise_opts rigmat_noise_opts_default(void);
+
+/* Scratch space for models of up to nx states and nw disturbances. */
+typedef struct rigmat_noise_ws {
+    size_t nx, nw;
+    rigmat_expm_ws *expm;   /* max(2 nx, nx + nw) */
+    gsl_matrix *M, *F;      /* 2 nx square (>= nx + nw) */
+    gsl_matrix *W, *Phi, *Q, *T1, *T2; /* nx x nx */
+    gsl_matrix *G;          /* nx x nw; NULL when nw = 0 */
+} rigmat_noise_ws;
+
+rigmat_noise_ws *rigmat_noise_ws_alloc(size_t nx, size_t nw);
+void rigmat_noise_ws_free(rigmat_noise_ws *w);
+
+/* Qd (nx x nx, caller-allocated) for x' = A x + G w with intensities
+ * intensity[0..ncols(G)) (Qc diagonal, SI per Hz, >= 0) over period_s.  G
+ * may be NULL (Qd = 0).  *doublings (may be NULL) receives s.  Returns
+ * RIGMAT_EUSAGE for bad sizes or a negative intensity, RIGMAT_ENUMERIC when
+ * the exponential fails. */
+rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const double *intensity,
+        double period_s, const rigmat_noise_opts *o, rigmat_noise_ws *w, gsl_matrix *Qd,
+        unsigned *doublings, rigmat_error *err);
+
+/* The per-sample variance of one sensor and its parts, each >= 0. */
+typedef struct rigmat_sensor_noise {
+    double noise_var;      /* sd^2 */
+    double density_var;    /* N^2 / T, or N^2 pi f_c with a bandwidth */
+    double resolution_var; /* q^2 / 12 */
+    double total_var;      /* their sum */
+} rigmat_sensor_noise;
+
+/* sd, density, bandwidth_hz and resolution as in rigmat_lti (0 = none). */
+rigmat_sensor_noise rigmat_noise_sensor(double sd, double density, double bandwidth_hz,
+        double resolution, double period_s);
+
+/* The standard deviation of a white disturbance of intensity Qc averaged
+ * over one period: sqrt(Qc / T). */
+double rigmat_noise_sample_sd(double intensity, double period_s);
+
+/* The noise model of a sampled model. */
+typedef struct rigmat_noise {
+    size_t nx, ny, nw;      /* nx: states of the sampled model (with delays) */
+    double period_s;
+    int qd_exact;           /* 1 when the sampled model is ZOH */
+    unsigned doublings;     /* s of the Qd computation */
+    gsl_matrix *Qd;         /* nx x nx (delay states carry no noise); NULL when nx = 0 */
+    gsl_matrix *Rd;         /* ny x ny; NULL when ny = 0 */
+    gsl_matrix *S;          /* nx x ny cross-covariance; NULL when none */
+    rigmat_sensor_noise *sensor; /* ny: the sensors' own terms */
+    double *direct_var;     /* ny: variance added by disturbances reaching the output */
+    double *disturbance_sd; /* nw: per-sample sd of each disturbance, sqrt(Qc/T) */
+    size_t ndirect;         /* (output, disturbance) pairs with a direct path */
+} rigmat_noise;
+
+/* Build the noise model of d, sampled from s.  On success *out is owned by
+ * the caller (rigmat_noise_free).  Statuses as rigmat_noise_qd, and
+ * RIGMAT_ENOMEM. */
+rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
+        const rigmat_noise_opts *o, rigmat_noise_ws *w, rigmat_noise **out, rigmat_error *err);
+void rigmat_noise_free(rigmat_noise *n);
+
+#endif /* RIGMAT_NOISE_H */
