@@ -407,3 +407,56 @@ rigmat_status rigmat_trim_model(const rigmat_model *m, const rigmat_options *opt
     rigmat_system_free(s);
     return st2;
 }
+
+/* ---------------------------------------------------------- sign table */
+
+/* common practice: the sign of a response's first
+ * non-vanishing derivative is the sign of its initial motion. */
+int rigmat_lti_first_response(const rigmat_lti *l, const double *row, double d, size_t k,
+        int *order)
+{
+    const size_t n = l->nx;
+    const double rtol = 1e-11;
+    double *v = calloc(n + 1, sizeof *v), *w = calloc(n + 1, sizeof *w);
+    int sign = 0;
+    size_t r, i, j;
+
+    *order = 0;
+    if (d != 0.0) {
+        free(v);
+        free(w);
+        return d > 0 ? 1 : -1;
+    }
+    if (v == NULL || w == NULL || l->B == NULL) {
+        free(v);
+        free(w);
+        return 0;
+    }
+    memcpy(v, row, n * sizeof *v);
+    for (r = 1; r <= n && sign == 0; r++) {
+        double val = 0.0, mag = 0.0;
+        for (i = 0; i < n; i++) {
+            const double t = v[i] * gsl_matrix_get(l->B, i, k);
+            val += t;
+            mag += fabs(t);
+        }
+        if (mag > 0.0 && fabs(val) > rtol * mag) {
+            sign = val > 0 ? 1 : -1;
+            *order = (int)r;
+            break;
+        }
+        for (j = 0; j < n; j++) {
+            double s = 0.0, sm = 0.0;
+            for (i = 0; i < n; i++) {
+                const double t = v[i] * gsl_matrix_get(l->A, i, j);
+                s += t;
+                sm += fabs(t);
+            }
+            w[j] = (sm > 0.0 && fabs(s) > rtol * sm) ? s : 0.0;
+        }
+        memcpy(v, w, n * sizeof *v);
+    }
+    free(v);
+    free(w);
+    return sign;
+}

@@ -25,4 +25,13 @@ size_t rigmat_system_input_canon(const rigmat_system *s, size_t k);
 /* The values held by states the layout leaves out (canonical x; copied). */
 void rigmat_system_set_base(rigmat_system *s, const double *x_canon);
 
+
+/* The first non-zero response of one row to a positive step in input k:
+ * the smallest order r with a non-zero entry of d (r = 0) or
+ * row A^(r-1) B[:, k] (r >= 1), up to nx; entries that are rounding
+ * residue of a cancellation (below 1e-11 of the sum of the magnitudes they
+ * came from) count as zero.  Returns -1, 0 or +1 (0: no response at any
+ * order) and the order in *order.  row has length l->nx. */
+int rigmat_lti_first_response(const rigmat_lti *l, const double *row, double d, size_t k,
+        int *order);
 #endif /* RIGMAT_LINEARIZE_H */

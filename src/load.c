@@ -49,6 +49,7 @@ struct ld {
     rigmat_diags *d;
     const rigmat_options *opt;
     int nomem;
+    int lost_child; /* a joint's child did not resolve: "not attached" would mislead */
 };
 
 /* The entry being read: "body 'chassis'" and its mapping. */
@@ -262,6 +263,13 @@ static int opt_density(struct ld *L, const struct ent *e, const char *key, rigma
 
 static void missing(struct ld *L, const struct ent *e, const char *key, const char *hint)
 {
+    size_t i;
+
+    /* a misspelt key ("mas") was reported with this key as its hint;
+     * "missing 'mass'" on top would only repeat it */
+    for (i = 0; e->map != NULL && i < e->map->n; i++)
+        if (rigmat_load_distance(e->map->entries[i].key, key, 3) <= 2)
+            return;
     lerr(L, e, e->loc, hint, "missing required field '%s'", key);
 }
 
@@ -723,6 +731,8 @@ static void read_bodies(struct ld *L, const rigmat_node *root)
         b->name = dup_s(L, e.name);
         b->loc = e.loc;
         b->joint = RIGMAT_NONE;
+        if (e.map->broken)
+            continue;
         check_keys(L, &e, body_keys, NW(body_keys), NULL, 0, "a body");
         if (req_num(L, &e, "mass", RIGMAT_Q_MASS, &b->mass_kg, "write 'mass: 0' for a "
                     "massless link"))
@@ -800,6 +810,10 @@ static void read_joints(struct ld *L, const rigmat_node *root)
         j->loc = e.loc;
         j->parent = j->child = RIGMAT_NONE;
         j->axis[0] = 1.0;
+        if (e.map->broken) {
+            L->lost_child = 1;
+            continue;
+        }
         f = field(&e, "type");
         t = -1;
         if (f == NULL)
@@ -843,6 +857,8 @@ static void read_joints(struct ld *L, const rigmat_node *root)
             missing(L, &e, "child", "the body this joint carries");
         } else {
             j->child = body_ref(L, &e, f->value);
+            if (j->child == RIGMAT_NONE)
+                L->lost_child = 1;
             if (j->child == 0) {
                 lerr(L, &e, f->value->loc, "ground is fixed; swap parent and child",
                         "a joint's child cannot be ground");
@@ -897,14 +913,11 @@ static void check_tree(struct ld *L)
         if (c == RIGMAT_NONE)
             continue;
         if (m->bodies[c].joint != RIGMAT_NONE) {
-            const rigmat_entry *f;
             struct ent e;
             e.name = m->joints[j].name;
             e.loc = m->joints[j].loc;
             e.map = NULL;
             snprintf(e.words, sizeof e.words, "joint '%s'", m->joints[j].name);
-            f = NULL;
-            (void)f;
             lerr(L, &e, e.loc, "a body hangs from exactly one joint; use 'fixed' to weld "
                     "bodies", "body '%s' is already the child of joint '%s'", m->bodies[c].name,
                     m->joints[m->bodies[c].joint].name);
@@ -912,11 +925,14 @@ static void check_tree(struct ld *L)
         }
         m->bodies[c].joint = j;
     }
-    for (i = 1; i < m->nbodies; i++)
-        if (m->bodies[i].joint == RIGMAT_NONE)
-            lerr(L, NULL, m->bodies[i].loc, "add a joint with 'child: %s'",
+    for (i = 1; i < m->nbodies && !L->lost_child; i++)
+        if (m->bodies[i].joint == RIGMAT_NONE) {
+            char hint[160];
+            snprintf(hint, sizeof hint, "add a joint with 'child: %s'", m->bodies[i].name);
+            lerr(L, NULL, m->bodies[i].loc, hint,
                     "body '%s' is not attached to the tree: no joint has it as child",
                     m->bodies[i].name);
+        }
     /* 0 unknown, 1 on the current path, 2 reaches ground */
     state = calloc(m->nbodies ? m->nbodies : 1, 1);
     if (state == NULL) {
@@ -957,8 +973,6 @@ static void check_tree(struct ld *L)
 
 /* ------------------------------------------------------ springs, dampers */
 
-static const char *const link_form_words[] = { "across", "between", "from", "to" };
-
 static void read_links(struct ld *L, const rigmat_node *root, int springs)
 {
     const char *key = springs ? "springs" : "dampers";
@@ -982,7 +996,7 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
         static const char *const damper_keys[] = { "across", "between", "from", "to",
             "coefficient", "part" };
         const rigmat_entry *fa, *fb, *ff, *ft, *f;
-        int linear = 1, forms;
+        int linear = 1, forms, placed = 0;
         struct ent e;
         if (!entry(L, sec, i, what, &e))
             continue;
@@ -990,6 +1004,8 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
         lk->name = dup_s(L, e.name);
         lk->loc = e.loc;
         lk->joint = lk->body_a = lk->body_b = RIGMAT_NONE;
+        if (e.map->broken)
+            continue;
         if (springs)
             check_keys(L, &e, spring_keys, NW(spring_keys), NULL, 0, "a spring");
         else
@@ -1009,6 +1025,7 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
         } else if (fa != NULL) {
             lk->attach = RIGMAT_ATTACH_ACROSS;
             lk->joint = joint_ref(L, &e, fa->value);
+            placed = lk->joint != RIGMAT_NONE;
             if (lk->joint != RIGMAT_NONE) {
                 const rigmat_joint *j = &m->joints[lk->joint];
                 if (j->type == RIGMAT_JOINT_FIXED)
@@ -1019,6 +1036,7 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
         } else if (fb != NULL) {
             lk->attach = RIGMAT_ATTACH_BETWEEN;
             linear = 0;
+            placed = 1;
             if (fb->value->type != RIGMAT_NODE_SEQ || fb->value->n != 2) {
                 lerr(L, &e, fb->value->loc, "write between: [bodyA, bodyB]",
                         "expected a list of two body names");
@@ -1035,6 +1053,7 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
             pair[0] = ff;
             pair[1] = ft;
             lk->attach = RIGMAT_ATTACH_POINTS;
+            placed = 1;
             for (k = 0; k < 2; k++) {
                 const rigmat_node *v;
                 if (pair[k] == NULL) {
@@ -1068,8 +1087,9 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
                 }
             }
         }
-        (void)link_form_words;
-        if (springs) {
+        if (!placed) {
+            /* the units of the values follow from the placement */
+        } else if (springs) {
             req_num(L, &e, "stiffness", linear ? RIGMAT_Q_LIN_STIFFNESS : RIGMAT_Q_ROT_STIFFNESS,
                     &lk->stiffness, NULL);
             f = field(&e, "rest");
@@ -1207,6 +1227,8 @@ static void read_motors(struct ld *L, const rigmat_node *root)
         mo->efficiency = 1.0;
         mo->count = 1;
         mo->polarity = 1;
+        if (e.map->broken)
+            continue;
         check_keys(L, &e, motor_keys, NW(motor_keys), NULL, 0, "a motor");
         f = field(&e, "part");
         if (f != NULL && f->value->type == RIGMAT_NODE_SCALAR)
@@ -1406,6 +1428,8 @@ static void read_forces(struct ld *L, const rigmat_node *root)
         fo->name = dup_s(L, e.name);
         fo->loc = e.loc;
         fo->body = fo->reacting = fo->joint = RIGMAT_NONE;
+        if (e.map->broken)
+            continue;
         fon = field(&e, "on");
         ftq = field(&e, "torque_on");
         fac = field(&e, "across");
@@ -1463,6 +1487,8 @@ static void read_forces(struct ld *L, const rigmat_node *root)
         r = opt_word(L, &e, "role", role_words, NW(role_words), "a role (input or disturbance)",
                 0);
         fo->role = r == 1 ? RIGMAT_ROLE_DISTURBANCE : RIGMAT_ROLE_INPUT;
+        if (fac != NULL && forms == 1 && fo->joint == RIGMAT_NONE)
+            continue; /* the unit of the density follows from the joint */
         if (opt_density(L, &e, "density", effort, &fo->density) == 1)
             must_nonneg(L, &e, "density", fo->density);
         if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &fo->bandwidth_hz) == 1)
@@ -1521,6 +1547,8 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         s->loc = e.loc;
         s->joint = s->body = s->body_b = s->motor = RIGMAT_NONE;
         s->gain = 1.0;
+        if (e.map->broken)
+            continue;
         fm = field(&e, "measures");
         fof = field(&e, "of");
         if (fm == NULL) {
@@ -1656,6 +1684,10 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         }
         snprintf(form, sizeof form, "a '%s' sensor", measures_words[k]);
         check_keys(L, &e, keys, nk, sensor_all, NW(sensor_all), form);
+        if (s->joint == RIGMAT_NONE && (s->kind == RIGMAT_SENSE_JOINT_POSITION ||
+                                               s->kind == RIGMAT_SENSE_JOINT_VELOCITY ||
+                                               s->kind == RIGMAT_SENSE_DRIVE_FORCE))
+            continue; /* the unit of the values follows from the joint */
         f = field(&e, "gain");
         if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_NUMBER, 0, &s->gain) &&
                 s->gain == 0.0)
@@ -1951,6 +1983,7 @@ rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
     L.d = d;
     L.opt = opt;
     L.nomem = 0;
+    L.lost_child = 0;
     if (root == NULL) {
         const rigmat_loc at = { m->file, 1, 1 };
         lerr(&L, NULL, at, "a model starts with 'rigmat: 1'", "the model file is empty");
@@ -1963,6 +1996,9 @@ rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
     }
     read_top(&L, root);
     read_bodies(&L, root);
+    if (m->nbodies < 2 && d->errors == before)
+        lerr(&L, NULL, root->loc, "add a 'bodies:' section, and joints that carry them",
+                "the model has no bodies besides ground: nothing moves");
     if (!L.nomem)
         read_joints(&L, root);
     if (!L.nomem)

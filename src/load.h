@@ -37,6 +37,9 @@ struct rigmat_node {
     rigmat_loc loc;        /* where the value starts (1-based) */
     char *text;            /* SCALAR: owned, NUL-terminated */
     int plain;             /* SCALAR: written without quotes */
+    int broken;            /* MAP: its `part:` could not be merged (reported);
+                              the schema reads no fields of it, to spare
+                              the user errors that follow from that one */
     rigmat_node **items;   /* SEQ: owned */
     rigmat_entry *entries; /* MAP: owned, in file order */
     size_t n, cap;         /* items or entries */

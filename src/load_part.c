@@ -341,8 +341,10 @@ rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path,
             st = resolve(m, 1, NULL, model_path, opt, files, d);
             if (st == RIGMAT_ENOMEM)
                 return st;
-            if (st != RIGMAT_OK)
+            if (st != RIGMAT_OK) {
+                m->broken = 1;
                 worst = RIGMAT_EMODEL;
+            }
         }
     }
     return worst;

@@ -58,9 +58,15 @@ static rigmat_status set_error(const struct setctx *c, size_t pos, const char *h
     return st == RIGMAT_OK ? RIGMAT_EMODEL : st;
 }
 
-/* One override.  Takes nothing on failure. */
-static rigmat_status apply_one(rigmat_node *root, const struct setctx *c,
-        const rigmat_options *opt, rigmat_diags *files)
+/* The first mapping key an override created, so a failure further along
+ * the path can take it back: a refused override leaves the tree as it was. */
+struct created {
+    rigmat_node *map;
+};
+
+/* One override.  Takes nothing on failure; *made records a key it added. */
+static rigmat_status apply_path(rigmat_node *root, const struct setctx *c,
+        const rigmat_options *opt, rigmat_diags *files, struct created *made)
 {
     const char *arg = c->arg;
     const char *eq = strchr(arg, '=');
@@ -133,6 +139,8 @@ static rigmat_status apply_one(rigmat_node *root, const struct setctx *c,
                 rigmat_node_free(value);
                 return st;
             }
+            if (made->map == NULL)
+                made->map = node;
             e = &node->entries[node->n - 1];
         }
         slot = &e->value;
@@ -182,6 +190,22 @@ static rigmat_status apply_one(rigmat_node *root, const struct setctx *c,
     rigmat_node_free(*slot);
     *slot = value;
     return RIGMAT_OK;
+}
+
+static rigmat_status apply_one(rigmat_node *root, const struct setctx *c,
+        const rigmat_options *opt, rigmat_diags *files)
+{
+    struct created made = { NULL };
+    const rigmat_status st = apply_path(root, c, opt, files, &made);
+
+    if (st != RIGMAT_OK && made.map != NULL) {
+        /* the key it created first is the map's last entry */
+        rigmat_entry *last = &made.map->entries[made.map->n - 1];
+        free(last->key);
+        rigmat_node_free(last->value);
+        made.map->n--;
+    }
+    return st;
 }
 
 rigmat_status rigmat_load_sets(rigmat_node *root, const char *const *sets, size_t nsets,

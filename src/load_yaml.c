@@ -67,6 +67,13 @@ static rigmat_loc mark_loc(const struct builder *b, yaml_mark_t mk)
     rigmat_loc l;
 
     l.file = b->file;
+    if (mk.line > 0 && memchr(b->text, '\n', b->len) == NULL) {
+        /* one line (a --set value): libyaml puts the end of input on a
+         * line of its own; the end of the argument is the place */
+        l.line = b->line0;
+        l.col = b->col0 + (unsigned long)b->len;
+        return l;
+    }
     l.line = (unsigned long)mk.line + b->line0;
     l.col = (unsigned long)mk.column + (mk.line == 0 ? b->col0 : 1);
     return l;

@@ -51,6 +51,7 @@ struct rigmat_mech {
     double complex *tJa, *tJb, *tj, *jout, *cur, *wout, *bout;
     size_t *perm;
     double complex *xc, *uc, *fc, *yc;
+    double *fr; /* real f, canonical */
 };
 
 #define BJ(s, b, k, c) ((s)->bJ[((b) * 2 + (k)) * (s)->n + (c)])
@@ -77,7 +78,7 @@ void rigmat_mech_free(rigmat_mech *s)
     free(s->ueff); free(s->LU); free(s->rhs);
     free(s->tJa); free(s->tJb); free(s->tj); free(s->jout); free(s->cur); free(s->wout);
     free(s->bout); free(s->perm);
-    free(s->xc); free(s->uc); free(s->fc); free(s->yc);
+    free(s->xc); free(s->uc); free(s->fc); free(s->yc); free(s->fr);
     free(s);
 }
 
@@ -1039,6 +1040,7 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     CZ(xc, L->nx); CZ(uc, L->nu); CZ(fc, L->nx); CZ(yc, L->ny);
 #undef CZ
     s->perm = zalloc(n, sizeof(size_t), &bad);
+    s->fr = zalloc(L->nx, sizeof(double), &bad);
     if (bad) {
         st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         goto fail;
@@ -1157,7 +1159,7 @@ static rigmat_status unknown_name(rigmat_error *err, const rigmat_setting *st, c
     return RIGMAT_EMODEL;
 }
 
-rigmat_status rigmat_mech_operating_point(const rigmat_mech *s, double *x, double *u,
+rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
         rigmat_error *err)
 {
     const rigmat_model *m = s->m;
@@ -1208,6 +1210,22 @@ rigmat_status rigmat_mech_operating_point(const rigmat_mech *s, double *x, doubl
     for (k = 0; k < L->nu; k++)
         if (s->xsh[k] != RIGMAT_NONE)
             x[s->xsh[k]] = u[k];
+    /* motor currents always follow (DESIGN.md, operating point): the
+     * circuit is linear in i, so with i = 0, L di/dt = V - pol Ke N w and
+     * the steady current is that over R */
+    if (m->nmotors > 0) {
+        rigmat_status st;
+        for (k = 0; k < m->nmotors; k++)
+            if (s->xi[k] != RIGMAT_NONE)
+                x[s->xi[k]] = 0.0;
+        st = rigmat_mech_eval_real(s, x, u, s->fr, NULL, err);
+        if (st != RIGMAT_OK)
+            return st;
+        for (k = 0; k < m->nmotors; k++)
+            if (s->xi[k] != RIGMAT_NONE)
+                x[s->xi[k]] = s->fr[s->xi[k]] * m->motors[k].inductance_h /
+                        m->motors[k].resistance_ohm;
+    }
     return RIGMAT_OK;
 }
 

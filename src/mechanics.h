@@ -70,8 +70,10 @@ int rigmat_mech_is_balance_row(const rigmat_mech *s, size_t k);
 
 /* The operating point of the model file (unnamed values 0), canonical
  * order.  Coordinates and rates are given by joint name, inputs by element
- * name.  RIGMAT_EMODEL for a name that matches nothing. */
-rigmat_status rigmat_mech_operating_point(const rigmat_mech *s, double *x, double *u,
+ * name.  Motor currents follow (di/dt = 0 at the point), shaping states
+ * equal their inputs.  RIGMAT_EMODEL for a name that matches nothing;
+ * RIGMAT_ENUMERIC when f cannot be evaluated there. */
+rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
         rigmat_error *err);
 
 /* Find a name of operating_point.solve: a joint name is its coordinate (or

@@ -72,7 +72,7 @@ gen anchors-1e5.yaml 'print "rigmat: 1"; for (i = 0; i < 100000; i++) printf "k%
 gen laughs-wide.yaml 'print "rigmat: 1\nl0: &l0 [lol]"; for (i = 1; i < 40; i++) { printf "l%d: &l%d [", i, i; for (j = 0; j < 500; j++) printf "*l%d,", i - 1; print "x]" }'
 gen unknown-keys-1e5.yaml 'print "rigmat: 1"; for (i = 0; i < 100000; i++) printf "zz%d: 1\n", i'
 # Paths that are not plain files.
-ln -sf loop "$G/symlink-loop.yaml"
+ln -sf symlink-loop.yaml "$G/symlink-loop.yaml"
 mkdir -p "$G/empty-folder.yaml"
 
 # ------------------------------------------------------------ one run

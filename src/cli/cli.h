@@ -128,4 +128,15 @@ void cli_json_head(struct cli_json *j, const rigmat_model *m, const char *kind);
 void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigmat_signal *rows,
         size_t nrows, const rigmat_signal *cols, size_t ncols);
 
+/* ------------------------------------------------------- sign table */
+
+/* The sign table of DESIGN.md section 2 for `rigmat check`
+ * (src/cli/cmd_check_signs.c): for each input, the sign of the first
+ * non-zero response of every coordinate (its acceleration, or a lower
+ * derivative for a driven input) and of every sensor, from the
+ * linearization at the operating point.  Text to env->out, or, when json
+ * is non-zero, a "sign_table" member added to j.  When the model cannot be
+ * linearized it says so (text) or writes null (json). */
+void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, struct cli_json *j);
+
 #endif /* RIGMAT_CLI_H */

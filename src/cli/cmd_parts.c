@@ -303,6 +303,8 @@ static rigmat_status show_part(struct cli_env *env, const char *name, int json)
         dim[0] = '\0';
         if (have_si)
             rigmat_units_format_dim(q.dim, dim, sizeof dim);
+        if (strcmp(dim, "1") == 0)
+            dim[0] = '\0';
         mf = open_memstream(&text, &tlen);
         if (mf == NULL) {
             st = RIGMAT_ENOMEM;

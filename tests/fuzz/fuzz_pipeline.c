@@ -1,0 +1,215 @@
+/* fuzz_pipeline.c - load, linearize, discretize at 100 Hz and build the
+ * noise model, on the input as a model file.
+ *
+ * The input is written to model.yaml in a private folder under /tmp and
+ * loaded with the default options ($RIGMAT_CATALOG for parts, as in
+ * fuzz_load.c).  A model that loads goes through rigmat_linearize, then
+ * rigmat_discretize (ZOH, T = 10 ms), rigmat_noise_build and
+ * rigmat_sampling_advice.  Properties checked (include/rigmat.h,
+ * src/discretize.h, src/noise.h, and DESIGN.md: "NaN/Inf/overflow ... is
+ * reported, not printed as a matrix"):
+ *   - every status is one its header documents;
+ *   - a model linearized has the layout's sizes and finite A, B, C, D and
+ *     operating point;
+ *   - a sampled model has finite Ad, Bd, Gd, Cd, Dd, Ed;
+ *   - Qd and Rd are finite and symmetric with a non-negative diagonal;
+ *   - everything is freed (LeakSanitizer).
+ * Built only when src/linearize.h, src/discretize.h and src/noise.h exist;
+ * before that it is the loader alone.
+ */
+#include "fuzz.h"
+#include "rigmat.h"
+
+#include <gsl/gsl_errno.h>
+#include <math.h>
+
+#if defined(__has_include)
+#if __has_include("linearize.h") && __has_include("discretize.h") && __has_include("noise.h")
+#define HAVE_PIPELINE 1
+#include "discretize.h"
+#include "noise.h"
+#endif
+#endif
+
+static char model_path[64];
+
+static int setup(void)
+{
+    char dir[] = "/tmp/rigmat-fuzz-XXXXXX";
+
+    if (model_path[0] != '\0')
+        return 0;
+    gsl_set_error_handler_off();
+    if (mkdtemp(dir) == NULL)
+        return -1;
+    snprintf(model_path, sizeof model_path, "%s/model.yaml", dir);
+    return 0;
+}
+
+static int write_model(const uint8_t *data, size_t size)
+{
+    FILE *f = fopen(model_path, "wb");
+    int ok;
+
+    if (f == NULL)
+        return -1;
+    ok = (size == 0 || fwrite(data, 1, size, f) == size);
+    return (fclose(f) == 0 && ok) ? 0 : -1;
+}
+
+#ifdef HAVE_PIPELINE
+static void require_finite_m(const gsl_matrix *a, size_t rows, size_t cols, const char *what)
+{
+    size_t i, j;
+
+    if (rows == 0 || cols == 0)
+        return;
+    FUZZ_REQUIRE(a != NULL, "%s is NULL for %zu x %zu", what, rows, cols);
+    FUZZ_REQUIRE(a->size1 == rows && a->size2 == cols, "%s is %zu x %zu, want %zu x %zu", what,
+            a->size1, a->size2, rows, cols);
+    for (i = 0; i < rows; i++)
+        for (j = 0; j < cols; j++)
+            FUZZ_REQUIRE(isfinite(gsl_matrix_get(a, i, j)), "%s[%zu][%zu] = %g", what, i, j,
+                    gsl_matrix_get(a, i, j));
+}
+
+static void require_finite_v(const gsl_vector *v, size_t n, const char *what)
+{
+    size_t i;
+
+    if (n == 0 || v == NULL)
+        return;
+    FUZZ_REQUIRE(v->size == n, "%s has %zu entries, want %zu", what, v->size, n);
+    for (i = 0; i < n; i++)
+        FUZZ_REQUIRE(isfinite(gsl_vector_get(v, i)), "%s[%zu] = %g", what, i,
+                gsl_vector_get(v, i));
+}
+
+static void require_covariance(const gsl_matrix *a, size_t n, const char *what)
+{
+    size_t i, j;
+
+    require_finite_m(a, n, n, what);
+    for (i = 0; i < n; i++) {
+        FUZZ_REQUIRE(gsl_matrix_get(a, i, i) >= 0.0, "%s[%zu][%zu] = %g < 0", what, i, i,
+                gsl_matrix_get(a, i, i));
+        for (j = 0; j < i; j++)
+            FUZZ_REQUIRE(gsl_matrix_get(a, i, j) == gsl_matrix_get(a, j, i),
+                    "%s not symmetric at %zu, %zu", what, i, j);
+    }
+}
+
+static void sample(const rigmat_lti *s)
+{
+    rigmat_discretize_opts o = rigmat_discretize_opts_default();
+    rigmat_discretize_ws *w = rigmat_discretize_ws_alloc(s->nx, s->nu, s->ny);
+    rigmat_noise_opts no = rigmat_noise_opts_default();
+    rigmat_noise_ws *nw = NULL;
+    rigmat_noise *noise = NULL;
+    rigmat_dlti *d = NULL;
+    rigmat_sampling_limits lim = rigmat_sampling_limits_default();
+    rigmat_advice advice[8];
+    size_t count = 0;
+    rigmat_error e;
+    rigmat_status st;
+
+    if (w == NULL)
+        return;
+    memset(&e, 0, sizeof e);
+    o.period_s = 0.01; /* 100 Hz */
+    st = rigmat_discretize(s, &o, w, &d, &e);
+    FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EUSAGE || st == RIGMAT_ENUMERIC ||
+                    st == RIGMAT_ENOMEM, "discretize status %d", (int)st);
+    if (st != RIGMAT_OK) {
+        FUZZ_REQUIRE(e.message[0] != '\0', "discretize failed without a message");
+        goto done;
+    }
+    FUZZ_REQUIRE(d != NULL, "discretize OK without a model");
+    require_finite_m(d->Ad, d->nx, d->nx, "Ad");
+    require_finite_m(d->Bd, d->nx, d->nu, "Bd");
+    require_finite_m(d->Gd, d->nx, d->nw, "Gd");
+    require_finite_m(d->Cd, d->ny, d->nx, "Cd");
+    require_finite_m(d->Dd, d->ny, d->nu, "Dd");
+    require_finite_m(d->Ed, d->ny, d->nw, "Ed");
+
+    nw = rigmat_noise_ws_alloc(d->nx, d->nw);
+    if (nw == NULL)
+        goto done;
+    st = rigmat_noise_build(s, d, &no, nw, &noise, &e);
+    FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EUSAGE || st == RIGMAT_ENUMERIC ||
+                    st == RIGMAT_ENOMEM, "noise status %d", (int)st);
+    if (st == RIGMAT_OK) {
+        FUZZ_REQUIRE(noise != NULL, "noise OK without a model");
+        require_covariance(noise->Qd, noise->nx, "Qd");
+        require_covariance(noise->Rd, noise->ny, "Rd");
+        if (noise->S != NULL)
+            require_finite_m(noise->S, noise->nx, noise->ny, "S");
+    }
+    st = rigmat_sampling_advice(s, &o, &lim, advice, 8, &count, &e);
+    FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_ENUMERIC || st == RIGMAT_ENOMEM,
+            "advice status %d", (int)st);
+done:
+    rigmat_noise_free(noise);
+    rigmat_noise_ws_free(nw);
+    rigmat_dlti_free(d);
+    rigmat_discretize_ws_free(w);
+}
+
+static void linearize(const rigmat_model *m, const rigmat_options *opt)
+{
+    rigmat_lti *s = NULL;
+    rigmat_diags warnings;
+    rigmat_error e;
+    rigmat_status st;
+
+    memset(&e, 0, sizeof e);
+    rigmat_diags_init(&warnings);
+    st = rigmat_linearize(m, opt, &s, &warnings, &e);
+    FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EMODEL || st == RIGMAT_ENUMERIC ||
+                    st == RIGMAT_ENOMEM, "linearize status %d", (int)st);
+    if (st == RIGMAT_OK) {
+        FUZZ_REQUIRE(s != NULL, "linearize OK without a model");
+        FUZZ_REQUIRE(s->nx == m->layout.nx && s->nu == m->layout.nu && s->ny == m->layout.ny,
+                "sizes %zu %zu %zu, layout %zu %zu %zu", s->nx, s->nu, s->ny, m->layout.nx,
+                m->layout.nu, m->layout.ny);
+        require_finite_m(s->A, s->nx, s->nx, "A");
+        require_finite_m(s->B, s->nx, s->nu, "B");
+        require_finite_m(s->C, s->ny, s->nx, "C");
+        require_finite_m(s->D, s->ny, s->nu, "D");
+        require_finite_v(s->x0, s->nx, "x0");
+        require_finite_v(s->u0, s->nu, "u0");
+        require_finite_v(s->y0, s->ny, "y0");
+        require_finite_v(s->f0, s->nx, "f0");
+        if (s->nx > 0)
+            sample(s);
+    } else {
+        FUZZ_REQUIRE(e.message[0] != '\0', "linearize failed without a message");
+    }
+    rigmat_lti_free(s);
+    rigmat_diags_release(&warnings);
+}
+#endif
+
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
+{
+    rigmat_options opt;
+    rigmat_diags d;
+    rigmat_model *m = NULL;
+    rigmat_status st;
+
+    if (setup() != 0 || write_model(data, size) != 0)
+        abort();
+    opt = rigmat_options_default();
+    opt.catalog_env = getenv("RIGMAT_CATALOG");
+    rigmat_diags_init(&d);
+    st = rigmat_model_load(model_path, NULL, 0, &opt, &m, &d);
+    if (st == RIGMAT_OK) {
+        FUZZ_REQUIRE(m != NULL, "load OK without a model");
+#ifdef HAVE_PIPELINE
+        linearize(m, &opt);
+#endif
+        rigmat_model_free(m);
+    }
+    rigmat_diags_release(&d);
+    return 0;
+}

@@ -1,0 +1,61 @@
+#!/bin/sh
+# valgrind-cli.sh - the program under valgrind memcheck on a subset of
+# inputs: every example with check (and linearize, discretize when the
+# program has them), and a handful of hostile files that take the loader's
+# error paths.  RIGMAT is the -O0 -g build (build/vg/rigmat); valgrind
+# cannot run a sanitizer build.  A run passes when valgrind finds no error
+# and no definite or indirect leak (its exit code 9 says otherwise) and the
+# program's own exit code is the one expected (0 for examples, 1 or 4 for
+# hostile files).  The last line is `valgrind-cli: N passed, N failed`.
+set -u
+R=${RIGMAT:-build/vg/rigmat}
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT INT TERM
+pass=0
+fail=0
+OPENBLAS_NUM_THREADS=1
+export OPENBLAS_NUM_THREADS
+RIGMAT_CATALOG=$(pwd)/catalog
+export RIGMAT_CATALOG
+
+if ! command -v valgrind >/dev/null 2>&1; then
+    echo "valgrind-cli: valgrind is not installed (make deps)" >&2
+    exit 1
+fi
+
+vg() { # vg WANT(0|fail) COMMAND ARGS...
+    want=$1; shift
+    valgrind -q --error-exitcode=9 --leak-check=full --errors-for-leak-kinds=definite,indirect \
+        --log-file="$T/vg" "$R" "$@" >"$T/out" 2>"$T/err" </dev/null
+    rc=$?
+    case "$want:$rc" in
+    0:0 | fail:1 | fail:4) pass=$((pass + 1)) ;;
+    *)
+        fail=$((fail + 1))
+        echo "FAIL: $* : exit $rc (want $want; 9 is a valgrind report)" >&2
+        head -n 30 "$T/vg" "$T/err" | sed 's/^/  | /' >&2
+        ;;
+    esac
+}
+
+cmds=check
+if "$R" --help 2>/dev/null | grep -q '^  linearize'; then cmds="$cmds linearize"; fi
+if "$R" --help 2>/dev/null | grep -q '^  discretize'; then cmds="$cmds discretize"; fi
+
+for f in examples/*.yaml; do
+    for c in $cmds; do
+        if [ "$c" = discretize ]; then vg 0 discretize "$f" --rate 100Hz; else vg 0 "$c" "$f"; fi
+    done
+done
+for f in empty.yaml binary-garbage.bin truncated-flow-map.yaml alias-billion-laughs.yaml \
+    deep-flow-seq-5000.yaml duplicate-keys-1000.yaml tree-cycle.yaml part-self.yaml \
+    part-dotdot.yaml unit-kg-pow-99999.yaml number-1e999.yaml control-chars-echoed.yaml \
+    model-is-a-directory.yaml bodies-300.yaml long-body-name.yaml; do
+    vg fail check "tests/hostile/$f"
+done
+if "$R" --help 2>/dev/null | grep -q '^  discretize'; then
+    vg fail discretize tests/hostile/number-nan-word.yaml --rate 100Hz
+fi
+
+echo "valgrind-cli: $pass passed, $fail failed"
+[ "$fail" = 0 ]
