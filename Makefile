@@ -158,6 +158,9 @@ $(BUILD)/san/fuzz-replay-%: $(BUILD)/san/tests/fuzz/fuzz_%.o $(BUILD)/san/tests/
         $(BUILD)/san/librigmat.a
 	$(CC) $(SAN_FLAGS) $(LDFLAGS) -o $@ $^ $(LIBS)
 -include $(FUZZ_OBJ_LIB:.o=.d) $(wildcard $(BUILD)/fuzz/tests/fuzz/*.d $(BUILD)/san/tests/fuzz/*.d)
+# Keep the harness objects make would otherwise delete as intermediate.
+.SECONDARY: $(FUZZ_NAMES:%=$(BUILD)/fuzz/tests/fuzz/fuzz_%.o) \
+        $(FUZZ_NAMES:%=$(BUILD)/san/tests/fuzz/fuzz_%.o) $(BUILD)/san/tests/fuzz/replay.o
 
 fuzz: $(FUZZ_NAMES:%=$(BUILD)/fuzz/fuzz_%)
 	@for t in $(FUZZ_NAMES); do \
