@@ -21,6 +21,7 @@ DEB_PROBES = /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h /usr/include/chec
              /usr/bin/time /usr/bin/valgrind /usr/bin/clang
 
 BUILD = build
+.DEFAULT_GOAL := all
 PROJECT_CFLAGS = -std=c99 -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc -Isrc/util -I$(BUILD) \
     -Wall -Wextra -Wpedantic -Wconversion -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
     -Wold-style-definition -Wvla -Wdouble-promotion -Wcast-qual -Wwrite-strings \

@@ -296,8 +296,6 @@ static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
     for (i = 0; i < m->op_solve.count; i++)
         fprintf(f, "%s %s", i ? "," : "", m->op_solve.names[i]);
     fputs(m->op_solve.count ? "\n" : " nothing\n", f);
-    /* SIGN TABLE: the mechanics engineer adds check_sign_table(f, m) in
-     * src/cli/cmd_check_signs.c; call it here once that file exists. */
 }
 
 static void json_vec2(struct cli_json *j, const double v[2])
@@ -338,7 +336,8 @@ static void json_noise(struct cli_json *j, const char *name, const char *kind, d
     cli_json_obj_close(j);
 }
 
-static rigmat_status check_json(FILE *f, const rigmat_model *m, double rate_hz)
+static rigmat_status check_json(struct cli_env *env, FILE *f, const rigmat_model *m,
+        double rate_hz)
 {
     struct cli_json j;
     size_t i;
@@ -477,6 +476,7 @@ static rigmat_status check_json(FILE *f, const rigmat_model *m, double rate_hz)
         cli_json_str(&j, m->op_solve.names[i]);
     cli_json_arr_close(&j);
     cli_json_obj_close(&j);
+    check_sign_table(env, m, 1, &j);
     return cli_json_end(&j);
 }
 
@@ -529,9 +529,11 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
     if (st != RIGMAT_OK)
         return st;
     if (fmt == 1)
-        st = check_json(env->out, m, rate_hz);
-    else
+        st = check_json(env, env->out, m, rate_hz);
+    else {
         check_text(env->out, m, rate_hz);
+        check_sign_table(env, m, 0, NULL);
+    }
     rigmat_model_free(m);
     return st;
 }

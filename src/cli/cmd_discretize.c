@@ -1,0 +1,426 @@
+/* cmd_discretize.c - `rigmat discretize FILE --rate F`: the sampled model
+ * at a controller rate (src/discretize.h) and the Kalman-filter noise model
+ * (src/noise.h), with sampling advice where it matters.
+ *
+ * JSON (DESIGN.md section 5): the head of `linearize` (cli_json_head), then
+ *   period          s
+ *   method          "zoh" | "foh" | "tustin" | "euler" | "backward-euler"
+ *   prewarp         Hz (tustin with --prewarp only)
+ *   delay           samples (0 without --delay)
+ *   delay_states    [{name, unit}]: the states appended after `states` by a
+ *                   delay, "<input>.delayed<j>" holding u[k-j]
+ *   Ad Bd Cd Dd     x[k+1] = Ad x[k] + Bd u[k] + Gd w[k], y[k] = Cd x[k] + Dd u[k] + Ed w[k]
+ *   Gd Ed           the disturbance columns (inputs with role disturbance)
+ *   Qd              covariance of the process noise added over one period
+ *   qd_exact        true for zoh (Qd is the exact covariance of the sampled system)
+ *   Rd              covariance of the measurement noise of one sample
+ *   S               (only when a disturbance reaches a sensor directly)
+ *                   E[w_k v_k^T], states x outputs (src/noise.h)
+ *   operating_point {x, u, y}: the model is in deviations from it
+ * Numbers carry 17 significant digits.
+ */
+#include "cli.h"
+#include "discretize.h"
+#include "noise.h"
+#include "units.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+static const char *const discretize_usage[] = {
+    "rigmat discretize FILE (--rate FREQ | --period TIME) [--method METHOD] [--prewarp FREQ]",
+    "                  [--delay SAMPLES] [--set PATH=VALUE]... [--format text|json] [-o FILE]",
+    "                  [--catalog DIR]",
+    NULL };
+
+/* The lowest and highest multiples of the closed-loop bandwidth a sample
+ * rate is usually chosen at (common practice; REFERENCES.md section 8). */
+static const double rule_low = 10.0, rule_high = 30.0;
+
+struct discretize_args {
+    const char *rate, *period, *method, *prewarp, *delay;
+};
+
+/* The rows of the sampled state: the plant's, then the delay stages. */
+static rigmat_signal *sampled_states(const rigmat_layout *L, const rigmat_dlti *d)
+{
+    rigmat_signal *s = calloc(d->nx ? d->nx : 1, sizeof *s);
+    size_t i;
+
+    if (s == NULL)
+        return NULL;
+    for (i = 0; i < d->nx_plant; i++)
+        s[i] = L->states[i];
+    for (i = d->nx_plant; i < d->nx; i++)
+        s[i] = d->delay_states[i - d->nx_plant];
+    return s;
+}
+
+static void text_noise(FILE *f, const rigmat_layout *L, const rigmat_noise *nz)
+{
+    size_t i;
+
+    fputs("noise per sample (standard deviation; DESIGN.md section 3)\n", f);
+    for (i = 0; i < L->ny; i++) {
+        const rigmat_sensor_noise *s = &nz->sensor[i];
+        fprintf(f, "  %s [%s]: %.4g", L->outputs[i].name, L->outputs[i].unit,
+                sqrt(gsl_matrix_get(nz->Rd, i, i)));
+        if (s->noise_var > 0)
+            fprintf(f, "; noise %.4g", sqrt(s->noise_var));
+        if (s->density_var > 0)
+            fprintf(f, "; density %.4g", sqrt(s->density_var));
+        if (s->resolution_var > 0)
+            fprintf(f, "; resolution %.4g", sqrt(s->resolution_var));
+        if (nz->direct_var[i] > 0)
+            fprintf(f, "; disturbance reaching it directly %.4g", sqrt(nz->direct_var[i]));
+        if (gsl_matrix_get(nz->Rd, i, i) == 0.0)
+            fputs(" (no noise given)", f);
+        fputc('\n', f);
+    }
+    for (i = 0; i < nz->nw; i++) {
+        const rigmat_signal *in = &L->inputs[L->nu_control + i];
+        if (nz->disturbance_sd[i] > 0)
+            fprintf(f, "  disturbance %s [%s]: %.4g averaged over one period\n", in->name,
+                    in->unit, nz->disturbance_sd[i]);
+    }
+    fputc('\n', f);
+}
+
+static void discretize_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d,
+        const rigmat_noise *nz, const rigmat_signal *xs)
+{
+    const rigmat_layout *L = &m->layout;
+    const rigmat_signal *w = L->inputs + L->nu_control;
+    const double rate_hz = 1.0 / d->period_s;
+
+    fprintf(f, "model: %s\norder hash: %s\n", m->name ? m->name : "", L->order_hash);
+    fprintf(f, "sampled at %.6g Hz (period %.6g ms), method %s", rate_hz, d->period_s * 1e3,
+            rigmat_method_name(d->method));
+    if (d->prewarp_hz > 0)
+        fprintf(f, ", prewarped at %.6g Hz", d->prewarp_hz);
+    if (d->delay_samples > 0)
+        fprintf(f, ", input delay %.6g samples (%.6g ms)", d->delay_samples,
+                d->delay_samples * d->period_s * 1e3);
+    fputs("\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + noise (Qd);  y[k] = Cd x[k] + Dd u[k] + "
+          "Ed w[k] + noise (Rd)\n\n", f);
+    cli_text_matrix(f, "Ad", d->Ad, xs, d->nx, xs, d->nx);
+    cli_text_matrix(f, "Bd (control inputs)", d->Bd, xs, d->nx, L->inputs, d->nu);
+    cli_text_matrix(f, "Gd (disturbances)", d->Gd, xs, d->nx, w, d->nw);
+    cli_text_matrix(f, "Cd", d->Cd, L->outputs, d->ny, xs, d->nx);
+    cli_text_matrix(f, "Dd", d->Dd, L->outputs, d->ny, L->inputs, d->nu);
+    cli_text_matrix(f, "Ed (disturbance feedthrough)", d->Ed, L->outputs, d->ny, w, d->nw);
+    cli_text_matrix(f, nz->qd_exact ? "Qd (process noise per period, exact)"
+                                    : "Qd (process noise per period, exact for zoh only)",
+            nz->Qd, xs, d->nx, xs, d->nx);
+    cli_text_matrix(f, "Rd (measurement noise per sample)", nz->Rd, L->outputs, d->ny,
+            L->outputs, d->ny);
+    if (nz->S != NULL)
+        cli_text_matrix(f, "S = E[w_k v_k^T] (process-measurement cross-covariance)", nz->S, xs,
+                d->nx, L->outputs, d->ny);
+    text_noise(f, L, nz);
+    fprintf(f, "advice (common practice): sample %g-%g times faster than the closed-loop "
+               "bandwidth; %.6g Hz suits a closed-loop bandwidth of about %.3g-%.3g Hz\n",
+            rule_low, rule_high, rate_hz, rate_hz / rule_high, rate_hz / rule_low);
+}
+
+static rigmat_status discretize_json(FILE *f, const rigmat_model *m, const rigmat_lti *l,
+        const rigmat_dlti *d, const rigmat_noise *nz)
+{
+    const rigmat_layout *L = &m->layout;
+    struct cli_json j;
+
+    cli_json_begin(&j, f);
+    cli_json_head(&j, m, "discrete");
+    cli_json_key(&j, "period");
+    cli_json_num(&j, d->period_s);
+    cli_json_key(&j, "method");
+    cli_json_str(&j, rigmat_method_name(d->method));
+    if (d->prewarp_hz > 0) {
+        cli_json_key(&j, "prewarp");
+        cli_json_num(&j, d->prewarp_hz);
+    }
+    cli_json_key(&j, "delay");
+    cli_json_num(&j, d->delay_samples);
+    cli_json_key(&j, "delay_states");
+    cli_json_signals(&j, d->delay_states, d->nx - d->nx_plant, 0);
+    cli_json_key(&j, "Ad");
+    cli_json_matrix(&j, d->Ad, d->nx, d->nx);
+    cli_json_key(&j, "Bd");
+    cli_json_matrix(&j, d->Bd, d->nx, d->nu);
+    cli_json_key(&j, "Cd");
+    cli_json_matrix(&j, d->Cd, d->ny, d->nx);
+    cli_json_key(&j, "Dd");
+    cli_json_matrix(&j, d->Dd, d->ny, d->nu);
+    cli_json_key(&j, "Gd");
+    cli_json_matrix(&j, d->Gd, d->nx, d->nw);
+    cli_json_key(&j, "Ed");
+    cli_json_matrix(&j, d->Ed, d->ny, d->nw);
+    cli_json_key(&j, "Qd");
+    cli_json_matrix(&j, nz->Qd, d->nx, d->nx);
+    cli_json_key(&j, "qd_exact");
+    cli_json_bool(&j, nz->qd_exact);
+    cli_json_key(&j, "Rd");
+    cli_json_matrix(&j, nz->Rd, d->ny, d->ny);
+    if (nz->S != NULL) {
+        cli_json_key(&j, "S");
+        cli_json_matrix(&j, nz->S, d->nx, d->ny);
+    }
+    cli_json_key(&j, "operating_point");
+    cli_json_obj_open(&j);
+    cli_json_key(&j, "x");
+    cli_json_vector(&j, l->x0, L->nx);
+    cli_json_key(&j, "u");
+    cli_json_vector(&j, l->u0, L->nu);
+    cli_json_key(&j, "y");
+    cli_json_vector(&j, l->y0, L->ny);
+    cli_json_obj_close(&j);
+    return cli_json_end(&j);
+}
+
+/* "drive.current" -> "drive" into buf */
+static const char *motor_of(const char *state, char *buf, size_t len)
+{
+    const char *dot = strrchr(state, '.');
+    const size_t n = dot != NULL ? (size_t)(dot - state) : strlen(state);
+
+    snprintf(buf, len, "%.*s", (int)(n < len ? n : len - 1), state);
+    return buf;
+}
+
+static void print_advice(struct cli_env *env, const rigmat_model *m, const rigmat_advice *a,
+        size_t n, const rigmat_discretize_opts *o)
+{
+    const rigmat_layout *L = &m->layout;
+    const double T = o->period_s, nyq_hz = 0.5 / T;
+    char buf[96];
+    size_t i;
+
+    for (i = 0; i < n; i++) {
+        const double mag = hypot(a[i].re, a[i].im);
+        const char *st = a[i].state != RIGMAT_NONE ? L->states[a[i].state].name : "?";
+        switch (a[i].kind) {
+        case RIGMAT_ADVICE_NYQUIST:
+            fprintf(env->err,
+                    "rigmat discretize: warning: the mode at %.4g Hz (lambda = %.4g +/- %.4gj 1/s, "
+                    "mostly '%s') is %s the Nyquist frequency %.4g Hz\n",
+                    fabs(a[i].im) / (2 * M_PI), a[i].re, fabs(a[i].im), st,
+                    fabs(a[i].im) * T >= M_PI ? "beyond" : "near", nyq_hz);
+            break;
+        case RIGMAT_ADVICE_UNSTABLE:
+            fprintf(env->err,
+                    "rigmat discretize: warning: the unstable mode lambda = %.4g 1/s (mostly '%s') "
+                    "has |lambda| T = %.3g; above about 0.3 the controller reacts late to it\n",
+                    a[i].re, st, mag * T);
+            fputs("  hint: sample faster\n", env->err);
+            break;
+        case RIGMAT_ADVICE_EULER:
+            fprintf(env->err,
+                    "rigmat discretize: warning: forward euler turns the stable mode lambda = "
+                    "%.4g%+.4gj 1/s unstable at this rate (|1 + lambda T| = %.3g)\n",
+                    a[i].re, a[i].im, hypot(1 + a[i].re * T, a[i].im * T));
+            fputs("  hint: use --method zoh or tustin, or sample faster\n", env->err);
+            break;
+        case RIGMAT_ADVICE_NEGLECT_L:
+            fprintf(env->err,
+                    "rigmat discretize: suggestion: motor '%s': its electrical time constant "
+                    "(%.3g ms) is far below the period; zoh samples it exactly, and "
+                    "`inductance: neglect` would drop the state '%s'\n",
+                    motor_of(st, buf, sizeof buf), 1e3 / mag, st);
+            break;
+        case RIGMAT_ADVICE_QD_NOT_EXACT:
+            fprintf(env->err,
+                    "rigmat discretize: note: Qd is the exact covariance of the sampled "
+                    "continuous model (zoh); with %s it is an approximation\n",
+                    rigmat_method_name(o->method));
+            break;
+        }
+    }
+}
+
+static void print_direct(struct cli_env *env, const rigmat_model *m, const rigmat_lti *l)
+{
+    const rigmat_layout *L = &m->layout;
+    size_t i, k;
+
+    for (i = 0; i < l->ny; i++)
+        for (k = l->nu_control; k < l->nu; k++)
+            if (l->input_intensity[k] > 0 && gsl_matrix_get(l->D, i, k) != 0.0) {
+                fprintf(env->err,
+                        "rigmat discretize: warning: disturbance '%s' reaches sensor '%s' "
+                        "directly: its white noise is inside the measurement; its sampled "
+                        "variance is added to Rd and the cross-covariance S is exported\n",
+                        L->inputs[k].name, L->outputs[i].name);
+                fputs("  hint: give the disturbance a `bandwidth` to colour it instead\n",
+                        env->err);
+            }
+}
+
+static rigmat_status parse_args(struct cli_env *env, const struct discretize_args *a,
+        rigmat_discretize_opts *o)
+{
+    rigmat_status st;
+    double v;
+
+    if ((a->rate == NULL) == (a->period == NULL)) {
+        fprintf(env->err, "rigmat discretize: %s\n",
+                a->rate == NULL ? "missing --rate or --period"
+                                : "give --rate or --period, not both");
+        return RIGMAT_EUSAGE;
+    }
+    if (a->rate != NULL) {
+        st = cli_quantity(env, "rate", a->rate, RIGMAT_Q_FREQUENCY, &v);
+        if (st != RIGMAT_OK)
+            return st;
+        if (!(v > 0) || !isfinite(v)) {
+            fprintf(env->err, "rigmat discretize: --rate must be positive\n");
+            return RIGMAT_EUSAGE;
+        }
+        o->period_s = 1.0 / v;
+    } else {
+        st = cli_quantity(env, "period", a->period, RIGMAT_Q_TIME, &v);
+        if (st != RIGMAT_OK)
+            return st;
+        if (!(v > 0) || !isfinite(v)) {
+            fprintf(env->err, "rigmat discretize: --period must be positive\n");
+            return RIGMAT_EUSAGE;
+        }
+        o->period_s = v;
+    }
+    if (a->method != NULL && rigmat_method_parse(a->method, &o->method) != 0) {
+        fprintf(env->err, "rigmat discretize: unknown method '%s'\n"
+                          "  hint: use zoh, foh, tustin, euler or backward-euler\n", a->method);
+        return RIGMAT_EUSAGE;
+    }
+    if (a->prewarp != NULL) {
+        st = cli_quantity(env, "prewarp", a->prewarp, RIGMAT_Q_FREQUENCY, &o->prewarp_hz);
+        if (st != RIGMAT_OK)
+            return st;
+    }
+    if (a->delay != NULL) {
+        st = cli_quantity(env, "delay", a->delay, RIGMAT_Q_NUMBER, &o->delay_samples);
+        if (st != RIGMAT_OK)
+            return st;
+    }
+    return RIGMAT_OK;
+}
+
+rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env);
+rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
+{
+    struct cli_common c;
+    struct discretize_args a;
+    const struct cli_opt opts[] = {
+        { 0, "rate", CLI_OPT_STRING, &a.rate, "FREQ", "controller sample rate (200Hz)" },
+        { 0, "period", CLI_OPT_STRING, &a.period, "TIME", "or its period (5ms)" },
+        { 0, "method", CLI_OPT_STRING, &a.method, "METHOD",
+                "zoh (default), foh, tustin, euler or backward-euler" },
+        { 0, "prewarp", CLI_OPT_STRING, &a.prewarp, "FREQ",
+                "tustin: match the continuous model exactly at FREQ" },
+        { 0, "delay", CLI_OPT_STRING, &a.delay, "SAMPLES",
+                "zoh: input delay in samples, whole plus fraction (1.5)" },
+        CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
+    static const char *const formats[] = { "text", "json", NULL };
+    rigmat_discretize_opts o = rigmat_discretize_opts_default();
+    const rigmat_sampling_limits lim = rigmat_sampling_limits_default();
+    const rigmat_noise_opts no = rigmat_noise_opts_default();
+    rigmat_model *m = NULL;
+    rigmat_lti *lti = NULL;
+    rigmat_dlti *d = NULL;
+    rigmat_noise *nz = NULL;
+    rigmat_discretize_ws *dw = NULL;
+    rigmat_noise_ws *nw = NULL;
+    rigmat_signal *xs = NULL;
+    rigmat_advice advice[32];
+    size_t nadvice = 0;
+    rigmat_diags warn;
+    rigmat_error e;
+    const char *pos[1];
+    size_t npos = 0;
+    rigmat_status st;
+    int fmt;
+
+    memset(&c, 0, sizeof c);
+    memset(&a, 0, sizeof a);
+    memset(&e, 0, sizeof e);
+    st = cli_parse(argc, argv, opts, env, pos, 1, &npos);
+    if (st != RIGMAT_OK) {
+        cli_usage(env->err, discretize_usage, opts);
+        return st;
+    }
+    if (c.help) {
+        cli_usage(stdout, discretize_usage, opts);
+        return RIGMAT_OK;
+    }
+    if (npos != 1) {
+        fprintf(env->err, "rigmat discretize: missing the model FILE\n");
+        cli_usage(env->err, discretize_usage, opts);
+        return RIGMAT_EUSAGE;
+    }
+    fmt = cli_format(env, c.format, formats);
+    if (fmt < 0)
+        return RIGMAT_EUSAGE;
+    st = parse_args(env, &a, &o);
+    if (st != RIGMAT_OK) {
+        cli_usage(env->err, discretize_usage, opts);
+        return st;
+    }
+    env->opt.rate_hz = 1.0 / o.period_s;
+    st = cli_load_model(env, pos[0], &c, &m);
+    if (st != RIGMAT_OK)
+        return st;
+    rigmat_diags_init(&warn);
+    st = rigmat_linearize(m, &env->opt, &lti, &warn, &e);
+    rigmat_diags_print(&warn, env->err);
+    rigmat_diags_release(&warn);
+    if (st != RIGMAT_OK)
+        goto report;
+    if (lti->nx == 0) {
+        st = RIGMAT_FAIL(&e, RIGMAT_EUSAGE, "the model has no states to sample");
+        goto report;
+    }
+    dw = rigmat_discretize_ws_alloc(lti->nx, lti->nu, lti->ny);
+    nw = rigmat_noise_ws_alloc(lti->nx, lti->nu - lti->nu_control);
+    if (dw == NULL || nw == NULL) {
+        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
+        goto report;
+    }
+    st = rigmat_discretize(lti, &o, dw, &d, &e);
+    if (st == RIGMAT_OK)
+        st = rigmat_noise_build(lti, d, &no, nw, &nz, &e);
+    if (st == RIGMAT_OK)
+        st = rigmat_sampling_advice(lti, &o, &lim, advice, sizeof advice / sizeof advice[0],
+                &nadvice, &e);
+    if (st != RIGMAT_OK)
+        goto report;
+    xs = sampled_states(&m->layout, d);
+    if (xs == NULL) {
+        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
+        goto report;
+    }
+    print_advice(env, m, advice,
+            nadvice < sizeof advice / sizeof advice[0] ? nadvice
+                                                      : sizeof advice / sizeof advice[0],
+            &o);
+    if (nz->S != NULL)
+        print_direct(env, m, lti);
+    if (fmt == 1) {
+        st = discretize_json(env->out, m, lti, d, nz);
+        if (st != RIGMAT_OK)
+            fprintf(env->err, "rigmat discretize: error: the result is not finite\n");
+    } else {
+        discretize_text(env->out, m, d, nz, xs);
+    }
+    goto done;
+report:
+    st = cli_report(env, &e);
+done:
+    free(xs);
+    rigmat_noise_free(nz);
+    rigmat_dlti_free(d);
+    rigmat_noise_ws_free(nw);
+    rigmat_discretize_ws_free(dw);
+    rigmat_lti_free(lti);
+    rigmat_model_free(m);
+    return st;
+}
