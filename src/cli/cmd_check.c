@@ -77,10 +77,15 @@ static double density_sd(double density, double bandwidth_hz, double rate_hz)
 static double sensor_sd(const rigmat_sensor *s, double rate_hz)
 {
     const double dsd = density_sd(s->density, s->bandwidth_hz, rate_hz);
+    double q = s->resolution;
 
     if (dsd < 0.0)
         return -1.0;
-    return sqrt(dsd * dsd + s->noise * s->noise + s->resolution * s->resolution / 12.0);
+    /* an encoder without a stated resolution is quantized to one count
+     * (the same default the linearization uses for Rd) */
+    if (q == 0.0 && s->kind == RIGMAT_SENSE_MOTOR_ANGLE && s->counts_per_rev > 0.0)
+        q = 2.0 * M_PI / s->counts_per_rev;
+    return sqrt(dsd * dsd + s->noise * s->noise + q * q / 12.0);
 }
 
 static void body_text(FILE *f, const rigmat_body *b)

@@ -27,6 +27,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <gsl/gsl_math.h>
 
 static const char *const discretize_usage[] = {
     "rigmat discretize FILE (--rate FREQ | --period TIME) [--method METHOD] [--prewarp FREQ]",
