@@ -42,14 +42,14 @@ TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c
 BENCH_SRC := $(sort $(wildcard bench/*.c))
 
 # Three flavours share the sources: plain, sanitized (ASan+UBSan), and the
-# plain -O0 -g one valgrind wants.
+# plain -O0 -g one valgrind wants (flavour flags come after CFLAGS, so -O0 holds).
 define flavour
 $(1)_OBJ_LIB  = $$(LIB_SRC:%.c=$(BUILD)/$(1)/%.o)
 $(1)_OBJ_CLI  = $$(CLI_SRC:%.c=$(BUILD)/$(1)/%.o)
 $(1)_OBJ_TEST = $$(TEST_SRC:%.c=$(BUILD)/$(1)/%.o)
 $(BUILD)/$(1)/%.o: %.c
 	@mkdir -p $$(@D)
-	$$(CC) $$(PROJECT_CFLAGS) $$(PKG_CFLAGS) $(2) $$(CFLAGS) -c $$< -o $$@
+	$$(CC) $$(PROJECT_CFLAGS) $$(PKG_CFLAGS) $$(CFLAGS) $(2) -c $$< -o $$@
 $(BUILD)/$(1)/librigmat.a: $$($(1)_OBJ_LIB)
 	@rm -f $$@
 	ar rcs $$@ $$^

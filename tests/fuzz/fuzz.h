@@ -19,14 +19,14 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
 /* A contract the library states in a header does not hold: print it and
  * abort, which both libFuzzer and the replay driver report as a crash. */
-#define FUZZ_REQUIRE(cond, ...)                                                             \
-    do {                                                                                    \
-        if (!(cond)) {                                                                      \
-            fprintf(stderr, "%s:%d: contract broken: %s: ", __FILE__, __LINE__, #cond);      \
-            fprintf(stderr, __VA_ARGS__);                                                   \
-            fputc('\n', stderr);                                                            \
-            abort();                                                                        \
-        }                                                                                   \
+#define FUZZ_REQUIRE(cond, ...)                                                         \
+    do {                                                                                \
+        if (!(cond)) {                                                                  \
+            fprintf(stderr, "%s:%d: contract broken: %s: ", __FILE__, __LINE__, #cond); \
+            fprintf(stderr, __VA_ARGS__);                                               \
+            fputc('\n', stderr);                                                        \
+            abort();                                                                    \
+        }                                                                               \
     } while (0)
 
 /* A malloc'd copy of data with a NUL after it, or NULL when out of memory. */

@@ -28,6 +28,21 @@
 static char model_path[64];
 static FILE *devnull;
 
+/* Remove the model file and its folder when the process ends. */
+static void cleanup(void)
+{
+    char dir[sizeof model_path];
+    char *slash;
+
+    remove(model_path);
+    memcpy(dir, model_path, sizeof dir);
+    slash = strrchr(dir, '/');
+    if (slash != NULL) {
+        *slash = '\0';
+        rmdir(dir);
+    }
+}
+
 static int setup(void)
 {
     char dir[] = "/tmp/rigmat-fuzz-XXXXXX";
@@ -38,6 +53,7 @@ static int setup(void)
     if (mkdtemp(dir) == NULL)
         return -1;
     snprintf(model_path, sizeof model_path, "%s/model.yaml", dir);
+    atexit(cleanup);
     devnull = fopen("/dev/null", "w");
     return devnull != NULL ? 0 : -1;
 }
@@ -102,22 +118,22 @@ static void check_diags(const rigmat_diags *d, const uint8_t *data, size_t size)
         const rigmat_diag *g = &d->items[i];
 
         FUZZ_REQUIRE(g->message != NULL && g->message[0] != '\0', "diagnostic %zu has no message",
-                i);
+                     i);
         if (g->severity == RIGMAT_ERROR)
             errors++;
         if (g->where.file != NULL && strcmp(g->where.file, model_path) == 0) {
             /* libyaml puts the end of a stream that lacks its last line
              * break on the next line, so one line past the end is allowed. */
             FUZZ_REQUIRE(g->where.line <= lines + 1, "'%s' placed on line %lu of %lu", g->message,
-                    g->where.line, lines);
+                         g->where.line, lines);
             FUZZ_REQUIRE(g->where.col <= size + 1, "'%s' placed at column %lu of %zu bytes",
-                    g->message, g->where.col, size);
+                         g->message, g->where.col, size);
         }
     }
     /* rigmat.h calls `errors` the number of error items; diag.c also counts
      * the ones dropped past max_errors.  Either reading is accepted. */
     FUZZ_REQUIRE(errors == d->errors || errors + d->dropped == d->errors,
-            "%zu errors listed, %zu dropped, %zu counted", errors, d->dropped, d->errors);
+                 "%zu errors listed, %zu dropped, %zu counted", errors, d->dropped, d->errors);
 }
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
@@ -142,7 +158,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     d.max_errors = opt.max_errors;
     st = rigmat_model_load(model_path, (const char *const *)sets, nsets, &opt, &m, &d);
     FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EMODEL || st == RIGMAT_EIO || st == RIGMAT_ENOMEM,
-            "status %d", (int)st);
+                 "status %d", (int)st);
     if (st == RIGMAT_OK)
         FUZZ_REQUIRE(m != NULL, "OK without a model");
     else

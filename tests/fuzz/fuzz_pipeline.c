@@ -22,6 +22,7 @@
 
 #include <gsl/gsl_errno.h>
 #include <math.h>
+#include <unistd.h>
 
 #if defined(__has_include)
 #if __has_include("linearize.h") && __has_include("discretize.h") && __has_include("noise.h")
@@ -33,6 +34,21 @@
 
 static char model_path[64];
 
+/* Remove the model file and its folder when the process ends. */
+static void cleanup(void)
+{
+    char dir[sizeof model_path];
+    char *slash;
+
+    remove(model_path);
+    memcpy(dir, model_path, sizeof dir);
+    slash = strrchr(dir, '/');
+    if (slash != NULL) {
+        *slash = '\0';
+        rmdir(dir);
+    }
+}
+
 static int setup(void)
 {
     char dir[] = "/tmp/rigmat-fuzz-XXXXXX";
@@ -43,6 +59,7 @@ static int setup(void)
     if (mkdtemp(dir) == NULL)
         return -1;
     snprintf(model_path, sizeof model_path, "%s/model.yaml", dir);
+    atexit(cleanup);
     return 0;
 }
 
@@ -66,11 +83,11 @@ static void require_finite_m(const gsl_matrix *a, size_t rows, size_t cols, cons
         return;
     FUZZ_REQUIRE(a != NULL, "%s is NULL for %zu x %zu", what, rows, cols);
     FUZZ_REQUIRE(a->size1 == rows && a->size2 == cols, "%s is %zu x %zu, want %zu x %zu", what,
-            a->size1, a->size2, rows, cols);
+                 a->size1, a->size2, rows, cols);
     for (i = 0; i < rows; i++)
         for (j = 0; j < cols; j++)
             FUZZ_REQUIRE(isfinite(gsl_matrix_get(a, i, j)), "%s[%zu][%zu] = %g", what, i, j,
-                    gsl_matrix_get(a, i, j));
+                         gsl_matrix_get(a, i, j));
 }
 
 static void require_finite_v(const gsl_vector *v, size_t n, const char *what)
@@ -81,8 +98,7 @@ static void require_finite_v(const gsl_vector *v, size_t n, const char *what)
         return;
     FUZZ_REQUIRE(v->size == n, "%s has %zu entries, want %zu", what, v->size, n);
     for (i = 0; i < n; i++)
-        FUZZ_REQUIRE(isfinite(gsl_vector_get(v, i)), "%s[%zu] = %g", what, i,
-                gsl_vector_get(v, i));
+        FUZZ_REQUIRE(isfinite(gsl_vector_get(v, i)), "%s[%zu] = %g", what, i, gsl_vector_get(v, i));
 }
 
 static void require_covariance(const gsl_matrix *a, size_t n, const char *what)
@@ -92,10 +108,10 @@ static void require_covariance(const gsl_matrix *a, size_t n, const char *what)
     require_finite_m(a, n, n, what);
     for (i = 0; i < n; i++) {
         FUZZ_REQUIRE(gsl_matrix_get(a, i, i) >= 0.0, "%s[%zu][%zu] = %g < 0", what, i, i,
-                gsl_matrix_get(a, i, i));
+                     gsl_matrix_get(a, i, i));
         for (j = 0; j < i; j++)
             FUZZ_REQUIRE(gsl_matrix_get(a, i, j) == gsl_matrix_get(a, j, i),
-                    "%s not symmetric at %zu, %zu", what, i, j);
+                         "%s not symmetric at %zu, %zu", what, i, j);
     }
 }
 
@@ -119,7 +135,8 @@ static void sample(const rigmat_lti *s)
     o.period_s = 0.01; /* 100 Hz */
     st = rigmat_discretize(s, &o, w, &d, &e);
     FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EUSAGE || st == RIGMAT_ENUMERIC ||
-                    st == RIGMAT_ENOMEM, "discretize status %d", (int)st);
+                         st == RIGMAT_ENOMEM,
+                 "discretize status %d", (int)st);
     if (st != RIGMAT_OK) {
         FUZZ_REQUIRE(e.message[0] != '\0', "discretize failed without a message");
         goto done;
@@ -137,7 +154,8 @@ static void sample(const rigmat_lti *s)
         goto done;
     st = rigmat_noise_build(s, d, &no, nw, &noise, &e);
     FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EUSAGE || st == RIGMAT_ENUMERIC ||
-                    st == RIGMAT_ENOMEM, "noise status %d", (int)st);
+                         st == RIGMAT_ENOMEM,
+                 "noise status %d", (int)st);
     if (st == RIGMAT_OK) {
         FUZZ_REQUIRE(noise != NULL, "noise OK without a model");
         require_covariance(noise->Qd, noise->nx, "Qd");
@@ -147,7 +165,7 @@ static void sample(const rigmat_lti *s)
     }
     st = rigmat_sampling_advice(s, &o, &lim, advice, 8, &count, &e);
     FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_ENUMERIC || st == RIGMAT_ENOMEM,
-            "advice status %d", (int)st);
+                 "advice status %d", (int)st);
 done:
     rigmat_noise_free(noise);
     rigmat_noise_ws_free(nw);
@@ -166,12 +184,13 @@ static void linearize(const rigmat_model *m, const rigmat_options *opt)
     rigmat_diags_init(&warnings);
     st = rigmat_linearize(m, opt, &s, &warnings, &e);
     FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EMODEL || st == RIGMAT_ENUMERIC ||
-                    st == RIGMAT_ENOMEM, "linearize status %d", (int)st);
+                         st == RIGMAT_ENOMEM,
+                 "linearize status %d", (int)st);
     if (st == RIGMAT_OK) {
         FUZZ_REQUIRE(s != NULL, "linearize OK without a model");
         FUZZ_REQUIRE(s->nx == m->layout.nx && s->nu == m->layout.nu && s->ny == m->layout.ny,
-                "sizes %zu %zu %zu, layout %zu %zu %zu", s->nx, s->nu, s->ny, m->layout.nx,
-                m->layout.nu, m->layout.ny);
+                     "sizes %zu %zu %zu, layout %zu %zu %zu", s->nx, s->nu, s->ny, m->layout.nx,
+                     m->layout.nu, m->layout.ny);
         require_finite_m(s->A, s->nx, s->nx, "A");
         require_finite_m(s->B, s->nx, s->nu, "B");
         require_finite_m(s->C, s->ny, s->nx, "C");

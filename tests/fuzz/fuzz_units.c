@@ -25,8 +25,8 @@ static void check_error(const rigmat_error *e, const char *text, const char *wha
     FUZZ_REQUIRE(memchr(e->message, '\0', sizeof e->message) != NULL, "%s: message", what);
     FUZZ_REQUIRE(memchr(e->hint, '\0', sizeof e->hint) != NULL, "%s: hint", what);
     FUZZ_REQUIRE(e->message[0] != '\0', "%s: empty message for '%s'", what, text);
-    FUZZ_REQUIRE(e->where.col <= n + 1, "%s: column %lu past the end of '%s' (%zu bytes)",
-            what, e->where.col, text, n);
+    FUZZ_REQUIRE(e->where.col <= n + 1, "%s: column %lu past the end of '%s' (%zu bytes)", what,
+                 e->where.col, text, n);
 }
 
 static void fresh(rigmat_error *e)
@@ -80,16 +80,16 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
             continue;
         }
         FUZZ_REQUIRE(isfinite(v), "'%s' accepted as %s: %g", text, rigmat_units_kind_words(kind),
-                v);
+                     v);
         st2 = rigmat_units_expect_flags(text, kind, flags, &again, NULL);
         FUZZ_REQUIRE(st2 == RIGMAT_OK && memcmp(&v, &again, sizeof v) == 0,
-                "'%s' as %s: %.17g then %.17g", text, rigmat_units_kind_words(kind), v, again);
+                     "'%s' as %s: %.17g then %.17g", text, rigmat_units_kind_words(kind), v, again);
     }
     fresh(&e);
     {
         double v = 0.0;
         st = rigmat_units_expect_density(text, (rigmat_kind)(size % (size_t)RIGMAT_Q_COUNT), &v,
-                &e);
+                                         &e);
         FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EMODEL, "density status %d", (int)st);
         if (st == RIGMAT_OK)
             FUZZ_REQUIRE(isfinite(v), "density '%s' accepted as %g", text, v);
