@@ -69,6 +69,16 @@ fi
 "$R" check "$DEMO" -o /dev/stdout >"$T/viastdout" 2>"$T/err"
 if [ $? = 0 ] && [ -s "$T/viastdout" ]; then ok; else bad "-o /dev/stdout"; fi
 
+# A link is never renamed over: one to an open stream is written in place,
+# one to a regular file has its target replaced and stays a link.
+ln -s /proc/self/fd/1 "$T/fdlink"
+"$R" check "$DEMO" -o "$T/fdlink" >"$T/viafd" 2>"$T/err"
+if [ $? = 0 ] && [ -L "$T/fdlink" ] && [ -s "$T/viafd" ]; then ok; else bad "-o link to stdout"; fi
+: >"$T/target.txt"
+ln -s target.txt "$T/filelink"
+"$R" check "$DEMO" -o "$T/filelink" 2>"$T/err"
+if [ $? = 0 ] && [ -L "$T/filelink" ] && [ -s "$T/target.txt" ]; then ok; else bad "-o link to a file"; fi
+
 # Later stages, when present.
 if "$R" --help | grep -q '^  linearize'; then
     expect 0 "linearize demo" -- "$R" linearize "$DEMO"

@@ -9,6 +9,7 @@
  * in memory before this is called, so an error in the model found after
  * output began never reaches the file.
  */
+#define _XOPEN_SOURCE 700 /* realpath */
 #include "rigmat.h"
 #include "outfile.h"
 
@@ -47,25 +48,49 @@ static rigmat_status write_all(int fd, const char *data, size_t len, size_t fail
     return RIGMAT_OK;
 }
 
+/* A terminal, pipe, device or open stream: written in place. */
+static rigmat_status write_direct(const char *path, const char *data, size_t len,
+        size_t fail_after, rigmat_error *err)
+{
+    rigmat_status rc;
+    const int fd = open(path, O_WRONLY | O_APPEND);
+
+    if (fd < 0)
+        return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot open '%s': %s", path, strerror(errno));
+    rc = write_all(fd, data, len, fail_after, path, err);
+    if (close(fd) != 0 && rc == RIGMAT_OK)
+        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+    return rc;
+}
+
 rigmat_status rigmat_outfile_write(const char *path, const char *data, size_t len,
         size_t fail_after, rigmat_error *err)
 {
     struct stat st;
-    char *tmp = NULL;
+    char *tmp = NULL, *resolved = NULL;
     int fd = -1;
     rigmat_status rc;
     sigset_t block, old;
 
+    /* A symbolic link is never renamed over.  One into /dev or /proc
+     * (/dev/stdout -> /proc/self/fd/1) names an open stream: write it
+     * directly.  Any other link is followed and its target replaced. */
+    if (lstat(path, &st) == 0 && S_ISLNK(st.st_mode)) {
+        resolved = realpath(path, NULL);
+        if (resolved == NULL || strncmp(path, "/dev/", 5) == 0 ||
+                strncmp(path, "/proc/", 6) == 0 || strncmp(resolved, "/dev/", 5) == 0 ||
+                strncmp(resolved, "/proc/", 6) == 0) {
+            free(resolved);
+            return write_direct(path, data, len, fail_after, err);
+        }
+        rc = rigmat_outfile_write(resolved, data, len, fail_after, err);
+        free(resolved);
+        return rc;
+    }
     if (stat(path, &st) == 0 && !S_ISREG(st.st_mode)) {
         if (S_ISDIR(st.st_mode))
             return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': it is a folder", path);
-        fd = open(path, O_WRONLY | O_APPEND);
-        if (fd < 0)
-            return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot open '%s': %s", path, strerror(errno));
-        rc = write_all(fd, data, len, fail_after, path, err);
-        if (close(fd) != 0 && rc == RIGMAT_OK)
-            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
-        return rc;
+        return write_direct(path, data, len, fail_after, err);
     }
     tmp = malloc(strlen(path) + 16);
     if (tmp == NULL)
