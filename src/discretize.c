@@ -140,7 +140,7 @@ void rigmat_discretize_ws_free(rigmat_discretize_ws *w)
 
 /* dst[r0 + i, c0 + j] = src[sr + i, sc + j] * scale, for rows x cols. */
 static void put(gsl_matrix *dst, size_t r0, size_t c0, const gsl_matrix *src, size_t sr, size_t sc,
-        size_t rows, size_t cols, double scale)
+                size_t rows, size_t cols, double scale)
 {
     size_t i, j;
 
@@ -166,12 +166,13 @@ static gsl_matrix_view lead(gsl_matrix *m, size_t r, size_t c)
 static rigmat_status gsl_fail(rigmat_error *err, const char *what, int gs)
 {
     return RIGMAT_FAIL(err, gs == GSL_ENOMEM ? RIGMAT_ENOMEM : RIGMAT_EINTERNAL, "%s failed: %s",
-            what, gsl_strerror(gs));
+                       what, gsl_strerror(gs));
 }
 
 /* E = exp([[A h, B h], [0, 0]]) of size n + m (B may be NULL when m = 0). */
 static rigmat_status expm_hold(const gsl_matrix *A, const gsl_matrix *B, size_t n, size_t m,
-        double h, rigmat_discretize_ws *w, unsigned flags, gsl_matrix_view *E, rigmat_error *err)
+                               double h, rigmat_discretize_ws *w, unsigned flags,
+                               gsl_matrix_view *E, rigmat_error *err)
 {
     gsl_matrix_view M = lead(w->M, n + m, n + m);
 
@@ -190,7 +191,8 @@ static rigmat_status expm_hold(const gsl_matrix *A, const gsl_matrix *B, size_t 
  * columns and before any delay.  Cm and Dm are ny x n and ny x m and
  * already allocated (NULL when a size is 0). */
 static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_opts *o,
-        rigmat_discretize_ws *w, gsl_matrix *Ad, gsl_matrix *Cm, gsl_matrix *Dm, rigmat_error *err)
+                                 rigmat_discretize_ws *w, gsl_matrix *Ad, gsl_matrix *Cm,
+                                 gsl_matrix *Dm, rigmat_error *err)
 {
     const size_t n = s->nx, m = s->nu, ny = s->ny;
     const double T = o->period_s;
@@ -236,12 +238,11 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
         for (i = 0; i < n; i++)
             for (j = 0; j < m; j++)
                 gsl_matrix_set(&Gam.matrix, i, j,
-                        gsl_matrix_get(&E.matrix, i, n + j) -
-                                gsl_matrix_get(&E.matrix, i, n + m + j));
+                               gsl_matrix_get(&E.matrix, i, n + j) -
+                                       gsl_matrix_get(&E.matrix, i, n + m + j));
         {
             gsl_matrix_const_view G2 = gsl_matrix_const_submatrix(&E.matrix, 0, n + m, n, m);
-            gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, Ad, &G2.matrix, 1.0,
-                    &Gam.matrix);
+            gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, Ad, &G2.matrix, 1.0, &Gam.matrix);
             if (gs == GSL_SUCCESS && ny > 0)
                 gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, s->C, &G2.matrix, 1.0, Dm);
             if (gs != GSL_SUCCESS)
@@ -283,8 +284,8 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
         for (i = 0; i < n; i++)
             if (gsl_matrix_get(&LU.matrix, i, i) == 0.0)
                 return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                        "I - %g T A is singular: A has an eigenvalue at %.6g 1/s", alpha,
-                        1.0 / (alpha * h));
+                                   "I - %g T A is singular: A has an eigenvalue at %.6g 1/s", alpha,
+                                   1.0 / (alpha * h));
         for (j = 0; j < n && gs == GSL_SUCCESS; j++) {
             gsl_vector_view c = gsl_matrix_column(Ad, j);
             gs = gsl_linalg_LU_svx(&LU.matrix, &perm, &c.vector);
@@ -310,10 +311,10 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
         }
         /* Cm = C (I - alpha h A)^-1: with P M = L U, Z = Cm P^T solves Z L U = C */
         gs = gsl_blas_dtrsm(CblasRight, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, &LU.matrix,
-                Cm);
+                            Cm);
         if (gs == GSL_SUCCESS)
             gs = gsl_blas_dtrsm(CblasRight, CblasLower, CblasNoTrans, CblasUnit, 1.0, &LU.matrix,
-                    Cm);
+                                Cm);
         if (gs != GSL_SUCCESS)
             return gsl_fail(err, "triangular solve", gs);
         for (i = 0; i < ny; i++) {
@@ -322,7 +323,7 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
             /* Cm[:, p[k]] = Z[:, k] */
             for (j = 0; j < n; j++)
                 gsl_vector_set(&t.vector, gsl_permutation_get(&perm, j),
-                        gsl_vector_get(&row.vector, j));
+                               gsl_vector_get(&row.vector, j));
             gs = gsl_vector_memcpy(&row.vector, &t.vector);
             if (gs != GSL_SUCCESS)
                 return gsl_fail(err, "copy", gs);
@@ -334,40 +335,42 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
 }
 
 static rigmat_status check_opts(const rigmat_lti *s, const rigmat_discretize_opts *o,
-        const rigmat_discretize_ws *w, rigmat_error *err)
+                                const rigmat_discretize_ws *w, rigmat_error *err)
 {
     if (s == NULL || o == NULL || w == NULL)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "discretize: missing argument");
     if (s->nx == 0 || s->A == NULL)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the model has no states to sample");
     if (s->nu_control > s->nu || (s->nu > 0 && s->B == NULL) || (s->ny > 0 && s->C == NULL) ||
-            (s->ny > 0 && s->nu > 0 && s->D == NULL))
+        (s->ny > 0 && s->nu > 0 && s->D == NULL))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "discretize: inconsistent model sizes");
     if (s->nx > w->nx || s->nu > w->nu || s->ny > w->ny)
-        return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+        return RIGMAT_FAIL(
+                err, RIGMAT_EUSAGE,
                 "discretize: workspace is for %zu states, %zu inputs and %zu outputs, model has "
                 "%zu, %zu and %zu",
                 w->nx, w->nu, w->ny, s->nx, s->nu, s->ny);
     if (!(o->period_s > 0.0) || !isfinite(o->period_s))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the sample period must be positive, got %g s",
-                o->period_s);
+                           o->period_s);
     if (o->prewarp_hz != 0.0) {
         if (o->method != RIGMAT_METHOD_TUSTIN)
             return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "prewarping applies to tustin only, not %s",
-                    rigmat_method_name(o->method));
+                               rigmat_method_name(o->method));
         if (!(o->prewarp_hz > 0.0) || !(o->prewarp_hz * o->period_s < 0.5))
-            return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+            return RIGMAT_FAIL(
+                    err, RIGMAT_EUSAGE,
                     "the prewarp frequency must lie in (0, %g Hz), below Nyquist; got %g Hz",
                     0.5 / o->period_s, o->prewarp_hz);
     }
     if (o->delay_samples != 0.0) {
         if (o->method != RIGMAT_METHOD_ZOH)
             return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "an input delay needs zoh, not %s",
-                    rigmat_method_name(o->method));
+                               rigmat_method_name(o->method));
         if (!(o->delay_samples >= 0.0) || !(o->delay_samples <= max_delay_samples))
             return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
-                    "the delay must be between 0 and %g samples, got %g", max_delay_samples,
-                    o->delay_samples);
+                               "the delay must be between 0 and %g samples, got %g",
+                               max_delay_samples, o->delay_samples);
     }
     return RIGMAT_OK;
 }
@@ -386,8 +389,8 @@ static rigmat_status name_delays(const rigmat_lti *s, rigmat_dlti *d, rigmat_err
                     s->layout != NULL && s->layout->inputs != NULL ? &s->layout->inputs[i] : NULL;
             char buf[160];
             const int len = in != NULL && in->name != NULL
-                    ? snprintf(buf, sizeof buf, "%s.delayed%zu", in->name, j + 1)
-                    : snprintf(buf, sizeof buf, "u%zu.delayed%zu", i + 1, j + 1);
+                                    ? snprintf(buf, sizeof buf, "%s.delayed%zu", in->name, j + 1)
+                                    : snprintf(buf, sizeof buf, "u%zu.delayed%zu", i + 1, j + 1);
             if (len < 0 || (size_t)len >= sizeof buf)
                 return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "input name too long for a delay state");
             g->name = malloc((size_t)len + 1);
@@ -409,7 +412,7 @@ static rigmat_status name_delays(const rigmat_lti *s, rigmat_dlti *d, rigmat_err
 /* Gamma0 over (1 - f) T into w->G0 and Gamma1 = Phi_(1-f) Gamma_f into w->G1,
  * for the control columns. */
 static rigmat_status delay_gammas(const rigmat_lti *s, const rigmat_discretize_opts *o, double frac,
-        rigmat_discretize_ws *w, rigmat_error *err)
+                                  rigmat_discretize_ws *w, rigmat_error *err)
 {
     const size_t n = s->nx, mc = s->nu_control;
     const double T = o->period_s;
@@ -433,7 +436,7 @@ static rigmat_status delay_gammas(const rigmat_lti *s, const rigmat_discretize_o
     {
         gsl_matrix_const_view Gf = gsl_matrix_const_submatrix(&E.matrix, 0, n, n, mc);
         gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Phi1.matrix, &Gf.matrix, 0.0,
-                &G1.matrix);
+                            &G1.matrix);
     }
     if (gs != GSL_SUCCESS)
         return gsl_fail(err, "matrix product", gs);
@@ -441,7 +444,7 @@ static rigmat_status delay_gammas(const rigmat_lti *s, const rigmat_discretize_o
 }
 
 rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opts *o,
-        rigmat_discretize_ws *w, rigmat_dlti **out, rigmat_error *err)
+                                rigmat_discretize_ws *w, rigmat_dlti **out, rigmat_error *err)
 {
     rigmat_dlti *d = NULL;
     gsl_matrix_view Cv, Dv, Pv;
@@ -561,7 +564,7 @@ rigmat_sampling_limits rigmat_sampling_limits_default(void)
 }
 
 static void add_item(rigmat_advice *items, size_t cap, size_t *count, rigmat_advice_kind k,
-        double re, double im, size_t state)
+                     double re, double im, size_t state)
 {
     if (*count < cap) {
         items[*count].kind = k;
@@ -573,8 +576,8 @@ static void add_item(rigmat_advice *items, size_t cap, size_t *count, rigmat_adv
 }
 
 rigmat_status rigmat_sampling_advice(const rigmat_lti *s, const rigmat_discretize_opts *o,
-        const rigmat_sampling_limits *lim, rigmat_advice *items, size_t cap, size_t *count,
-        rigmat_error *err)
+                                     const rigmat_sampling_limits *lim, rigmat_advice *items,
+                                     size_t cap, size_t *count, rigmat_error *err)
 {
     gsl_matrix *A = NULL;
     gsl_vector_complex *ev = NULL;
@@ -602,7 +605,7 @@ rigmat_status rigmat_sampling_advice(const rigmat_lti *s, const rigmat_discretiz
         gs = gsl_eigen_nonsymmv(A, ev, V, ew);
     if (gs != GSL_SUCCESS) {
         rc = RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "eigenvalues of A did not converge: %s",
-                gsl_strerror(gs));
+                         gsl_strerror(gs));
         goto done;
     }
     for (k = 0; k < n; k++) {
@@ -626,12 +629,11 @@ rigmat_status rigmat_sampling_advice(const rigmat_lti *s, const rigmat_discretiz
             add_item(items, cap, count, RIGMAT_ADVICE_NYQUIST, re, im, where);
         if (re > 0.0 && mag * T > lim->unstable_lambda_t)
             add_item(items, cap, count, RIGMAT_ADVICE_UNSTABLE, re, im, where);
-        if (o->method == RIGMAT_METHOD_EULER && re < 0.0 &&
-                hypot(1.0 + re * T, im * T) >= 1.0)
+        if (o->method == RIGMAT_METHOD_EULER && re < 0.0 && hypot(1.0 + re * T, im * T) >= 1.0)
             add_item(items, cap, count, RIGMAT_ADVICE_EULER, re, im, where);
         if (is_real && re < 0.0 && mag * T > lim->fast_pole_lambda_t && where != RIGMAT_NONE &&
-                s->layout != NULL && s->layout->states != NULL &&
-                s->layout->states[where].kind == RIGMAT_SIG_CURRENT)
+            s->layout != NULL && s->layout->states != NULL &&
+            s->layout->states[where].kind == RIGMAT_SIG_CURRENT)
             add_item(items, cap, count, RIGMAT_ADVICE_NEGLECT_L, re, im, where);
     }
     if (o->method != RIGMAT_METHOD_ZOH) {

@@ -97,12 +97,12 @@ void rigmat_dlti_free(rigmat_dlti *d);
  * nx = 0. */
 typedef struct rigmat_discretize_ws {
     size_t nx, nu, ny;
-    rigmat_expm_ws *expm;                   /* nx + 2 nu */
-    gsl_matrix *M, *E;                      /* (nx + 2 nu) square */
-    gsl_matrix *Phi1, *G0, *G1, *Gf, *LU;   /* nx x nx, nx x nu, nx x nu, nx x nu, nx x nx */
-    gsl_permutation *perm;                  /* nx */
-    gsl_vector *tmp;                        /* nx */
-    gsl_matrix *Dm;                         /* ny x nu (1 x 1 when a size is 0) */
+    rigmat_expm_ws *expm;                 /* nx + 2 nu */
+    gsl_matrix *M, *E;                    /* (nx + 2 nu) square */
+    gsl_matrix *Phi1, *G0, *G1, *Gf, *LU; /* nx x nx, nx x nu, nx x nu, nx x nu, nx x nx */
+    gsl_permutation *perm;                /* nx */
+    gsl_vector *tmp;                      /* nx */
+    gsl_matrix *Dm;                       /* ny x nu (1 x 1 when a size is 0) */
 } rigmat_discretize_ws;
 
 rigmat_discretize_ws *rigmat_discretize_ws_alloc(size_t nx, size_t nu, size_t ny);
@@ -114,7 +114,7 @@ void rigmat_discretize_ws_free(rigmat_discretize_ws *w);
  * other than ZOH, or a model without states; RIGMAT_ENUMERIC when I - A T/2
  * or I - A T is singular or the exponential overflows; RIGMAT_ENOMEM. */
 rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opts *o,
-        rigmat_discretize_ws *w, rigmat_dlti **out, rigmat_error *err);
+                                rigmat_discretize_ws *w, rigmat_dlti **out, rigmat_error *err);
 
 /* ------------------------------------------------------------ sampling advice */
 
@@ -123,23 +123,23 @@ typedef struct rigmat_sampling_limits {
     double nyquist_fraction;  /* warn when |Im lambda| T > fraction * pi; default 0.5 */
     double unstable_lambda_t; /* warn when Re lambda > 0 and |lambda| T > this; default 0.3 */
     double fast_pole_lambda_t; /* a stable real pole with |lambda| T above this is "fast"; default 5 */
-    double imag_rtol;         /* |Im lambda| <= imag_rtol |lambda| counts as real; default 1e-9 */
+    double imag_rtol;          /* |Im lambda| <= imag_rtol |lambda| counts as real; default 1e-9 */
 } rigmat_sampling_limits;
 
 rigmat_sampling_limits rigmat_sampling_limits_default(void);
 
 typedef enum rigmat_advice_kind {
-    RIGMAT_ADVICE_NYQUIST,       /* an oscillatory mode near or beyond Nyquist */
-    RIGMAT_ADVICE_UNSTABLE,      /* an unstable mode fast for this period */
-    RIGMAT_ADVICE_EULER,         /* forward Euler turns a stable mode unstable */
-    RIGMAT_ADVICE_NEGLECT_L,     /* a fast stable pole in a motor current: inductance: neglect */
-    RIGMAT_ADVICE_QD_NOT_EXACT   /* Qd is the exact sampled covariance only for ZOH */
+    RIGMAT_ADVICE_NYQUIST,     /* an oscillatory mode near or beyond Nyquist */
+    RIGMAT_ADVICE_UNSTABLE,    /* an unstable mode fast for this period */
+    RIGMAT_ADVICE_EULER,       /* forward Euler turns a stable mode unstable */
+    RIGMAT_ADVICE_NEGLECT_L,   /* a fast stable pole in a motor current: inductance: neglect */
+    RIGMAT_ADVICE_QD_NOT_EXACT /* Qd is the exact sampled covariance only for ZOH */
 } rigmat_advice_kind;
 
 typedef struct rigmat_advice {
     rigmat_advice_kind kind;
-    double re, im;      /* the eigenvalue, 1/s (0 for QD_NOT_EXACT) */
-    size_t state;       /* the state the mode lives in most (largest |v_i|), or RIGMAT_NONE */
+    double re, im; /* the eigenvalue, 1/s (0 for QD_NOT_EXACT) */
+    size_t state;  /* the state the mode lives in most (largest |v_i|), or RIGMAT_NONE */
 } rigmat_advice;
 
 /* Eigenvalues of s->A against the period and method.  Fills up to cap
@@ -147,7 +147,7 @@ typedef struct rigmat_advice {
  * cap).  A pair of complex conjugate modes yields one item.  Returns
  * RIGMAT_ENUMERIC if the eigenvalue solver fails, RIGMAT_ENOMEM. */
 rigmat_status rigmat_sampling_advice(const rigmat_lti *s, const rigmat_discretize_opts *o,
-        const rigmat_sampling_limits *lim, rigmat_advice *items, size_t cap, size_t *count,
-        rigmat_error *err);
+                                     const rigmat_sampling_limits *lim, rigmat_advice *items,
+                                     size_t cap, size_t *count, rigmat_error *err);
 
 #endif /* RIGMAT_DISCRETIZE_H */

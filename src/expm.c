@@ -27,13 +27,25 @@ static const double theta13 = 5.371920351148152e0;
  * section 2; every value is an exact double. */
 static const double b3[] = { 120.0, 60.0, 12.0, 1.0 };
 static const double b5[] = { 30240.0, 15120.0, 3360.0, 420.0, 30.0, 1.0 };
-static const double b7[] = { 17297280.0, 8648640.0, 1995840.0, 277200.0, 25200.0, 1512.0, 56.0,
-    1.0 };
+static const double b7[] = {
+    17297280.0, 8648640.0, 1995840.0, 277200.0, 25200.0, 1512.0, 56.0, 1.0
+};
 static const double b9[] = { 17643225600.0, 8821612800.0, 2075673600.0, 302702400.0, 30270240.0,
-    2162160.0, 110880.0, 3960.0, 90.0, 1.0 };
-static const double b13[] = { 64764752532480000.0, 32382376266240000.0, 7771770303897600.0,
-    1187353796428800.0, 129060195264000.0, 10559470521600.0, 670442572800.0, 33522128640.0,
-    1323241920.0, 40840800.0, 960960.0, 16380.0, 182.0, 1.0 };
+                             2162160.0,     110880.0,     3960.0,       90.0,        1.0 };
+static const double b13[] = { 64764752532480000.0,
+                              32382376266240000.0,
+                              7771770303897600.0,
+                              1187353796428800.0,
+                              129060195264000.0,
+                              10559470521600.0,
+                              670442572800.0,
+                              33522128640.0,
+                              1323241920.0,
+                              40840800.0,
+                              960960.0,
+                              16380.0,
+                              182.0,
+                              1.0 };
 
 double rigmat_expm_norm1(const gsl_matrix *A)
 {
@@ -143,8 +155,8 @@ static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B
 
 /* Form U and V of r_m(A) for m <= 9 into U, V; returns the product count. */
 static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4,
-        gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U, gsl_matrix *V, gsl_matrix *T,
-        unsigned *products, rigmat_error *err)
+                              gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U, gsl_matrix *V,
+                              gsl_matrix *T, unsigned *products, rigmat_error *err)
 {
     const double *b = m == 3 ? b3 : m == 5 ? b5 : m == 7 ? b7 : b9;
     gsl_matrix *pw[4];
@@ -185,7 +197,8 @@ static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_mat
 }
 
 static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_matrix *A6,
-        gsl_matrix *U, gsl_matrix *V, gsl_matrix *T, unsigned *products, rigmat_error *err)
+                            gsl_matrix *U, gsl_matrix *V, gsl_matrix *T, unsigned *products,
+                            rigmat_error *err)
 {
     gsl_matrix *const pw[3] = { A2, A4, A6 };
     const double ui[3] = { b13[9], b13[11], b13[13] };
@@ -205,8 +218,8 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
     lincomb(T, 0.0, ui, pw, 3);
     lincomb(V, b13[1], uo, pw, 3);
     rc = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) == GSL_SUCCESS
-            ? RIGMAT_OK
-            : RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
+                 ? RIGMAT_OK
+                 : RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
     if (rc == RIGMAT_OK)
         rc = mul(U, A, V, err);
     if (rc != RIGMAT_OK)
@@ -223,7 +236,7 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
 /* X = (V - U)^-1 (V + U).  P receives V - U and its LU factors; X must be
  * distinct from U, V and P. */
 static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl_matrix *X,
-        gsl_permutation *perm, rigmat_error *err)
+                                gsl_permutation *perm, rigmat_error *err)
 {
     const size_t n = U->size1;
     size_t i, j;
@@ -242,12 +255,12 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
     gs = gsl_linalg_LU_decomp(P, perm, &signum);
     if (gs != GSL_SUCCESS)
         return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "LU of the Pade denominator failed: %s",
-                gsl_strerror(gs));
+                           gsl_strerror(gs));
     for (i = 0; i < n; i++) {
         const double d = gsl_matrix_get(P, i, i);
         if (d == 0.0 || !isfinite(d))
             return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                    "the Pade denominator of the matrix exponential is singular");
+                               "the Pade denominator of the matrix exponential is singular");
     }
     /* X = P^T-permuted rows of V + U, then L \ and U \ */
     for (i = 0; i < n; i++) {
@@ -277,7 +290,7 @@ static unsigned ceil_log2(double x)
 }
 
 rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, rigmat_expm_ws *w,
-        rigmat_expm_info *info, rigmat_error *err)
+                          rigmat_expm_info *info, rigmat_error *err)
 {
     rigmat_expm_info inf;
     size_t n, i, j;
@@ -297,15 +310,15 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     n = A->size1;
     if (A->size2 != n)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "matrix exponential of a %zux%zu matrix: not square",
-                A->size1, A->size2);
+                           A->size1, A->size2);
     if (eA->size1 != n || eA->size2 != n)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
-                "matrix exponential: result is %zux%zu, expected %zux%zu", eA->size1,
-                eA->size2, n, n);
+                           "matrix exponential: result is %zux%zu, expected %zux%zu", eA->size1,
+                           eA->size2, n, n);
     if (n > w->nmax)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
-                "matrix exponential: workspace holds %zux%zu, matrix is %zux%zu", w->nmax,
-                w->nmax, n, n);
+                           "matrix exponential: workspace holds %zux%zu, matrix is %zux%zu",
+                           w->nmax, w->nmax, n, n);
     As = block(w->As, n);
     A2 = block(w->A2, n);
     A4 = block(w->A4, n);
@@ -322,7 +335,8 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             const double a = gsl_matrix_get(A, i, j);
             if (!isfinite(a))
                 return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                        "matrix exponential: entry (%zu, %zu) is not finite", i + 1, j + 1);
+                                   "matrix exponential: entry (%zu, %zu) is not finite", i + 1,
+                                   j + 1);
             gsl_matrix_set(&As.matrix, i, j, a);
         }
     nrm = rigmat_expm_norm1(&As.matrix);
@@ -369,16 +383,16 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             for (i = 0; i < n; i++)
                 for (j = 0; j < n; j++)
                     gsl_matrix_set(&As.matrix, i, j,
-                            ldexp(gsl_matrix_get(&As.matrix, i, j), -(int)s));
+                                   ldexp(gsl_matrix_get(&As.matrix, i, j), -(int)s));
     }
     inf.degree = m;
     inf.squarings = s;
     if (m == 13)
-        rc = pade13(&As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix,
-                &T.matrix, &inf.products, err);
+        rc = pade13(&As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix, &T.matrix,
+                    &inf.products, err);
     else
         rc = pade_low(m, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix, &U.matrix,
-                &V.matrix, &T.matrix, &inf.products, err);
+                      &V.matrix, &T.matrix, &inf.products, err);
     if (rc != RIGMAT_OK)
         return rc;
     /* X = r_m in A2 (free now); P = V - U in A4 */
@@ -401,8 +415,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
         for (i = 0; i < n; i++) {
             const double di = gsl_vector_get(w->scale, i);
             for (j = 0; j < n; j++)
-                gsl_matrix_set(X, i, j,
-                        gsl_matrix_get(X, i, j) * di / gsl_vector_get(w->scale, j));
+                gsl_matrix_set(X, i, j, gsl_matrix_get(X, i, j) * di / gsl_vector_get(w->scale, j));
         }
     }
     for (i = 0; i < n; i++)
@@ -410,7 +423,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             const double x = gsl_matrix_get(X, i, j);
             if (!isfinite(x))
                 return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                        "matrix exponential overflows (||A||_1 = %.3g)", nrm);
+                                   "matrix exponential overflows (||A||_1 = %.3g)", nrm);
             gsl_matrix_set(eA, i, j, x);
         }
     if (info != NULL)

@@ -63,7 +63,7 @@ void rigmat_expm_ws_free(rigmat_expm_ws *w);
  * RIGMAT_ENUMERIC for a non-finite entry in A, a singular Pade denominator or
  * an overflow of the result, RIGMAT_OK otherwise. */
 rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, rigmat_expm_ws *w,
-        rigmat_expm_info *info, rigmat_error *err);
+                          rigmat_expm_info *info, rigmat_error *err);
 
 /* The 1-norm (largest column sum of absolute values) of a matrix. */
 double rigmat_expm_norm1(const gsl_matrix *A);

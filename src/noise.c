@@ -97,12 +97,12 @@ static void symmetrize(gsl_matrix *Q)
 static rigmat_status gsl_fail(rigmat_error *err, const char *what, int gs)
 {
     return RIGMAT_FAIL(err, gs == GSL_ENOMEM ? RIGMAT_ENOMEM : RIGMAT_EINTERNAL, "%s failed: %s",
-            what, gsl_strerror(gs));
+                       what, gsl_strerror(gs));
 }
 
 rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const double *intensity,
-        double period_s, const rigmat_noise_opts *o, rigmat_noise_ws *w, gsl_matrix *Qd,
-        unsigned *doublings, rigmat_error *err)
+                              double period_s, const rigmat_noise_opts *o, rigmat_noise_ws *w,
+                              gsl_matrix *Qd, unsigned *doublings, rigmat_error *err)
 {
     size_t n, nw, i, j, k;
     unsigned s = 0, it;
@@ -121,17 +121,17 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "process noise: inconsistent sizes");
     if (n > w->nx)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
-                "process noise: workspace is for %zu states, model has %zu", w->nx, n);
+                           "process noise: workspace is for %zu states, model has %zu", w->nx, n);
     if (!(period_s > 0.0) || !isfinite(period_s))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the sample period must be positive, got %g s",
-                period_s);
+                           period_s);
     if (!(o->step_norm > 0.0))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "process noise: step_norm must be positive");
     for (k = 0; k < nw; k++) {
         if (!(intensity[k] >= 0.0) || !isfinite(intensity[k]))
             return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
-                    "noise intensity of disturbance %zu is %g; it must be >= 0", k + 1,
-                    intensity[k]);
+                               "noise intensity of disturbance %zu is %g; it must be >= 0", k + 1,
+                               intensity[k]);
         if (intensity[k] > 0.0)
             any = 1;
     }
@@ -181,7 +181,7 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
         gsl_matrix_const_view F22 = gsl_matrix_const_submatrix(&F.matrix, n, n, n, n);
         gsl_matrix_const_view F12 = gsl_matrix_const_submatrix(&F.matrix, 0, n, n, n);
         gs = gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, &F22.matrix, &F12.matrix, 0.0,
-                &Q.matrix);
+                            &Q.matrix);
     }
     if (gs != GSL_SUCCESS)
         return gsl_fail(err, "matrix product", gs);
@@ -189,13 +189,13 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
     for (it = 0; it < s; it++) {
         /* Q <- Q + Phi Q Phi^T; Phi <- Phi^2 */
         gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Phi.matrix, &Q.matrix, 0.0,
-                &T1.matrix);
+                            &T1.matrix);
         if (gs == GSL_SUCCESS)
             gs = gsl_blas_dgemm(CblasNoTrans, CblasTrans, 1.0, &T1.matrix, &Phi.matrix, 1.0,
-                    &Q.matrix);
+                                &Q.matrix);
         if (gs == GSL_SUCCESS)
             gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Phi.matrix, &Phi.matrix, 0.0,
-                    &T1.matrix);
+                                &T1.matrix);
         if (gs == GSL_SUCCESS)
             gs = gsl_matrix_memcpy(&Phi.matrix, &T1.matrix);
         if (gs != GSL_SUCCESS)
@@ -207,7 +207,7 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
             const double v = gsl_matrix_get(&Q.matrix, i, j);
             if (!isfinite(v))
                 return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                        "the process-noise covariance overflows over %g s", period_s);
+                                   "the process-noise covariance overflows over %g s", period_s);
             gsl_matrix_set(Qd, i, j, v);
         }
     if (doublings != NULL)
@@ -216,7 +216,7 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
 }
 
 rigmat_sensor_noise rigmat_noise_sensor(double sd, double density, double bandwidth_hz,
-        double resolution, double period_s)
+                                        double resolution, double period_s)
 {
     rigmat_sensor_noise r;
 
@@ -253,7 +253,8 @@ void rigmat_noise_free(rigmat_noise *n)
 
 /* Gamma_G = int_0^T e^{A s} ds G, left in w->F[0:n, n:n+nw] and viewed by *Gam. */
 static rigmat_status gamma_g(const gsl_matrix *A, const gsl_matrix *G, double T,
-        const rigmat_noise_opts *o, rigmat_noise_ws *w, gsl_matrix_view *Gam, rigmat_error *err)
+                             const rigmat_noise_opts *o, rigmat_noise_ws *w, gsl_matrix_view *Gam,
+                             rigmat_error *err)
 {
     const size_t n = A->size1, nw = G->size2;
     gsl_matrix_view M = lead(w->M, n + nw, n + nw), F = lead(w->F, n + nw, n + nw);
@@ -274,7 +275,8 @@ static rigmat_status gamma_g(const gsl_matrix *A, const gsl_matrix *G, double T,
 }
 
 rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
-        const rigmat_noise_opts *o, rigmat_noise_ws *w, rigmat_noise **out, rigmat_error *err)
+                                 const rigmat_noise_opts *o, rigmat_noise_ws *w, rigmat_noise **out,
+                                 rigmat_error *err)
 {
     rigmat_noise *r = NULL;
     gsl_matrix_view Gv, Qv;
@@ -296,7 +298,8 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
     if (d->nx_plant != n || d->ny != ny || d->nw != nw || n == 0)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "noise model: sampled and continuous models differ");
     if (nw > w->nw || n > w->nx)
-        return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+        return RIGMAT_FAIL(
+                err, RIGMAT_EUSAGE,
                 "noise model: workspace is for %zu states and %zu disturbances, model has %zu and %zu",
                 w->nx, w->nw, n, nw);
     r = calloc(1, sizeof *r);
@@ -319,8 +322,8 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
         Gv = lead(w->G, n, nw);
         G = &Gv.matrix;
     }
-    if (r->Qd == NULL || r->sensor == NULL || r->direct_var == NULL ||
-            r->disturbance_sd == NULL || (ny > 0 && r->Rd == NULL)) {
+    if (r->Qd == NULL || r->sensor == NULL || r->direct_var == NULL || r->disturbance_sd == NULL ||
+        (ny > 0 && r->Rd == NULL)) {
         rc = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         goto done;
     }
@@ -340,9 +343,9 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
     /* Rd: the sensors' own terms on the diagonal */
     for (i = 0; i < ny; i++) {
         r->sensor[i] = rigmat_noise_sensor(s->output_noise_sd ? s->output_noise_sd[i] : 0.0,
-                s->output_density ? s->output_density[i] : 0.0,
-                s->output_bandwidth_hz ? s->output_bandwidth_hz[i] : 0.0,
-                s->output_resolution ? s->output_resolution[i] : 0.0, T);
+                                           s->output_density ? s->output_density[i] : 0.0,
+                                           s->output_bandwidth_hz ? s->output_bandwidth_hz[i] : 0.0,
+                                           s->output_resolution ? s->output_resolution[i] : 0.0, T);
         gsl_matrix_set(r->Rd, i, i, r->sensor[i].total_var);
     }
     /* direct paths: Rd += E diag(Qc/T) E^T, S = Gamma_G diag(Qc) E^T / T */
@@ -367,7 +370,7 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
                 double v = 0.0;
                 for (k = 0; k < nw; k++)
                     v += gsl_matrix_get(s->D, i, mc + k) * Qc[k] / T *
-                            gsl_matrix_get(s->D, j, mc + k);
+                         gsl_matrix_get(s->D, j, mc + k);
                 gsl_matrix_set(r->Rd, i, j, gsl_matrix_get(r->Rd, i, j) + v);
                 if (i == j)
                     r->direct_var[i] = v;
@@ -378,7 +381,7 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
                 double v = 0.0;
                 for (k = 0; k < nw; k++)
                     v += gsl_matrix_get(&Gam.matrix, i, k) * Qc[k] *
-                            gsl_matrix_get(s->D, j, mc + k);
+                         gsl_matrix_get(s->D, j, mc + k);
                 gsl_matrix_set(r->S, i, j, v / T);
             }
     }

@@ -57,10 +57,10 @@ rigmat_noise_opts rigmat_noise_opts_default(void);
 /* Scratch space for models of up to nx states and nw disturbances. */
 typedef struct rigmat_noise_ws {
     size_t nx, nw;
-    rigmat_expm_ws *expm;   /* max(2 nx, nx + nw) */
-    gsl_matrix *M, *F;      /* 2 nx square (>= nx + nw) */
+    rigmat_expm_ws *expm;              /* max(2 nx, nx + nw) */
+    gsl_matrix *M, *F;                 /* 2 nx square (>= nx + nw) */
     gsl_matrix *W, *Phi, *Q, *T1, *T2; /* nx x nx */
-    gsl_matrix *G;          /* nx x nw; NULL when nw = 0 */
+    gsl_matrix *G;                     /* nx x nw; NULL when nw = 0 */
 } rigmat_noise_ws;
 
 rigmat_noise_ws *rigmat_noise_ws_alloc(size_t nx, size_t nw);
@@ -72,8 +72,8 @@ void rigmat_noise_ws_free(rigmat_noise_ws *w);
  * RIGMAT_EUSAGE for bad sizes or a negative intensity, RIGMAT_ENUMERIC when
  * the exponential fails. */
 rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const double *intensity,
-        double period_s, const rigmat_noise_opts *o, rigmat_noise_ws *w, gsl_matrix *Qd,
-        unsigned *doublings, rigmat_error *err);
+                              double period_s, const rigmat_noise_opts *o, rigmat_noise_ws *w,
+                              gsl_matrix *Qd, unsigned *doublings, rigmat_error *err);
 
 /* The per-sample variance of one sensor and its parts, each >= 0. */
 typedef struct rigmat_sensor_noise {
@@ -85,7 +85,7 @@ typedef struct rigmat_sensor_noise {
 
 /* sd, density, bandwidth_hz and resolution as in rigmat_lti (0 = none). */
 rigmat_sensor_noise rigmat_noise_sensor(double sd, double density, double bandwidth_hz,
-        double resolution, double period_s);
+                                        double resolution, double period_s);
 
 /* The standard deviation of a white disturbance of intensity Qc averaged
  * over one period: sqrt(Qc / T). */
@@ -93,24 +93,25 @@ double rigmat_noise_sample_sd(double intensity, double period_s);
 
 /* The noise model of a sampled model. */
 typedef struct rigmat_noise {
-    size_t nx, ny, nw;      /* nx: states of the sampled model (with delays) */
+    size_t nx, ny, nw; /* nx: states of the sampled model (with delays) */
     double period_s;
-    int qd_exact;           /* 1 when the sampled model is ZOH */
-    unsigned doublings;     /* s of the Qd computation */
-    gsl_matrix *Qd;         /* nx x nx (delay states carry no noise); NULL when nx = 0 */
-    gsl_matrix *Rd;         /* ny x ny; NULL when ny = 0 */
-    gsl_matrix *S;          /* nx x ny cross-covariance; NULL when none */
+    int qd_exact;                /* 1 when the sampled model is ZOH */
+    unsigned doublings;          /* s of the Qd computation */
+    gsl_matrix *Qd;              /* nx x nx (delay states carry no noise); NULL when nx = 0 */
+    gsl_matrix *Rd;              /* ny x ny; NULL when ny = 0 */
+    gsl_matrix *S;               /* nx x ny cross-covariance; NULL when none */
     rigmat_sensor_noise *sensor; /* ny: the sensors' own terms */
-    double *direct_var;     /* ny: variance added by disturbances reaching the output */
-    double *disturbance_sd; /* nw: per-sample sd of each disturbance, sqrt(Qc/T) */
-    size_t ndirect;         /* (output, disturbance) pairs with a direct path */
+    double *direct_var;          /* ny: variance added by disturbances reaching the output */
+    double *disturbance_sd;      /* nw: per-sample sd of each disturbance, sqrt(Qc/T) */
+    size_t ndirect;              /* (output, disturbance) pairs with a direct path */
 } rigmat_noise;
 
 /* Build the noise model of d, sampled from s.  On success *out is owned by
  * the caller (rigmat_noise_free).  Statuses as rigmat_noise_qd, and
  * RIGMAT_ENOMEM. */
 rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
-        const rigmat_noise_opts *o, rigmat_noise_ws *w, rigmat_noise **out, rigmat_error *err);
+                                 const rigmat_noise_opts *o, rigmat_noise_ws *w, rigmat_noise **out,
+                                 rigmat_error *err);
 void rigmat_noise_free(rigmat_noise *n);
 
 #endif /* RIGMAT_NOISE_H */

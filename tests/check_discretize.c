@@ -16,7 +16,7 @@
 
 /* shared REFERENCES.md: "1e-13 relative for expm-based results, 1e-12 after
  * two or more factorizations" */
-#define TOL_EXPM 1e-13
+#define TOL_EXPM  1e-13
 #define TOL_SCIPY 1e-12
 
 static void fill(gsl_matrix *m, const double *v)
@@ -51,7 +51,7 @@ static rigmat_lti *ref2(void)
 }
 
 static rigmat_dlti *run(const rigmat_lti *s, rigmat_method m, double T, double prewarp_hz,
-        double delay)
+                        double delay)
 {
     rigmat_discretize_opts o = rigmat_discretize_opts_default();
     rigmat_discretize_ws *w = rigmat_discretize_ws_alloc(s->nx, s->nu, s->ny);
@@ -87,20 +87,20 @@ START_TEST(reference_check_values)
     rigmat_lti *s = ref2();
     rigmat_dlti *d;
     const double zoh_a[] = { 0.99094408299393729, 0.086106664957977714, -0.17221332991595543,
-        0.73262408812000414 };
+                             0.73262408812000414 };
     const double zoh_b[] = { 4.5279585030313562e-3, 0.086106664957977714 };
     const double foh_b[] = { 8.4128203614381649e-3, 0.073733529337750794 };
     const double tus_a[] = { 0.99134199134199134, 0.08658008658008658, -0.17316017316017316,
-        0.7316017316017316 };
+                             0.7316017316017316 };
     const double tus_b[] = { 4.329004329004329e-3, 0.08658008658008658 };
     const double tus_c[] = { 0.99567099567099567, 0.04329004329004329 };
     const double tw_a[] = { 0.99099470877649868, 0.088168945980729772, -0.17633789196145954,
-        0.72648787083430936 };
+                            0.72648787083430936 };
     const double tw_b[] = { 4.5026456117506607e-3, 0.088168945980729772 };
     const double tw_c[] = { 0.99549735438824934, 0.044084472990364886 };
     const double eu_a[] = { 1, 0.1, -0.2, 0.7 }, eu_b[] = { 0, 0.1 }, c1[] = { 1, 0 };
     const double be_a[] = { 0.98484848484848485, 0.075757575757575758, -0.15151515151515152,
-        0.75757575757575758 };
+                            0.75757575757575758 };
     const double be_b[] = { 7.5757575757575758e-3, 0.075757575757575758 };
     const double be_c[] = { 0.98484848484848485, 0.075757575757575758 };
 
@@ -173,8 +173,8 @@ START_TEST(prewarped_tustin_is_exact_at_its_frequency)
     ck_assert_int_eq(gsl_linalg_complex_LU_solve(M, p, b, x), 0);
     g = gsl_complex_rect(gsl_matrix_get(d->Dd, 0, 0), 0.0);
     for (j = 0; j < 2; j++)
-        g = gsl_complex_add(g, gsl_complex_mul_real(gsl_vector_complex_get(x, j),
-                                       gsl_matrix_get(d->Cd, 0, j)));
+        g = gsl_complex_add(
+                g, gsl_complex_mul_real(gsl_vector_complex_get(x, j), gsl_matrix_get(d->Cd, 0, j)));
     ck_assert_rel(GSL_REAL(g), -0.030503978779840849, 1e-13);
     ck_assert_rel(GSL_IMAG(g), -0.019893899204244032, 1e-13);
     gsl_matrix_complex_free(M);
@@ -278,8 +278,8 @@ START_TEST(every_method_matches_scipy)
         rigmat_lti *s;
         if (line[0] == '#' || line[0] == '\n')
             continue;
-        ck_assert_int_eq(sscanf(line, "system %63s %zu %zu %zu %lf %lf", name, &n, &m, &p, &T,
-                                 &f1), 6);
+        ck_assert_int_eq(sscanf(line, "system %63s %zu %zu %zu %lf %lf", name, &n, &m, &p, &T, &f1),
+                         6);
         /* with two or more inputs the last one is a disturbance: Bd | Gd, Dd | Ed */
         nuc = m >= 2 ? m - 1 : m;
         s = rigmat_lti_alloc(n, m, p, nuc);
@@ -322,8 +322,8 @@ START_TEST(every_method_matches_scipy)
             e[4] = coldiff(d->Dd, Dd, 0, nuc);
             e[5] = nuc < m ? coldiff(d->Ed, Dd, nuc, m - nuc) : 0.0;
             for (i = 0; i < 6; i++) {
-                ck_assert_msg(e[i] <= TOL_SCIPY, "%s %s: matrix %zu differs by %.3g", name, meth,
-                        i, e[i]);
+                ck_assert_msg(e[i] <= TOL_SCIPY, "%s %s: matrix %zu differs by %.3g", name, meth, i,
+                              e[i]);
                 if (e[i] > worst)
                     worst = e[i];
             }
@@ -340,8 +340,10 @@ START_TEST(every_method_matches_scipy)
     fclose(f);
     ck_assert_uint_ge(systems, 40);
     if (getenv("RIGMAT_TEST_VERBOSE") != NULL)
-        fprintf(stderr, "discretize: %zu systems, %zu method runs, worst normwise difference "
-                "from scipy %.3g\n", systems, compared, worst);
+        fprintf(stderr,
+                "discretize: %zu systems, %zu method runs, worst normwise difference "
+                "from scipy %.3g\n",
+                systems, compared, worst);
 }
 END_TEST
 
@@ -366,7 +368,7 @@ START_TEST(delay_gammas_of_the_lag)
     ck_assert_rel(gsl_matrix_get(d->Ad, 0, 2), 0.10125496464164792, TOL_EXPM);
     /* the chain: u[k-1]+ = u[k], u[k-2]+ = u[k-1] */
     ck_assert(gsl_matrix_get(d->Bd, 0, 0) == 0.0 && gsl_matrix_get(d->Bd, 1, 0) == 1.0 &&
-            gsl_matrix_get(d->Bd, 2, 0) == 0.0);
+              gsl_matrix_get(d->Bd, 2, 0) == 0.0);
     ck_assert(gsl_matrix_get(d->Ad, 2, 1) == 1.0 && gsl_matrix_get(d->Ad, 1, 2) == 0.0);
     /* D reads the input in effect at the sampling instant, u[k-2] */
     ck_assert(gsl_matrix_get(d->Cd, 0, 2) == 0.25 && gsl_matrix_get(d->Dd, 0, 0) == 0.0);
@@ -429,15 +431,15 @@ START_TEST(delayed_recursion_matches_integration)
                 for (j = 0; j < m; j++)
                     y += gsl_matrix_get(d->Dd, i, j) * gsl_matrix_get(u, k, j);
                 ck_assert_msg(fabs(y - gsl_matrix_get(ys, k, i)) <= 1e-12,
-                        "delay %zu+%g: y[%zu][%zu] = %.17g, want %.17g", dd, fr, k, i, y,
-                        gsl_matrix_get(ys, k, i));
+                              "delay %zu+%g: y[%zu][%zu] = %.17g, want %.17g", dd, fr, k, i, y,
+                              gsl_matrix_get(ys, k, i));
                 if (fabs(y - gsl_matrix_get(ys, k, i)) > worst)
                     worst = fabs(y - gsl_matrix_get(ys, k, i));
             }
             for (i = 0; i < n; i++)
                 ck_assert_msg(fabs(z[i] - gsl_matrix_get(xs, k, i)) <= 1e-12,
-                        "delay %zu+%g: x[%zu][%zu] = %.17g, want %.17g", dd, fr, k, i, z[i],
-                        gsl_matrix_get(xs, k, i));
+                              "delay %zu+%g: x[%zu][%zu] = %.17g, want %.17g", dd, fr, k, i, z[i],
+                              gsl_matrix_get(xs, k, i));
             for (i = 0; i < d->nx; i++) {
                 double v = 0.0;
                 for (j = 0; j < d->nx; j++)
@@ -478,8 +480,7 @@ START_TEST(delay_states_are_named_after_inputs)
     rigmat_layout lay;
     rigmat_lti *s = ref2(), *s3 = rigmat_lti_alloc(2, 3, 1, 2);
     rigmat_dlti *d;
-    const char *want[] = { "drive.delayed1", "steer.delayed1", "drive.delayed2",
-        "steer.delayed2" };
+    const char *want[] = { "drive.delayed1", "steer.delayed1", "drive.delayed2", "steer.delayed2" };
     size_t i;
 
     memset(inputs, 0, sizeof inputs);
@@ -575,7 +576,7 @@ START_TEST(misuse_is_reported)
 END_TEST
 
 static size_t advice(const rigmat_lti *s, rigmat_method m, double T, rigmat_advice *items,
-        size_t cap)
+                     size_t cap)
 {
     rigmat_discretize_opts o = rigmat_discretize_opts_default();
     const rigmat_sampling_limits lim = rigmat_sampling_limits_default();

@@ -152,10 +152,10 @@ START_TEST(moler_van_loan_2x2)
     const double a[] = { -49, 24, -64, 31 };
     const double e1 = exp(-1.0), e17 = exp(-17.0);
     const double x[] = { -2 * e1 + 3 * e17, 1.5 * e1 - 1.5 * e17, -4 * e1 + 4 * e17,
-        3 * e1 - 2 * e17 };
+                         3 * e1 - 2 * e17 };
     /* shared REFERENCES.md section 2, mpmath at 40 digits */
     const double mp[] = { -0.73575875814475308, 0.5518190996580977, -1.4715175990882605,
-        1.1036382407155726 };
+                          1.1036382407155726 };
     gsl_matrix *A = mat(2, 2, a), *X = mat(2, 2, x), *M = mat(2, 2, mp), *E;
     rigmat_expm_info info;
 
@@ -262,7 +262,7 @@ START_TEST(diagonalizable_closed_form)
         /* shared REFERENCES.md section 2, mpmath at 40 digits, t = 0.1 */
         const double a[] = { 0, 0.1, -0.2, -0.30000000000000004 };
         const double x[] = { 0.99094408299393729, 0.086106664957977714, -0.17221332991595543,
-            0.73262408812000414 };
+                             0.73262408812000414 };
         gsl_matrix *A = mat(2, 2, a), *X = mat(2, 2, x), *E = expm_of(A, 0, NULL);
         ck_assert_matrix_rel(E, X, 1e-15);
         gsl_matrix_free(A);
@@ -285,7 +285,7 @@ START_TEST(badly_scaled_with_balancing)
     const double e1 = exp(-1.0), e2 = exp(-2.0), d = 1e6;
     const double g[] = { 0, d * d, -2 / (d * d), -3 };
     const double xg[] = { 2 * e1 - e2, (e1 - e2) * d * d, (-2 * e1 + 2 * e2) / (d * d),
-        -e1 + 2 * e2 };
+                          -e1 + 2 * e2 };
     size_t i;
 
     check_against(A, X, 0);
@@ -327,7 +327,7 @@ START_TEST(large_norm_ones_matrix)
     for (i = 0; i < 20; i++)
         for (j = 0; j < 20; j++)
             ck_assert_rel(gsl_matrix_get(E, i, j), i == j ? 3282999.4068665256 : 3282998.4068665256,
-                    expm_tol(kappa_estimate(A), 20, scaled_norm(A, 0)));
+                          expm_tol(kappa_estimate(A), 20, scaled_norm(A, 0)));
     gsl_matrix_free(A);
     gsl_matrix_free(E);
 }
@@ -336,15 +336,15 @@ END_TEST
 START_TEST(scalar_matches_libm)
 {
     /* closed form: exp of a 1x1 matrix is exp() */
-    const double xs[] = { 1e-300, -3.1e-5, 0.0149, 0.2539, 0.95, 2.09, 5.37, -17.3, 44.0, -700.0,
-        709.0 };
+    const double xs[] = { 1e-300, -3.1e-5, 0.0149, 0.2539, 0.95, 2.09,
+                          5.37,   -17.3,   44.0,   -700.0, 709.0 };
     size_t k;
 
     for (k = 0; k < sizeof xs / sizeof xs[0]; k++) {
         gsl_matrix *A = mat(1, 1, &xs[k]), *E = expm_of(A, 0, NULL);
         /* error grows like |x| u through the squarings: kappa = |x| */
         ck_assert_rel(gsl_matrix_get(E, 0, 0), exp(xs[k]),
-                expm_tol(fabs(xs[k]), 1, scaled_norm(A, 0)));
+                      expm_tol(fabs(xs[k]), 1, scaled_norm(A, 0)));
         gsl_matrix_free(A);
         gsl_matrix_free(E);
     }
@@ -355,7 +355,7 @@ START_TEST(degree_follows_theta_table)
 {
     /* Higham (2005), Table 2.3: theta_3, theta_5, theta_7, theta_9, theta_13 */
     const double th[] = { 1.495585217958292e-2, 2.539398330063230e-1, 9.504178996162932e-1,
-        2.097847961257068e0, 5.371920351148152e0 };
+                          2.097847961257068e0, 5.371920351148152e0 };
     const unsigned deg[] = { 3, 5, 7, 9, 13 };
     const unsigned prod[] = { 2, 3, 4, 5, 6 };
     size_t k;
@@ -549,7 +549,7 @@ START_TEST(random_matrices_match_mpmath)
             ck_assert_int_eq(rigmat_expm(c.A, &Ev.matrix, flags, w, NULL, NULL), RIGMAT_OK);
             d = rigmat_test_matrix_reldiff(&Ev.matrix, c.exact);
             ck_assert_msg(d <= tol, "%s (flags %u): error %.3g > tol %.3g (kappa %.3g)", c.name,
-                    flags, d, tol, c.kappa);
+                          flags, d, tol, c.kappa);
             if (d / scale > worst) {
                 worst = d / scale;
                 snprintf(worst_name, sizeof worst_name, "%s", c.name);
@@ -563,7 +563,8 @@ START_TEST(random_matrices_match_mpmath)
     fclose(f);
     ck_assert_uint_ge(count, 100);
     if (getenv("RIGMAT_TEST_VERBOSE") != NULL)
-        fprintf(stderr, "expm: %zu cases, worst error / (u (kappa e^nu / nu + n)) = %.3g (%s); "
+        fprintf(stderr,
+                "expm: %zu cases, worst error / (u (kappa e^nu / nu + n)) = %.3g (%s); "
                 "worst normwise error %.3g\n",
                 count, worst, worst_name, worst_err);
     gsl_matrix_free(E);

@@ -33,7 +33,7 @@ static gsl_matrix *mat(size_t r, size_t c, const double *v)
 
 /* Qd of x' = A x + G w over T with the default options. */
 static gsl_matrix *qd_of(const gsl_matrix *A, const gsl_matrix *G, const double *qc, double T,
-        double step_norm, unsigned *doublings, rigmat_status *st)
+                         double step_norm, unsigned *doublings, rigmat_status *st)
 {
     rigmat_noise_opts o = rigmat_noise_opts_default();
     rigmat_noise_ws *w = rigmat_noise_ws_alloc(A->size1, G->size2);
@@ -68,13 +68,13 @@ static void assert_psd(const gsl_matrix *Q, const char *what)
     for (i = 0; i < n; i++)
         for (j = 0; j < n; j++)
             ck_assert_msg(gsl_matrix_get(Q, i, j) == gsl_matrix_get(Q, j, i),
-                    "%s not symmetric at (%zu, %zu)", what, i, j);
+                          "%s not symmetric at (%zu, %zu)", what, i, j);
     gsl_matrix_memcpy(C, Q);
     ck_assert_int_eq(gsl_eigen_symm(C, ev, w), 0);
     lo = gsl_vector_min(ev);
     hi = fmax(fabs(lo), fabs(gsl_vector_max(ev)));
     ck_assert_msg(lo >= -(double)n * DBL_EPSILON * hi, "%s indefinite: eigenvalue %.3g of %.3g",
-            what, lo, hi);
+                  what, lo, hi);
     gsl_matrix_free(C);
     gsl_vector_free(ev);
     gsl_eigen_symm_free(w);
@@ -115,7 +115,7 @@ START_TEST(reference_two_state_value)
      * A = [[0, 1], [-2, -3]], G = [0; 1], q = 1, T = 0.1 */
     const double a[] = { 0, 1, -2, -3 }, g[] = { 0, 1 }, q = 1.0;
     const double want[] = { 2.667590732444895e-4, 3.707178875092714e-3, 3.707178875092714e-3,
-        0.07473887166766026 };
+                            0.07473887166766026 };
     gsl_matrix *A = mat(2, 2, a), *G = mat(2, 1, g), *W = mat(2, 2, want);
     gsl_matrix *Q = qd_of(A, G, &q, 0.1, 0, NULL, NULL);
 
@@ -191,8 +191,9 @@ START_TEST(stiff_motor_matches_mpmath)
         ck_assert_int_eq(nz->qd_exact, 1);
         ck_assert_ptr_null(nz->S);
         if (getenv("RIGMAT_TEST_VERBOSE") != NULL)
-            fprintf(stderr, "stiff motor T = %g s: Ad %.3g, Bd %.3g, Gd %.3g, Qd %.3g (%u doublings)\n",
-                    T, rigmat_test_matrix_reldiff(d->Ad, Ad),
+            fprintf(stderr,
+                    "stiff motor T = %g s: Ad %.3g, Bd %.3g, Gd %.3g, Qd %.3g (%u doublings)\n", T,
+                    rigmat_test_matrix_reldiff(d->Ad, Ad),
                     rigmat_test_matrix_reldiff(d->Bd, &g0.matrix),
                     rigmat_test_matrix_reldiff(d->Gd, &g1.matrix),
                     rigmat_test_matrix_reldiff(nz->Qd, Qd), nz->doublings);
@@ -292,7 +293,7 @@ START_TEST(sensor_variances_follow_the_convention)
     ck_assert_rel(e.resolution_var, (2 * M_PI / 48) * (2 * M_PI / 48) / 12, 1e-15);
     /* REFERENCES.md section 7: a 4096-count encoder has sigma = 4.428221104087446e-4 rad */
     ck_assert_rel(sqrt(rigmat_noise_sensor(0, 0, 0, 2 * M_PI / 4096, T).total_var),
-            4.428221104087446e-4, 1e-15);
+                  4.428221104087446e-4, 1e-15);
     ck_assert_rel(c.total_var, 0.02 * 0.02 + Ng * Ng / T + 1e-6 / 12, 1e-15);
     ck_assert_rel(rigmat_noise_sample_sd(0.64, 0.005), sqrt(0.64 / 0.005), 1e-15);
 }

@@ -11,6 +11,8 @@
  *                   delay, "<input>.delayed<j>" holding u[k-j]
  *   Ad Bd Cd Dd     x[k+1] = Ad x[k] + Bd u[k] + Gd w[k], y[k] = Cd x[k] + Dd u[k] + Ed w[k]
  *   Gd Ed           the disturbance columns (inputs with role disturbance)
+ *   Qc              white-noise intensity of each input (SI per Hz; 0 for control
+ *                   inputs and for disturbances without a density)
  *   Qd              covariance of the process noise added over one period
  *   qd_exact        true for zoh (Qd is the exact covariance of the sampled system)
  *   Rd              covariance of the measurement noise of one sample
@@ -32,8 +34,8 @@
 static const char *const discretize_usage[] = {
     "rigmat discretize FILE (--rate FREQ | --period TIME) [--method METHOD] [--prewarp FREQ]",
     "                  [--delay SAMPLES] [--set PATH=VALUE]... [--format text|json] [-o FILE]",
-    "                  [--catalog DIR]",
-    NULL };
+    "                  [--catalog DIR]", NULL
+};
 
 /* The lowest and highest multiples of the closed-loop bandwidth a sample
  * rate is usually chosen at (common practice; REFERENCES.md section 8). */
@@ -82,14 +84,14 @@ static void text_noise(FILE *f, const rigmat_layout *L, const rigmat_noise *nz)
     for (i = 0; i < nz->nw; i++) {
         const rigmat_signal *in = &L->inputs[L->nu_control + i];
         if (nz->disturbance_sd[i] > 0)
-            fprintf(f, "  disturbance %s [%s]: %.4g averaged over one period\n", in->name,
-                    in->unit, nz->disturbance_sd[i]);
+            fprintf(f, "  disturbance %s [%s]: %.4g averaged over one period\n", in->name, in->unit,
+                    nz->disturbance_sd[i]);
     }
     fputc('\n', f);
 }
 
 static void discretize_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d,
-        const rigmat_noise *nz, const rigmat_signal *xs)
+                            const rigmat_noise *nz, const rigmat_signal *xs)
 {
     const rigmat_layout *L = &m->layout;
     const rigmat_signal *w = L->inputs + L->nu_control;
@@ -104,29 +106,32 @@ static void discretize_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d
         fprintf(f, ", input delay %.6g samples (%.6g ms)", d->delay_samples,
                 d->delay_samples * d->period_s * 1e3);
     fputs("\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + noise (Qd);  y[k] = Cd x[k] + Dd u[k] + "
-          "Ed w[k] + noise (Rd)\n\n", f);
+          "Ed w[k] + noise (Rd)\n\n",
+          f);
     cli_text_matrix(f, "Ad", d->Ad, xs, d->nx, xs, d->nx);
     cli_text_matrix(f, "Bd (control inputs)", d->Bd, xs, d->nx, L->inputs, d->nu);
     cli_text_matrix(f, "Gd (disturbances)", d->Gd, xs, d->nx, w, d->nw);
     cli_text_matrix(f, "Cd", d->Cd, L->outputs, d->ny, xs, d->nx);
     cli_text_matrix(f, "Dd", d->Dd, L->outputs, d->ny, L->inputs, d->nu);
     cli_text_matrix(f, "Ed (disturbance feedthrough)", d->Ed, L->outputs, d->ny, w, d->nw);
-    cli_text_matrix(f, nz->qd_exact ? "Qd (process noise per period, exact)"
-                                    : "Qd (process noise per period, exact for zoh only)",
-            nz->Qd, xs, d->nx, xs, d->nx);
-    cli_text_matrix(f, "Rd (measurement noise per sample)", nz->Rd, L->outputs, d->ny,
-            L->outputs, d->ny);
+    cli_text_matrix(f,
+                    nz->qd_exact ? "Qd (process noise per period, exact)"
+                                 : "Qd (process noise per period, exact for zoh only)",
+                    nz->Qd, xs, d->nx, xs, d->nx);
+    cli_text_matrix(f, "Rd (measurement noise per sample)", nz->Rd, L->outputs, d->ny, L->outputs,
+                    d->ny);
     if (nz->S != NULL)
         cli_text_matrix(f, "S = E[w_k v_k^T] (process-measurement cross-covariance)", nz->S, xs,
-                d->nx, L->outputs, d->ny);
+                        d->nx, L->outputs, d->ny);
     text_noise(f, L, nz);
-    fprintf(f, "advice (common practice): sample %g-%g times faster than the closed-loop "
-               "bandwidth; %.6g Hz suits a closed-loop bandwidth of about %.3g-%.3g Hz\n",
+    fprintf(f,
+            "advice (common practice): sample %g-%g times faster than the closed-loop "
+            "bandwidth; %.6g Hz suits a closed-loop bandwidth of about %.3g-%.3g Hz\n",
             rule_low, rule_high, rate_hz, rate_hz / rule_high, rate_hz / rule_low);
 }
 
 static rigmat_status discretize_json(FILE *f, const rigmat_model *m, const rigmat_lti *l,
-        const rigmat_dlti *d, const rigmat_noise *nz)
+                                     const rigmat_dlti *d, const rigmat_noise *nz)
 {
     const rigmat_layout *L = &m->layout;
     struct cli_json j;
@@ -157,6 +162,17 @@ static rigmat_status discretize_json(FILE *f, const rigmat_model *m, const rigma
     cli_json_matrix(&j, d->Gd, d->nx, d->nw);
     cli_json_key(&j, "Ed");
     cli_json_matrix(&j, d->Ed, d->ny, d->nw);
+    cli_json_key(&j, "Qc");
+    {
+        const int pretty = j.pretty;
+        size_t i;
+        cli_json_arr_open(&j);
+        j.pretty = 0;
+        for (i = 0; i < l->nu; i++)
+            cli_json_num(&j, l->input_intensity[i]);
+        cli_json_arr_close(&j);
+        j.pretty = pretty;
+    }
     cli_json_key(&j, "Qd");
     cli_json_matrix(&j, nz->Qd, d->nx, d->nx);
     cli_json_key(&j, "qd_exact");
@@ -190,7 +206,7 @@ static const char *motor_of(const char *state, char *buf, size_t len)
 }
 
 static void print_advice(struct cli_env *env, const rigmat_model *m, const rigmat_advice *a,
-        size_t n, const rigmat_discretize_opts *o)
+                         size_t n, const rigmat_discretize_opts *o)
 {
     const rigmat_layout *L = &m->layout;
     const double T = o->period_s, nyq_hz = 0.5 / T;
@@ -253,12 +269,12 @@ static void print_direct(struct cli_env *env, const rigmat_model *m, const rigma
                         "variance is added to Rd and the cross-covariance S is exported\n",
                         L->inputs[k].name, L->outputs[i].name);
                 fputs("  hint: give the disturbance a `bandwidth` to colour it instead\n",
-                        env->err);
+                      env->err);
             }
 }
 
 static rigmat_status parse_args(struct cli_env *env, const struct discretize_args *a,
-        rigmat_discretize_opts *o)
+                                rigmat_discretize_opts *o)
 {
     rigmat_status st;
     double v;
@@ -289,8 +305,10 @@ static rigmat_status parse_args(struct cli_env *env, const struct discretize_arg
         o->period_s = v;
     }
     if (a->method != NULL && rigmat_method_parse(a->method, &o->method) != 0) {
-        fprintf(env->err, "rigmat discretize: unknown method '%s'\n"
-                          "  hint: use zoh, foh, tustin, euler or backward-euler\n", a->method);
+        fprintf(env->err,
+                "rigmat discretize: unknown method '%s'\n"
+                "  hint: use zoh, foh, tustin, euler or backward-euler\n",
+                a->method);
         return RIGMAT_EUSAGE;
     }
     if (a->prewarp != NULL) {
@@ -315,12 +333,14 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
         { 0, "rate", CLI_OPT_STRING, &a.rate, "FREQ", "controller sample rate (200Hz)" },
         { 0, "period", CLI_OPT_STRING, &a.period, "TIME", "or its period (5ms)" },
         { 0, "method", CLI_OPT_STRING, &a.method, "METHOD",
-                "zoh (default), foh, tustin, euler or backward-euler" },
+          "zoh (default), foh, tustin, euler or backward-euler" },
         { 0, "prewarp", CLI_OPT_STRING, &a.prewarp, "FREQ",
-                "tustin: match the continuous model exactly at FREQ" },
+          "tustin: match the continuous model exactly at FREQ" },
         { 0, "delay", CLI_OPT_STRING, &a.delay, "SAMPLES",
-                "zoh: input delay in samples, whole plus fraction (1.5)" },
-        CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
+          "zoh: input delay in samples, whole plus fraction (1.5)" },
+        CLI_COMMON_ROWS(&c),
+        CLI_OPT_END_ROW
+    };
     static const char *const formats[] = { "text", "json", NULL };
     rigmat_discretize_opts o = rigmat_discretize_opts_default();
     const rigmat_sampling_limits lim = rigmat_sampling_limits_default();
@@ -391,7 +411,7 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
         st = rigmat_noise_build(lti, d, &no, nw, &nz, &e);
     if (st == RIGMAT_OK)
         st = rigmat_sampling_advice(lti, &o, &lim, advice, sizeof advice / sizeof advice[0],
-                &nadvice, &e);
+                                    &nadvice, &e);
     if (st != RIGMAT_OK)
         goto report;
     xs = sampled_states(&m->layout, d);
@@ -400,9 +420,9 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
         goto report;
     }
     print_advice(env, m, advice,
-            nadvice < sizeof advice / sizeof advice[0] ? nadvice
-                                                      : sizeof advice / sizeof advice[0],
-            &o);
+                 nadvice < sizeof advice / sizeof advice[0] ? nadvice
+                                                            : sizeof advice / sizeof advice[0],
+                 &o);
     if (nz->S != NULL)
         print_direct(env, m, lti);
     if (fmt == 1) {

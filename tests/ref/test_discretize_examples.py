@@ -9,7 +9,9 @@ import json
 import math
 import os
 import subprocess
+import re
 import sys
+import tempfile
 
 import numpy as np
 import scipy.integrate
@@ -54,12 +56,67 @@ def check(ok, what):
         print("FAIL:", what)
 
 
+def direct_disturbance():
+    """The demo with its shove made white (bandwidth removed): the disturbance
+    reaches the accelerometer directly.  Rd gains E Qc E^T / T and
+    S = Gd Qc E^T / T (zoh), as src/noise.h states."""
+    demo = os.path.join(ROOT, "examples", "balancer.yaml")
+    if not os.path.exists(demo):
+        return
+    text = open(demo).read()
+    white = re.sub(r",\s*bandwidth:\s*5\s*Hz", "", text)
+    check(white != text, "balancer.yaml: the shove's bandwidth was not found")
+    with tempfile.TemporaryDirectory() as tmp:
+        path = os.path.join(tmp, "white.yaml")
+        with open(path, "w") as f:
+            f.write(white)
+        p = subprocess.run([RIGMAT, "discretize", path, "--rate", "200Hz", "--format", "json",
+                            "--catalog", os.path.join(ROOT, "catalog")],
+                           capture_output=True, text=True)
+        check(p.returncode == 0, "white demo: exit %d: %s" % (p.returncode, p.stderr))
+        if p.returncode != 0:
+            return
+        check("reaches sensor 'accel' directly" in p.stderr, "white demo: no warning")
+        d = json.loads(p.stdout)
+        nx, ny = len(d["Ad"]), len(d["Rd"])
+        nuc = len(d["Bd"][0]) if nx and d["Bd"] and d["Bd"][0] else 0
+        T = d["period"]
+        qc = np.diag(np.array(d["Qc"][nuc:], dtype=float))
+        E = np.array(d["Ed"], dtype=float).reshape(ny, -1)
+        G = np.array(d["Gd"], dtype=float).reshape(nx, -1)
+        check("S" in d, "white demo: no S")
+        if "S" in d:
+            S = np.array(d["S"], dtype=float)
+            check(rel(S, G @ qc @ E.T / T) <= TOL, "white demo: S differs from Gd Qc E^T / T")
+        direct = E @ qc @ E.T / T
+        rd = np.array(d["Rd"], dtype=float)
+        i = [o["name"] for o in d["outputs"]].index("accel")
+        check(abs(rd[i, i] - direct[i, i] - 0.02 ** 2) <= 1e-12 * rd[i, i],
+              "white demo: Rd(accel) = %.17g, want 0.02^2 + %.17g" % (rd[i, i], direct[i, i]))
+
+
+def misuse():
+    """Exit code 2 and a one-line reason for each misuse."""
+    demo = os.path.join(ROOT, "examples", "balancer.yaml")
+    for args in (["--rate", "200Hz", "--period", "5ms"], [], ["--rate", "200Hz", "--method", "x"],
+                 ["--rate", "200Hz", "--method", "tustin", "--delay", "1"],
+                 ["--rate", "200Hz", "--method", "tustin", "--prewarp", "100Hz"],
+                 ["--rate", "200Hz", "--prewarp", "3Hz"], ["--rate", "5ms"],
+                 ["--rate", "200Hz", "--delay", "-1"]):
+        p = subprocess.run([RIGMAT, "discretize", demo] + args, capture_output=True, text=True)
+        check(p.returncode == 2 and p.stdout == "",
+              "discretize %s: exit %d, want 2" % (" ".join(args), p.returncode))
+
+
 def main():
+    misuse()
+    direct_disturbance()
     examples = sorted(glob.glob(os.path.join(ROOT, "examples", "*.yaml")))
     if not examples:
         print("no examples; nothing to compare")
         return 0
     worst = 0.0
+    worst_q = 0.0
     for ex in examples:
         lin = run("linearize", ex, "--format", "json")
         nx, nu, ny = len(lin["states"]), len(lin["inputs"]), len(lin["outputs"])
@@ -78,8 +135,12 @@ def main():
                 ad, bd, cd, dd, _ = scipy.signal.cont2discrete((A, B, C, D), T, method=theirs)
                 got_b = np.hstack([mat(dis["Bd"], nx, nuc), mat(dis["Gd"], nx, nu - nuc)])
                 got_d = np.hstack([mat(dis["Dd"], ny, nuc), mat(dis["Ed"], ny, nu - nuc)])
+                # Dd = D + C X B-like products: rounding is relative to ||C|| ||Bd||,
+                # which can dwarf ||Dd|| (a sensor that barely sees the input)
+                dscale = max(np.linalg.norm(dd[:, :nu]), np.linalg.norm(C) * np.linalg.norm(bd))
                 errs = [rel(mat(dis["Ad"], nx, nx), ad), rel(got_b, bd[:, :nu]),
-                        rel(mat(dis["Cd"], ny, nx), cd), rel(got_d, dd[:, :nu])]
+                        rel(mat(dis["Cd"], ny, nx), cd),
+                        np.linalg.norm(got_d - dd[:, :nu]) / dscale if dscale > 0 else 0.0]
                 for name, e in zip(("Ad", "Bd|Gd", "Cd", "Dd|Ed"), errs):
                     check(e <= TOL, "%s %s %s: %s differs from scipy by %.3g"
                           % (os.path.basename(ex), rate, ours, name, e))
@@ -90,20 +151,18 @@ def main():
                 check(ev.min() >= -nx * 2.2e-16 * max(abs(ev).max(), 1e-300),
                       "%s %s: Qd indefinite (%.3g)" % (ex, ours, ev.min()))
                 check(dis["qd_exact"] == (ours == "zoh"), "%s: qd_exact flag" % ex)
-            # Qd by quadrature (independent of the block method)
+            # Qd by quadrature, independent of the block method
             dis = run("discretize", ex, "--rate", rate, "--format", "json")
             T = dis["period"]
-            qc = np.zeros(nu)
-            G = B[:, nuc:nu]
-            # intensities are not in the JSON; recover G Qc G^T from Qd's derivative at T -> 0
-            # is not possible, so compare against quadrature with Qc from a short-period run
-            short = run("discretize", ex, "--period", "1us", "--format", "json")
-            W0 = mat(short["Qd"], nx, nx) / short["period"]
-            f = lambda s: (scipy.linalg.expm(A * s) @ W0 @ scipy.linalg.expm(A.T * s)).ravel()
-            Qq, _ = scipy.integrate.quad_vec(f, 0.0, T, epsabs=0, epsrel=1e-11)
-            # W0 itself is first-order accurate in the 1 us period: compare loosely
-            e = rel(mat(dis["Qd"], nx, nx), Qq.reshape(nx, nx))
-            check(e <= 1e-3, "%s %s: Qd vs quadrature %.3g" % (ex, rate, e))
+            qc = np.array(dis["Qc"], dtype=float)
+            if nu > nuc and qc[nuc:].any():
+                G = B[:, nuc:nu]
+                W = G @ np.diag(qc[nuc:]) @ G.T
+                f = lambda s: (scipy.linalg.expm(A * s) @ W @ scipy.linalg.expm(A.T * s)).ravel()
+                Qq, _ = scipy.integrate.quad_vec(f, 0.0, T, epsabs=0, epsrel=1e-13)
+                e = rel(mat(dis["Qd"], nx, nx), Qq.reshape(nx, nx))
+                check(e <= 1e-10, "%s %s: Qd vs quadrature %.3g" % (ex, rate, e))
+                worst_q = max(worst_q, e)
         # delay: structure of the augmented model
         dis = run("discretize", ex, "--rate", "200Hz", "--delay", "1.5", "--format", "json")
         nd = len(dis["delay_states"])
@@ -119,8 +178,8 @@ def main():
             e = rel(g, mat(zoh["Bd"], nx, nuc))
             check(e <= TOL, "%s: Gamma0 + Gamma1 differs from Gamma by %.3g" % (ex, e))
             check(rel(ad[:nx, :nx], mat(zoh["Ad"], nx, nx)) <= TOL, "%s: delayed Ad" % ex)
-    print("discretize: %d examples, worst difference from scipy.signal.cont2discrete %.3g"
-          % (len(examples), worst))
+    print("discretize: %d examples, worst difference from scipy.signal.cont2discrete %.3g, "
+          "Qd from quadrature %.3g" % (len(examples), worst, worst_q))
     return 1 if failures else 0
 
 
