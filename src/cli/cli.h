@@ -81,6 +81,18 @@ int cli_format(struct cli_env *env, const char *fmt, const char *const *accepted
 rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct cli_common *c,
         rigmat_model **out);
 
+/* The opening every command on one model FILE shares: parse argv against
+ * opts, print the help to stdout on --help (then *done is 1), require one
+ * FILE (*file), and check --format against formats (*fmt, its index).
+ * Usage errors are printed with the usage; returns RIGMAT_EUSAGE. */
+rigmat_status cli_model_command(int argc, char **argv, const struct cli_opt *opts,
+        const char *const *usage, const char *const *formats, struct cli_env *env,
+        const struct cli_common *c, const char **file, int *fmt, int *done);
+
+/* Linearize m at its operating point, printing the warnings to env->err
+ * and reporting a failure (its status is returned). */
+rigmat_status cli_linearize(struct cli_env *env, const rigmat_model *m, rigmat_lti **out);
+
 /* Report a rigmat_error on env->err as "rigmat CMD: error: message" (with
  * its place when it has one) and the hint; returns err->status. */
 rigmat_status cli_report(struct cli_env *env, const rigmat_error *err);

@@ -14,6 +14,7 @@
  */
 #include "cli.h"
 #include "units.h"
+#include "noise.h"
 
 #include <math.h>
 #include <string.h>
@@ -60,32 +61,32 @@ static const char *coord_suffix(const rigmat_joint *j, int rate)
     return rate ? "velocity" : "position";
 }
 
-/* sd per sample of a density (with optional bandwidth); -1 when it needs
- * a rate that was not given. */
+/* sd per sample of a density (with optional bandwidth), by the noise
+ * module's formulas (src/noise.h); -1 when it needs a rate not given. */
 static double density_sd(double density, double bandwidth_hz, double rate_hz)
 {
-    if (density <= 0.0)
-        return 0.0;
-    if (bandwidth_hz > 0.0)
-        return density * sqrt(M_PI * bandwidth_hz);
-    if (rate_hz > 0.0)
-        return density * sqrt(rate_hz); /* N / sqrt(T), T = 1/rate */
-    return -1.0;
+    if (density > 0.0 && bandwidth_hz <= 0.0 && rate_hz <= 0.0)
+        return -1.0;
+    return sqrt(rigmat_noise_sensor(0.0, density, bandwidth_hz, 0.0,
+            rate_hz > 0.0 ? 1.0 / rate_hz : 1.0).total_var);
+}
+
+/* An encoder without a stated resolution is quantized to one count, the
+ * default the linearization uses for Rd too. */
+static double sensor_resolution(const rigmat_sensor *s)
+{
+    if (s->resolution == 0.0 && s->kind == RIGMAT_SENSE_MOTOR_ANGLE && s->counts_per_rev > 0.0)
+        return 2.0 * M_PI / s->counts_per_rev;
+    return s->resolution;
 }
 
 /* The sd per sample of a sensor in its measured unit; -1 needs a rate. */
 static double sensor_sd(const rigmat_sensor *s, double rate_hz)
 {
-    const double dsd = density_sd(s->density, s->bandwidth_hz, rate_hz);
-    double q = s->resolution;
-
-    if (dsd < 0.0)
+    if (s->density > 0.0 && s->bandwidth_hz <= 0.0 && rate_hz <= 0.0)
         return -1.0;
-    /* an encoder without a stated resolution is quantized to one count
-     * (the same default the linearization uses for Rd) */
-    if (q == 0.0 && s->kind == RIGMAT_SENSE_MOTOR_ANGLE && s->counts_per_rev > 0.0)
-        q = 2.0 * M_PI / s->counts_per_rev;
-    return sqrt(dsd * dsd + s->noise * s->noise + q * q / 12.0);
+    return sqrt(rigmat_noise_sensor(s->noise, s->density, s->bandwidth_hz, sensor_resolution(s),
+            rate_hz > 0.0 ? 1.0 / rate_hz : 1.0).total_var);
 }
 
 static void body_text(FILE *f, const rigmat_body *b)
@@ -261,7 +262,7 @@ static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
     for (i = 0; i < m->nsensors; i++) {
         const rigmat_sensor *s = &m->sensors[i];
         const double sd = sensor_sd(s, rate_hz);
-        if (s->noise == 0.0 && s->density == 0.0 && s->resolution == 0.0)
+        if (s->noise == 0.0 && s->density == 0.0 && sensor_resolution(s) == 0.0)
             fprintf(f, "  %-12s sensor, noiseless\n", s->name);
         else if (sd < 0.0)
             fprintf(f, "  %-12s sensor, needs --rate\n", s->name);
@@ -496,30 +497,16 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
         CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
     static const char *const formats[] = { "text", "json", NULL };
     rigmat_model *m = NULL;
-    const char *pos[1];
-    size_t npos = 0;
+    const char *file = NULL;
+    int done = 0;
     double rate_hz = 0.0;
     rigmat_status st;
     int fmt;
 
     memset(&c, 0, sizeof c);
-    st = cli_parse(argc, argv, opts, env, pos, 1, &npos);
-    if (st != RIGMAT_OK) {
-        cli_usage(env->err, check_usage, opts);
+    st = cli_model_command(argc, argv, opts, check_usage, formats, env, &c, &file, &fmt, &done);
+    if (st != RIGMAT_OK || done)
         return st;
-    }
-    if (c.help) {
-        cli_usage(stdout, check_usage, opts);
-        return RIGMAT_OK;
-    }
-    if (npos != 1) {
-        fprintf(env->err, "rigmat check: missing the model FILE\n");
-        cli_usage(env->err, check_usage, opts);
-        return RIGMAT_EUSAGE;
-    }
-    fmt = cli_format(env, c.format, formats);
-    if (fmt < 0)
-        return RIGMAT_EUSAGE;
     if (rate != NULL) {
         st = cli_quantity(env, "rate", rate, RIGMAT_Q_FREQUENCY, &rate_hz);
         if (st != RIGMAT_OK)
@@ -530,7 +517,7 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
         }
     }
     env->opt.rate_hz = rate_hz;
-    st = cli_load_model(env, pos[0], &c, &m);
+    st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;
     if (fmt == 1)

@@ -354,48 +354,30 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
     rigmat_signal *xs = NULL;
     rigmat_advice advice[32];
     size_t nadvice = 0;
-    rigmat_diags warn;
     rigmat_error e;
-    const char *pos[1];
-    size_t npos = 0;
+    const char *file = NULL;
+    int done = 0;
     rigmat_status st;
     int fmt;
 
     memset(&c, 0, sizeof c);
     memset(&a, 0, sizeof a);
     memset(&e, 0, sizeof e);
-    st = cli_parse(argc, argv, opts, env, pos, 1, &npos);
-    if (st != RIGMAT_OK) {
-        cli_usage(env->err, discretize_usage, opts);
+    st = cli_model_command(argc, argv, opts, discretize_usage, formats, env, &c, &file, &fmt, &done);
+    if (st != RIGMAT_OK || done)
         return st;
-    }
-    if (c.help) {
-        cli_usage(stdout, discretize_usage, opts);
-        return RIGMAT_OK;
-    }
-    if (npos != 1) {
-        fprintf(env->err, "rigmat discretize: missing the model FILE\n");
-        cli_usage(env->err, discretize_usage, opts);
-        return RIGMAT_EUSAGE;
-    }
-    fmt = cli_format(env, c.format, formats);
-    if (fmt < 0)
-        return RIGMAT_EUSAGE;
     st = parse_args(env, &a, &o);
     if (st != RIGMAT_OK) {
         cli_usage(env->err, discretize_usage, opts);
         return st;
     }
     env->opt.rate_hz = 1.0 / o.period_s;
-    st = cli_load_model(env, pos[0], &c, &m);
+    st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;
-    rigmat_diags_init(&warn);
-    st = rigmat_linearize(m, &env->opt, &lti, &warn, &e);
-    rigmat_diags_print(&warn, env->err);
-    rigmat_diags_release(&warn);
+    st = cli_linearize(env, m, &lti);
     if (st != RIGMAT_OK)
-        goto report;
+        goto done;
     if (lti->nx == 0) {
         st = RIGMAT_FAIL(&e, RIGMAT_EUSAGE, "the model has no states to sample");
         goto report;

@@ -92,41 +92,21 @@ rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
     static const char *const formats[] = { "text", "json", NULL };
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;
-    rigmat_diags warn;
-    rigmat_error e;
-    const char *pos[1];
-    size_t npos = 0;
+    const char *file = NULL;
+    int done = 0;
     rigmat_status st;
     int fmt;
 
     memset(&c, 0, sizeof c);
-    st = cli_parse(argc, argv, opts, env, pos, 1, &npos);
-    if (st != RIGMAT_OK) {
-        cli_usage(env->err, linearize_usage, opts);
+    st = cli_model_command(argc, argv, opts, linearize_usage, formats, env, &c, &file, &fmt, &done);
+    if (st != RIGMAT_OK || done)
         return st;
-    }
-    if (c.help) {
-        cli_usage(stdout, linearize_usage, opts);
-        return RIGMAT_OK;
-    }
-    if (npos != 1) {
-        fprintf(env->err, "rigmat linearize: missing the model FILE\n");
-        cli_usage(env->err, linearize_usage, opts);
-        return RIGMAT_EUSAGE;
-    }
-    fmt = cli_format(env, c.format, formats);
-    if (fmt < 0)
-        return RIGMAT_EUSAGE;
-    st = cli_load_model(env, pos[0], &c, &m);
+    st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;
-    memset(&e, 0, sizeof e);
-    rigmat_diags_init(&warn);
-    st = rigmat_linearize(m, &env->opt, &lti, &warn, &e);
-    rigmat_diags_print(&warn, env->err);
-    rigmat_diags_release(&warn);
+    st = cli_linearize(env, m, &lti);
     if (st != RIGMAT_OK) {
-        st = cli_report(env, &e);
+        /* reported */
     } else if (fmt == 1) {
         st = linearize_json(env->out, m, lti);
         if (st != RIGMAT_OK)

@@ -62,8 +62,9 @@ static void trim_text(FILE *f, const rigmat_model *m, const rigmat_trim_result *
     fputs("inputs\n", f);
     for (i = 0; i < r->nu; i++)
         fprintf(f, "  %-24s %.10g %s\n", L->inputs[i].name, r->u[i], L->inputs[i].unit);
-    fprintf(f, "\nresidual %.3g after %zu steps (tolerance %.3g): %s\n", r->residual,
-            r->iterations, tol, r->converged ? "a steady state" : "not converged");
+    fprintf(f, "\nresidual %.3g after %zu Gauss-Newton step%s (tolerance %.3g): %s\n",
+            r->residual, r->iterations, r->iterations == 1 ? "" : "s", tol,
+            r->converged ? "a steady state" : "not converged");
     if (r->nfree > 0) {
         fputs("not fixed by the equations (kept at their given values):", f);
         for (i = 0; i < r->nfree; i++)
@@ -87,31 +88,18 @@ rigmat_status cmd_trim(int argc, char **argv, struct cli_env *env)
     rigmat_model *m = NULL;
     rigmat_trim_result r;
     rigmat_error e;
-    const char *pos[1];
-    size_t npos = 0, i;
+    const char *file = NULL;
+    size_t i;
+    int done = 0;
     rigmat_status st;
     int fmt;
 
     memset(&c, 0, sizeof c);
     memset(&r, 0, sizeof r);
-    st = cli_parse(argc, argv, opts, env, pos, 1, &npos);
-    if (st != RIGMAT_OK) {
-        cli_usage(env->err, trim_usage, opts);
+    st = cli_model_command(argc, argv, opts, trim_usage, formats, env, &c, &file, &fmt, &done);
+    if (st != RIGMAT_OK || done)
         return st;
-    }
-    if (c.help) {
-        cli_usage(stdout, trim_usage, opts);
-        return RIGMAT_OK;
-    }
-    if (npos != 1) {
-        fprintf(env->err, "rigmat trim: missing the model FILE\n");
-        cli_usage(env->err, trim_usage, opts);
-        return RIGMAT_EUSAGE;
-    }
-    fmt = cli_format(env, c.format, formats);
-    if (fmt < 0)
-        return RIGMAT_EUSAGE;
-    st = cli_load_model(env, pos[0], &c, &m);
+    st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;
     memset(&e, 0, sizeof e);

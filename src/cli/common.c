@@ -1,5 +1,6 @@
 /* common.c - model loading and error reporting shared by the commands. */
 #include "cli.h"
+#include "linearize.h"
 
 #include <string.h>
 
@@ -45,4 +46,46 @@ rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct
     rigmat_diags_print(&d, env->err);
     rigmat_diags_release(&d);
     return st;
+}
+
+rigmat_status cli_model_command(int argc, char **argv, const struct cli_opt *opts,
+        const char *const *usage, const char *const *formats, struct cli_env *env,
+        const struct cli_common *c, const char **file, int *fmt, int *done)
+{
+    const char *pos[1];
+    size_t npos = 0;
+    const rigmat_status st = cli_parse(argc, argv, opts, env, pos, 1, &npos);
+
+    *done = 0;
+    if (st != RIGMAT_OK) {
+        cli_usage(env->err, usage, opts);
+        return st;
+    }
+    if (c->help) {
+        cli_usage(stdout, usage, opts);
+        *done = 1;
+        return RIGMAT_OK;
+    }
+    if (npos != 1) {
+        fprintf(env->err, "rigmat %s: missing the model FILE\n", env->command);
+        cli_usage(env->err, usage, opts);
+        return RIGMAT_EUSAGE;
+    }
+    *file = pos[0];
+    *fmt = cli_format(env, c->format, formats);
+    return *fmt < 0 ? RIGMAT_EUSAGE : RIGMAT_OK;
+}
+
+rigmat_status cli_linearize(struct cli_env *env, const rigmat_model *m, rigmat_lti **out)
+{
+    rigmat_diags warn;
+    rigmat_error e;
+    rigmat_status st;
+
+    memset(&e, 0, sizeof e);
+    rigmat_diags_init(&warn);
+    st = rigmat_linearize(m, &env->opt, out, &warn, &e);
+    rigmat_diags_print(&warn, env->err);
+    rigmat_diags_release(&warn);
+    return st == RIGMAT_OK ? st : cli_report(env, &e);
 }
