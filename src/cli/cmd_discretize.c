@@ -64,7 +64,7 @@ static void text_noise(FILE *f, const rigmat_layout *L, const rigmat_noise *nz)
 {
     size_t i;
 
-    fputs("noise per sample (standard deviation; DESIGN.md section 3)\n", f);
+    fputs("noise per sample (standard deviation; README.md, noise convention)\n", f);
     for (i = 0; i < L->ny; i++) {
         const rigmat_sensor_noise *s = &nz->sensor[i];
         fprintf(f, "  %s [%s]: %.4g", L->outputs[i].name, L->outputs[i].unit,
