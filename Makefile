@@ -25,8 +25,7 @@ BUILD = build
 PROJECT_CFLAGS = -std=c99 -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc -Isrc/util -I$(BUILD) \
     -Wall -Wextra -Wpedantic -Wconversion -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
     -Wold-style-definition -Wvla -Wdouble-promotion -Wcast-qual -Wwrite-strings \
-    -Wformat=2 -Wundef -fno-common -ffp-contract=off -MMD -MP \
-    -DRIGMAT_SHARE_DIR=\"$(PREFIX)/share/rigmat\"
+    -Wformat=2 -Wundef -fno-common -ffp-contract=off -MMD -MP
 PKG_CFLAGS := $(shell pkg-config --cflags gsl yaml-0.1 2>/dev/null)
 ifeq ($(BLAS),openblas)
 GSL_LIBS = -lgsl -lopenblas -lm
@@ -40,6 +39,9 @@ LIB_SRC  := $(sort $(wildcard src/*.c src/util/*.c))
 CLI_SRC  := $(sort $(wildcard src/cli/*.c))
 TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c
 BENCH_SRC := $(sort $(wildcard bench/*.c))
+# Installed beside rigmat.h as <rigmat/NAME.h>: units, the matrix
+# exponential, sampling and the noise model.
+PUBLIC_SUBHEADERS = src/units.h src/expm.h src/discretize.h src/noise.h
 
 # Three flavours share the sources: plain, sanitized (ASan+UBSan), and the
 # plain -O0 -g one valgrind wants (flavour flags come after CFLAGS, so -O0 holds).
@@ -58,6 +60,7 @@ $(BUILD)/$(1)/rigmat: $$($(1)_OBJ_CLI) $(BUILD)/$(1)/librigmat.a
 $(BUILD)/$(1)/check_rigmat: $$($(1)_OBJ_TEST) $(BUILD)/$(1)/librigmat.a
 	$$(CC) $(2) $$(LDFLAGS) -o $$@ $$^ $$(CHECK_LIBS) $$(LIBS)
 $(BUILD)/$(1)/tests/run.o: $(BUILD)/suites.h
+$(BUILD)/$(1)/src/cli/main.o: $(BUILD)/share_dir.h
 -include $$($(1)_OBJ_LIB:.o=.d) $$($(1)_OBJ_CLI:.o=.d) $$($(1)_OBJ_TEST:.o=.d)
 endef
 SAN_FLAGS = -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
@@ -65,13 +68,21 @@ $(eval $(call flavour,plain,))
 $(eval $(call flavour,san,$(SAN_FLAGS)))
 $(eval $(call flavour,vg,-O0))
 
+# The installed catalog folder, compiled into the program; rewritten only
+# when PREFIX changes, so `make install PREFIX=...` rebuilds what it must.
+$(BUILD)/share_dir.h: FORCE
+	@mkdir -p $(@D)
+	@printf '#define RIGMAT_SHARE_DIR "%s"\n' '$(PREFIX)/share/rigmat' > $@.tmp
+	@if cmp -s $@.tmp $@; then rm -f $@.tmp; else mv $@.tmp $@; fi
+FORCE:
+
 # The list of suites, from the files that define one.
 $(BUILD)/suites.h: $(sort $(wildcard tests/check_*.c))
 	@mkdir -p $(@D)
 	@sed -n 's/^Suite \*\([a-z_0-9]*\)_suite(void)$$/RIGMAT_SUITE(\1)/p' $^ > $@.tmp && mv $@.tmp $@
 
 .PHONY: all deps check check-unit check-cli check-ref check-san check-valgrind demo bench \
-        install uninstall clean fuzz format check-hostile check-fuzz check-fuzz-replay \
+        install uninstall clean fuzz format check-install FORCE check-hostile check-fuzz check-fuzz-replay \
         check-fuzz-short check-valgrind-cli
 all: deps-ok $(BUILD)/rigmat $(BUILD)/librigmat.a
 
@@ -103,12 +114,14 @@ demo: all
 
 # check: unit suites (plain), command-line tests, reference scripts, then the
 # unit suites again under AddressSanitizer + UndefinedBehaviorSanitizer.
-check: all check-symbols check-unit check-cli check-ref check-san check-hostile check-fuzz
+check: all check-symbols check-unit check-cli check-ref check-install check-san check-hostile check-fuzz
 	@echo "rigmat: all checks passed"
 check-symbols: $(BUILD)/librigmat.a
 	@nm -g --defined-only $< | awk 'NF==3 && $$3 !~ /^rigmat_/ {bad=1; print "non-prefixed symbol: " $$3} END {exit bad}'
 check-unit: $(BUILD)/plain/check_rigmat
 	cd tests && CK_DEFAULT_TIMEOUT=120 ../$(BUILD)/plain/check_rigmat
+check-install: all
+	sh tests/install.sh
 check-cli: $(BUILD)/rigmat
 	RIGMAT=$(BUILD)/rigmat sh tests/cli.sh
 check-ref: $(BUILD)/rigmat
@@ -194,13 +207,16 @@ install: all
 	    $(DESTDIR)$(PREFIX)/include $(DESTDIR)$(PREFIX)/share/rigmat
 	install -m 755 $(BUILD)/rigmat $(DESTDIR)$(PREFIX)/bin/rigmat
 	install -m 644 $(BUILD)/librigmat.a $(DESTDIR)$(PREFIX)/lib/librigmat.a
+	install -d $(DESTDIR)$(PREFIX)/include/rigmat
 	install -m 644 include/rigmat.h $(DESTDIR)$(PREFIX)/include/rigmat.h
+	install -m 644 $(PUBLIC_SUBHEADERS) $(DESTDIR)$(PREFIX)/include/rigmat/
 	cp -R catalog $(DESTDIR)$(PREFIX)/share/rigmat/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/^#define RIGMAT_VERSION "\(.*\)"/\1/p' include/rigmat.h)|g' \
 	    rigmat.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/rigmat.pc
 uninstall:
 	rm -f $(DESTDIR)$(PREFIX)/bin/rigmat $(DESTDIR)$(PREFIX)/lib/librigmat.a \
 	    $(DESTDIR)$(PREFIX)/include/rigmat.h $(DESTDIR)$(PREFIX)/lib/pkgconfig/rigmat.pc
+	rm -rf $(DESTDIR)$(PREFIX)/include/rigmat
 	rm -rf $(DESTDIR)$(PREFIX)/share/rigmat
 
 format:

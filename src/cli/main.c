@@ -7,6 +7,7 @@
  */
 #include "cli.h"
 #include "outfile.h"
+#include "share_dir.h" /* RIGMAT_SHARE_DIR, from the Makefile */
 
 #include <errno.h>
 #include <stdlib.h>

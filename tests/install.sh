@@ -1,0 +1,22 @@
+#!/bin/sh
+# install.sh - `make install` into a scratch DESTDIR, then build and run a
+# library user's program against it with pkg-config, and run the installed
+# program on the demo with the installed catalog.
+set -eu
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT INT TERM
+make --no-print-directory install DESTDIR="$T" PREFIX=/opt/rigmat >/dev/null
+P="$T/opt/rigmat"
+test -x "$P/bin/rigmat" && test -f "$P/include/rigmat.h" && test -f "$P/lib/librigmat.a"
+test -f "$P/share/rigmat/catalog/motors/gearmotor-24v-27.yaml"
+flags=$(PKG_CONFIG_PATH="$P/lib/pkgconfig" pkg-config --define-variable=prefix="$P" \
+    --cflags --libs --static rigmat)
+# shellcheck disable=SC2086
+${CC:-cc} -std=c99 -Wall -Wextra -o "$T/libuser" tests/libuser.c $flags
+"$T/libuser" examples/balancer.yaml
+# The installed program finds the installed catalog through --catalog, as
+# the share folder is only right once DESTDIR is gone.
+mkdir "$T/elsewhere"
+cp examples/balancer.yaml "$T/elsewhere/"
+"$P/bin/rigmat" check "$T/elsewhere/balancer.yaml" --catalog "$P/share/rigmat/catalog" >/dev/null
+echo "install: 1 passed, 0 failed"
