@@ -184,7 +184,8 @@ check-fuzz-replay: $(FUZZ_NAMES:%=$(BUILD)/san/fuzz-replay-%)
 	@for t in $(FUZZ_NAMES); do \
 	    sh tests/fuzz/seeds.sh $$t $(BUILD)/fuzz-seeds/$$t || exit 1; \
 	    echo "fuzz replay: $$t"; \
-	    RIGMAT_CATALOG=$(CURDIR)/catalog ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=print_stacktrace=1 \
+	    RIGMAT_CATALOG=$(CURDIR)/catalog ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 \
+	        UBSAN_OPTIONS=print_stacktrace=1:abort_on_error=1 \
 	        $(BUILD)/san/fuzz-replay-$$t tests/fuzz/regressions/$$t $(BUILD)/fuzz-seeds/$$t || exit 1; \
 	done
 check-fuzz-short:

@@ -99,7 +99,7 @@ typedef struct rigmat_diag {
 typedef struct rigmat_diags {
     rigmat_diag *items;
     size_t count, cap;
-    size_t errors;     /* number of items with severity RIGMAT_ERROR */
+    size_t errors;     /* errors found: those recorded plus those dropped */
     size_t max_errors; /* stop recording errors past this (default 50) */
     size_t dropped;    /* errors not recorded because of max_errors */
     char **files;      /* interned file names */

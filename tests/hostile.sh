@@ -45,7 +45,8 @@ if [ ! -x "$R" ]; then
 fi
 
 # ------------------------------------------------------------ big inputs
-# Each generator writes one file; awk keeps them fast and POSIX.
+# Each generator writes one file once (remove HOSTILE_GEN to remake them);
+# awk keeps them fast and POSIX.
 gen() { # gen NAME AWK-PROGRAM
     if [ ! -s "$G/$1" ]; then
         awk "BEGIN { $2 }" >"$G/$1.tmp" && mv "$G/$1.tmp" "$G/$1"

@@ -8,7 +8,8 @@
 # When LOG is given (tests/fuzz/LOG.md for `make fuzz`), one row is added
 # to its table of runs and its totals are recomputed from all rows.  Exits
 # non-zero when the fuzzer found a crash, a leak, a timeout or an
-# out-of-memory input.
+# out-of-memory input.  FUZZ_FLAGS adds libFuzzer options (for example
+# `-fork=1 -ignore_crashes=1` to keep going past a known, unfixed crash).
 set -u
 t=$1
 secs=$2
@@ -31,20 +32,24 @@ out=$b/last-$t.log
 before=$(find "$art" -type f | wc -l)
 touch "$b/start-$t"
 start=$(date +%s)
+set -f # FUZZ_FLAGS is split into words below, never globbed
 if [ -x /usr/bin/time ]; then
+    # shellcheck disable=SC2086
     /usr/bin/time -q -f '%U %S' -o "$b/last-$t.time" "$bin" -max_total_time="$secs" -timeout=10 \
         -rss_limit_mb=1536 -max_len="$max_len" -dict=tests/fuzz/rigmat.dict \
-        -artifact_prefix="$art/" -print_final_stats=1 "$corpus" "$seeds" \
+        -artifact_prefix="$art/" -print_final_stats=1 ${FUZZ_FLAGS:-} "$corpus" "$seeds" \
         tests/fuzz/regressions/"$t" >"$out" 2>&1
     rc=$?
     cpu=$(awk 'NR == 1 { printf "%.1f", $1 + $2 }' "$b/last-$t.time")
 else
+    # shellcheck disable=SC2086
     "$bin" -max_total_time="$secs" -timeout=10 -rss_limit_mb=1536 -max_len="$max_len" \
-        -dict=tests/fuzz/rigmat.dict -artifact_prefix="$art/" -print_final_stats=1 \
+        -dict=tests/fuzz/rigmat.dict -artifact_prefix="$art/" -print_final_stats=1 ${FUZZ_FLAGS:-} \
         "$corpus" "$seeds" tests/fuzz/regressions/"$t" >"$out" 2>&1
     rc=$?
     cpu=
 fi
+set +f
 wall=$(($(date +%s) - start))
 [ -n "$cpu" ] || cpu=$wall
 execs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$out" | tail -n 1)

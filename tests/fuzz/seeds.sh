@@ -4,7 +4,9 @@
 #                   "number unit" written in examples/ and catalog/;
 #   load, pipeline: the models of examples/, the broken ones of tests/bad/,
 #                   the hostile corpus (tests/hostile/, its catalog/) and
-#                   the catalog parts.
+#                   the catalog parts;
+#   pipeline also:  `#base EXAMPLE` inputs (fuzz_pipeline.c) that override
+#                   one value of each body, joint and motor of an example.
 # DIR is emptied first; file names are the source paths with / as _.
 set -eu
 t=$1
@@ -23,6 +25,22 @@ load | pipeline)
     for f in examples/*.yaml tests/bad/* tests/hostile/* tests/hostile/catalog/* catalog/*/*.yaml; do
         [ -f "$f" ] || continue
         cp "$f" "$dir/$(printf '%s' "$f" | tr '/' '_')"
+    done
+    [ "$t" = pipeline ] || exit 0
+    for f in examples/*.yaml; do
+        [ -f "$f" ] || continue
+        awk -v d="$dir" -v base="${f##*/}" '
+            function seed(line) { n++; out = sprintf("%s/base-%s-%02d", d, base, n)
+                printf "#base %s\n%s\n", base, line > out; close(out) }
+            /^[a-z_]+:/ { sec = $1; sub(/:.*/, "", sec); next }
+            /^  [A-Za-z0-9_-]+:/ {
+                name = $1; sub(/:.*/, "", name)
+                if (sec == "bodies") { seed("bodies." name ".mass=1e-300kg"); seed("bodies." name ".inertia=1e300kg*m^2") }
+                if (sec == "joints") seed("joints." name ".at=[1e154, -1e154]")
+                if (sec == "motors") { seed("motors." name ".resistance=1e-300ohm"); seed("motors." name ".gear_ratio=1e300") }
+                if (sec == "sensors") seed("sensors." name ".gain=-1e308")
+            }
+            END { seed("gravity=1e300m/s^2"); seed("slope=89.999999deg") }' "$f"
     done
     ;;
 *)
