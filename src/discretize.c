@@ -443,6 +443,18 @@ static rigmat_status delay_gammas(const rigmat_lti *s, const rigmat_discretize_o
     return RIGMAT_OK;
 }
 
+/* NULL (an empty block) counts as finite. */
+static int finite_all(const gsl_matrix *m)
+{
+    size_t i, j;
+
+    for (i = 0; m != NULL && i < m->size1; i++)
+        for (j = 0; j < m->size2; j++)
+            if (!isfinite(gsl_matrix_get(m, i, j)))
+                return 0;
+    return 1;
+}
+
 rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opts *o,
                                 rigmat_discretize_ws *w, rigmat_dlti **out, rigmat_error *err)
 {
@@ -542,6 +554,9 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
         if (rc != RIGMAT_OK)
             goto done;
     }
+    if (!finite_all(d->Ad) || !finite_all(d->Bd) || !finite_all(d->Gd) || !finite_all(d->Cd) ||
+            !finite_all(d->Dd) || !finite_all(d->Ed))
+        rc = RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the sampled model is not finite");
 done:
     if (rc != RIGMAT_OK)
         rigmat_dlti_free(d);

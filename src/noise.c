@@ -274,6 +274,36 @@ static rigmat_status gamma_g(const gsl_matrix *A, const gsl_matrix *G, double T,
     return rc;
 }
 
+/* A variance that overflowed (a gain of 1e308 squared) must stop here, not
+ * reach a printed Rd: name the first output or state it hits. */
+static rigmat_status check_finite(const rigmat_noise *r, const rigmat_layout *L,
+                                  rigmat_error *err)
+{
+    size_t i, j;
+
+    for (i = 0; i < r->ny; i++)
+        for (j = 0; j < r->ny; j++)
+            if (!isfinite(gsl_matrix_get(r->Rd, i, j))) {
+                rigmat_status st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "the measurement noise of output '%s' is not finite",
+                        L != NULL && i < L->ny ? L->outputs[i].name : "?");
+                rigmat_error_hint(err, "its variance overflows: check the sensor's gain, "
+                                       "noise, density and resolution");
+                return st;
+            }
+    for (i = 0; r->Qd != NULL && i < r->Qd->size1; i++)
+        for (j = 0; j < r->Qd->size2; j++)
+            if (!isfinite(gsl_matrix_get(r->Qd, i, j)))
+                return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "the process noise Qd is not finite (row %zu)", i + 1);
+    for (i = 0; r->S != NULL && i < r->S->size1; i++)
+        for (j = 0; j < r->S->size2; j++)
+            if (!isfinite(gsl_matrix_get(r->S, i, j)))
+                return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "the process/measurement cross-covariance is not finite");
+    return RIGMAT_OK;
+}
+
 rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
                                  const rigmat_noise_opts *o, rigmat_noise_ws *w, rigmat_noise **out,
                                  rigmat_error *err)
@@ -385,6 +415,7 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
                 gsl_matrix_set(r->S, i, j, v / T);
             }
     }
+    rc = check_finite(r, s->layout, err);
 done:
     if (rc != RIGMAT_OK)
         rigmat_noise_free(r);

@@ -92,6 +92,10 @@ if "$R" --help | grep -q '^  discretize'; then
     has "$T/out" '"Qd"' "discretize json has Qd"
     expect 2 "discretize without rate" -- "$R" discretize "$DEMO"
     expect 2 "rate in rad/s" -- "$R" discretize "$DEMO" --rate 100rad/s
+    # regression (fuzz_pipeline): an overflowing variance is an error, never "inf"
+    expect 3 "overflowing Rd, text" -- "$R" discretize "$DEMO" --rate 100Hz --set sensors.gyro.gain=-1e308
+    has "$T/err" "not finite" "overflowing Rd message"
+    if grep -q inf "$T/out"; then bad "inf printed"; else ok; fi
 fi
 
 for f in examples/*.yaml; do
