@@ -43,6 +43,20 @@ static char *dup_s(const char *s)
     return p;
 }
 
+/* A part's first comment often repeats its file name ("gearmotor-12v-19 --
+ * 12 V ..."); the listing already shows the name, so skip that echo. */
+static const char *without_own_name(const char *name, const char *summary)
+{
+    const char *base = strrchr(name, '/');
+    size_t n;
+
+    base = base != NULL ? base + 1 : name;
+    n = strlen(base);
+    if (strncmp(summary, base, n) == 0 && strncmp(summary + n, " -- ", 4) == 0)
+        return summary + n + 4;
+    return summary;
+}
+
 /* The first comment line, without '#' and the blanks after it. */
 static char *first_comment(const char *file)
 {
@@ -185,7 +199,8 @@ static rigmat_status list_parts(struct cli_env *env, int json)
                 if (strlen(l.rows[i].name) > w)
                     w = strlen(l.rows[i].name);
             for (i = 0; i < l.n; i++)
-                fprintf(env->out, "%-*s  %s\n", (int)w, l.rows[i].name, l.rows[i].summary);
+                fprintf(env->out, "%-*s  %s\n", (int)w, l.rows[i].name,
+                        without_own_name(l.rows[i].name, l.rows[i].summary));
         }
     }
     for (i = 0; i < l.n; i++) {
