@@ -132,6 +132,8 @@ void cli_json_matrix(struct cli_json *j, const gsl_matrix *m, size_t rows, size_
 void cli_json_vector(struct cli_json *j, const gsl_vector *v, size_t n);
 /* [{name, unit[, role]}...] for a signal list. */
 void cli_json_signals(struct cli_json *j, const rigmat_signal *s, size_t n, int with_role);
+/* "operating_point": {x, u, y} of a linear model. */
+void cli_json_operating_point(struct cli_json *j, const rigmat_lti *l);
 /* The common head: rigmat, model, kind, order_hash, states, inputs, outputs. */
 void cli_json_head(struct cli_json *j, const rigmat_model *m, const char *kind);
 

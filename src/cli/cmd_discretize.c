@@ -133,7 +133,6 @@ static void discretize_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d
 static rigmat_status discretize_json(FILE *f, const rigmat_model *m, const rigmat_lti *l,
                                      const rigmat_dlti *d, const rigmat_noise *nz)
 {
-    const rigmat_layout *L = &m->layout;
     struct cli_json j;
 
     cli_json_begin(&j, f);
@@ -183,15 +182,7 @@ static rigmat_status discretize_json(FILE *f, const rigmat_model *m, const rigma
         cli_json_key(&j, "S");
         cli_json_matrix(&j, nz->S, d->nx, d->ny);
     }
-    cli_json_key(&j, "operating_point");
-    cli_json_obj_open(&j);
-    cli_json_key(&j, "x");
-    cli_json_vector(&j, l->x0, L->nx);
-    cli_json_key(&j, "u");
-    cli_json_vector(&j, l->u0, L->nu);
-    cli_json_key(&j, "y");
-    cli_json_vector(&j, l->y0, L->ny);
-    cli_json_obj_close(&j);
+    cli_json_operating_point(&j, l);
     return cli_json_end(&j);
 }
 

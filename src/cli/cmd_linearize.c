@@ -63,15 +63,7 @@ static rigmat_status linearize_json(FILE *f, const rigmat_model *m, const rigmat
     cli_json_matrix(&j, l->C, L->ny, L->nx);
     cli_json_key(&j, "D");
     cli_json_matrix(&j, l->D, L->ny, L->nu);
-    cli_json_key(&j, "operating_point");
-    cli_json_obj_open(&j);
-    cli_json_key(&j, "x");
-    cli_json_vector(&j, l->x0, L->nx);
-    cli_json_key(&j, "u");
-    cli_json_vector(&j, l->u0, L->nu);
-    cli_json_key(&j, "y");
-    cli_json_vector(&j, l->y0, L->ny);
-    cli_json_obj_close(&j);
+    cli_json_operating_point(&j, l);
     cli_json_key(&j, "equilibrium");
     cli_json_obj_open(&j);
     cli_json_key(&j, "residual");

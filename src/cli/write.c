@@ -222,6 +222,19 @@ void cli_json_head(struct cli_json *j, const rigmat_model *m, const char *kind)
     cli_json_signals(j, l->outputs, l->ny, 0);
 }
 
+void cli_json_operating_point(struct cli_json *j, const rigmat_lti *l)
+{
+    cli_json_key(j, "operating_point");
+    cli_json_obj_open(j);
+    cli_json_key(j, "x");
+    cli_json_vector(j, l->x0, l->nx);
+    cli_json_key(j, "u");
+    cli_json_vector(j, l->u0, l->nu);
+    cli_json_key(j, "y");
+    cli_json_vector(j, l->y0, l->ny);
+    cli_json_obj_close(j);
+}
+
 /* ---------------------------------------------------------------- text */
 
 static void label(char *buf, size_t len, const rigmat_signal *s)
