@@ -46,7 +46,7 @@ rigmat_discretize_opts rigmat_discretize_opts_default(void)
     o.period_s = 1e-3;
     o.prewarp_hz = 0.0;
     o.delay_samples = 0.0;
-    o.expm_flags = 0;
+    o.expm_flags = RIGMAT_EXPM_BALANCE;
     return o;
 }
 
