@@ -486,8 +486,10 @@ static rigmat_status solve(rigmat_mech *s, rigmat_error *err)
         if (!(creal(s->LU[a * nf + a]) > RIGMAT_MECH_PIVOT_RTOL * dmax)) {
             const size_t c = s->freec[a];
             (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                    "the mass matrix is singular: coordinate of joint '%s' has no inertia",
-                    coord_state_name(s, c));
+                    "the mass matrix is singular: coordinate of joint '%s' has no inertia "
+                    "(diagonal %.3g of the largest, condition estimate %.3g)",
+                    coord_state_name(s, c), dmax > 0.0 ? creal(s->LU[a * nf + a]) / dmax : 0.0,
+                    creal(s->LU[a * nf + a]) > 0.0 ? dmax / creal(s->LU[a * nf + a]) : HUGE_VAL);
             rigmat_error_hint(err, "give the bodies it moves a mass or an inertia, or drive "
                                    "the joint");
             if (err != NULL)
@@ -508,7 +510,9 @@ static rigmat_status solve(rigmat_mech *s, rigmat_error *err)
             const size_t c = s->freec[k];
             (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
                     "the mass matrix is singular: the motion of joint '%s' has no inertia of "
-                    "its own", coord_state_name(s, c));
+                    "its own (pivot %.3g of the largest diagonal, condition estimate %.3g)",
+                    coord_state_name(s, c), dmax > 0.0 ? best / dmax : 0.0,
+                    best > 0.0 ? dmax / best : HUGE_VAL);
             rigmat_error_hint(err, "give the bodies it moves a mass or an inertia, or drive "
                                    "the joint");
             if (err != NULL)

@@ -391,9 +391,16 @@ rigmat_status rigmat_trim_run(rigmat_mech *s, const rigmat_model *m, const rigma
                 break;
             used += (size_t)w;
         }
-        st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                "trim did not converge: residual %.3g after %zu steps (tolerance %.3g); last "
-                "iterate %s", t->res, t->iter, opt->trim_tol, buf);
+        {
+            /* the conditioning of the last step's Jacobian, from its SVD */
+            const size_t ns = t->S != NULL ? t->S->size : 0;
+            const double smax = ns > 0 ? gsl_vector_get(t->S, 0) : 0.0;
+            const double smin = ns > 0 ? gsl_vector_get(t->S, ns - 1) : 0.0;
+            st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                    "trim did not converge: residual %.3g after %zu steps (tolerance %.3g); "
+                    "Jacobian condition estimate %.3g; last iterate %s", t->res, t->iter,
+                    opt->trim_tol, smin > 0.0 ? smax / smin : HUGE_VAL, buf);
+        }
         rigmat_error_hint(err, "start the solved names nearer a steady state, or check that "
                                "one exists (rigmat trim names the equations it cannot meet)");
     }
