@@ -37,7 +37,7 @@ CHECK_LIBS := $(shell pkg-config --libs check 2>/dev/null || echo -lcheck -lsubu
 
 LIB_SRC  := $(sort $(wildcard src/*.c src/util/*.c))
 CLI_SRC  := $(sort $(wildcard src/cli/*.c))
-TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c
+TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c tests/mechtest.c
 BENCH_SRC := $(sort $(wildcard bench/*.c))
 # Installed beside rigmat.h as <rigmat/NAME.h>: units, the matrix
 # exponential, sampling and the noise model.

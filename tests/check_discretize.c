@@ -19,24 +19,6 @@
 #define TOL_EXPM  1e-13
 #define TOL_SCIPY 1e-12
 
-static void fill(gsl_matrix *m, const double *v)
-{
-    size_t i, j;
-
-    for (i = 0; i < m->size1; i++)
-        for (j = 0; j < m->size2; j++)
-            gsl_matrix_set(m, i, j, v[i * m->size2 + j]);
-}
-
-static gsl_matrix *mat(size_t r, size_t c, const double *v)
-{
-    gsl_matrix *m = gsl_matrix_alloc(r, c);
-
-    ck_assert_ptr_nonnull(m);
-    fill(m, v);
-    return m;
-}
-
 /* the 2-state system of REFERENCES.md section 3 */
 static rigmat_lti *ref2(void)
 {
@@ -44,9 +26,9 @@ static rigmat_lti *ref2(void)
     rigmat_lti *s = rigmat_lti_alloc(2, 1, 1, 1);
 
     ck_assert_ptr_nonnull(s);
-    fill(s->A, a);
-    fill(s->B, b);
-    fill(s->C, c);
+    tu_fill(s->A, a);
+    tu_fill(s->B, b);
+    tu_fill(s->C, c);
     return s;
 }
 
@@ -73,7 +55,7 @@ static rigmat_dlti *run(const rigmat_lti *s, rigmat_method m, double T, double p
 
 static void expect(const gsl_matrix *got, size_t r, size_t c, const double *want, double tol)
 {
-    gsl_matrix *W = mat(r, c, want);
+    gsl_matrix *W = tu_mat(r, c, want);
 
     ck_assert_ptr_nonnull(got);
     ck_assert_matrix_rel(got, W, tol);
@@ -228,8 +210,8 @@ START_TEST(double_integrator_zoh_closed_form)
         const double ad[] = { 1, T, 0, 1 }, bd[] = { T * T / 2, T };
         rigmat_lti *s = rigmat_lti_alloc(2, 1, 0, 1);
         rigmat_dlti *d;
-        fill(s->A, a);
-        fill(s->B, b);
+        tu_fill(s->A, a);
+        tu_fill(s->B, b);
         d = run(s, RIGMAT_METHOD_ZOH, T, 0, 0);
         expect(d->Ad, 2, 2, ad, 4 * DBL_EPSILON);
         expect(d->Bd, 2, 1, bd, 4 * DBL_EPSILON);
@@ -241,17 +223,6 @@ START_TEST(double_integrator_zoh_closed_form)
 END_TEST
 
 /* ------------------------------------------------------------ scipy */
-
-static gsl_matrix *read_mat(FILE *f, size_t r, size_t c)
-{
-    gsl_matrix *m = gsl_matrix_alloc(r, c);
-    size_t i;
-
-    ck_assert_ptr_nonnull(m);
-    for (i = 0; i < r * c; i++)
-        ck_assert_int_eq(fscanf(f, "%lf", &m->data[(i / c) * m->tda + i % c]), 1);
-    return m;
-}
 
 /* Columns [c0, c0 + nc) of M against columns of W, normwise. */
 static double coldiff(const gsl_matrix *M, const gsl_matrix *W, size_t c0, size_t nc)
@@ -284,8 +255,8 @@ START_TEST(every_method_matches_scipy)
         nuc = m >= 2 ? m - 1 : m;
         s = rigmat_lti_alloc(n, m, p, nuc);
         {
-            gsl_matrix *A = read_mat(f, n, n), *B = read_mat(f, n, m), *C = read_mat(f, p, n),
-                       *D = read_mat(f, p, m);
+            gsl_matrix *A = tu_read_mat(f, n, n), *B = tu_read_mat(f, n, m),
+                       *C = tu_read_mat(f, p, n), *D = tu_read_mat(f, p, m);
             gsl_matrix_memcpy(s->A, A);
             gsl_matrix_memcpy(s->B, B);
             gsl_matrix_memcpy(s->C, C);
@@ -309,10 +280,10 @@ START_TEST(every_method_matches_scipy)
                 me = RIGMAT_METHOD_TUSTIN;
             else
                 ck_assert_int_eq(rigmat_method_parse(meth, &me), 0);
-            Ad = read_mat(f, n, n);
-            Bd = read_mat(f, n, m);
-            Cd = read_mat(f, p, n);
-            Dd = read_mat(f, p, m);
+            Ad = tu_read_mat(f, n, n);
+            Bd = tu_read_mat(f, n, m);
+            Cd = tu_read_mat(f, p, n);
+            Dd = tu_read_mat(f, p, m);
             d = run(s, me, T, k == 5 ? f1 : 0.0, 0);
             e[0] = rigmat_test_matrix_reldiff(d->Ad, Ad);
             e[1] = coldiff(d->Bd, Bd, 0, nuc);
@@ -395,12 +366,12 @@ START_TEST(delayed_recursion_matches_integration)
         ck_assert_ptr_nonnull(fgets(line, sizeof line, f));
     while (line[0] == '#');
     ck_assert_int_eq(sscanf(line, "plant %zu %zu %zu %lf %zu", &n, &m, &p, &T, &K), 5);
-    A = read_mat(f, n, n);
-    B = read_mat(f, n, m);
-    C = read_mat(f, p, n);
-    D = read_mat(f, p, m);
-    x0 = read_mat(f, 1, n);
-    u = read_mat(f, K, m);
+    A = tu_read_mat(f, n, n);
+    B = tu_read_mat(f, n, m);
+    C = tu_read_mat(f, p, n);
+    D = tu_read_mat(f, p, m);
+    x0 = tu_read_mat(f, 1, n);
+    u = tu_read_mat(f, K, m);
     s = rigmat_lti_alloc(n, m, p, m);
     gsl_matrix_memcpy(s->A, A);
     gsl_matrix_memcpy(s->B, B);
@@ -414,8 +385,8 @@ START_TEST(delayed_recursion_matches_integration)
         double *z, *zn;
         if (fscanf(f, " delay %zu %lf", &dd, &fr) != 2)
             break;
-        xs = read_mat(f, K, n);
-        ys = read_mat(f, K, p);
+        xs = tu_read_mat(f, K, n);
+        ys = tu_read_mat(f, K, p);
         d = run(s, RIGMAT_METHOD_ZOH, T, 0, (double)dd + fr);
         ck_assert_uint_eq(d->ndelay, fr > 0 ? dd + 1 : dd);
         z = calloc(d->nx, sizeof *z);
@@ -609,7 +580,7 @@ START_TEST(advice_fires_only_where_it_matters)
     lay.states = states;
     lay.nx = 2;
     s->layout = &lay;
-    fill(s->A, a);
+    tu_fill(s->A, a);
     c = advice(s, RIGMAT_METHOD_ZOH, 0.01, it, 8);
     ck_assert_uint_eq(c, 1);
     ck_assert_int_eq(it[0].kind, RIGMAT_ADVICE_NEGLECT_L);
@@ -625,7 +596,7 @@ START_TEST(advice_fires_only_where_it_matters)
         const double w = 2 * M_PI * 30.0;
         const double b[] = { 0, 1, -w * w, 0 };
         s->layout = NULL;
-        fill(s->A, b);
+        tu_fill(s->A, b);
         c = advice(s, RIGMAT_METHOD_ZOH, 0.01, it, 8);
         ck_assert_uint_eq(c, 1);
         ck_assert_int_eq(it[0].kind, RIGMAT_ADVICE_NYQUIST);
@@ -636,7 +607,7 @@ START_TEST(advice_fires_only_where_it_matters)
     /* an unstable pole at +40 1/s (an inverted pendulum): fine at 1 kHz, not at 50 Hz */
     {
         const double b[] = { 0, 1, 1600, 0 };
-        fill(s->A, b);
+        tu_fill(s->A, b);
         ck_assert_uint_eq(advice(s, RIGMAT_METHOD_ZOH, 0.001, it, 8), 0);
         c = advice(s, RIGMAT_METHOD_ZOH, 0.02, it, 8);
         ck_assert_uint_eq(c, 1);

@@ -40,18 +40,6 @@ static double expm_tol(double kappa, size_t n, double nu)
 /* nu of the call rigmat_expm makes on A */
 static double scaled_norm(const gsl_matrix *A, unsigned flags);
 
-static gsl_matrix *mat(size_t r, size_t c, const double *v)
-{
-    gsl_matrix *m = gsl_matrix_alloc(r, c);
-    size_t i, j;
-
-    ck_assert_ptr_nonnull(m);
-    for (i = 0; i < r; i++)
-        for (j = 0; j < c; j++)
-            gsl_matrix_set(m, i, j, v[i * c + j]);
-    return m;
-}
-
 /* e^A with a fresh workspace; asserts success. */
 static gsl_matrix *expm_of(const gsl_matrix *A, unsigned flags, rigmat_expm_info *info)
 {
@@ -156,7 +144,7 @@ START_TEST(moler_van_loan_2x2)
     /* shared REFERENCES.md section 2, mpmath at 40 digits */
     const double mp[] = { -0.73575875814475308, 0.5518190996580977, -1.4715175990882605,
                           1.1036382407155726 };
-    gsl_matrix *A = mat(2, 2, a), *X = mat(2, 2, x), *M = mat(2, 2, mp), *E;
+    gsl_matrix *A = tu_mat(2, 2, a), *X = tu_mat(2, 2, x), *M = tu_mat(2, 2, mp), *E;
     rigmat_expm_info info;
 
     check_against(A, X, 0);
@@ -184,7 +172,7 @@ START_TEST(rotation_generator_gives_cos_sin)
         const double t = thetas[k];
         const double a[] = { 0, -t, t, 0 };
         const double x[] = { cos(t), -sin(t), sin(t), cos(t) };
-        gsl_matrix *A = mat(2, 2, a), *X = mat(2, 2, x);
+        gsl_matrix *A = tu_mat(2, 2, a), *X = tu_mat(2, 2, x);
         check_against(A, X, 0);
         gsl_matrix_free(A);
         gsl_matrix_free(X);
@@ -192,7 +180,7 @@ START_TEST(rotation_generator_gives_cos_sin)
     {
         /* shared REFERENCES.md section 2: cos 1, sin 1 to 17 digits */
         const double a[] = { 0, -1, 1, 0 };
-        gsl_matrix *A = mat(2, 2, a), *E = expm_of(A, 0, NULL);
+        gsl_matrix *A = tu_mat(2, 2, a), *E = expm_of(A, 0, NULL);
         ck_assert_rel(gsl_matrix_get(E, 0, 0), 0.54030230586813972, 4e-16);
         ck_assert_rel(gsl_matrix_get(E, 1, 0), 0.84147098480789651, 4e-16);
         gsl_matrix_free(A);
@@ -216,13 +204,13 @@ START_TEST(jordan_block_and_nilpotent)
     gsl_matrix *A, *X, *E;
     size_t i, k;
 
-    A = mat(2, 2, a);
-    X = mat(2, 2, x);
+    A = tu_mat(2, 2, a);
+    X = tu_mat(2, 2, x);
     check_against(A, X, 0);
     gsl_matrix_free(A);
     gsl_matrix_free(X);
-    A = mat(3, 3, n3);
-    X = mat(3, 3, xn);
+    A = tu_mat(3, 3, n3);
+    X = tu_mat(3, 3, xn);
     E = expm_of(A, 0, NULL);
     ck_assert_matrix_rel(E, X, 4 * DBL_EPSILON);
     gsl_matrix_free(A);
@@ -235,8 +223,8 @@ START_TEST(jordan_block_and_nilpotent)
         for (k = i; k < 4; k++)
             x4[i * 4 + k] = exp(l) * c[k - i];
     }
-    A = mat(4, 4, j4);
-    X = mat(4, 4, x4);
+    A = tu_mat(4, 4, j4);
+    X = tu_mat(4, 4, x4);
     check_against(A, X, 0);
     gsl_matrix_free(A);
     gsl_matrix_free(X);
@@ -253,7 +241,7 @@ START_TEST(diagonalizable_closed_form)
         const double t = ts[k], e1 = exp(-t), e2 = exp(-2 * t);
         const double a[] = { 0, t, -2 * t, -3 * t };
         const double x[] = { 2 * e1 - e2, e1 - e2, -2 * e1 + 2 * e2, -e1 + 2 * e2 };
-        gsl_matrix *A = mat(2, 2, a), *X = mat(2, 2, x);
+        gsl_matrix *A = tu_mat(2, 2, a), *X = tu_mat(2, 2, x);
         check_against(A, X, 0);
         gsl_matrix_free(A);
         gsl_matrix_free(X);
@@ -263,7 +251,7 @@ START_TEST(diagonalizable_closed_form)
         const double a[] = { 0, 0.1, -0.2, -0.30000000000000004 };
         const double x[] = { 0.99094408299393729, 0.086106664957977714, -0.17221332991595543,
                              0.73262408812000414 };
-        gsl_matrix *A = mat(2, 2, a), *X = mat(2, 2, x), *E = expm_of(A, 0, NULL);
+        gsl_matrix *A = tu_mat(2, 2, a), *X = tu_mat(2, 2, x), *E = expm_of(A, 0, NULL);
         ck_assert_matrix_rel(E, X, 1e-15);
         gsl_matrix_free(A);
         gsl_matrix_free(X);
@@ -278,7 +266,7 @@ START_TEST(badly_scaled_with_balancing)
      * values from REFERENCES.md section 2 (mpmath) */
     const double a[] = { -1, 1, 0, -100 };
     const double x[] = { 0.36787944117144232, 0.0037159539512266901, 0, 3.720075976020836e-44 };
-    gsl_matrix *A = mat(2, 2, a), *X = mat(2, 2, x), *E;
+    gsl_matrix *A = tu_mat(2, 2, a), *X = tu_mat(2, 2, x), *E;
     rigmat_expm_info info;
     /* closed form: D B D^-1 with B = [[0, 1], [-2, -3]] and D = diag(1e6, 1e-6):
      * e^(D B D^-1) = D e^B D^-1, entrywise */
@@ -291,8 +279,8 @@ START_TEST(badly_scaled_with_balancing)
     check_against(A, X, 0);
     gsl_matrix_free(A);
     gsl_matrix_free(X);
-    A = mat(2, 2, g);
-    X = mat(2, 2, xg);
+    A = tu_mat(2, 2, g);
+    X = tu_mat(2, 2, xg);
     E = expm_of(A, RIGMAT_EXPM_BALANCE, &info);
     ck_assert_int_eq(info.balanced, 1);
     ck_assert_uint_eq(info.squarings, 0);
@@ -320,7 +308,7 @@ START_TEST(large_norm_ones_matrix)
 
     for (i = 0; i < 400; i++)
         a[i] = 0.9;
-    A = mat(20, 20, a);
+    A = tu_mat(20, 20, a);
     E = expm_of(A, 0, &info);
     ck_assert_uint_eq(info.degree, 13);
     ck_assert_uint_gt(info.squarings, 0);
@@ -341,7 +329,7 @@ START_TEST(scalar_matches_libm)
     size_t k;
 
     for (k = 0; k < sizeof xs / sizeof xs[0]; k++) {
-        gsl_matrix *A = mat(1, 1, &xs[k]), *E = expm_of(A, 0, NULL);
+        gsl_matrix *A = tu_mat(1, 1, &xs[k]), *E = expm_of(A, 0, NULL);
         /* error grows like |x| u through the squarings: kappa = |x| */
         ck_assert_rel(gsl_matrix_get(E, 0, 0), exp(xs[k]),
                       expm_tol(fabs(xs[k]), 1, scaled_norm(A, 0)));
@@ -363,7 +351,7 @@ START_TEST(degree_follows_theta_table)
     for (k = 0; k < 5; k++) {
         /* A = [[0, x], [0, 0]] has ||A||_1 = x exactly */
         double a[] = { 0, th[k], 0, 0 };
-        gsl_matrix *A = mat(2, 2, a), *E;
+        gsl_matrix *A = tu_mat(2, 2, a), *E;
         rigmat_expm_info info;
         E = expm_of(A, 0, &info);
         ck_assert_uint_eq(info.degree, deg[k]);
@@ -374,7 +362,7 @@ START_TEST(degree_follows_theta_table)
         /* just above theta_m: the next degree */
         a[1] = th[k] * (1 + 4 * DBL_EPSILON);
         gsl_matrix_free(A);
-        A = mat(2, 2, a);
+        A = tu_mat(2, 2, a);
         E = expm_of(A, 0, &info);
         ck_assert_uint_eq(info.degree, k < 4 ? deg[k + 1] : 13);
         ck_assert_uint_eq(info.squarings, k < 4 ? 0 : 1);
@@ -384,7 +372,7 @@ START_TEST(degree_follows_theta_table)
     {
         /* an exact power of two times theta_13 needs exactly that many squarings */
         double a[] = { 0, 8 * th[4], 0, 0 };
-        gsl_matrix *A = mat(2, 2, a), *E;
+        gsl_matrix *A = tu_mat(2, 2, a), *E;
         rigmat_expm_info info;
         E = expm_of(A, 0, &info);
         ck_assert_uint_eq(info.squarings, 3);
@@ -492,17 +480,6 @@ struct expm_case {
     gsl_matrix *A, *exact;
 };
 
-static gsl_matrix *read_matrix(FILE *f, size_t n)
-{
-    gsl_matrix *m = gsl_matrix_alloc(n, n);
-    size_t i;
-
-    ck_assert_ptr_nonnull(m);
-    for (i = 0; i < n * n; i++)
-        ck_assert_int_eq(fscanf(f, "%lf", &m->data[(i / n) * m->tda + i % n]), 1);
-    return m;
-}
-
 /* Next case of tests/ref/expm_cases.txt; 0 at the end. */
 static int read_case(FILE *f, struct expm_case *c)
 {
@@ -512,8 +489,8 @@ static int read_case(FILE *f, struct expm_case *c)
         if (line[0] == '#' || line[0] == '\n')
             continue;
         ck_assert_int_eq(sscanf(line, "case %63s %zu %lf", c->name, &c->n, &c->kappa), 3);
-        c->A = read_matrix(f, c->n);
-        c->exact = read_matrix(f, c->n);
+        c->A = tu_read_mat(f, c->n, c->n);
+        c->exact = tu_read_mat(f, c->n, c->n);
         return 1;
     }
     return 0;
@@ -576,7 +553,7 @@ START_TEST(tolerance_model_can_fail)
 {
     /* the comparison must reject a result perturbed by 1000 tolerances */
     const double a[] = { -49, 24, -64, 31 };
-    gsl_matrix *A = mat(2, 2, a), *E = expm_of(A, 0, NULL), *P = expm_of(A, 0, NULL);
+    gsl_matrix *A = tu_mat(2, 2, a), *E = expm_of(A, 0, NULL), *P = expm_of(A, 0, NULL);
     const double tol = expm_tol(kappa_estimate(A), 2, scaled_norm(A, 0));
 
     gsl_matrix_set(P, 0, 0, gsl_matrix_get(P, 0, 0) * (1 + 1000 * tol));

@@ -11,83 +11,6 @@
 #include <stdlib.h>
 #include <string.h>
 #include <gsl/gsl_math.h>
-#include <gsl/gsl_eigen.h>
-
-static rigmat_lti *lin(const rigmat_model *m, rigmat_diags *w)
-{
-    rigmat_options opt = rigmat_options_default();
-    rigmat_lti *lti = NULL;
-    rigmat_error e;
-    memset(&e, 0, sizeof e);
-    ck_assert_msg(rigmat_linearize(m, &opt, &lti, w, &e) == RIGMAT_OK, "%s", e.message);
-    return lti;
-}
-
-static void eigs(const gsl_matrix *A, double *re, double *im)
-{
-    const size_t n = A->size1;
-    gsl_matrix *W = gsl_matrix_alloc(n, n);
-    gsl_vector_complex *ev = gsl_vector_complex_alloc(n);
-    gsl_eigen_nonsymm_workspace *w = gsl_eigen_nonsymm_alloc(n);
-    size_t i, j;
-
-    gsl_matrix_memcpy(W, A);
-    ck_assert_int_eq(gsl_eigen_nonsymm(W, ev, w), 0);
-    for (i = 0; i < n; i++) {
-        re[i] = GSL_REAL(gsl_vector_complex_get(ev, i));
-        im[i] = GSL_IMAG(gsl_vector_complex_get(ev, i));
-    }
-    for (i = 0; i < n; i++)
-        for (j = i + 1; j < n; j++)
-            if (re[j] < re[i] || (re[j] == re[i] && im[j] < im[i])) {
-                double t = re[i]; re[i] = re[j]; re[j] = t;
-                t = im[i]; im[i] = im[j]; im[j] = t;
-            }
-    gsl_eigen_nonsymm_free(w);
-    gsl_vector_complex_free(ev);
-    gsl_matrix_free(W);
-}
-
-/* c (sI - A)^-1 b for dense A (n x n), b, c of length n. */
-static double complex tf_raw(const gsl_matrix *A, const double *b, const double *c,
-        double complex s)
-{
-    const size_t n = A->size1;
-    double complex *M = calloc(n * (n + 1), sizeof *M), g = 0;
-    size_t i, j, k;
-
-    for (i = 0; i < n; i++) {
-        for (j = 0; j < n; j++)
-            M[i * (n + 1) + j] = (i == j ? s : 0) - gsl_matrix_get(A, i, j);
-        M[i * (n + 1) + n] = b[i];
-    }
-    for (k = 0; k < n; k++) {
-        size_t p = k;
-        for (i = k + 1; i < n; i++)
-            if (cabs(M[i * (n + 1) + k]) > cabs(M[p * (n + 1) + k]))
-                p = i;
-        for (j = 0; j <= n; j++) {
-            double complex t = M[k * (n + 1) + j];
-            M[k * (n + 1) + j] = M[p * (n + 1) + j];
-            M[p * (n + 1) + j] = t;
-        }
-        for (i = k + 1; i < n; i++) {
-            const double complex f = M[i * (n + 1) + k] / M[k * (n + 1) + k];
-            for (j = k; j <= n; j++)
-                M[i * (n + 1) + j] -= f * M[k * (n + 1) + j];
-        }
-    }
-    for (k = n; k-- > 0;) {
-        double complex v = M[k * (n + 1) + n];
-        for (j = k + 1; j < n; j++)
-            v -= M[k * (n + 1) + j] * M[j * (n + 1) + n];
-        M[k * (n + 1) + n] = v / M[k * (n + 1) + k];
-    }
-    for (j = 0; j < n; j++)
-        g += c[j] * M[j * (n + 1) + n];
-    free(M);
-    return g;
-}
 
 /* Our transfer function from input k to state row r. */
 static double complex tf_state(const rigmat_lti *l, size_t r, size_t k, double complex s)
@@ -98,7 +21,7 @@ static double complex tf_state(const rigmat_lti *l, size_t r, size_t k, double c
         b[i] = gsl_matrix_get(l->B, i, k);
         c[i] = i == r ? 1.0 : 0.0;
     }
-    return tf_raw(l->A, b, c, s);
+    return tm_tf(l->A, b, c, 0.0, s);
 }
 
 static rigmat_model *cartpole(double M, double m, double lc, double inertia, double b, double g)
@@ -127,12 +50,12 @@ static rigmat_model *cartpole(double M, double m, double lc, double inertia, dou
 START_TEST(point_mass_cartpole_has_the_reference_eigenvalues_and_cart_response)
 {
     rigmat_model *m = cartpole(1.0, 0.1, 0.5, 0.0, 0.0, 9.81);
-    rigmat_lti *l = lin(m, NULL);
+    rigmat_lti *l = tm_lin(m, NULL);
     gsl_matrix *Ar = gsl_matrix_calloc(4, 4);
     double re[4], im[4], br[4] = { 0, 1, 0, -2 }, cr[4] = { 1, 0, 0, 0 };
     size_t k;
 
-    eigs(l->A, re, im);
+    tm_eigs(l->A, re, im);
     /* REFERENCES.md section 4, cart-pole check (sympy Lagrange derivation):
      * eigenvalues 0, 0, +-4.6456431201718456 */
     ck_assert_rel(re[0], -4.6456431201718456, 1e-13);
@@ -147,7 +70,7 @@ START_TEST(point_mass_cartpole_has_the_reference_eigenvalues_and_cart_response)
     /* the cart position's response is independent of the angle's sign convention */
     for (k = 0; k < 5; k++) {
         const double complex s = 0.37 + (0.5 + (double)k) * (double complex)I;
-        const double complex want = tf_raw(Ar, br, cr, s), got = tf_state(l, 0, 0, s);
+        const double complex want = tm_tf(Ar, br, cr, 0.0, s), got = tf_state(l, 0, 0, s);
         ck_assert_msg(cabs(got - want) <= 1e-12 * cabs(want), "k=%zu", k);
     }
     ck_assert(tm_fd_error(m) < 1e-7);
@@ -162,7 +85,7 @@ START_TEST(uniform_rod_cartpole_matches_the_textbook_model)
     const double M = 0.5, mp = 0.2, L = 0.6, lc = 0.3, b = 0.1, g = 9.8;
     const double Ip = mp * L * L / 12.0; /* uniform rod about its centre */
     rigmat_model *m = cartpole(M, mp, lc, Ip, b, g);
-    rigmat_lti *l = lin(m, NULL);
+    rigmat_lti *l = tm_lin(m, NULL);
     gsl_matrix *Ab = gsl_matrix_calloc(4, 4);
     const double p = Ip * (M + mp) + M * mp * lc * lc;
     /* G. F. Franklin, J. D. Powell, A. Emami-Naeini, Feedback Control of Dynamic
@@ -183,16 +106,16 @@ START_TEST(uniform_rod_cartpole_matches_the_textbook_model)
     bb[1] = (Ip + mp * lc * lc) / p;
     bb[2] = 0;
     bb[3] = mp * lc / p;
-    eigs(l->A, re, im);
-    eigs(Ab, rb, ib);
+    tm_eigs(l->A, re, im);
+    tm_eigs(Ab, rb, ib);
     for (k = 0; k < 4; k++) {
         ck_assert(fabs(re[k] - rb[k]) <= 1e-12 * (1.0 + fabs(rb[k])));
         ck_assert(fabs(im[k] - ib[k]) <= 1e-12 * (1.0 + fabs(ib[k])));
     }
     for (k = 0; k < 5; k++) {
         const double complex s = 0.21 + (0.3 + 1.7 * (double)k) * (double complex)I;
-        const double complex wx = tf_raw(Ab, bb, cx, s), gx = tf_state(l, 0, 0, s);
-        const double complex wp = tf_raw(Ab, bb, cphi, s), gp = tf_state(l, 1, 0, s);
+        const double complex wx = tm_tf(Ab, bb, cx, 0.0, s), gx = tf_state(l, 0, 0, s);
+        const double complex wp = tm_tf(Ab, bb, cphi, 0.0, s), gp = tf_state(l, 1, 0, s);
         ck_assert(cabs(gx - wx) <= 1e-12 * cabs(wx));
         /* the book's phi and our counter-clockwise angle differ in sign only */
         ck_assert(fabs(cabs(gp) - cabs(wp)) <= 1e-12 * cabs(wp));
@@ -258,7 +181,7 @@ START_TEST(neglected_inductance_is_the_residualized_circuit)
 {
     rigmat_model *kept = tm_balancer(0.0, RIGMAT_DRIVE_VOLTAGE, 0);
     rigmat_model *nol = tm_balancer(0.0, RIGMAT_DRIVE_VOLTAGE, 1);
-    rigmat_lti *a = lin(kept, NULL), *b = lin(nol, NULL);
+    rigmat_lti *a = tm_lin(kept, NULL), *b = tm_lin(nol, NULL);
     gsl_matrix *Ar = gsl_matrix_alloc(4, 4), *Br = gsl_matrix_alloc(4, 1);
     const double aii = gsl_matrix_get(a->A, 4, 4);
     size_t i, j;
@@ -291,7 +214,7 @@ END_TEST
 START_TEST(demo_sign_table_positive_duty_drives_forward)
 {
     rigmat_model *m = tm_balancer(0.0, RIGMAT_DRIVE_DUTY, 0);
-    rigmat_lti *l = lin(m, NULL);
+    rigmat_lti *l = tm_lin(m, NULL);
     double row[5] = { 1, 0, 0, 0, 0 };
     int order, s;
 
@@ -320,7 +243,7 @@ START_TEST(encoder_noise_is_scaled_into_counts)
     m->sensors[0].gain = -2.0;
     m->sensors[1].noise = 0.02;
     ck_assert_int_eq(tm_build(m, NULL, 0), RIGMAT_OK);
-    l = lin(m, NULL);
+    l = tm_lin(m, NULL);
     /* DESIGN.md: resolution defaults to one decoded count */
     ck_assert_rel(l->output_resolution[2], 1.0, 1e-15);
     ck_assert_rel(l->output_density[0], 3.4e-4, 1e-15);
@@ -376,7 +299,7 @@ static void rk4_lin(const rigmat_lti *l, double *x, const double *u, double h, s
 START_TEST(linear_model_tracks_a_nonlinear_simulation_of_a_small_perturbation)
 {
     rigmat_model *m = tm_balancer(0.0, RIGMAT_DRIVE_VOLTAGE, 0);
-    rigmat_lti *l = lin(m, NULL);
+    rigmat_lti *l = tm_lin(m, NULL);
     rigmat_system *s = NULL;
     const size_t nx = l->nx;
     double x[8] = { 0 }, dx[8] = { 0 }, u[2] = { 0.05, 0 }, du[2] = { 0.05, 0 };
@@ -413,7 +336,7 @@ START_TEST(steady_motion_along_a_swinging_coordinate_is_a_warning)
     tm_op(m, 'r', "swing", 1.3);
     ck_assert_int_eq(tm_build(m, NULL, 0), RIGMAT_OK);
     rigmat_diags_init(&w);
-    l = lin(m, &w);
+    l = tm_lin(m, &w);
     ck_assert_uint_eq(w.count, 1);
     ck_assert_int_eq(w.items[0].severity, RIGMAT_WARNING);
     ck_assert_ptr_nonnull(strstr(w.items[0].message, "time-varying"));

@@ -13,24 +13,6 @@
 #include <gsl/gsl_rng.h>
 #include <gsl/gsl_randist.h>
 
-static void fill(gsl_matrix *m, const double *v)
-{
-    size_t i, j;
-
-    for (i = 0; i < m->size1; i++)
-        for (j = 0; j < m->size2; j++)
-            gsl_matrix_set(m, i, j, v[i * m->size2 + j]);
-}
-
-static gsl_matrix *mat(size_t r, size_t c, const double *v)
-{
-    gsl_matrix *m = gsl_matrix_alloc(r, c);
-
-    ck_assert_ptr_nonnull(m);
-    fill(m, v);
-    return m;
-}
-
 /* Qd of x' = A x + G w over T with the default options. */
 static gsl_matrix *qd_of(const gsl_matrix *A, const gsl_matrix *G, const double *qc, double T,
                          double step_norm, unsigned *doublings, rigmat_status *st)
@@ -88,13 +70,13 @@ START_TEST(double_integrator_closed_form)
      * [[6.666666666666667e-4, 0.01], [0.01, 0.2]] (REFERENCES.md section 3) */
     const double a[] = { 0, 1, 0, 0 }, g[] = { 0, 1 };
     const double Ts[] = { 0.1, 0.005, 3.3 };
-    gsl_matrix *A = mat(2, 2, a), *G = mat(2, 1, g);
+    gsl_matrix *A = tu_mat(2, 2, a), *G = tu_mat(2, 1, g);
     size_t k;
 
     for (k = 0; k < 3; k++) {
         const double T = Ts[k], q = 2.0;
         const double want[] = { q * T * T * T / 3, q * T * T / 2, q * T * T / 2, q * T };
-        gsl_matrix *Q = qd_of(A, G, &q, T, 0, NULL, NULL), *W = mat(2, 2, want);
+        gsl_matrix *Q = qd_of(A, G, &q, T, 0, NULL, NULL), *W = tu_mat(2, 2, want);
         ck_assert_matrix_rel(Q, W, 1e-14);
         assert_psd(Q, "Qd");
         if (k == 0) {
@@ -116,7 +98,7 @@ START_TEST(reference_two_state_value)
     const double a[] = { 0, 1, -2, -3 }, g[] = { 0, 1 }, q = 1.0;
     const double want[] = { 2.667590732444895e-4, 3.707178875092714e-3, 3.707178875092714e-3,
                             0.07473887166766026 };
-    gsl_matrix *A = mat(2, 2, a), *G = mat(2, 1, g), *W = mat(2, 2, want);
+    gsl_matrix *A = tu_mat(2, 2, a), *G = tu_mat(2, 1, g), *W = tu_mat(2, 2, want);
     gsl_matrix *Q = qd_of(A, G, &q, 0.1, 0, NULL, NULL);
 
     ck_assert_matrix_rel(Q, W, 1e-13);
@@ -126,16 +108,6 @@ START_TEST(reference_two_state_value)
     gsl_matrix_free(W);
 }
 END_TEST
-
-static gsl_matrix *read_mat(FILE *f, size_t r, size_t c)
-{
-    gsl_matrix *m = gsl_matrix_alloc(r, c);
-    size_t i;
-
-    for (i = 0; i < r * c; i++)
-        ck_assert_int_eq(fscanf(f, "%lf", &m->data[(i / c) * m->tda + i % c]), 1);
-    return m;
-}
 
 START_TEST(stiff_motor_matches_mpmath)
 {
@@ -167,11 +139,11 @@ START_TEST(stiff_motor_matches_mpmath)
             continue;
         }
         ck_assert_int_eq(sscanf(line, "motor %lf %lf %lf", &T, &qc, &agree), 3);
-        A = read_mat(f, 3, 3);
-        B = read_mat(f, 3, 2);
-        Ad = read_mat(f, 3, 3);
-        Gam = read_mat(f, 3, 2);
-        Qd = read_mat(f, 3, 3);
+        A = tu_read_mat(f, 3, 3);
+        B = tu_read_mat(f, 3, 2);
+        Ad = tu_read_mat(f, 3, 3);
+        Gam = tu_read_mat(f, 3, 2);
+        Qd = tu_read_mat(f, 3, 3);
         gsl_matrix_memcpy(s->A, A);
         gsl_matrix_memcpy(s->B, B);
         gsl_matrix_set(s->C, 0, 0, 1.0);
@@ -364,7 +336,7 @@ END_TEST
 START_TEST(bad_intensity_is_refused)
 {
     const double a[] = { -1 }, g[] = { 1 }, q = -0.5;
-    gsl_matrix *A = mat(1, 1, a), *G = mat(1, 1, g), *Q;
+    gsl_matrix *A = tu_mat(1, 1, a), *G = tu_mat(1, 1, g), *Q;
     rigmat_status st;
 
     Q = qd_of(A, G, &q, 0.01, 0, NULL, &st);

@@ -10,16 +10,6 @@
 #include <string.h>
 #include <gsl/gsl_math.h>
 
-static rigmat_lti *lin(const rigmat_model *m, rigmat_diags *w)
-{
-    rigmat_options opt = rigmat_options_default();
-    rigmat_lti *lti = NULL;
-    rigmat_error e;
-    memset(&e, 0, sizeof e);
-    ck_assert_msg(rigmat_linearize(m, &opt, &lti, w, &e) == RIGMAT_OK, "%s", e.message);
-    return lti;
-}
-
 static rigmat_model *quarter_car(int tyre_damper)
 {
     rigmat_model *m = tm_new("quarter car");
@@ -76,7 +66,7 @@ START_TEST(quarter_car_sags_under_gravity_and_matches_the_two_mass_model)
     ck_assert_int_eq(tm_build(m, NULL, 0), RIGMAT_OK);
     ck_assert_str_eq(m->layout.inputs[0].name, "road");
     ck_assert_str_eq(m->layout.inputs[0].unit, "m");
-    l = lin(m, NULL);
+    l = tm_lin(m, NULL);
     /* common practice (static sag): the tyre carries both masses, the coil the body */
     ck_assert_rel(gsl_vector_get(l->x0, 0), -(mb + mw) * g / kt, 1e-12);
     ck_assert_rel(gsl_vector_get(l->x0, 1) - gsl_vector_get(l->x0, 0), -mb * g / ks, 1e-12);
@@ -135,7 +125,7 @@ START_TEST(slanted_spring_holds_a_block_with_its_geometric_stiffness)
     tm_op(m, 'c', "lift", -0.2); /* start below the anchor: the hanging equilibrium */
     tm_solve(m, "lift");
     ck_assert_int_eq(tm_build(m, NULL, 0), RIGMAT_OK);
-    l = lin(m, NULL);
+    l = tm_lin(m, NULL);
     q = gsl_vector_get(l->x0, 0);
     d = sqrt(a * a + q * q);
     /* by hand: V(q) = k (d - L0)^2 / 2 + m g q with d = sqrt(a^2 + q^2);
@@ -185,7 +175,7 @@ START_TEST(motor_torque_holding_a_pendulum_at_20_deg_is_found_by_trim)
     const double i_hold = mg * lc * sin(th) / (50 * 0.7 * 0.031);
     const double Ip = 0.0031 + 0.62 * lc * lc + 2e-6 * 50 * 50;
     rigmat_model *a = held_pendulum(RIGMAT_DRIVE_CURRENT), *v = held_pendulum(RIGMAT_DRIVE_VOLTAGE);
-    rigmat_lti *la = lin(a, NULL), *lv = lin(v, NULL);
+    rigmat_lti *la = tm_lin(a, NULL), *lv = tm_lin(v, NULL);
 
     ck_assert_rel(gsl_vector_get(la->u0, 0), i_hold, 1e-12);
     /* voltage drive at rest: V = R i, and the current state follows */
@@ -211,7 +201,7 @@ START_TEST(balancer_with_offset_centre_of_mass_leans_until_it_is_over_the_axle)
 
     tm_solve(m, "tilt");
     tm_solve(m, "drive");
-    l = lin(m, NULL);
+    l = tm_lin(m, NULL);
     /* common practice (statics): at rest no net torque reaches the wheel's
      * contact, so the chassis's centre of mass is straight above the axle:
      * cx cos(th) - h sin(th) = 0 */
@@ -232,7 +222,7 @@ START_TEST(balancer_cruising_at_constant_speed_is_a_steady_motion)
     tm_op(m, 'r', "travel", 0.5);
     tm_solve(m, "drive");
     rigmat_diags_init(&w);
-    l = lin(m, &w);
+    l = tm_lin(m, &w);
     /* travel is cyclic: no warning, and the drive cancels the drag */
     ck_assert_uint_eq(w.count, 0);
     ck_assert(l->is_steady);

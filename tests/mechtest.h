@@ -1,10 +1,12 @@
-/* mechtest.h - hand-built models for the mechanics, linearize and trim
- * suites (defined in check_mechanics.c), so those suites do not depend on
- * the YAML loader. */
+/* mechtest.h - hand-built models and linearization helpers for the
+ * mechanics, linearize and trim suites (defined in mechtest.c), so those
+ * suites do not depend on the YAML loader. */
 #ifndef RIGMAT_MECHTEST_H
 #define RIGMAT_MECHTEST_H
 
 #include "rigmat.h"
+
+#include <complex.h>
 
 /* A model with only the ground; free with tm_free. */
 rigmat_model *tm_new(const char *name);
@@ -31,6 +33,19 @@ rigmat_status tm_build(rigmat_model *m, char *msg, size_t len);
 /* Max over A, B, C, D of |exact - central difference| / (1 + |exact|)
  * at the model's operating point (step 1e-6 relative). */
 double tm_fd_error(const rigmat_model *m);
+
+/* rigmat_linearize with default options, failing the test on an error;
+ * warnings go to w (may be NULL).  Free with rigmat_lti_free. */
+rigmat_lti *tm_lin(const rigmat_model *m, rigmat_diags *w);
+
+/* Eigenvalues of A (n x n) into re[n], im[n], sorted by real then
+ * imaginary part. */
+void tm_eigs(const gsl_matrix *A, double *re, double *im);
+
+/* d + c (sI - A)^-1 b for dense A (n x n), b, c of length n, by Gaussian
+ * elimination with partial pivoting in complex arithmetic. */
+double complex tm_tf(const gsl_matrix *A, const double *b, const double *c, double d,
+        double complex s);
 
 /* Test models used by several suites (all built). */
 rigmat_model *tm_balancer(double comx_m, int drive, int neglect_inductance);

@@ -1,4 +1,4 @@
-/* testutil.c - relative-tolerance checks for the suites. */
+/* testutil.c - relative-tolerance checks and matrix helpers for the suites. */
 #include "testutil.h"
 
 #include <math.h>
@@ -49,4 +49,33 @@ void rigmat_test_matrix_rel(const gsl_matrix *got, const gsl_matrix *want, doubl
     r = rigmat_test_matrix_reldiff(got, want);
     ck_assert_msg(r <= rtol && !isnan(r), "%s:%d: %s differs normwise by %.3g (rtol %.3g)", file,
             line, what, r, rtol);
+}
+
+void tu_fill(gsl_matrix *m, const double *v)
+{
+    size_t i, j;
+
+    for (i = 0; i < m->size1; i++)
+        for (j = 0; j < m->size2; j++)
+            gsl_matrix_set(m, i, j, v[i * m->size2 + j]);
+}
+
+gsl_matrix *tu_mat(size_t r, size_t c, const double *v)
+{
+    gsl_matrix *m = gsl_matrix_alloc(r, c);
+
+    ck_assert_ptr_nonnull(m);
+    tu_fill(m, v);
+    return m;
+}
+
+gsl_matrix *tu_read_mat(FILE *f, size_t r, size_t c)
+{
+    gsl_matrix *m = gsl_matrix_alloc(r, c);
+    size_t i;
+
+    ck_assert_ptr_nonnull(m);
+    for (i = 0; i < r * c; i++)
+        ck_assert_int_eq(fscanf(f, "%lf", &m->data[(i / c) * m->tda + i % c]), 1);
+    return m;
 }

@@ -3,6 +3,7 @@
 #define RIGMAT_TESTUTIL_H
 
 #include <check.h>
+#include <stdio.h>
 #include <gsl/gsl_matrix.h>
 
 /* Fail unless got is within rtol of want, relatively (absolutely when want
@@ -18,5 +19,14 @@ double rigmat_test_matrix_reldiff(const gsl_matrix *got, const gsl_matrix *want)
     rigmat_test_matrix_rel((got), (want), (rtol), #got, __FILE__, __LINE__)
 void rigmat_test_matrix_rel(const gsl_matrix *got, const gsl_matrix *want, double rtol,
         const char *what, const char *file, int line);
+
+/* Matrix helpers for the suites (tu_: test utility; not in librigmat.a).
+ * tu_fill sets m from v, row-major, m->size1 * m->size2 values.
+ * tu_mat returns a new r x c matrix filled from v; free with gsl_matrix_free.
+ * tu_read_mat reads r * c numbers, row-major, from f into a new matrix
+ * (free with gsl_matrix_free), failing the test on a short read. */
+void tu_fill(gsl_matrix *m, const double *v);
+gsl_matrix *tu_mat(size_t r, size_t c, const double *v);
+gsl_matrix *tu_read_mat(FILE *f, size_t r, size_t c);
 
 #endif

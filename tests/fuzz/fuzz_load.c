@@ -25,48 +25,17 @@
 
 #define MAX_SETS 4
 
-static char model_path[64];
 static FILE *devnull;
-
-/* Remove the model file and its folder when the process ends. */
-static void cleanup(void)
-{
-    char dir[sizeof model_path];
-    char *slash;
-
-    remove(model_path);
-    memcpy(dir, model_path, sizeof dir);
-    slash = strrchr(dir, '/');
-    if (slash != NULL) {
-        *slash = '\0';
-        rmdir(dir);
-    }
-}
 
 static int setup(void)
 {
-    char dir[] = "/tmp/rigmat-fuzz-XXXXXX";
-
-    if (model_path[0] != '\0')
+    if (devnull != NULL)
         return 0;
     gsl_set_error_handler_off();
-    if (mkdtemp(dir) == NULL)
+    if (fuzz_model_setup() != 0)
         return -1;
-    snprintf(model_path, sizeof model_path, "%s/model.yaml", dir);
-    atexit(cleanup);
     devnull = fopen("/dev/null", "w");
     return devnull != NULL ? 0 : -1;
-}
-
-static int write_model(const uint8_t *data, size_t size)
-{
-    FILE *f = fopen(model_path, "wb");
-    int ok;
-
-    if (f == NULL)
-        return -1;
-    ok = (size == 0 || fwrite(data, 1, size, f) == size);
-    return (fclose(f) == 0 && ok) ? 0 : -1;
 }
 
 /* Lines a YAML reader may count: LF, CR, NEL, LS and PS all break a line
@@ -121,7 +90,7 @@ static void check_diags(const rigmat_diags *d, const uint8_t *data, size_t size)
                      i);
         if (g->severity == RIGMAT_ERROR)
             errors++;
-        if (g->where.file != NULL && strcmp(g->where.file, model_path) == 0) {
+        if (g->where.file != NULL && strcmp(g->where.file, fuzz_model_path()) == 0) {
             /* libyaml puts the end of a stream that lacks its last line
              * break on the next line, so one line past the end is allowed. */
             FUZZ_REQUIRE(g->where.line <= lines + 1, "'%s' placed on line %lu of %lu", g->message,
@@ -146,7 +115,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     char *text;
     size_t nsets, i;
 
-    if (setup() != 0 || write_model(data, size) != 0)
+    if (setup() != 0 || fuzz_model_write(data, size) != 0)
         abort();
     text = fuzz_text(data, size);
     if (text == NULL)
@@ -156,7 +125,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     opt.catalog_env = getenv("RIGMAT_CATALOG");
     rigmat_diags_init(&d);
     d.max_errors = opt.max_errors;
-    st = rigmat_model_load(model_path, (const char *const *)sets, nsets, &opt, &m, &d);
+    st = rigmat_model_load(fuzz_model_path(), (const char *const *)sets, nsets, &opt, &m, &d);
     FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EMODEL || st == RIGMAT_EIO || st == RIGMAT_ENOMEM,
                  "status %d", (int)st);
     if (st == RIGMAT_OK)

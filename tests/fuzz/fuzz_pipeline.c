@@ -40,46 +40,10 @@
 
 #define MAX_SETS 16
 
-static char model_path[64];
-
-/* Remove the model file and its folder when the process ends. */
-static void cleanup(void)
-{
-    char dir[sizeof model_path];
-    char *slash;
-
-    remove(model_path);
-    memcpy(dir, model_path, sizeof dir);
-    slash = strrchr(dir, '/');
-    if (slash != NULL) {
-        *slash = '\0';
-        rmdir(dir);
-    }
-}
-
 static int setup(void)
 {
-    char dir[] = "/tmp/rigmat-fuzz-XXXXXX";
-
-    if (model_path[0] != '\0')
-        return 0;
     gsl_set_error_handler_off();
-    if (mkdtemp(dir) == NULL)
-        return -1;
-    snprintf(model_path, sizeof model_path, "%s/model.yaml", dir);
-    atexit(cleanup);
-    return 0;
-}
-
-static int write_model(const uint8_t *data, size_t size)
-{
-    FILE *f = fopen(model_path, "wb");
-    int ok;
-
-    if (f == NULL)
-        return -1;
-    ok = (size == 0 || fwrite(data, 1, size, f) == size);
-    return (fclose(f) == 0 && ok) ? 0 : -1;
+    return fuzz_model_setup();
 }
 
 #ifdef HAVE_PIPELINE
@@ -267,13 +231,13 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     if (text == NULL)
         return 0;
     base = take_base(text, sets, &nsets);
-    if (base == NULL && write_model(data, size) != 0)
+    if (base == NULL && fuzz_model_write(data, size) != 0)
         abort();
     opt = rigmat_options_default();
     opt.catalog_env = getenv("RIGMAT_CATALOG");
     rigmat_diags_init(&d);
-    st = rigmat_model_load(base != NULL ? base : model_path, (const char *const *)sets, nsets, &opt,
-                           &m, &d);
+    st = rigmat_model_load(base != NULL ? base : fuzz_model_path(), (const char *const *)sets,
+                           nsets, &opt, &m, &d);
     if (st == RIGMAT_OK) {
         FUZZ_REQUIRE(m != NULL, "load OK without a model");
 #ifdef HAVE_PIPELINE

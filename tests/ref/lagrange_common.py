@@ -87,6 +87,15 @@ def potential_gravity(m, pos, gvec):
     return -m * (gvec.T * pos)[0, 0]
 
 
+def specific_force(pos, th, q, qd, qdd, gvec):
+    """Specific force at the point pos(q) of a body at angle th, in the body's
+    axes: R(th)^T (a_P - g_vec), with a_P = J qdd + Jdot qd, J = d pos/dq
+    (the accelerometer model of REFERENCES.md section 7, lead's convention)."""
+    J = pos.jacobian(q)
+    a = J * qdd + (J * qd).jacobian(q) * qd
+    return rot(th).T * (a - gvec)
+
+
 # ----------------------------------------------------------- Lagrange's eqs
 
 def lagrange_mass_rhs(T, V, Q, q, qd):
@@ -184,6 +193,23 @@ def linearize(f, h, x, u, subs_params):
     X = sp.Matrix(x)
     U = sp.Matrix(u)
     return f.jacobian(X), f.jacobian(U), h.jacobian(X), h.jacobian(U), f, h
+
+
+def reference(model, params, x0, u0):
+    """The reference linearization of model = (f, h, xs, us, ...) at the
+    operating point (x0, u0), with the parameters `params` substituted: a dict
+    of A, B, C, D, the point x0, u0, and the outputs y0 and affine term f0
+    there (the keys compare_linearization reads)."""
+    f, h, xs, us = model[:4]
+    A, B, C, D, fn, hn = linearize(f, h, xs, us, params)
+    at = dict(zip(xs, x0))
+    at.update(zip(us, u0))
+    want = {k: evaluate(m, at) for k, m in (("A", A), ("B", B), ("C", C), ("D", D))}
+    want["x0"] = np.array(x0)
+    want["u0"] = np.array(u0)
+    want["y0"] = evaluate(hn, at)[:, 0]
+    want["f0"] = evaluate(fn, at)[:, 0]
+    return want
 
 
 # --------------------------------------------------------------- reporting

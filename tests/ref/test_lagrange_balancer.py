@@ -97,9 +97,7 @@ def derive(neglect_inductance):
     s = lc.motor_angle_sign(theta_out, x)          # rotor's own joint: travel
     enc = s * N * (theta_out - theta_out.subs({x: 0, phi: 0}))
     P = p_w + lc.rot(phi) * sp.Matrix([ax, ay])    # accelerometer position
-    JP = P.jacobian(q)
-    aP = JP * qdd + (JP * qd).jacobian(q) * qd      # a_P = J qdd + Jdot qd
-    sf = lc.rot(phi).T * (aP - gvec)                # specific force, body axes
+    sf = lc.specific_force(P, phi, q, qd, qdd, gvec)   # a_P = J qdd + Jdot qd, body axes
     h = sp.Matrix([gyro, enc, sf[0], sf[1]])
     return f, h, states, [Vin], s
 
@@ -188,17 +186,8 @@ def operating_point(c, neglect_inductance):
 
 
 def reference(model, c, neglect_inductance):
-    f, h, xs, us, _ = model
-    A, B, C, D, fn, hn = lc.linearize(f, h, xs, us, params(c))
     x0, u0 = operating_point(c, neglect_inductance)
-    at = dict(zip(xs, x0))
-    at.update(zip(us, u0))
-    want = {k: lc.evaluate(m, at) for k, m in (("A", A), ("B", B), ("C", C), ("D", D))}
-    want["x0"] = np.array(x0)
-    want["u0"] = np.array(u0)
-    want["y0"] = lc.evaluate(hn, at)[:, 0]
-    want["f0"] = lc.evaluate(fn, at)[:, 0]
-    return want
+    return lc.reference(model, params(c), x0, u0)
 
 
 # ---------------------------------------------------------------- self-test

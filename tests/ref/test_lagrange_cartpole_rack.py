@@ -86,9 +86,7 @@ def derive(current_drive):
     s = lc.motor_angle_sign(theta_out, p)    # the `across` joint: track
     enc = s * N * (theta_out - theta_out.subs(p, 0))
     tip = p_piv + lc.rot(th) * sp.Matrix([0, lpole])
-    J = tip.jacobian(q)
-    a_tip = J * qdd + (J * qd).jacobian(q) * qd
-    sf = lc.rot(th).T * (a_tip - gvec)
+    sf = lc.specific_force(tip, th, q, qd, qdd, gvec)
     h = sp.Matrix([enc, th_pole - th_cart, pd, sf[0]])   # relative_angle [cart, pole]
     return f, h, states, [u], s
 
@@ -176,17 +174,8 @@ def operating_point(c, current_drive):
 
 
 def reference(model, c, current_drive):
-    f, h, xs, us, _ = model
-    A, B, C, D, fn, hn = lc.linearize(f, h, xs, us, params(c))
     x0, u0 = operating_point(c, current_drive)
-    at = dict(zip(xs, x0))
-    at.update(zip(us, u0))
-    want = {k: lc.evaluate(m, at) for k, m in (("A", A), ("B", B), ("C", C), ("D", D))}
-    want["x0"] = np.array(x0)
-    want["u0"] = np.array(u0)
-    want["y0"] = lc.evaluate(hn, at)[:, 0]
-    want["f0"] = lc.evaluate(fn, at)[:, 0]
-    return want
+    return lc.reference(model, params(c), x0, u0)
 
 
 def self_test(models):
