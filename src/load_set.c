@@ -84,8 +84,11 @@ static rigmat_status apply_path(rigmat_node *root, const struct setctx *c,
                 "%s", "no path before '='");
     st = rigmat_load_yaml_text(eq + 1, strlen(eq + 1), "--set", c->line,
             (unsigned long)(eq - arg) + 2, opt, files, c->d, &value);
-    if (st != RIGMAT_OK)
+    if (st != RIGMAT_OK) {
+        /* a value with errors (a duplicate key) still comes back as a tree */
+        rigmat_node_free(value);
         return st;
+    }
     if (value == NULL)
         return set_error(c, (size_t)(eq - arg) + 1, "an empty value is not a value; write 0 or "
                 "remove the override", "%s", "no value after '='");

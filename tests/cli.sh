@@ -49,6 +49,11 @@ expect 1 "bad model" -- "$R" check "$T/bad.yaml"
 has "$T/err" "bad.yaml:3:[0-9]*: error: " "diagnostic format"
 if [ -s "$T/out" ]; then bad "bad model printed a result"; else ok; fi
 
+# regression (fuzz_pipeline leak): a --set value with a duplicate key is
+# refused, and under the sanitizer build nothing leaks (exit 1, not 23)
+expect 1 "--set value with a duplicate key" -- "$R" check "$DEMO" --set 'bodies.wheel={mass: 1 kg, mass: 2 kg}'
+has "$T/err" "duplicate key 'mass'" "duplicate key in --set value"
+
 # Output is written whole or not at all.
 expect 0 "-o writes a file" -- "$R" check "$DEMO" -o "$T/sum.txt"
 if [ -s "$T/sum.txt" ]; then ok; else bad "-o file empty"; fi
