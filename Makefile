@@ -22,7 +22,10 @@ DEB_PROBES = /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h /usr/include/chec
 
 BUILD = build
 .DEFAULT_GOAL := all
-PROJECT_CFLAGS = -std=c99 -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc -Isrc/util -I$(BUILD) \
+# One folder per pipeline stage, in the order data flows (tests/stages.sh
+# refuses an include from a later stage into an earlier one).
+STAGES = util model mech sample study emit
+PROJECT_CFLAGS = -std=c99 -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc $(STAGES:%=-Isrc/%) -Isrc/cli -I$(BUILD) \
     -Wall -Wextra -Wpedantic -Wconversion -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
     -Wold-style-definition -Wvla -Wdouble-promotion -Wcast-qual -Wwrite-strings \
     -Wformat=2 -Wundef -fno-common -ffp-contract=off -MMD -MP
@@ -35,13 +38,13 @@ endif
 LIBS      = $(GSL_LIBS) -lyaml -lm
 CHECK_LIBS := $(shell pkg-config --libs check 2>/dev/null || echo -lcheck -lsubunit -lrt -lpthread -lm)
 
-LIB_SRC  := $(sort $(wildcard src/*.c src/util/*.c))
+LIB_SRC  := $(sort $(foreach d,$(STAGES),$(wildcard src/$(d)/*.c)))
 CLI_SRC  := $(sort $(wildcard src/cli/*.c))
 TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c tests/mechtest.c
 BENCH_SRC := $(sort $(wildcard bench/*.c))
 # Installed beside rigmat.h as <rigmat/NAME.h>: units, the matrix
 # exponential, sampling and the noise model.
-PUBLIC_SUBHEADERS = src/units.h src/expm.h src/discretize.h src/noise.h
+PUBLIC_SUBHEADERS = src/model/units.h src/sample/expm.h src/sample/discretize.h src/sample/noise.h
 
 # Three flavours share the sources: plain, sanitized (ASan+UBSan), and the
 # plain -O0 -g one valgrind wants (flavour flags come after CFLAGS, so -O0 holds).
@@ -158,7 +161,7 @@ FUZZ_CC ?= clang
 FUZZ_SECONDS ?= 60
 FUZZ_CHECK_SECONDS ?= 15
 FUZZ_SAN = -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
-FUZZ_NAMES = units load $(if $(and $(wildcard src/linearize.h),$(wildcard src/discretize.h)),pipeline)
+FUZZ_NAMES = units load pipeline
 FUZZ_OBJ_LIB = $(LIB_SRC:%.c=$(BUILD)/fuzz/%.o)
 $(BUILD)/fuzz/%.o: %.c
 	@mkdir -p $(@D)
@@ -221,7 +224,7 @@ uninstall:
 	rm -rf $(DESTDIR)$(PREFIX)/share/rigmat
 
 format:
-	clang-format -i src/*.c src/*.h src/*/*.c src/*/*.h include/*.h tests/*.c
+	clang-format -i src/*/*.c src/*/*.h include/*.h tests/*.c
 
 clean:
 	rm -rf $(BUILD)

@@ -404,7 +404,7 @@ size_t rigmat_model_motor(const rigmat_model *m, const char *name);
 /* A continuous linear model x' = A x + B u + f0, y = C x + D u around an
  * operating point, with what the noise model needs.  Inputs [0, nu_control)
  * are control inputs, the rest disturbances.  Built by rigmat_linearize
- * (src/linearize.h); consumed by discretize and noise. */
+ * (src/mech/linearize.h); consumed by discretize and noise. */
 typedef struct rigmat_lti {
     size_t nx, nu, ny, nu_control;
     gsl_matrix *A, *B, *C, *D; /* nx x nx, nx x nu, ny x nx, ny x nu; NULL when a size is 0 */
@@ -429,7 +429,7 @@ rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control)
 void rigmat_lti_free(rigmat_lti *s);
 
 /* ------------------------------------------- layout, equations, linearize */
-/* (src/layout.h, src/mechanics.h, src/linearize.h, src/trim.h) */
+/* (src/model/layout.h, src/mech/mechanics.h, src/mech/linearize.h, src/mech/trim.h) */
 
 /* Fill m->layout from the model: names, units, kinds and order of x, u and
  * y (DESIGN.md section 2), after the optional states/inputs/outputs lists
@@ -472,7 +472,7 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
         rigmat_diags *warnings, rigmat_error *err);
 
 /* Trim: a steady state over the names in operating_point.solve, by
- * Gauss-Newton with the exact Jacobian and an SVD step (src/trim.h). */
+ * Gauss-Newton with the exact Jacobian and an SVD step (src/mech/trim.h). */
 typedef struct rigmat_trim_result {
     size_t nx, nu;
     double *x, *u;          /* the point found (or the last iterate), layout order */

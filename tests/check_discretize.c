@@ -1,4 +1,4 @@
-/* check_discretize.c - sampled models (src/discretize.c) against closed
+/* check_discretize.c - sampled models (src/sample/discretize.c) against closed
  * forms, the check values of REFERENCES.md section 3, scipy and an
  * integration of a delayed system. */
 #include "discretize.h"

@@ -1,4 +1,4 @@
-/* check_expm.c - the matrix exponential (src/expm.c) against exact values,
+/* check_expm.c - the matrix exponential (src/sample/expm.c) against exact values,
  * closed forms and 40-digit references. */
 #include "expm.h"
 #include "testutil.h"

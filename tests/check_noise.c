@@ -1,4 +1,4 @@
-/* check_noise.c - Qd, Rd and the cross-covariance (src/noise.c) against
+/* check_noise.c - Qd, Rd and the cross-covariance (src/sample/noise.c) against
  * closed forms, 60-digit references and the conventions of DESIGN.md. */
 #include "noise.h"
 #include "testutil.h"

@@ -62,7 +62,7 @@ static const char *coord_suffix(const rigmat_joint *j, int rate)
 }
 
 /* sd per sample of a density (with optional bandwidth), by the noise
- * module's formulas (src/noise.h); -1 when it needs a rate not given. */
+ * module's formulas (src/sample/noise.h); -1 when it needs a rate not given. */
 static double density_sd(double density, double bandwidth_hz, double rate_hz)
 {
     if (density > 0.0 && bandwidth_hz <= 0.0 && rate_hz <= 0.0)

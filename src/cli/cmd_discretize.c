@@ -1,6 +1,6 @@
 /* cmd_discretize.c - `rigmat discretize FILE --rate F`: the sampled model
- * at a controller rate (src/discretize.h) and the Kalman-filter noise model
- * (src/noise.h), with sampling advice where it matters.
+ * at a controller rate (src/sample/discretize.h) and the Kalman-filter noise model
+ * (src/sample/noise.h), with sampling advice where it matters.
  *
  * JSON (DESIGN.md section 5): the head of `linearize` (cli_json_head), then
  *   period          s
@@ -17,7 +17,7 @@
  *   qd_exact        true for zoh (Qd is the exact covariance of the sampled system)
  *   Rd              covariance of the measurement noise of one sample
  *   S               (only when a disturbance reaches a sensor directly)
- *                   E[w_k v_k^T], states x outputs (src/noise.h)
+ *                   E[w_k v_k^T], states x outputs (src/sample/noise.h)
  *   operating_point {x, u, y}: the model is in deviations from it
  * Numbers carry 17 significant digits.
  */

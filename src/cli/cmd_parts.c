@@ -1,7 +1,7 @@
 /* cmd_parts.c - `rigmat parts [NAME]`: the catalog.
  *
  * Without NAME: one line per part found in the catalog folders (the lookup
- * order of src/load_part.c without a model: --catalog, $RIGMAT_CATALOG,
+ * order of src/model/load_part.c without a model: --catalog, $RIGMAT_CATALOG,
  * ./catalog, the installed share folder), its name and the first comment
  * line of its file; a part in an earlier folder hides one of the same name
  * in a later folder, as it does when a model is loaded.

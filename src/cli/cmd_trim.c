@@ -1,5 +1,5 @@
 /* cmd_trim.c - `rigmat trim FILE`: solve operating_point.solve for a
- * steady state (src/trim.h) and print the point, its residual, the
+ * steady state (src/mech/trim.h) and print the point, its residual, the
  * unknowns the equations leave free and the equations no choice meets. */
 #include "cli.h"
 

@@ -6,7 +6,7 @@
  * fuzz_load.c).  A model that loads goes through rigmat_linearize, then
  * rigmat_discretize (ZOH, T = 10 ms), rigmat_noise_build and
  * rigmat_sampling_advice.  Properties checked (include/rigmat.h,
- * src/discretize.h, src/noise.h, and DESIGN.md: "NaN/Inf/overflow ... is
+ * src/sample/discretize.h, src/sample/noise.h, and DESIGN.md: "NaN/Inf/overflow ... is
  * reported, not printed as a matrix"):
  *   - every status is one its header documents;
  *   - a model linearized has the layout's sizes and finite A, B, C, D and
@@ -14,7 +14,7 @@
  *   - a sampled model has finite Ad, Bd, Gd, Cd, Dd, Ed;
  *   - Qd and Rd are finite and symmetric with a non-negative diagonal;
  *   - everything is freed (LeakSanitizer).
- * Built only when src/linearize.h, src/discretize.h and src/noise.h exist;
+ * Built only when src/mech/linearize.h, src/sample/discretize.h and src/sample/noise.h exist;
  * before that it is the loader alone.
  *
  * Most mutations of a whole model break its structure, so few reach the

@@ -104,7 +104,7 @@ def check(ok, what):
 def direct_disturbance():
     """The demo with its shove made white (bandwidth removed): the disturbance
     reaches the accelerometer directly.  Rd gains E Qc E^T / T and
-    S = Gd Qc E^T / T (zoh), as src/noise.h states."""
+    S = Gd Qc E^T / T (zoh), as src/sample/noise.h states."""
     demo = os.path.join(ROOT, "examples", "balancer.yaml")
     if not os.path.exists(demo):
         return

@@ -4,7 +4,7 @@
  * always follow).
  *
  * Method: Gauss-Newton on the residual r(p) with the exact Jacobian (complex
- * step, src/mechanics.h) and a minimum-norm step from the SVD,
+ * step, src/mech/mechanics.h) and a minimum-norm step from the SVD,
  * dp = -J^+ r, singular values below rank_rtol * s_max treated as zero, so
  * free directions do not move (J. E. Dennis, R. B. Schnabel, Numerical
  * Methods for Unconstrained Optimization and Nonlinear Equations, 1983,

@@ -1,11 +1,11 @@
-/* linearize.h - exact linearization of f(x, u), h(x, u) (src/mechanics.h)
+/* linearize.h - exact linearization of f(x, u), h(x, u) (src/mech/mechanics.h)
  * at the model's operating point, in the model's layout order.
  *
  * A = df/dx, B = df/du, C = dh/dx, D = dh/du by the complex step
  * (J. R. R. A. Martins, P. Sturdza, J. J. Alonso, ACM TOMS 29(3), 2003): each
  * column costs one complex evaluation and carries no truncation or
  * cancellation error.  The operating point is the model's (unnamed = 0),
- * trimmed first when operating_point.solve is not empty (src/trim.h).
+ * trimmed first when operating_point.solve is not empty (src/mech/trim.h).
  * residual = max |f0| over the balance equations (accelerations, current and
  * shaping derivatives); is_steady = residual <= opt->trim_tol.
  * The public entry points are rigmat_system_* and rigmat_linearize in

@@ -20,7 +20,7 @@
  *
  * Coordinates: every non-fixed joint owns one coordinate (driven ones too;
  * they are prescribed).  The canonical state, input and output vectors are
- * those of rigmat_layout_canonical (src/layout.h); rigmat_mech works in that
+ * those of rigmat_layout_canonical (src/model/layout.h); rigmat_mech works in that
  * order and the public rigmat_system maps it to the model's final layout.
  * Units: SI throughout.
  */
