@@ -86,7 +86,7 @@ $(BUILD)/suites.h: $(sort $(wildcard tests/check_*.c))
 
 .PHONY: all deps check check-unit check-cli check-ref check-san check-valgrind demo bench \
         install uninstall clean fuzz format check-install FORCE check-hostile check-fuzz check-fuzz-replay \
-        check-fuzz-short check-valgrind-cli
+        check-fuzz-short check-valgrind-cli check-stages
 all: deps-ok $(BUILD)/rigmat $(BUILD)/librigmat.a
 
 $(BUILD)/rigmat: $(BUILD)/plain/rigmat
@@ -117,8 +117,13 @@ demo: all
 
 # check: unit suites (plain), command-line tests, reference scripts, then the
 # unit suites again under AddressSanitizer + UndefinedBehaviorSanitizer.
-check: all check-symbols check-unit check-cli check-ref check-install check-san check-hostile check-fuzz
+check: all check-stages check-symbols check-unit check-cli check-ref check-install check-san check-hostile check-fuzz
 	@echo "rigmat: all checks passed"
+# check-stages: no include from a later stage into an earlier one, no
+# include cycle (tests/stages.sh, with a self-test that plants both).
+check-stages:
+	sh tests/stages.sh --self-test
+	sh tests/stages.sh
 check-symbols: $(BUILD)/librigmat.a
 	@nm -g --defined-only $< | awk 'NF==3 && $$3 !~ /^rigmat_/ {bad=1; print "non-prefixed symbol: " $$3} END {exit bad}'
 check-unit: $(BUILD)/plain/check_rigmat

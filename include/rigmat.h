@@ -385,7 +385,8 @@ typedef struct rigmat_model {
     rigmat_diags *owner_diags; /* interned file names live here; owned */
 } rigmat_model;
 
-/* Load and validate a model file.  sets are "PATH=VALUE" overrides (may be
+/* Load and validate a model file (the model stage: it does not build the
+ * equations of motion; call rigmat_model_check_equations next).  sets are "PATH=VALUE" overrides (may be
  * NULL when nsets is 0).  Diagnostics go to diags (caller-owned, initialised).
  * On success *out is a new model owned by the caller (free it with
  * rigmat_model_free); on RIGMAT_EMODEL diags holds at least one error and
@@ -420,12 +421,22 @@ typedef struct rigmat_lti {
     double *output_density;    /* per sqrt(Hz); 0 = none */
     double *output_bandwidth_hz; /* first-order bandwidth of the density; 0 = sample average */
     double *output_resolution; /* quantization step; 0 = none */
-    const rigmat_layout *layout; /* borrowed: names and units of x, u, y (may be NULL) */
+    /* names and units of x, u and y: plain copies owned by the lti (filled
+     * by rigmat_linearize; NULL when a group is unnamed).  The sampling
+     * stage reads name, unit and, for states, kind as a tag
+     * (RIGMAT_SIG_CURRENT: a motor current, for the inductance advice);
+     * index refers to the model the lti came from and is not used there. */
+    rigmat_signal *states, *inputs, *outputs;
 } rigmat_lti;
 
-/* Allocate an lti of the given sizes with every matrix zeroed (NULL
- * layout); free with rigmat_lti_free.  NULL when out of memory. */
+/* Allocate an lti of the given sizes with every matrix zeroed (no names);
+ * free with rigmat_lti_free.  NULL when out of memory. */
 rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control);
+/* Copy names, units, kinds, indices and roles of the states (nx), inputs
+ * (nu) and outputs (ny) into s, replacing those it had; any group may be
+ * NULL (left unnamed).  RIGMAT_ENOMEM (s then has no names). */
+rigmat_status rigmat_lti_set_signals(rigmat_lti *s, const rigmat_signal *states,
+        const rigmat_signal *inputs, const rigmat_signal *outputs);
 void rigmat_lti_free(rigmat_lti *s);
 
 /* ------------------------------------------- layout, equations, linearize */
@@ -433,14 +444,27 @@ void rigmat_lti_free(rigmat_lti *s);
 
 /* Fill m->layout from the model: names, units, kinds and order of x, u and
  * y (DESIGN.md section 2), after the optional states/inputs/outputs lists
- * and `order: interleaved`, and the order hash.  Also checks that the
- * model's equations can be built (driven joints give every derivative the
- * model needs; a `states` list leaves out only cyclic coordinates).
- * Problems go to d with the place of the offending entry; returns
- * RIGMAT_EMODEL after recording at least one error, RIGMAT_ENOMEM.  The
- * layout is owned by the model: release it with rigmat_layout_release. */
+ * and `order: interleaved`, and the order hash.  rigmat_model_load calls
+ * it; it never builds the equations of motion (a `states` list may leave
+ * out only coordinates; whether they are cyclic is
+ * rigmat_model_check_equations' job).  Problems go to d with the place of
+ * the offending entry; returns RIGMAT_EMODEL after recording at least one
+ * error, RIGMAT_ENOMEM.  The layout is owned by the model: release it with
+ * rigmat_layout_release. */
 rigmat_status rigmat_layout_build(rigmat_model *m, rigmat_diags *d);
 void rigmat_layout_release(rigmat_layout *l);
+
+/* The checks of a loaded model that need its equations of motion (the
+ * mech stage; loading never builds them): the equations can be built
+ * (driven joints give every derivative the model needs: the message names
+ * the element and the driven kind that works), and every coordinate a
+ * `states` list leaves out is cyclic (appears in no equation).  Call it
+ * after rigmat_model_load and before using the model; rigmat_system_alloc,
+ * rigmat_linearize and rigmat_trim_model refuse such a model too, with the
+ * first problem as a rigmat_error.  Problems go to d (may be NULL) as
+ * errors with places; returns RIGMAT_EMODEL after recording at least one,
+ * RIGMAT_ENOMEM. */
+rigmat_status rigmat_model_check_equations(const rigmat_model *m, rigmat_diags *d);
 
 /* The nonlinear model x' = f(x, u), y = h(x, u) in the order of m->layout
  * (built), for extended Kalman filters and one's own simulators.  States
@@ -448,7 +472,8 @@ void rigmat_layout_release(rigmat_layout *l);
  * operating-point values.  Returns a new object owned by the caller
  * (rigmat_system_free); it borrows m, which must outlive it.
  * RIGMAT_EMODEL when the equations cannot be built (a driven joint gives
- * too low a derivative: the message names the element). */
+ * too low a derivative: the message names the element) or the layout
+ * leaves out a coordinate that is not cyclic. */
 typedef struct rigmat_system rigmat_system;
 rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, rigmat_error *err);
 void rigmat_system_free(rigmat_system *s);
@@ -464,7 +489,7 @@ rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const d
 
 /* The continuous linear model at the model's operating point, after trim
  * when operating_point.solve names unknowns.  *out is a new lti owned by the
- * caller (rigmat_lti_free) whose layout points into m.  warnings (may be
+ * caller (rigmat_lti_free), named after m's layout (copies).  warnings (may be
  * NULL) receives warnings: a steady motion along a coordinate that is not
  * cyclic makes the model time-varying.  RIGMAT_ENUMERIC when the trim does
  * not converge or a result is not finite; RIGMAT_EMODEL as for the system. */

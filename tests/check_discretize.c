@@ -448,14 +448,12 @@ START_TEST(delay_states_are_named_after_inputs)
      * names, the disturbance neither delayed nor named */
     static char n_drive[] = "drive", n_steer[] = "steer", n_push[] = "push";
     rigmat_signal inputs[3];
-    rigmat_layout lay;
     rigmat_lti *s = ref2(), *s3 = rigmat_lti_alloc(2, 3, 1, 2);
     rigmat_dlti *d;
     const char *want[] = { "drive.delayed1", "steer.delayed1", "drive.delayed2", "steer.delayed2" };
     size_t i;
 
     memset(inputs, 0, sizeof inputs);
-    memset(&lay, 0, sizeof lay);
     inputs[0].name = n_drive;
     strcpy(inputs[0].unit, "V");
     inputs[1].name = n_steer;
@@ -463,16 +461,13 @@ START_TEST(delay_states_are_named_after_inputs)
     inputs[2].name = n_push;
     strcpy(inputs[2].unit, "N");
     inputs[2].role = RIGMAT_ROLE_DISTURBANCE;
-    lay.inputs = inputs;
-    lay.nu = 3;
-    lay.nu_control = 2;
     gsl_matrix_memcpy(s3->A, s->A);
     gsl_matrix_set(s3->B, 1, 0, 1.0);
     gsl_matrix_set(s3->B, 0, 1, 0.5);
     gsl_matrix_set(s3->B, 1, 2, 0.3);
     gsl_matrix_set(s3->C, 0, 0, 1.0);
     gsl_matrix_set(s3->D, 0, 2, 0.7);
-    s3->layout = &lay;
+    ck_assert_int_eq(rigmat_lti_set_signals(s3, NULL, inputs, NULL), RIGMAT_OK);
     d = run(s3, RIGMAT_METHOD_ZOH, 0.05, 0, 2.0);
     ck_assert_uint_eq(d->nx, 2 + 2 * 2);
     ck_assert_uint_eq(d->nw, 1);
@@ -565,21 +560,17 @@ START_TEST(advice_fires_only_where_it_matters)
      * electrical pole is fast (|lambda| T = 100) and lives in the current */
     static char n_rate[] = "shaft.rate", n_cur[] = "drive.current";
     rigmat_signal states[2];
-    rigmat_layout lay;
     rigmat_lti *s = rigmat_lti_alloc(2, 1, 0, 1);
     const double a[] = { 0, 2400, -150, -10000 };
     rigmat_advice it[8];
     size_t c;
 
     memset(states, 0, sizeof states);
-    memset(&lay, 0, sizeof lay);
     states[0].name = n_rate;
     states[0].kind = RIGMAT_SIG_RATE;
     states[1].name = n_cur;
     states[1].kind = RIGMAT_SIG_CURRENT;
-    lay.states = states;
-    lay.nx = 2;
-    s->layout = &lay;
+    ck_assert_int_eq(rigmat_lti_set_signals(s, states, NULL, NULL), RIGMAT_OK);
     tu_fill(s->A, a);
     c = advice(s, RIGMAT_METHOD_ZOH, 0.01, it, 8);
     ck_assert_uint_eq(c, 1);
@@ -595,7 +586,7 @@ START_TEST(advice_fires_only_where_it_matters)
     {
         const double w = 2 * M_PI * 30.0;
         const double b[] = { 0, 1, -w * w, 0 };
-        s->layout = NULL;
+        ck_assert_int_eq(rigmat_lti_set_signals(s, NULL, NULL, NULL), RIGMAT_OK);
         tu_fill(s->A, b);
         c = advice(s, RIGMAT_METHOD_ZOH, 0.01, it, 8);
         ck_assert_uint_eq(c, 1);

@@ -87,8 +87,20 @@ static rigmat_status load(const char *path, const char *const *sets, size_t nset
 {
     rigmat_options opt = rigmat_options_default();
     opt.catalog_dir = "../catalog";
+    rigmat_status st;
+
     rigmat_diags_init(d);
-    return rigmat_model_load(path, sets, nsets, &opt, m, d);
+    st = rigmat_model_load(path, sets, nsets, &opt, m, d);
+    /* the checks that need the equations come after loading, as in the
+     * program (src/cli/common.c) */
+    if (st == RIGMAT_OK) {
+        st = rigmat_model_check_equations(*m, d);
+        if (st != RIGMAT_OK) {
+            rigmat_model_free(*m);
+            *m = NULL;
+        }
+    }
+    return st;
 }
 
 /* A fresh temporary folder holding one file. */

@@ -37,6 +37,11 @@ int main(int argc, char **argv)
         rigmat_diags_print(&d, stderr);
         return 1;
     }
+    if (rigmat_model_check_equations(m, &d) != RIGMAT_OK) {
+        rigmat_diags_print(&d, stderr);
+        rigmat_model_free(m);
+        return 1;
+    }
     rigmat_diags_release(&d);
     if (rigmat_linearize(m, &opt, &s, NULL, &e) != RIGMAT_OK) {
         fprintf(stderr, "linearize: %s\n", e.message);

@@ -193,6 +193,8 @@ rigmat_status tm_build(rigmat_model *m, char *msg, size_t len)
 
     rigmat_diags_init(&d);
     st = rigmat_layout_build(m, &d);
+    if (st == RIGMAT_OK)
+        st = rigmat_model_check_equations(m, &d);
     if (msg != NULL && len > 0) {
         msg[0] = '\0';
         if (d.count > 0)

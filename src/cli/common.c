@@ -43,6 +43,14 @@ rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct
     rigmat_diags_init(&d);
     d.max_errors = env->opt.max_errors;
     st = rigmat_model_load(file, c->sets.items, c->sets.count, &env->opt, out, &d);
+    /* then the checks that need the equations of motion (mech stage) */
+    if (st == RIGMAT_OK) {
+        st = rigmat_model_check_equations(*out, &d);
+        if (st != RIGMAT_OK) {
+            rigmat_model_free(*out);
+            *out = NULL;
+        }
+    }
     rigmat_diags_print(&d, env->err);
     rigmat_diags_release(&d);
     return st;

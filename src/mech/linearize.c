@@ -2,6 +2,7 @@
  * linearization at the operating point (see linearize.h). */
 #include "linearize.h"
 #include "trim.h"
+#include "equations.h"
 
 #include <math.h>
 #include <gsl/gsl_math.h>
@@ -121,7 +122,21 @@ rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, ri
             goto fail;
         }
     }
-    /* states the layout leaves out sit at the operating point */
+    /* states the layout leaves out sit at the operating point; they must be
+     * cyclic coordinates (rigmat_model_check_equations reports every one) */
+    k = 0;
+    st = rigmat_mech_next_noncyclic(m, s->mech, &k, err);
+    if (st == RIGMAT_OK && k != RIGMAT_NONE) {
+        st = RIGMAT_FAIL(err, RIGMAT_EMODEL,
+                "the states list leaves out a coordinate that is not cyclic: '%s'",
+                C->states[k].name);
+        rigmat_error_hint(err,
+                "only a coordinate that appears in no equation (cyclic) may be left out");
+        if (m->order_states.locs != NULL && err != NULL)
+            err->where = m->order_states.locs[0];
+    }
+    if (st != RIGMAT_OK)
+        goto fail;
     st = rigmat_mech_operating_point(s->mech, s->xc, s->uc, err);
     if (st != RIGMAT_OK)
         goto fail;
@@ -351,7 +366,10 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
         st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         goto done;
     }
-    lti->layout = L;
+    if (rigmat_lti_set_signals(lti, L->states, L->inputs, L->outputs) != RIGMAT_OK) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        goto done;
+    }
     pick(s, lti->A, lti->B, lti->C, lti->D);
     for (k = 0; k < L->nx; k++) {
         gsl_vector_set(lti->x0, k, s->xc[s->xmap[k]]);

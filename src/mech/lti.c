@@ -2,6 +2,7 @@
 #include "rigmat.h"
 
 #include <stdlib.h>
+#include <string.h>
 
 static gsl_matrix *zeros(size_t r, size_t c, int *bad)
 {
@@ -67,10 +68,74 @@ rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control)
     return s;
 }
 
+static void free_signals(rigmat_signal **arr, size_t n)
+{
+    size_t i;
+
+    if (*arr == NULL)
+        return;
+    for (i = 0; i < n; i++)
+        free((*arr)[i].name);
+    free(*arr);
+    *arr = NULL;
+}
+
+static rigmat_signal *copy_signals(const rigmat_signal *src, size_t n, int *bad)
+{
+    rigmat_signal *arr;
+    size_t i;
+
+    if (src == NULL || *bad)
+        return NULL;
+    arr = calloc(n ? n : 1, sizeof *arr);
+    if (arr == NULL) {
+        *bad = 1;
+        return NULL;
+    }
+    for (i = 0; i < n; i++) {
+        const char *name = src[i].name != NULL ? src[i].name : "";
+        const size_t len = strlen(name) + 1;
+        arr[i] = src[i];
+        arr[i].unit[sizeof arr[i].unit - 1] = '\0';
+        arr[i].name = malloc(len);
+        if (arr[i].name == NULL) {
+            free_signals(&arr, i);
+            *bad = 1;
+            return NULL;
+        }
+        memcpy(arr[i].name, name, len);
+    }
+    return arr;
+}
+
+static void release_signals(rigmat_lti *s)
+{
+    free_signals(&s->states, s->nx);
+    free_signals(&s->inputs, s->nu);
+    free_signals(&s->outputs, s->ny);
+}
+
+rigmat_status rigmat_lti_set_signals(rigmat_lti *s, const rigmat_signal *states,
+        const rigmat_signal *inputs, const rigmat_signal *outputs)
+{
+    int bad = 0;
+
+    release_signals(s);
+    s->states = copy_signals(states, s->nx, &bad);
+    s->inputs = copy_signals(inputs, s->nu, &bad);
+    s->outputs = copy_signals(outputs, s->ny, &bad);
+    if (bad) {
+        release_signals(s);
+        return RIGMAT_ENOMEM;
+    }
+    return RIGMAT_OK;
+}
+
 void rigmat_lti_free(rigmat_lti *s)
 {
     if (s == NULL)
         return;
+    release_signals(s);
     if (s->A) gsl_matrix_free(s->A);
     if (s->B) gsl_matrix_free(s->B);
     if (s->C) gsl_matrix_free(s->C);

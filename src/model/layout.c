@@ -1,8 +1,8 @@
 /* layout.c - names, units, kinds and order of the state, input and output
- * vectors (see layout.h), and the check of a `states` list that leaves out
- * cyclic coordinates. */
+ * vectors (see layout.h).  Whether a coordinate a `states` list leaves out
+ * is cyclic needs the equations of motion: that check belongs to the mech
+ * stage (src/mech/equations.c, rigmat_model_check_equations). */
 #include "layout.h"
-#include "mechanics.h"
 
 #include <stdint.h>
 #include <stdio.h>
@@ -311,52 +311,6 @@ static rigmat_status reorder(rigmat_signal *sig, size_t *n, const rigmat_namelis
     return RIGMAT_OK;
 }
 
-/* Whether canonical state k's column of df/dx and dh/dx is exactly zero at
- * the operating point and at a second, generic point: the coordinate
- * appears in no equation (the complex step gives exact zeros there). */
-static rigmat_status is_cyclic(const rigmat_model *m, size_t k, int *cyclic, rigmat_error *err)
-{
-    rigmat_mech *s = NULL;
-    rigmat_status st;
-    const rigmat_layout *L;
-    double *x = NULL, *u = NULL, *A = NULL, *C = NULL;
-    size_t i, pass;
-
-    *cyclic = 1;
-    st = rigmat_mech_alloc(m, &s, err);
-    if (st != RIGMAT_OK)
-        return st;
-    L = rigmat_mech_canonical(s);
-    x = calloc(L->nx + 1, sizeof *x);
-    u = calloc(L->nu + 1, sizeof *u);
-    A = calloc(L->nx * L->nx + 1, sizeof *A);
-    C = calloc(L->ny * L->nx + 1, sizeof *C);
-    if (x == NULL || u == NULL || A == NULL || C == NULL) {
-        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
-        goto done;
-    }
-    st = rigmat_mech_operating_point(s, x, u, err);
-    for (pass = 0; pass < 2 && st == RIGMAT_OK && *cyclic; pass++) {
-        if (pass == 1)
-            for (i = 0; i < L->nx; i++)
-                x[i] += 0.0517 * (double)(i + 1);
-        st = rigmat_mech_jacobians(s, x, u, A, NULL, C, NULL, NULL, NULL, err);
-        for (i = 0; i < L->nx && st == RIGMAT_OK; i++)
-            if (A[i * L->nx + k] != 0.0)
-                *cyclic = 0;
-        for (i = 0; i < L->ny && st == RIGMAT_OK; i++)
-            if (C[i * L->nx + k] != 0.0)
-                *cyclic = 0;
-    }
-done:
-    free(x);
-    free(u);
-    free(A);
-    free(C);
-    rigmat_mech_free(s);
-    return st;
-}
-
 static rigmat_status error_to_diag(rigmat_diags *d, const rigmat_error *e)
 {
     if (d == NULL)
@@ -372,18 +326,12 @@ rigmat_status rigmat_layout_build(rigmat_model *m, rigmat_diags *d)
     rigmat_layout l;
     rigmat_error e;
     rigmat_status st;
-    rigmat_mech *s = NULL;
     size_t *pos = NULL, i, k;
     int *missing = NULL;
     size_t *shape_in = NULL;
 
     memset(&e, 0, sizeof e);
     rigmat_layout_release(&m->layout);
-    /* the equations must be buildable whatever the order */
-    st = rigmat_mech_alloc(m, &s, &e);
-    rigmat_mech_free(s);
-    if (st != RIGMAT_OK)
-        return error_to_diag(d, &e);
     st = canonical(m, &l, m->order_interleaved, &e);
     if (st != RIGMAT_OK)
         return error_to_diag(d, &e);
@@ -424,55 +372,25 @@ rigmat_status rigmat_layout_build(rigmat_model *m, rigmat_diags *d)
     if (m->order_states.count > 0) {
         size_t nx0 = l.nx;
         rigmat_signal *copy = calloc(nx0 + 1, sizeof *copy);
-        const rigmat_layout *canon;
         if (copy == NULL) {
             st = RIGMAT_ENOMEM;
             goto done;
         }
         memcpy(copy, l.states, nx0 * sizeof *copy);
-        /* reorder() frees the names it drops: keep the copies' names valid by
-         * checking cyclicity first on the canonical order */
         for (i = 0; i < nx0; i++)
             missing[i] = 1;
         for (k = 0; k < m->order_states.count; k++)
             for (i = 0; i < nx0; i++)
                 if (strcmp(copy[i].name, m->order_states.names[k]) == 0)
                     missing[i] = 0;
+        /* only a coordinate may be left out; whether it is cyclic needs the
+         * equations: rigmat_model_check_equations (mech stage) tests it */
         st = RIGMAT_OK;
-        s = NULL;
-        for (i = 0; i < nx0 && st == RIGMAT_OK; i++) {
-            int cyc = 0;
-            size_t ci;
-            if (!missing[i])
-                continue;
-            if (copy[i].kind != RIGMAT_SIG_COORD) {
+        for (i = 0; i < nx0 && st == RIGMAT_OK; i++)
+            if (missing[i] && copy[i].kind != RIGMAT_SIG_COORD)
                 st = diag(d, list_loc(&m->order_states, 0),
                         "only a cyclic coordinate may be left out",
                         "the states list leaves out", copy[i].name);
-                continue;
-            }
-            /* the canonical index of this coordinate */
-            if (rigmat_mech_alloc(m, &s, &e) != RIGMAT_OK) {
-                st = error_to_diag(d, &e);
-                break;
-            }
-            canon = rigmat_mech_canonical(s);
-            for (ci = 0; ci < canon->nx; ci++)
-                if (canon->states[ci].kind == RIGMAT_SIG_COORD &&
-                        canon->states[ci].index == copy[i].index)
-                    break;
-            rigmat_mech_free(s);
-            s = NULL;
-            if (is_cyclic(m, ci, &cyc, &e) != RIGMAT_OK) {
-                st = error_to_diag(d, &e);
-                break;
-            }
-            if (!cyc)
-                st = diag(d, list_loc(&m->order_states, 0),
-                        "only a coordinate that appears in no equation (cyclic) may be left out",
-                        "the states list leaves out a coordinate that is not cyclic:",
-                        copy[i].name);
-        }
         free(copy);
         if (st == RIGMAT_OK)
             st = reorder(l.states, &l.nx, &m->order_states, "states", 1, pos, missing, d);

@@ -385,8 +385,7 @@ static rigmat_status name_delays(const rigmat_lti *s, rigmat_dlti *d, rigmat_err
     for (j = 0; j < d->ndelay; j++)
         for (i = 0; i < d->nu; i++) {
             rigmat_signal *g = &d->delay_states[j * d->nu + i];
-            const rigmat_signal *in =
-                    s->layout != NULL && s->layout->inputs != NULL ? &s->layout->inputs[i] : NULL;
+            const rigmat_signal *in = s->inputs != NULL ? &s->inputs[i] : NULL;
             char buf[160];
             const int len = in != NULL && in->name != NULL
                                     ? snprintf(buf, sizeof buf, "%s.delayed%zu", in->name, j + 1)
@@ -647,8 +646,7 @@ rigmat_status rigmat_sampling_advice(const rigmat_lti *s, const rigmat_discretiz
         if (o->method == RIGMAT_METHOD_EULER && re < 0.0 && hypot(1.0 + re * T, im * T) >= 1.0)
             add_item(items, cap, count, RIGMAT_ADVICE_EULER, re, im, where);
         if (is_real && re < 0.0 && mag * T > lim->fast_pole_lambda_t && where != RIGMAT_NONE &&
-            s->layout != NULL && s->layout->states != NULL &&
-            s->layout->states[where].kind == RIGMAT_SIG_CURRENT)
+            s->states != NULL && s->states[where].kind == RIGMAT_SIG_CURRENT)
             add_item(items, cap, count, RIGMAT_ADVICE_NEGLECT_L, re, im, where);
     }
     if (o->method != RIGMAT_METHOD_ZOH) {

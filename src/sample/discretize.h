@@ -111,7 +111,7 @@ typedef struct rigmat_discretize_ws {
 rigmat_discretize_ws *rigmat_discretize_ws_alloc(size_t nx, size_t nu, size_t ny);
 void rigmat_discretize_ws_free(rigmat_discretize_ws *w);
 
-/* Discretize s (whose layout, when not NULL, names the delay states).
+/* Discretize s (whose input names, when it has them, name the delay states).
  * On success *out is a new model owned by the caller (rigmat_dlti_free).
  * RIGMAT_EUSAGE for a bad period, prewarp or delay, a delay with a method
  * other than ZOH, or a model without states; RIGMAT_ENUMERIC when I - A T/2

@@ -276,7 +276,7 @@ static rigmat_status gamma_g(const gsl_matrix *A, const gsl_matrix *G, double T,
 
 /* A variance that overflowed (a gain of 1e308 squared) must stop here, not
  * reach a printed Rd: name the first output or state it hits. */
-static rigmat_status check_finite(const rigmat_noise *r, const rigmat_layout *L,
+static rigmat_status check_finite(const rigmat_noise *r, const rigmat_signal *outputs,
                                   rigmat_error *err)
 {
     size_t i, j;
@@ -286,7 +286,7 @@ static rigmat_status check_finite(const rigmat_noise *r, const rigmat_layout *L,
             if (!isfinite(gsl_matrix_get(r->Rd, i, j))) {
                 rigmat_status st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
                         "the measurement noise of output '%s' is not finite",
-                        L != NULL && i < L->ny ? L->outputs[i].name : "?");
+                        outputs != NULL ? outputs[i].name : "?");
                 rigmat_error_hint(err, "its variance overflows: check the sensor's gain, "
                                        "noise, density and resolution");
                 return st;
@@ -415,7 +415,7 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
                 gsl_matrix_set(r->S, i, j, v / T);
             }
     }
-    rc = check_finite(r, s->layout, err);
+    rc = check_finite(r, s->outputs, err);
 done:
     if (rc != RIGMAT_OK)
         rigmat_noise_free(r);

@@ -241,6 +241,11 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     if (st == RIGMAT_OK) {
         FUZZ_REQUIRE(m != NULL, "load OK without a model");
 #ifdef HAVE_PIPELINE
+        st = rigmat_model_check_equations(m, &d);
+        FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EMODEL || st == RIGMAT_ENOMEM,
+                     "check_equations status %d", (int)st);
+        if (st == RIGMAT_EMODEL)
+            FUZZ_REQUIRE(d.errors > 0, "equations refused without an error");
         linearize(m, &opt);
 #endif
         rigmat_model_free(m);
