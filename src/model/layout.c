@@ -3,6 +3,7 @@
  * is cyclic needs the equations of motion: that check belongs to the mech
  * stage (src/mech/equations.c, rigmat_model_check_equations). */
 #include "layout.h"
+#include "kinds.h"
 
 #include <stdint.h>
 #include <stdio.h>
@@ -27,25 +28,25 @@ void rigmat_layout_release(rigmat_layout *l)
     memset(l, 0, sizeof *l);
 }
 
-static int linear_joint(const rigmat_joint *j)
+static int has_coordinate(const rigmat_joint *j)
 {
-    return j->type != RIGMAT_JOINT_HINGE;
+    return rigmat_joint_kind(j->type)->has_coordinate;
 }
 
 static int has_coord_state(const rigmat_joint *j)
 {
-    return j->type != RIGMAT_JOINT_FIXED && j->driven != RIGMAT_DRIVEN_POSITION;
+    return has_coordinate(j) && j->driven != RIGMAT_DRIVEN_POSITION;
 }
 
 static int has_rate_state(const rigmat_joint *j)
 {
-    return j->type != RIGMAT_JOINT_FIXED &&
+    return has_coordinate(j) &&
             (j->driven == RIGMAT_DRIVEN_NONE || j->driven == RIGMAT_DRIVEN_ACCELERATION);
 }
 
 static int has_current_state(const rigmat_motor *mo)
 {
-    return mo->drive != RIGMAT_DRIVE_CURRENT && !mo->inductance_neglected;
+    return rigmat_drive_kind_desc(mo->drive)->has_current_state && !mo->inductance_neglected;
 }
 
 static rigmat_status add_sig(rigmat_signal *arr, size_t *count, const char *name,
@@ -67,42 +68,6 @@ static rigmat_status add_sig(rigmat_signal *arr, size_t *count, const char *name
     return RIGMAT_OK;
 }
 
-static const char *driven_unit(const rigmat_joint *j)
-{
-    static const char *const lin[] = { "m", "m", "m/s", "m/s^2" };
-    static const char *const ang[] = { "rad", "rad", "rad/s", "rad/s^2" };
-    return linear_joint(j) ? lin[j->driven] : ang[j->driven];
-}
-
-static const char *force_unit(const rigmat_model *m, const rigmat_force *f)
-{
-    if (f->kind == RIGMAT_FORCE_POINT)
-        return "N";
-    if (f->kind == RIGMAT_FORCE_TORQUE)
-        return "N*m";
-    return linear_joint(&m->joints[f->joint]) ? "N" : "N*m";
-}
-
-static const char *sensor_unit(const rigmat_model *m, const rigmat_sensor *se)
-{
-    switch (se->kind) {
-    case RIGMAT_SENSE_JOINT_POSITION: return linear_joint(&m->joints[se->joint]) ? "m" : "rad";
-    case RIGMAT_SENSE_JOINT_VELOCITY:
-        return linear_joint(&m->joints[se->joint]) ? "m/s" : "rad/s";
-    case RIGMAT_SENSE_ANGLE:
-    case RIGMAT_SENSE_RELATIVE_ANGLE: return "rad";
-    case RIGMAT_SENSE_RATE:
-    case RIGMAT_SENSE_RELATIVE_RATE: return "rad/s";
-    case RIGMAT_SENSE_MOTOR_ANGLE: return se->unit_counts ? "counts" : "rad";
-    case RIGMAT_SENSE_POINT_POSITION: return "m";
-    case RIGMAT_SENSE_POINT_VELOCITY: return "m/s";
-    case RIGMAT_SENSE_SPECIFIC_FORCE: return "m/s^2";
-    case RIGMAT_SENSE_CURRENT: return "A";
-    case RIGMAT_SENSE_DRIVE_FORCE: return linear_joint(&m->joints[se->joint]) ? "N" : "N*m";
-    }
-    return "1";
-}
-
 static int shaped(const rigmat_model *m, const rigmat_signal *in)
 {
     if (in->role != RIGMAT_ROLE_DISTURBANCE)
@@ -117,7 +82,6 @@ static int shaped(const rigmat_model *m, const rigmat_signal *in)
 static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int interleaved,
         rigmat_error *err)
 {
-    static const char *const motor_units[] = { "V", "A", "1" };
     rigmat_status st = RIGMAT_OK;
     size_t j, k, g;
     const size_t maxx = 2 * m->njoints + m->nmotors + m->njoints + m->nforces;
@@ -136,38 +100,39 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
         const rigmat_role role = g == 0 ? RIGMAT_ROLE_INPUT : RIGMAT_ROLE_DISTURBANCE;
         for (j = 0; j < m->njoints && st == RIGMAT_OK; j++) {
             const rigmat_joint *jt = &m->joints[j];
-            if (jt->type != RIGMAT_JOINT_FIXED && jt->driven != RIGMAT_DRIVEN_NONE &&
-                    jt->role == role)
-                st = add_sig(l->inputs, &l->nu, jt->name, NULL, driven_unit(jt),
+            if (has_coordinate(jt) && jt->driven != RIGMAT_DRIVEN_NONE && jt->role == role)
+                st = add_sig(l->inputs, &l->nu, jt->name, NULL,
+                        rigmat_units_kind_symbol(rigmat_joint_driven_kind(jt)),
                         RIGMAT_SIG_DRIVEN, j, role, err);
         }
         for (k = 0; k < m->nmotors && st == RIGMAT_OK && role == RIGMAT_ROLE_INPUT; k++)
             st = add_sig(l->inputs, &l->nu, m->motors[k].name, NULL,
-                    motor_units[m->motors[k].drive], RIGMAT_SIG_MOTOR, k, role, err);
+                    rigmat_units_kind_symbol(rigmat_drive_kind_desc(m->motors[k].drive)->input),
+                    RIGMAT_SIG_MOTOR, k, role, err);
         for (k = 0; k < m->nforces && st == RIGMAT_OK; k++)
             if (m->forces[k].role == role)
                 st = add_sig(l->inputs, &l->nu, m->forces[k].name, NULL,
-                        force_unit(m, &m->forces[k]), RIGMAT_SIG_FORCE, k, role, err);
+                        rigmat_units_kind_symbol(rigmat_force_effort(m, &m->forces[k])),
+                        RIGMAT_SIG_FORCE, k, role, err);
         if (g == 0)
             l->nu_control = l->nu;
     }
     /* states */
     for (j = 0; j < m->njoints && st == RIGMAT_OK; j++) {
         const rigmat_joint *jt = &m->joints[j];
-        const int lin = linear_joint(jt);
+        const rigmat_joint_desc *jd = rigmat_joint_kind(jt->type);
         if (has_coord_state(jt))
-            st = add_sig(l->states, &l->nx, jt->name, lin ? ".position" : ".angle",
-                    lin ? "m" : "rad", RIGMAT_SIG_COORD, j, RIGMAT_ROLE_INPUT, err);
+            st = add_sig(l->states, &l->nx, jt->name, jd->suffix[0], rigmat_joint_unit(jt, 0),
+                    RIGMAT_SIG_COORD, j, RIGMAT_ROLE_INPUT, err);
         if (interleaved && st == RIGMAT_OK && has_rate_state(jt))
-            st = add_sig(l->states, &l->nx, jt->name, lin ? ".velocity" : ".rate",
-                    lin ? "m/s" : "rad/s", RIGMAT_SIG_RATE, j, RIGMAT_ROLE_INPUT, err);
+            st = add_sig(l->states, &l->nx, jt->name, jd->suffix[1], rigmat_joint_unit(jt, 1),
+                    RIGMAT_SIG_RATE, j, RIGMAT_ROLE_INPUT, err);
     }
     for (j = 0; j < m->njoints && st == RIGMAT_OK && !interleaved; j++) {
         const rigmat_joint *jt = &m->joints[j];
-        const int lin = linear_joint(jt);
         if (has_rate_state(jt))
-            st = add_sig(l->states, &l->nx, jt->name, lin ? ".velocity" : ".rate",
-                    lin ? "m/s" : "rad/s", RIGMAT_SIG_RATE, j, RIGMAT_ROLE_INPUT, err);
+            st = add_sig(l->states, &l->nx, jt->name, rigmat_joint_kind(jt->type)->suffix[1],
+                    rigmat_joint_unit(jt, 1), RIGMAT_SIG_RATE, j, RIGMAT_ROLE_INPUT, err);
     }
     for (k = 0; k < m->nmotors && st == RIGMAT_OK; k++)
         if (has_current_state(&m->motors[k]))
@@ -179,7 +144,8 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
                     RIGMAT_SIG_SHAPING, k, RIGMAT_ROLE_DISTURBANCE, err);
     for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
         st = add_sig(l->outputs, &l->ny, m->sensors[k].name, NULL,
-                sensor_unit(m, &m->sensors[k]), RIGMAT_SIG_SENSOR, k, RIGMAT_ROLE_INPUT, err);
+                rigmat_sensor_output_unit(m, &m->sensors[k]), RIGMAT_SIG_SENSOR, k,
+                RIGMAT_ROLE_INPUT, err);
     if (st != RIGMAT_OK)
         goto fail;
     rigmat_layout_hash(l);

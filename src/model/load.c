@@ -30,6 +30,7 @@
  */
 #include "load.h"
 #include "units.h"
+#include "kinds.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -50,7 +51,15 @@ struct ld {
     const rigmat_options *opt;
     int nomem;
     int lost_child; /* a joint's child did not resolve: "not attached" would mislead */
+    /* per joint: its type was not understood (reported once); what depends
+     * on the type is not checked again, so one mistake gives one error */
+    unsigned char *joint_unknown;
 };
+
+static int joint_unknown(const struct ld *L, size_t j)
+{
+    return L->joint_unknown != NULL && j != RIGMAT_NONE && L->joint_unknown[j];
+}
 
 /* The entry being read: "body 'chassis'" and its mapping. */
 struct ent {
@@ -389,6 +398,61 @@ static int opt_word(struct ld *L, const struct ent *e, const char *key, const ch
 
 #define NW(a) (sizeof(a) / sizeof(a)[0])
 
+static void read_axis(struct ld *L, const struct ent *e, const rigmat_node *n, double out[2]);
+
+static void check_range(struct ld *L, const struct ent *e, const rigmat_key_spec *k, double v)
+{
+    if (k->range == RIGMAT_RANGE_POSITIVE)
+        must_positive(L, e, k->key, v);
+    else if (k->range == RIGMAT_RANGE_NONNEG)
+        must_nonneg(L, e, k->key, v);
+}
+
+/* Read the keys one kind adds (its table entry in kinds.c) into obj, in
+ * table order, each by its type, unit kind and range. */
+static void read_spec_keys(struct ld *L, const struct ent *e, const rigmat_key_spec *keys,
+        size_t n, void *obj)
+{
+    size_t i;
+
+    for (i = 0; i < n; i++) {
+        const rigmat_key_spec *k = &keys[i];
+        char *at = (char *)obj + k->offset;
+        const rigmat_entry *f = field(e, k->key);
+        switch (k->type) {
+        case RIGMAT_KEY_NUMBER:
+            if (k->required ? req_num(L, e, k->key, k->kind, (double *)(void *)at, k->hint)
+                            : opt_num(L, e, k->key, k->kind, (double *)(void *)at) == 1)
+                check_range(L, e, k, *(double *)(void *)at);
+            break;
+        case RIGMAT_KEY_POINT:
+            if (opt_vec2(L, e, k->key, k->kind, (double *)(void *)at) == 0 && k->required)
+                missing(L, e, k->key, k->hint);
+            break;
+        case RIGMAT_KEY_DIRECTION:
+        case RIGMAT_KEY_AXIS:
+            if (f == NULL && k->required)
+                missing(L, e, k->key, k->hint);
+            else if (f != NULL && k->type == RIGMAT_KEY_DIRECTION)
+                dir_node(L, e, f->value, (double *)(void *)at);
+            else if (f != NULL)
+                read_axis(L, e, f->value, (double *)(void *)at);
+            break;
+        case RIGMAT_KEY_WORD: {
+            const int w = opt_word(L, e, k->key, k->words, k->nwords, k->what, 0);
+            *(int *)(void *)at = w > 0;
+            if (w > 0 && k->needs != NULL && field(e, k->needs) == NULL) {
+                char hint[64];
+                snprintf(hint, sizeof hint, "add %s", k->needs);
+                lerr(L, e, f->value->loc, hint, "'%s: %s' needs '%s'", k->key, k->words[w],
+                        k->needs);
+            }
+            break;
+        }
+        }
+    }
+}
+
 /* -------------------------------------------------------- references */
 
 static size_t find_body(const rigmat_model *m, const char *s)
@@ -605,25 +669,27 @@ static void *alloc_array(struct ld *L, size_t n, size_t size)
 /* --------------------------------------------------------------- bodies */
 
 static const char *const body_keys[] = { "mass", "inertia", "shape", "com", "part" };
-static const char *const shape_words[] = { "point", "rod", "disc", "ring", "sphere", "box" };
 
 static void read_shape(struct ld *L, const struct ent *e, const rigmat_node *n, rigmat_body *b)
 {
     const rigmat_node *args = NULL;
+    const rigmat_shape_desc *sd;
+    const char *shape_words[RIGMAT_NSHAPES];
+    const size_t nshapes = rigmat_shape_words(shape_words, RIGMAT_NSHAPES);
     const char *word;
     struct ent sub;
     int k;
 
     if (n->type == RIGMAT_NODE_SCALAR) {
-        k = word_node(L, e, n, shape_words, NW(shape_words), "a shape");
+        k = word_node(L, e, n, shape_words, nshapes, "a shape");
         if (k < 0)
             return;
-        if (k != 0) {
+        if (rigmat_shape_kinds[k + 1].nkeys > 0) {
             lerr(L, e, n->loc, "write e.g. shape: {disc: {radius: 61 mm}}",
                     "shape '%s' needs its dimensions", n->text);
             return;
         }
-        b->shape = RIGMAT_SHAPE_POINT;
+        b->shape = (rigmat_shape)(k + 1);
         return;
     }
     if (n->type != RIGMAT_NODE_MAP || n->n != 1) {
@@ -632,18 +698,20 @@ static void read_shape(struct ld *L, const struct ent *e, const rigmat_node *n, 
         return;
     }
     word = n->entries[0].key;
-    for (k = 0; k < (int)NW(shape_words); k++)
+    for (k = 0; k < (int)nshapes; k++)
         if (strcmp(word, shape_words[k]) == 0)
             break;
-    if (k == (int)NW(shape_words)) {
+    if (k == (int)nshapes) {
         char hint[160];
-        hint_for(hint, sizeof hint, word, shape_words, NW(shape_words));
+        hint_for(hint, sizeof hint, word, shape_words, nshapes);
         lerr(L, e, n->entries[0].key_loc, hint, "unknown shape '%s'", word);
         return;
     }
     args = n->entries[0].value;
-    b->shape = (rigmat_shape)(RIGMAT_SHAPE_POINT + k);
-    if (b->shape == RIGMAT_SHAPE_POINT)
+    /* the shapes a file names follow "given" in the table */
+    b->shape = (rigmat_shape)(k + 1);
+    sd = rigmat_shape_kind_desc(b->shape);
+    if (sd->nkeys == 0)
         return;
     if (args->type != RIGMAT_NODE_MAP) {
         lerr(L, e, args->loc, "write e.g. {radius: 61 mm}",
@@ -654,53 +722,16 @@ static void read_shape(struct ld *L, const struct ent *e, const rigmat_node *n, 
     }
     sub = *e;
     sub.map = args;
-    switch (b->shape) {
-    case RIGMAT_SHAPE_ROD: {
-        static const char *const keys[] = { "length", "direction" };
-        check_keys(L, &sub, keys, NW(keys), NULL, 0, "a rod");
-        b->direction_rad = M_PI / 2.0;
-        if (req_num(L, &sub, "length", RIGMAT_Q_LENGTH, &b->length_m, NULL))
-            must_positive(L, &sub, "length", b->length_m);
-        opt_num(L, &sub, "direction", RIGMAT_Q_ANGLE, &b->direction_rad);
-        break;
+    {
+        const char *keys[8];
+        size_t i;
+        for (i = 0; i < sd->nkeys && i < NW(keys); i++)
+            keys[i] = sd->keys[i].key;
+        check_keys(L, &sub, keys, i, NULL, 0, sd->keys_form);
     }
-    case RIGMAT_SHAPE_BOX: {
-        static const char *const keys[] = { "width", "height" };
-        check_keys(L, &sub, keys, NW(keys), NULL, 0, "a box");
-        if (req_num(L, &sub, "width", RIGMAT_Q_LENGTH, &b->width_m, NULL))
-            must_positive(L, &sub, "width", b->width_m);
-        if (req_num(L, &sub, "height", RIGMAT_Q_LENGTH, &b->height_m, NULL))
-            must_positive(L, &sub, "height", b->height_m);
-        break;
-    }
-    default: {
-        static const char *const keys[] = { "radius" };
-        check_keys(L, &sub, keys, NW(keys), NULL, 0, "this shape");
-        if (req_num(L, &sub, "radius", RIGMAT_Q_LENGTH, &b->radius_m, NULL))
-            must_positive(L, &sub, "radius", b->radius_m);
-        break;
-    }
-    }
-}
-
-/* Inertia about the centre of mass from the shape (common practice:
- * rod m L^2/12, disc m r^2/2, ring m r^2, solid sphere 2/5 m r^2 (its
- * 3-D moment about the axis, also for a planar model of it rolling), box
- * m (w^2 + h^2)/12, point 0). */
-static double shape_inertia(const rigmat_body *b)
-{
-    const double m = b->mass_kg;
-
-    switch (b->shape) {
-    case RIGMAT_SHAPE_GIVEN: return b->inertia_kgm2;
-    case RIGMAT_SHAPE_POINT: return 0.0;
-    case RIGMAT_SHAPE_ROD: return m * b->length_m * b->length_m / 12.0;
-    case RIGMAT_SHAPE_DISC: return m * b->radius_m * b->radius_m / 2.0;
-    case RIGMAT_SHAPE_RING: return m * b->radius_m * b->radius_m;
-    case RIGMAT_SHAPE_SPHERE: return 0.4 * m * b->radius_m * b->radius_m;
-    case RIGMAT_SHAPE_BOX: return m * (b->width_m * b->width_m + b->height_m * b->height_m) / 12.0;
-    }
-    return 0.0;
+    /* a rod points along +y unless told otherwise */
+    b->direction_rad = M_PI / 2.0;
+    read_spec_keys(L, &sub, sd->keys, sd->nkeys, b);
 }
 
 static void read_bodies(struct ld *L, const rigmat_node *root)
@@ -748,42 +779,31 @@ static void read_bodies(struct ld *L, const rigmat_node *root)
                 read_shape(L, &e, f->value, b);
         }
         f = field(&e, "com");
-        if (f != NULL && b->shape == RIGMAT_SHAPE_ROD)
-            lerr(L, &e, f->key_loc, "a rod's centre of mass is its middle; for another "
-                    "centre give 'inertia' and 'com'", "'com' and a rod shape together");
+        if (f != NULL && rigmat_shape_kind_desc(b->shape)->centre != NULL)
+            lerr(L, &e, f->key_loc, rigmat_shape_kind_desc(b->shape)->com_hint,
+                    "'com' and a %s shape together", rigmat_shape_kind_desc(b->shape)->word);
         else if (f != NULL)
             vec2_node(L, &e, f->value, RIGMAT_Q_LENGTH, b->com_m);
-        if (b->shape == RIGMAT_SHAPE_ROD) {
-            b->com_m[0] = 0.5 * b->length_m * cos(b->direction_rad);
-            b->com_m[1] = 0.5 * b->length_m * sin(b->direction_rad);
-        }
-        b->inertia_kgm2 = shape_inertia(b);
+        if (rigmat_shape_kind_desc(b->shape)->centre != NULL)
+            rigmat_shape_kind_desc(b->shape)->centre(b);
+        b->inertia_kgm2 = rigmat_shape_kind_desc(b->shape)->inertia(b, b->mass_kg);
     }
 }
 
 /* --------------------------------------------------------------- joints */
 
-static const char *const joint_types[] = { "slider", "hinge", "rolling", "fixed" };
-static const char *const joint_common[] = { "type", "parent", "child", "at", "angle", "part" };
-static const char *const joint_all[] = { "type", "parent", "child", "at", "angle", "part",
-    "axis", "reference", "radius", "driven", "role", "density", "bandwidth" };
 static const char *const driven_words[] = { "none", "position", "velocity", "acceleration" };
 static const char *const role_words[] = { "input", "disturbance" };
 
 /* Units of a joint's coordinate and its derivatives (order 0, 1, 2). */
 static rigmat_kind joint_kind(const rigmat_joint *j, int order)
 {
-    const int rot = j->type == RIGMAT_JOINT_HINGE;
-    static const rigmat_kind lin[] = { RIGMAT_Q_LENGTH, RIGMAT_Q_VELOCITY, RIGMAT_Q_ACCELERATION };
-    static const rigmat_kind ang[] = { RIGMAT_Q_ANGLE, RIGMAT_Q_ANGULAR_RATE,
-        RIGMAT_Q_ANGULAR_ACCEL };
-    return rot ? ang[order] : lin[order];
+    return rigmat_joint_kind(j->type)->q[order];
 }
 
-/* Force or torque along a joint's coordinate. */
-static rigmat_kind joint_effort(const rigmat_joint *j)
+static int joint_moves(const rigmat_joint *j)
 {
-    return j->type == RIGMAT_JOINT_HINGE ? RIGMAT_Q_TORQUE : RIGMAT_Q_FORCE;
+    return rigmat_joint_kind(j->type)->has_coordinate;
 }
 
 static void read_joints(struct ld *L, const rigmat_node *root)
@@ -794,12 +814,15 @@ static void read_joints(struct ld *L, const rigmat_node *root)
     size_t i;
 
     m->joints = alloc_array(L, n, sizeof *m->joints);
-    if (m->joints == NULL)
+    L->joint_unknown = alloc_array(L, n, 1);
+    if (m->joints == NULL || L->joint_unknown == NULL)
         return;
     for (i = 0; i < n; i++) {
         rigmat_joint *j = &m->joints[m->njoints];
         const rigmat_entry *f;
-        const char *keys[16];
+        const rigmat_joint_desc *jd;
+        const char *keys[24], *joint_types[RIGMAT_NJOINT_TYPES];
+        const size_t ntypes = rigmat_joint_words(joint_types, RIGMAT_NJOINT_TYPES);
         size_t nk = 0, k;
         struct ent e;
         int t;
@@ -819,33 +842,34 @@ static void read_joints(struct ld *L, const rigmat_node *root)
         if (f == NULL)
             missing(L, &e, "type", "one of slider, hinge, rolling, fixed");
         else
-            t = word_node(L, &e, f->value, joint_types, NW(joint_types), "a joint type");
+            t = word_node(L, &e, f->value, joint_types, ntypes, "a joint type");
         if (t < 0) {
-            check_keys(L, &e, joint_all, NW(joint_all), NULL, 0, "a joint");
-            t = RIGMAT_JOINT_FIXED;
+            check_keys(L, &e, rigmat_joint_all_keys, rigmat_joint_nall_keys, NULL, 0,
+                    "a joint");
+            /* nothing more is known about this joint: its type-specific
+             * keys, its uses elsewhere and its operating point are not
+             * checked (one mistake, one error) */
+            j->type = RIGMAT_JOINT_FIXED;
+            L->joint_unknown[m->njoints - 1] = 1;
             f = NULL;
+        } else {
+            j->type = rigmat_joint_kinds[t].type;
         }
-        j->type = (rigmat_joint_type)t;
-        for (k = 0; k < NW(joint_common); k++)
-            keys[nk++] = joint_common[k];
-        if (j->type == RIGMAT_JOINT_SLIDER)
-            keys[nk++] = "axis";
-        if (j->type == RIGMAT_JOINT_HINGE)
-            keys[nk++] = "reference";
-        if (j->type == RIGMAT_JOINT_ROLLING)
-            keys[nk++] = "radius";
-        if (j->type == RIGMAT_JOINT_SLIDER || j->type == RIGMAT_JOINT_HINGE) {
+        jd = rigmat_joint_kind(j->type);
+        for (k = 0; k < rigmat_joint_ncommon_keys; k++)
+            keys[nk++] = rigmat_joint_common_keys[k];
+        for (k = 0; k < jd->nkeys; k++)
+            keys[nk++] = jd->keys[k].key;
+        if (jd->drivable) {
             keys[nk++] = "driven";
-            if (field(&e, "driven") != NULL) {
-                keys[nk++] = "role";
-                keys[nk++] = "density";
-                keys[nk++] = "bandwidth";
-            }
+            if (field(&e, "driven") != NULL)
+                for (k = 0; k < rigmat_joint_ndriven_keys; k++)
+                    keys[nk++] = rigmat_joint_driven_keys[k];
         }
         if (f != NULL) {
             char form[64];
-            snprintf(form, sizeof form, "a %s joint", joint_types[t]);
-            check_keys(L, &e, keys, nk, joint_all, NW(joint_all), form);
+            snprintf(form, sizeof form, "a %s joint", jd->word);
+            check_keys(L, &e, keys, nk, rigmat_joint_all_keys, rigmat_joint_nall_keys, form);
         }
         f = field(&e, "parent");
         if (f == NULL)
@@ -870,20 +894,8 @@ static void read_joints(struct ld *L, const rigmat_node *root)
         }
         opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, j->at_m);
         opt_num(L, &e, "angle", RIGMAT_Q_ANGLE, &j->angle_rad);
-        f = field(&e, "axis");
-        if (f != NULL && j->type == RIGMAT_JOINT_SLIDER)
-            dir_node(L, &e, f->value, j->axis);
-        if (j->type == RIGMAT_JOINT_HINGE) {
-            static const char *const refs[] = { "parent", "world" };
-            j->reference_world = opt_word(L, &e, "reference", refs, NW(refs),
-                    "a reference (parent or world)", 0) == 1;
-        }
-        if (j->type == RIGMAT_JOINT_ROLLING) {
-            if (req_num(L, &e, "radius", RIGMAT_Q_LENGTH, &j->radius_m, "the wheel's rolling "
-                        "radius"))
-                must_positive(L, &e, "radius", j->radius_m);
-        }
-        if (j->type == RIGMAT_JOINT_SLIDER || j->type == RIGMAT_JOINT_HINGE) {
+        read_spec_keys(L, &e, jd->keys, jd->nkeys, j);
+        if (jd->drivable) {
             int dv = opt_word(L, &e, "driven", driven_words + 1, NW(driven_words) - 1,
                     "a driven derivative (position, velocity or acceleration)", -1);
             j->driven = dv < 0 ? RIGMAT_DRIVEN_NONE : (rigmat_driven)(dv + 1);
@@ -996,7 +1008,10 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
         static const char *const damper_keys[] = { "across", "between", "from", "to",
             "coefficient", "part" };
         const rigmat_entry *fa, *fb, *ff, *ft, *f;
-        int linear = 1, forms, placed = 0;
+        /* the units of the values follow from the placement */
+        rigmat_kind stiffness = RIGMAT_Q_LIN_STIFFNESS, damping = RIGMAT_Q_LIN_DAMPING;
+        rigmat_kind value_q = RIGMAT_Q_LENGTH;
+        int forms, placed = 0;
         struct ent e;
         if (!entry(L, sec, i, what, &e))
             continue;
@@ -1025,17 +1040,21 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
         } else if (fa != NULL) {
             lk->attach = RIGMAT_ATTACH_ACROSS;
             lk->joint = joint_ref(L, &e, fa->value);
-            placed = lk->joint != RIGMAT_NONE;
-            if (lk->joint != RIGMAT_NONE) {
+            placed = lk->joint != RIGMAT_NONE && !joint_unknown(L, lk->joint);
+            if (placed) {
                 const rigmat_joint *j = &m->joints[lk->joint];
-                if (j->type == RIGMAT_JOINT_FIXED)
+                if (!joint_moves(j))
                     lerr(L, &e, fa->value->loc, NULL,
                             "joint '%s' is fixed: nothing moves across it", j->name);
-                linear = j->type != RIGMAT_JOINT_HINGE;
+                stiffness = rigmat_joint_kind(j->type)->stiffness;
+                damping = rigmat_joint_kind(j->type)->damping;
+                value_q = joint_kind(j, 0);
             }
         } else if (fb != NULL) {
             lk->attach = RIGMAT_ATTACH_BETWEEN;
-            linear = 0;
+            stiffness = RIGMAT_Q_ROT_STIFFNESS;
+            damping = RIGMAT_Q_ROT_DAMPING;
+            value_q = RIGMAT_Q_ANGLE;
             placed = 1;
             if (fb->value->type != RIGMAT_NODE_SEQ || fb->value->n != 2) {
                 lerr(L, &e, fb->value->loc, "write between: [bodyA, bodyB]",
@@ -1090,19 +1109,16 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
         if (!placed) {
             /* the units of the values follow from the placement */
         } else if (springs) {
-            req_num(L, &e, "stiffness", linear ? RIGMAT_Q_LIN_STIFFNESS : RIGMAT_Q_ROT_STIFFNESS,
-                    &lk->stiffness, NULL);
+            req_num(L, &e, "stiffness", stiffness, &lk->stiffness, NULL);
             f = field(&e, "rest");
             if (f == NULL && lk->attach == RIGMAT_ATTACH_POINTS && forms == 1)
                 missing(L, &e, "rest", "a point-to-point spring needs its rest length");
             else if (f != NULL &&
-                    num_node(L, &e, f->value, linear ? RIGMAT_Q_LENGTH : RIGMAT_Q_ANGLE, 0,
-                            &lk->rest) && lk->attach == RIGMAT_ATTACH_POINTS)
+                    num_node(L, &e, f->value, value_q, 0, &lk->rest) &&
+                    lk->attach == RIGMAT_ATTACH_POINTS)
                 must_nonneg(L, &e, "rest", lk->rest);
         } else {
-            if (req_num(L, &e, "coefficient",
-                        linear ? RIGMAT_Q_LIN_DAMPING : RIGMAT_Q_ROT_DAMPING, &lk->coefficient,
-                        NULL))
+            if (req_num(L, &e, "coefficient", damping, &lk->coefficient, NULL))
                 must_nonneg(L, &e, "coefficient", lk->coefficient);
         }
     }
@@ -1114,10 +1130,6 @@ static void read_links(struct ld *L, const rigmat_node *root, int springs)
 
 /* --------------------------------------------------------------- motors */
 
-static const char *const motor_circuit[] = { "resistance", "torque_constant",
-    "back_emf_constant" };
-static const char *const motor_sheet[] = { "rated_voltage", "stall_torque", "stall_current",
-    "no_load_speed", "no_load_current", "figures_at" };
 static const char *const motor_keys[] = { "resistance", "inductance", "torque_constant",
     "back_emf_constant", "rotor_inertia", "friction", "rated_voltage", "stall_torque",
     "stall_current", "no_load_speed", "no_load_current", "figures_at", "drive", "supply",
@@ -1211,8 +1223,11 @@ static void read_motors(struct ld *L, const rigmat_node *root)
     if (m->motors == NULL)
         return;
     for (i = 0; i < n; i++) {
-        static const char *const drives[] = { "voltage", "current", "duty" };
         static const char *const mounts[] = { "parent", "child" };
+        const rigmat_motor_form_desc *circuit = &rigmat_motor_forms[RIGMAT_MOTOR_CIRCUIT];
+        const rigmat_motor_form_desc *datasheet = &rigmat_motor_forms[RIGMAT_MOTOR_DATASHEET];
+        const char *drives[RIGMAT_NMOTOR_DRIVES];
+        const size_t ndrives = rigmat_drive_words(drives, RIGMAT_NMOTOR_DRIVES);
         rigmat_motor *mo = &m->motors[m->nmotors];
         const rigmat_entry *circ, *sheet, *f, *fa, *fs, *fr;
         struct ent e;
@@ -1251,8 +1266,8 @@ static void read_motors(struct ld *L, const rigmat_node *root)
                         "here", f->value->text);
             }
         }
-        circ = first_of(&e, motor_circuit, NW(motor_circuit));
-        sheet = first_of(&e, motor_sheet, NW(motor_sheet));
+        circ = first_of(&e, circuit->keys, circuit->nkeys);
+        sheet = first_of(&e, datasheet->keys, datasheet->nkeys);
         if (circ != NULL && sheet != NULL) {
             lerr(L, &e, (sheet > circ ? sheet : circ)->key_loc,
                     "give either the circuit form (resistance, torque_constant, ...) or the "
@@ -1289,13 +1304,13 @@ static void read_motors(struct ld *L, const rigmat_node *root)
             must_nonneg(L, &e, "rotor_inertia", mo->rotor_inertia_kgm2);
         if (opt_num(L, &e, "friction", RIGMAT_Q_ROT_DAMPING, &mo->friction_nm_s_rad) == 1)
             must_nonneg(L, &e, "friction", mo->friction_nm_s_rad);
-        d = opt_word(L, &e, "drive", drives, NW(drives), "a drive (voltage, current or duty)", 0);
-        mo->drive = d < 0 ? RIGMAT_DRIVE_VOLTAGE : (rigmat_motor_drive)d;
+        d = opt_word(L, &e, "drive", drives, ndrives, "a drive (voltage, current or duty)", 0);
+        mo->drive = rigmat_drive_kinds[d < 0 ? 0 : d].drive;
         f = field(&e, "supply");
-        if (mo->drive == RIGMAT_DRIVE_DUTY && f == NULL && d >= 0)
+        if (rigmat_drive_kind_desc(mo->drive)->needs_supply && f == NULL && d >= 0)
             lerr(L, &e, field(&e, "drive")->value->loc, "add 'supply: 24 V': duty 1 is the "
                     "full supply voltage", "duty drive needs 'supply'");
-        else if (f != NULL && mo->drive != RIGMAT_DRIVE_DUTY && d >= 0)
+        else if (f != NULL && !rigmat_drive_kind_desc(mo->drive)->needs_supply && d >= 0)
             lerr(L, &e, f->key_loc, "'supply' scales a duty cycle; add 'drive: duty'",
                     "'supply' applies only to drive: duty");
         else if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_VOLTAGE, 0, &mo->supply_v))
@@ -1337,13 +1352,14 @@ static void read_motors(struct ld *L, const rigmat_node *root)
             const int mt = opt_word(L, &e, "mounted_on", mounts, NW(mounts), "parent or child", 0);
             mo->mounted_on_child = mt == 1;
             mo->joint = joint_ref(L, &e, fa->value);
-            if (mo->joint != RIGMAT_NONE) {
+            if (mo->joint != RIGMAT_NONE && !joint_unknown(L, mo->joint)) {
                 const rigmat_joint *j = &m->joints[mo->joint];
+                const rigmat_joint_desc *jd = rigmat_joint_kind(j->type);
                 const rigmat_entry *frad = field(&e, "radius"), *flead = field(&e, "lead");
-                if (j->type == RIGMAT_JOINT_FIXED) {
+                if (!jd->has_coordinate) {
                     lerr(L, &e, fa->value->loc, NULL, "joint '%s' is fixed: a motor across it "
                             "cannot move anything", j->name);
-                } else if (j->type == RIGMAT_JOINT_SLIDER) {
+                } else if (jd->motor_linear) {
                     if (frad != NULL && flead != NULL)
                         lerr(L, &e, flead->key_loc, "a pulley or pinion has a radius, a screw "
                                 "a lead", "'radius' and 'lead' together");
@@ -1363,7 +1379,7 @@ static void read_motors(struct ld *L, const rigmat_node *root)
                     mo->stator = mo->mounted_on_child ? j->child : j->parent;
                     mo->rotor = mo->mounted_on_child ? j->parent : j->child;
                 }
-                if (j->type != RIGMAT_JOINT_SLIDER && (frad != NULL || flead != NULL))
+                if (!jd->motor_linear && (frad != NULL || flead != NULL))
                     lerr(L, &e, (frad ? frad : flead)->key_loc, NULL,
                             "'%s' applies only to a motor across a slider", frad ? "radius" :
                             "lead");
@@ -1400,14 +1416,8 @@ static void read_motors(struct ld *L, const rigmat_node *root)
 
 static void read_forces(struct ld *L, const rigmat_node *root)
 {
-    static const char *const keys_point[] = { "on", "at", "direction", "frame", "role",
-        "density", "bandwidth", "part" };
-    static const char *const keys_torque[] = { "torque_on", "reacting", "role", "density",
-        "bandwidth", "part" };
-    static const char *const keys_across[] = { "across", "role", "density", "bandwidth",
-        "part" };
-    static const char *const keys_all[] = { "on", "at", "direction", "frame", "torque_on",
-        "reacting", "across", "role", "density", "bandwidth", "part" };
+    const char *const *keys_all = rigmat_force_all_keys;
+    const size_t nall = rigmat_force_nall_keys;
     const rigmat_node *sec = section(L, root, "forces");
     const size_t n = sec ? sec->n : 0;
     rigmat_model *m = L->m;
@@ -1419,7 +1429,7 @@ static void read_forces(struct ld *L, const rigmat_node *root)
     for (i = 0; i < n; i++) {
         rigmat_force *fo = &m->forces[m->nforces];
         const rigmat_entry *fon, *ftq, *fac, *f;
-        rigmat_kind effort = RIGMAT_Q_FORCE;
+        const rigmat_force_desc *fd;
         struct ent e;
         int forms, r;
         if (!entry(L, sec, i, "force", &e) || signal_name_taken(L, &e))
@@ -1430,12 +1440,14 @@ static void read_forces(struct ld *L, const rigmat_node *root)
         fo->body = fo->reacting = fo->joint = RIGMAT_NONE;
         if (e.map->broken)
             continue;
-        fon = field(&e, "on");
-        ftq = field(&e, "torque_on");
-        fac = field(&e, "across");
+        fon = field(&e, rigmat_force_kinds[RIGMAT_FORCE_POINT].word);
+        ftq = field(&e, rigmat_force_kinds[RIGMAT_FORCE_TORQUE].word);
+        fac = field(&e, rigmat_force_kinds[RIGMAT_FORCE_ACROSS].word);
+        fd = rigmat_force_kind_desc(fon ? RIGMAT_FORCE_POINT : ftq ? RIGMAT_FORCE_TORQUE
+                                                                   : RIGMAT_FORCE_ACROSS);
         forms = (fon != NULL) + (ftq != NULL) + (fac != NULL);
         if (forms != 1) {
-            check_keys(L, &e, keys_all, NW(keys_all), NULL, 0, "a force");
+            check_keys(L, &e, keys_all, nall, NULL, 0, "a force");
             if (forms == 0)
                 lerr(L, &e, e.loc, "use 'on: BODY' with 'direction', 'torque_on: BODY' or "
                         "'across: JOINT'", "missing where the force acts");
@@ -1444,9 +1456,8 @@ static void read_forces(struct ld *L, const rigmat_node *root)
                         "across", "'%s' together with another placement",
                         (fac ? fac : ftq)->key);
         } else if (fon != NULL) {
-            check_keys(L, &e, keys_point, NW(keys_point), keys_all, NW(keys_all),
-                    "a force 'on' a body");
-            fo->kind = RIGMAT_FORCE_POINT;
+            check_keys(L, &e, fd->keys, fd->nkeys, keys_all, nall, fd->form);
+            fo->kind = fd->kind;
             fo->body = body_ref(L, &e, fon->value);
             opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, fo->at_m);
             f = field(&e, "direction");
@@ -1460,10 +1471,8 @@ static void read_forces(struct ld *L, const rigmat_node *root)
                         "a frame (world or body)", 0) == 1;
             }
         } else if (ftq != NULL) {
-            check_keys(L, &e, keys_torque, NW(keys_torque), keys_all, NW(keys_all),
-                    "a torque");
-            fo->kind = RIGMAT_FORCE_TORQUE;
-            effort = RIGMAT_Q_TORQUE;
+            check_keys(L, &e, fd->keys, fd->nkeys, keys_all, nall, fd->form);
+            fo->kind = fd->kind;
             fo->body = body_ref(L, &e, ftq->value);
             f = field(&e, "reacting");
             if (f != NULL) {
@@ -1473,23 +1482,21 @@ static void read_forces(struct ld *L, const rigmat_node *root)
                             "nothing");
             }
         } else {
-            check_keys(L, &e, keys_across, NW(keys_across), keys_all, NW(keys_all),
-                    "a force across a joint");
-            fo->kind = RIGMAT_FORCE_ACROSS;
+            check_keys(L, &e, fd->keys, fd->nkeys, keys_all, nall, fd->form);
+            fo->kind = fd->kind;
             fo->joint = joint_ref(L, &e, fac->value);
-            if (fo->joint != RIGMAT_NONE) {
-                if (m->joints[fo->joint].type == RIGMAT_JOINT_FIXED)
-                    lerr(L, &e, fac->value->loc, NULL, "joint '%s' is fixed: a force across "
-                            "it does no work", m->joints[fo->joint].name);
-                effort = joint_effort(&m->joints[fo->joint]);
-            }
+            if (fo->joint != RIGMAT_NONE && !joint_unknown(L, fo->joint) &&
+                    !joint_moves(&m->joints[fo->joint]))
+                lerr(L, &e, fac->value->loc, NULL, "joint '%s' is fixed: a force across "
+                        "it does no work", m->joints[fo->joint].name);
         }
         r = opt_word(L, &e, "role", role_words, NW(role_words), "a role (input or disturbance)",
                 0);
         fo->role = r == 1 ? RIGMAT_ROLE_DISTURBANCE : RIGMAT_ROLE_INPUT;
-        if (fac != NULL && forms == 1 && fo->joint == RIGMAT_NONE)
+        if (fac != NULL && forms == 1 && (fo->joint == RIGMAT_NONE || joint_unknown(L, fo->joint)))
             continue; /* the unit of the density follows from the joint */
-        if (opt_density(L, &e, "density", effort, &fo->density) == 1)
+        if (opt_density(L, &e, "density", forms == 1 ? rigmat_force_effort(m, fo) : RIGMAT_Q_FORCE,
+                    &fo->density) == 1)
             must_nonneg(L, &e, "density", fo->density);
         if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &fo->bandwidth_hz) == 1)
             must_positive(L, &e, "bandwidth", fo->bandwidth_hz);
@@ -1497,12 +1504,6 @@ static void read_forces(struct ld *L, const rigmat_node *root)
 }
 
 /* -------------------------------------------------------------- sensors */
-
-static const char *const measures_words[] = { "position", "velocity", "angle", "rate",
-    "relative_angle", "relative_rate", "motor_angle", "specific_force", "current",
-    "drive_force" };
-static const char *const sensor_all[] = { "measures", "of", "at", "axis", "gain", "offset",
-    "noise", "density", "bandwidth", "resolution", "counts_per_rev", "unit", "part" };
 
 /* A point sensor's axis: x, y or a vector. */
 static void read_axis(struct ld *L, const struct ent *e, const rigmat_node *n, double out[2])
@@ -1521,11 +1522,57 @@ static void read_axis(struct ld *L, const struct ent *e, const rigmat_node *n, d
     }
 }
 
+/* The sensor's `of`: a joint, a body, two bodies or a motor, by its kind. */
+static int sensor_target(struct ld *L, const struct ent *e, const rigmat_sensor_desc *sd,
+        const rigmat_node *of, rigmat_sensor *s)
+{
+    const rigmat_model *m = L->m;
+
+    switch (sd->of) {
+    case RIGMAT_OF_JOINT:
+        s->joint = joint_ref(L, e, of);
+        if (s->joint == RIGMAT_NONE || joint_unknown(L, s->joint))
+            return 0;
+        if (sd->joint_need == RIGMAT_NEED_MOVING && !joint_moves(&m->joints[s->joint])) {
+            lerr(L, e, of->loc, sd->joint_hint, "joint '%s' is fixed: it has no coordinate",
+                    m->joints[s->joint].name);
+            return 0;
+        }
+        if (sd->joint_need == RIGMAT_NEED_DRIVEN &&
+                m->joints[s->joint].driven == RIGMAT_DRIVEN_NONE) {
+            lerr(L, e, of->loc, sd->joint_hint, "joint '%s' is not driven",
+                    m->joints[s->joint].name);
+            return 0;
+        }
+        return 1;
+    case RIGMAT_OF_BODY:
+        s->body = body_ref(L, e, of);
+        return 1;
+    case RIGMAT_OF_BODY_PAIR:
+        if (of->type != RIGMAT_NODE_SEQ || of->n != 2) {
+            lerr(L, e, of->loc, sd->of_hint, "expected a list of two body names");
+            return 1;
+        }
+        s->body = body_ref(L, e, of->items[0]);
+        s->body_b = body_ref(L, e, of->items[1]);
+        if (s->body != RIGMAT_NONE && s->body == s->body_b)
+            lerr(L, e, of->items[1]->loc, NULL,
+                    "a relative reading of a body against itself is always zero");
+        return 1;
+    case RIGMAT_OF_MOTOR:
+        s->motor = motor_ref(L, e, of);
+        return 1;
+    }
+    return 1;
+}
+
 static void read_sensors(struct ld *L, const rigmat_node *root)
 {
     const rigmat_node *sec = section(L, root, "sensors");
     const size_t n = sec ? sec->n : 0;
     rigmat_model *m = L->m;
+    const char *measures_words[RIGMAT_NSENSOR_KINDS];
+    const size_t nwords = rigmat_sensor_words(measures_words, RIGMAT_NSENSOR_KINDS);
     size_t i;
 
     m->sensors = alloc_array(L, n, sizeof *m->sensors);
@@ -1533,13 +1580,14 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         return;
     for (i = 0; i < n; i++) {
         rigmat_sensor *s = &m->sensors[m->nsensors];
+        const rigmat_sensor_desc *sd = NULL;
         const rigmat_entry *fm, *fof, *f;
-        const char *keys[16];
-        size_t nk = 0;
+        const char *keys[24];
+        size_t nk = 0, t;
         rigmat_kind q = RIGMAT_Q_NUMBER;
         struct ent e;
         char form[64];
-        int k, ok = 1;
+        int k, known_unit = 1;
         if (!entry(L, sec, i, "sensor", &e) || signal_name_taken(L, &e))
             continue;
         m->nsensors++;
@@ -1553,147 +1601,50 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         fof = field(&e, "of");
         if (fm == NULL) {
             missing(L, &e, "measures", "e.g. measures: rate");
-            check_keys(L, &e, sensor_all, NW(sensor_all), NULL, 0, "a sensor");
+            check_keys(L, &e, rigmat_sensor_all_keys, rigmat_sensor_nall_keys, NULL, 0,
+                    "a sensor");
             continue;
         }
-        k = word_node(L, &e, fm->value, measures_words, NW(measures_words),
-                "a quantity a sensor measures");
+        k = word_node(L, &e, fm->value, measures_words, nwords, "a quantity a sensor measures");
         if (k < 0) {
-            check_keys(L, &e, sensor_all, NW(sensor_all), NULL, 0, "a sensor");
+            check_keys(L, &e, rigmat_sensor_all_keys, rigmat_sensor_nall_keys, NULL, 0,
+                    "a sensor");
             continue;
         }
-        keys[nk++] = "measures";
-        keys[nk++] = "of";
-        keys[nk++] = "gain";
-        keys[nk++] = "offset";
-        keys[nk++] = "noise";
-        keys[nk++] = "density";
-        keys[nk++] = "bandwidth";
-        keys[nk++] = "resolution";
-        keys[nk++] = "part";
-        if (fof == NULL) {
+        /* the kind of this word; its point form when `at` or `axis` is given */
+        for (t = 0; t < RIGMAT_NSENSOR_KINDS; t++) {
+            const rigmat_sensor_desc *c = &rigmat_sensor_kinds[t];
+            if (strcmp(c->word, measures_words[k]) != 0)
+                continue;
+            if (sd == NULL || (c->point_form && (field(&e, "at") != NULL ||
+                                                        field(&e, "axis") != NULL)))
+                sd = c;
+        }
+        s->kind = sd->kind;
+        for (t = 0; t < rigmat_sensor_ncommon_keys; t++)
+            keys[nk++] = rigmat_sensor_common_keys[t];
+        for (t = 0; t < sd->nkeys; t++)
+            keys[nk++] = sd->keys[t].key;
+        if (fof == NULL)
             missing(L, &e, "of", "what the sensor is on: a joint, a body, a motor");
-            ok = 0;
-        }
-        switch (k) {
-        case 0: /* position */
-        case 1: /* velocity */
-            if (field(&e, "at") != NULL || field(&e, "axis") != NULL) {
-                keys[nk++] = "at";
-                keys[nk++] = "axis";
-                s->kind = k == 0 ? RIGMAT_SENSE_POINT_POSITION : RIGMAT_SENSE_POINT_VELOCITY;
-                q = k == 0 ? RIGMAT_Q_LENGTH : RIGMAT_Q_VELOCITY;
-                if (ok)
-                    s->body = body_ref(L, &e, fof->value);
-                opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, s->at_m);
-                f = field(&e, "axis");
-                if (f == NULL)
-                    missing(L, &e, "axis", "the world axis: x, y or a vector");
-                else
-                    read_axis(L, &e, f->value, s->axis);
-            } else {
-                s->kind = k == 0 ? RIGMAT_SENSE_JOINT_POSITION : RIGMAT_SENSE_JOINT_VELOCITY;
-                q = k == 0 ? RIGMAT_Q_LENGTH : RIGMAT_Q_VELOCITY;
-                if (ok)
-                    s->joint = joint_ref(L, &e, fof->value);
-                if (s->joint != RIGMAT_NONE) {
-                    const rigmat_joint *j = &m->joints[s->joint];
-                    if (j->type == RIGMAT_JOINT_FIXED)
-                        lerr(L, &e, fof->value->loc, "to measure a point of a body, give "
-                                "'at' and 'axis'", "joint '%s' is fixed: it has no "
-                                "coordinate", j->name);
-                    q = joint_kind(j, k);
-                }
-            }
-            break;
-        case 2: /* angle */
-        case 3: /* rate */
-            s->kind = k == 2 ? RIGMAT_SENSE_ANGLE : RIGMAT_SENSE_RATE;
-            q = k == 2 ? RIGMAT_Q_ANGLE : RIGMAT_Q_ANGULAR_RATE;
-            if (ok)
-                s->body = body_ref(L, &e, fof->value);
-            break;
-        case 4:
-        case 5:
-            s->kind = k == 4 ? RIGMAT_SENSE_RELATIVE_ANGLE : RIGMAT_SENSE_RELATIVE_RATE;
-            q = k == 4 ? RIGMAT_Q_ANGLE : RIGMAT_Q_ANGULAR_RATE;
-            if (ok && (fof->value->type != RIGMAT_NODE_SEQ || fof->value->n != 2)) {
-                lerr(L, &e, fof->value->loc, "write of: [A, B]; the sensor reads B minus A",
-                        "expected a list of two body names");
-            } else if (ok) {
-                s->body = body_ref(L, &e, fof->value->items[0]);
-                s->body_b = body_ref(L, &e, fof->value->items[1]);
-                if (s->body != RIGMAT_NONE && s->body == s->body_b)
-                    lerr(L, &e, fof->value->items[1]->loc, NULL,
-                            "a relative reading of a body against itself is always zero");
-            }
-            break;
-        case 6: /* motor_angle */
-            keys[nk++] = "counts_per_rev";
-            keys[nk++] = "unit";
-            s->kind = RIGMAT_SENSE_MOTOR_ANGLE;
-            q = RIGMAT_Q_ANGLE;
-            if (ok)
-                s->motor = motor_ref(L, &e, fof->value);
-            f = field(&e, "counts_per_rev");
-            if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_NUMBER, 0, &s->counts_per_rev))
-                must_positive(L, &e, "counts_per_rev", s->counts_per_rev);
-            {
-                static const char *const units[] = { "rad", "counts" };
-                s->unit_counts = opt_word(L, &e, "unit", units, NW(units), "rad or counts", 0) ==
-                        1;
-                if (s->unit_counts && f == NULL)
-                    lerr(L, &e, field(&e, "unit")->value->loc, "add counts_per_rev",
-                            "'unit: counts' needs 'counts_per_rev'");
-            }
-            break;
-        case 7: /* specific_force */
-            keys[nk++] = "at";
-            keys[nk++] = "axis";
-            s->kind = RIGMAT_SENSE_SPECIFIC_FORCE;
-            q = RIGMAT_Q_ACCELERATION;
-            if (ok)
-                s->body = body_ref(L, &e, fof->value);
-            if (opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, s->at_m) == 0)
-                missing(L, &e, "at", "where the accelerometer sits on the body: [x, y]");
-            f = field(&e, "axis");
-            if (f == NULL)
-                missing(L, &e, "axis", "the body axis it reads: x, y or a vector");
-            else
-                read_axis(L, &e, f->value, s->axis);
-            break;
-        case 8: /* current */
-            s->kind = RIGMAT_SENSE_CURRENT;
-            q = RIGMAT_Q_CURRENT;
-            if (ok)
-                s->motor = motor_ref(L, &e, fof->value);
-            break;
-        default: /* drive_force */
-            s->kind = RIGMAT_SENSE_DRIVE_FORCE;
-            q = RIGMAT_Q_FORCE;
-            if (ok)
-                s->joint = joint_ref(L, &e, fof->value);
-            if (s->joint != RIGMAT_NONE) {
-                const rigmat_joint *j = &m->joints[s->joint];
-                if (j->driven == RIGMAT_DRIVEN_NONE)
-                    lerr(L, &e, fof->value->loc, "only a driven joint has a drive force; add "
-                            "'driven:' to the joint", "joint '%s' is not driven", j->name);
-                q = joint_effort(j);
-            }
-            break;
-        }
-        snprintf(form, sizeof form, "a '%s' sensor", measures_words[k]);
-        check_keys(L, &e, keys, nk, sensor_all, NW(sensor_all), form);
-        if (s->joint == RIGMAT_NONE && (s->kind == RIGMAT_SENSE_JOINT_POSITION ||
-                                               s->kind == RIGMAT_SENSE_JOINT_VELOCITY ||
-                                               s->kind == RIGMAT_SENSE_DRIVE_FORCE))
+        else
+            known_unit = sensor_target(L, &e, sd, fof->value, s);
+        if (fof == NULL && sd->from != RIGMAT_MEASURED_FIXED)
+            known_unit = 0;
+        read_spec_keys(L, &e, sd->keys, sd->nkeys, s);
+        snprintf(form, sizeof form, "a '%s' sensor", sd->word);
+        check_keys(L, &e, keys, nk, rigmat_sensor_all_keys, rigmat_sensor_nall_keys, form);
+        if (!known_unit)
             continue; /* the unit of the values follows from the joint */
+        q = rigmat_sensor_measured_kind(m, s);
         f = field(&e, "gain");
         if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_NUMBER, 0, &s->gain) &&
                 s->gain == 0.0)
             lerr(L, &e, f->value->loc, "a sensor with gain 0 reads nothing", "gain must not "
                     "be zero");
-        opt_num(L, &e, "offset", s->unit_counts ? RIGMAT_Q_NUMBER : q, &s->offset);
+        /* the offset is in the reading's unit: a plain number for counts */
+        opt_num(L, &e, "offset", sd->output_unit != NULL && sd->output_unit(s) != NULL
+                ? RIGMAT_Q_NUMBER : q, &s->offset);
         if (field(&e, "noise") != NULL && field(&e, "density") != NULL)
             lerr(L, &e, field(&e, "density")->key_loc, "give 'noise' (per sample) or "
                     "'density' (per sqrt(Hz)), not both", "'noise' and 'density' together");
@@ -1716,17 +1667,15 @@ static int input_kind(const rigmat_model *m, const char *name, rigmat_kind *q)
     size_t k = find_motor(m, name);
 
     if (k != RIGMAT_NONE) {
-        static const rigmat_kind dq[] = { RIGMAT_Q_VOLTAGE, RIGMAT_Q_CURRENT, RIGMAT_Q_NUMBER };
-        *q = dq[m->motors[k].drive];
+        *q = rigmat_drive_kind_desc(m->motors[k].drive)->input;
         return 1;
     }
     k = find_force(m, name);
     if (k != RIGMAT_NONE) {
         const rigmat_force *f = &m->forces[k];
-        *q = f->kind == RIGMAT_FORCE_TORQUE ? RIGMAT_Q_TORQUE
-                : f->kind == RIGMAT_FORCE_ACROSS && f->joint != RIGMAT_NONE
-                ? joint_effort(&m->joints[f->joint])
-                : RIGMAT_Q_FORCE;
+        *q = rigmat_force_effort(m, f);
+        if (*q == RIGMAT_Q_NUMBER)
+            *q = RIGMAT_Q_FORCE; /* across a joint that did not resolve */
         return 1;
     }
     k = find_joint(m, name);
@@ -1797,9 +1746,10 @@ static void read_settings(struct ld *L, const struct ent *op, const char *key, i
                 lerr(L, op, en->key_loc, hint, "unknown joint '%s'", en->key);
                 continue;
             }
-            if (m->joints[j].type == RIGMAT_JOINT_FIXED) {
-                lerr(L, op, en->key_loc, NULL, "joint '%s' is fixed: it has no coordinate",
-                        en->key);
+            if (!joint_moves(&m->joints[j])) {
+                if (!joint_unknown(L, j))
+                    lerr(L, op, en->key_loc, NULL, "joint '%s' is fixed: it has no coordinate",
+                            en->key);
                 continue;
             }
             if ((int)m->joints[j].driven > 0 && which + 1 >= (int)m->joints[j].driven) {
@@ -1900,10 +1850,11 @@ static void read_operating_point(struct ld *L, const rigmat_node *root)
         if (dot != NULL && (size_t)(dot - s) < sizeof base)
             base[dot - s] = '\0';
         j = find_joint(m, base);
-        if (j != RIGMAT_NONE && m->joints[j].type != RIGMAT_JOINT_FIXED) {
-            const int hinge = m->joints[j].type == RIGMAT_JOINT_HINGE;
-            const char *coord = hinge ? "angle" : "position";
-            const char *rate = hinge ? "rate" : "velocity";
+        if (j != RIGMAT_NONE && joint_unknown(L, j))
+            continue; /* its state names are not known */
+        if (j != RIGMAT_NONE && joint_moves(&m->joints[j])) {
+            const rigmat_joint_desc *jd = rigmat_joint_kind(m->joints[j].type);
+            const char *coord = jd->suffix[0] + 1, *rate = jd->suffix[1] + 1;
             if (dot == NULL || strcmp(dot + 1, coord) == 0 || strcmp(dot + 1, rate) == 0)
                 continue;
             lerr(L, &e, m->op_solve.locs[i], NULL, "joint '%s' has '%s.%s' and '%s.%s'", base,
@@ -1984,6 +1935,7 @@ rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
     L.opt = opt;
     L.nomem = 0;
     L.lost_child = 0;
+    L.joint_unknown = NULL;
     if (root == NULL) {
         const rigmat_loc at = { m->file, 1, 1 };
         lerr(&L, NULL, at, "a model starts with 'rigmat: 1'", "the model file is empty");
@@ -2015,6 +1967,7 @@ rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
         read_sensors(&L, root);
     if (!L.nomem)
         read_operating_point(&L, root);
+    free(L.joint_unknown);
     if (L.nomem)
         return RIGMAT_ENOMEM;
     return d->errors > before ? RIGMAT_EMODEL : RIGMAT_OK;
