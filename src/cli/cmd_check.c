@@ -14,6 +14,7 @@
  */
 #include "cli.h"
 #include "units.h"
+#include "kinds.h"
 #include "noise.h"
 
 #include <math.h>
@@ -27,40 +28,6 @@ static const char *const check_usage[] = {
     "rigmat check FILE [--rate FREQ] [--set PATH=VALUE] [--format text|json] [-o FILE] "
     "[--catalog DIR]", NULL };
 
-static const char *const joint_type_words[] = { "slider", "hinge", "rolling", "fixed" };
-static const char *const shape_words[] = { "given", "point", "rod", "disc", "ring", "sphere",
-    "box" };
-static const char *const drive_words[] = { "voltage", "current", "duty" };
-
-/* The SI unit of what a sensor measures (before its gain). */
-static const char *measured_unit(const rigmat_model *m, const rigmat_sensor *s)
-{
-    const int hinge = s->joint != RIGMAT_NONE && m->joints[s->joint].type == RIGMAT_JOINT_HINGE;
-
-    switch (s->kind) {
-    case RIGMAT_SENSE_JOINT_POSITION: return hinge ? "rad" : "m";
-    case RIGMAT_SENSE_JOINT_VELOCITY: return hinge ? "rad/s" : "m/s";
-    case RIGMAT_SENSE_ANGLE:
-    case RIGMAT_SENSE_RELATIVE_ANGLE:
-    case RIGMAT_SENSE_MOTOR_ANGLE: return "rad";
-    case RIGMAT_SENSE_RATE:
-    case RIGMAT_SENSE_RELATIVE_RATE: return "rad/s";
-    case RIGMAT_SENSE_POINT_POSITION: return "m";
-    case RIGMAT_SENSE_POINT_VELOCITY: return "m/s";
-    case RIGMAT_SENSE_SPECIFIC_FORCE: return "m/s^2";
-    case RIGMAT_SENSE_CURRENT: return "A";
-    case RIGMAT_SENSE_DRIVE_FORCE: return hinge ? "N*m" : "N";
-    }
-    return "1";
-}
-
-static const char *coord_suffix(const rigmat_joint *j, int rate)
-{
-    if (j->type == RIGMAT_JOINT_HINGE)
-        return rate ? "rate" : "angle";
-    return rate ? "velocity" : "position";
-}
-
 /* sd per sample of a density (with optional bandwidth), by the noise
  * module's formulas (src/sample/noise.h); -1 when it needs a rate not given. */
 static double density_sd(double density, double bandwidth_hz, double rate_hz)
@@ -71,13 +38,14 @@ static double density_sd(double density, double bandwidth_hz, double rate_hz)
             rate_hz > 0.0 ? 1.0 / rate_hz : 1.0).total_var);
 }
 
-/* An encoder without a stated resolution is quantized to one count, the
- * default the linearization uses for Rd too. */
+/* The quantization step in the measured unit, by the kind's noise rule
+ * (an encoder without a stated resolution is quantized to one count), the
+ * rule the linearization uses for Rd too. */
 static double sensor_resolution(const rigmat_sensor *s)
 {
-    if (s->resolution == 0.0 && s->kind == RIGMAT_SENSE_MOTOR_ANGLE && s->counts_per_rev > 0.0)
-        return 2.0 * M_PI / s->counts_per_rev;
-    return s->resolution;
+    double scale, resolution;
+    rigmat_sensor_noise_rule(s, &scale, &resolution);
+    return resolution;
 }
 
 /* The sd per sample of a sensor in its measured unit; -1 needs a rate. */
@@ -91,76 +59,23 @@ static double sensor_sd(const rigmat_sensor *s, double rate_hz)
 
 static void body_text(FILE *f, const rigmat_body *b)
 {
+    const rigmat_shape_desc *sd = rigmat_shape_kind_desc(b->shape);
+    char shape[160];
+
     fprintf(f, "  %-12s mass %.6g kg, inertia %.6g kg*m^2", b->name, b->mass_kg,
             b->inertia_kgm2);
-    switch (b->shape) {
-    case RIGMAT_SHAPE_GIVEN:
-        break;
-    case RIGMAT_SHAPE_POINT:
-        fputs(" (point)", f);
-        break;
-    case RIGMAT_SHAPE_ROD:
-        fprintf(f, " (rod, length %.6g m, direction %.6g deg)", b->length_m,
-                b->direction_rad * 180.0 / M_PI);
-        break;
-    case RIGMAT_SHAPE_BOX:
-        fprintf(f, " (box %.6g m x %.6g m)", b->width_m, b->height_m);
-        break;
-    default:
-        fprintf(f, " (%s, radius %.6g m)", shape_words[b->shape], b->radius_m);
-        break;
-    }
+    shape[0] = '\0';
+    if (sd->describe != NULL)
+        sd->describe(b, shape, sizeof shape);
+    fputs(shape, f);
     fprintf(f, ", centre of mass [%.6g, %.6g] m\n", b->com_m[0], b->com_m[1]);
 }
 
-/* "chassis angle = wheel angle + tilt" and the like, into buf. */
+/* "chassis angle = wheel angle + tilt" and the like, by the joint's type. */
 static void joint_relations(const rigmat_model *m, const rigmat_joint *j, char *angle,
         size_t alen, char *place, size_t plen)
 {
-    const char *child = m->bodies[j->child].name, *parent = m->bodies[j->parent].name;
-    char base[160], off[48];
-
-    if (j->parent == 0)
-        base[0] = '\0';
-    else
-        snprintf(base, sizeof base, "%s angle", parent);
-    off[0] = '\0';
-    if (j->angle_rad != 0.0)
-        snprintf(off, sizeof off, "%.6g rad", j->angle_rad);
-#define JOIN(a, b) ((a)[0] && (b)[0] ? " + " : "")
-    switch (j->type) {
-    case RIGMAT_JOINT_HINGE:
-        if (j->reference_world)
-            snprintf(angle, alen, "%s angle = %s%s%s (world angle)", child, off, off[0] ? " + "
-                    : "", j->name);
-        else
-            snprintf(angle, alen, "%s angle = %s%s%s%s%s", child, base, JOIN(base, off), off,
-                    (base[0] || off[0]) ? " + " : "", j->name);
-        snprintf(place, plen, "%s origin = [%.6g, %.6g] m in the frame of %s", child, j->at_m[0],
-                j->at_m[1], parent);
-        break;
-    case RIGMAT_JOINT_SLIDER:
-        snprintf(angle, alen, "%s angle = %s%s%s", child, base, JOIN(base, off),
-                (base[0] || off[0]) ? off : "0");
-        snprintf(place, plen, "%s origin = [%.6g, %.6g] m + %s * [%.6g, %.6g] in the frame of %s",
-                child, j->at_m[0], j->at_m[1], j->name, j->axis[0], j->axis[1], parent);
-        break;
-    case RIGMAT_JOINT_ROLLING:
-        /* worked sign example (DESIGN.md section 2): +0.1 m of travel on a
-         * 0.061 m wheel turns it by -0.1/0.061 = -1.64 rad, clockwise */
-        snprintf(angle, alen, "%s angle = %s%s%s%s%s / %.6g m", child, base, JOIN(base, off),
-                off, (base[0] || off[0]) ? " - " : "-", j->name, j->radius_m);
-        snprintf(place, plen, "%s centre = [%.6g m + %s, %.6g m] in the frame of %s", child,
-                j->at_m[0], j->name, j->at_m[1] + j->radius_m, parent);
-        break;
-    case RIGMAT_JOINT_FIXED:
-        snprintf(angle, alen, "%s angle = %s%s%s", child, base, JOIN(base, off),
-                (base[0] || off[0]) ? off : "0");
-        snprintf(place, plen, "%s origin = [%.6g, %.6g] m in the frame of %s", child, j->at_m[0],
-                j->at_m[1], parent);
-        break;
-    }
-#undef JOIN
+    rigmat_joint_kind(j->type)->relations(m, j, angle, alen, place, plen);
 }
 
 static double kt_ke_mismatch(const rigmat_motor *mo)
@@ -203,11 +118,12 @@ static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
     for (i = 0; i < m->njoints; i++) {
         const rigmat_joint *j = &m->joints[i];
         char angle[256], place[256];
-        fprintf(f, "  %-12s %s, %s -> %s", j->name, joint_type_words[j->type],
-                m->bodies[j->parent].name, m->bodies[j->child].name);
-        if (j->type != RIGMAT_JOINT_FIXED)
-            fprintf(f, ", coordinate %s.%s [%s]", j->name, coord_suffix(j, 0),
-                    j->type == RIGMAT_JOINT_HINGE ? "rad" : "m");
+        const rigmat_joint_desc *jd = rigmat_joint_kind(j->type);
+        fprintf(f, "  %-12s %s, %s -> %s", j->name, jd->word, m->bodies[j->parent].name,
+                m->bodies[j->child].name);
+        if (jd->has_coordinate)
+            fprintf(f, ", coordinate %s%s [%s]", j->name, jd->suffix[0],
+                    rigmat_joint_unit(j, 0));
         if (j->driven != RIGMAT_DRIVEN_NONE)
             fprintf(f, ", driven by %s (%s)",
                     j->driven == RIGMAT_DRIVEN_POSITION ? "position"
@@ -241,8 +157,8 @@ static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
                 mo->rotor_inertia_kgm2, mo->friction_nm_s_rad);
         fprintf(f, "      gear ratio %.6g, efficiency %.6g, count %u, polarity %+d, drive %s",
                 mo->gear_ratio, mo->efficiency, mo->count, mo->polarity,
-                drive_words[mo->drive]);
-        if (mo->drive == RIGMAT_DRIVE_DUTY)
+                rigmat_drive_kind_desc(mo->drive)->word);
+        if (rigmat_drive_kind_desc(mo->drive)->needs_supply)
             fprintf(f, " from %.6g V", mo->supply_v);
         if (mo->radius_m > 0.0)
             fprintf(f, ", radius %.6g m", mo->radius_m);
@@ -268,15 +184,12 @@ static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
             fprintf(f, "  %-12s sensor, needs --rate\n", s->name);
         else
             fprintf(f, "  %-12s sensor, sd %.6g %s%s\n", s->name, sd * fabs(s->gain),
-                    measured_unit(m, s), s->gain != 1.0 ? " (times |gain|)" : "");
+                    rigmat_sensor_measured_unit(m, s), s->gain != 1.0 ? " (times |gain|)" : "");
     }
     for (i = 0; i < m->nforces; i++) {
         const rigmat_force *fo = &m->forces[i];
         const double sd = density_sd(fo->density, fo->bandwidth_hz, rate_hz);
-        const char *u = fo->kind == RIGMAT_FORCE_TORQUE ||
-                        (fo->kind == RIGMAT_FORCE_ACROSS && fo->joint != RIGMAT_NONE &&
-                                m->joints[fo->joint].type == RIGMAT_JOINT_HINGE)
-                ? "N*m" : "N";
+        const char *u = rigmat_units_kind_symbol(rigmat_force_effort(m, fo));
         if (fo->density <= 0.0)
             continue;
         if (sd < 0.0)
@@ -372,7 +285,7 @@ static rigmat_status check_json(struct cli_env *env, FILE *f, const rigmat_model
         cli_json_key(&j, "com");
         json_vec2(&j, b->com_m);
         cli_json_key(&j, "shape");
-        cli_json_str(&j, shape_words[b->shape]);
+        cli_json_str(&j, rigmat_shape_kind_desc(b->shape)->word);
         cli_json_obj_close(&j);
     }
     cli_json_arr_close(&j);
@@ -386,16 +299,16 @@ static rigmat_status check_json(struct cli_env *env, FILE *f, const rigmat_model
         cli_json_key(&j, "name");
         cli_json_str(&j, jt->name);
         cli_json_key(&j, "type");
-        cli_json_str(&j, joint_type_words[jt->type]);
+        cli_json_str(&j, rigmat_joint_kind(jt->type)->word);
         cli_json_key(&j, "parent");
         cli_json_str(&j, m->bodies[jt->parent].name);
         cli_json_key(&j, "child");
         cli_json_str(&j, m->bodies[jt->child].name);
         cli_json_key(&j, "coordinate");
-        if (jt->type == RIGMAT_JOINT_FIXED) {
+        if (!rigmat_joint_kind(jt->type)->has_coordinate) {
             cli_json_null(&j);
         } else {
-            snprintf(coord, sizeof coord, "%s.%s", jt->name, coord_suffix(jt, 0));
+            snprintf(coord, sizeof coord, "%s%s", jt->name, rigmat_joint_kind(jt->type)->suffix[0]);
             cli_json_str(&j, coord);
         }
         cli_json_key(&j, "angle_relation");
@@ -438,7 +351,7 @@ static rigmat_status check_json(struct cli_env *env, FILE *f, const rigmat_model
         cli_json_key(&j, "polarity");
         cli_json_int(&j, mo->polarity);
         cli_json_key(&j, "drive");
-        cli_json_str(&j, drive_words[mo->drive]);
+        cli_json_str(&j, rigmat_drive_kind_desc(mo->drive)->word);
         if (mo->datasheet) {
             cli_json_key(&j, "kt_from_sheet");
             cli_json_num(&j, mo->kt_from_sheet);
@@ -461,14 +374,14 @@ static rigmat_status check_json(struct cli_env *env, FILE *f, const rigmat_model
         const rigmat_sensor *s = &m->sensors[i];
         const double sd = sensor_sd(s, rate_hz);
         json_noise(&j, s->name, "sensor", sd < 0.0 ? sd : sd * fabs(s->gain),
-                measured_unit(m, s));
+                rigmat_sensor_measured_unit(m, s));
     }
     for (i = 0; i < m->nforces; i++) {
         const rigmat_force *fo = &m->forces[i];
         if (fo->density > 0.0)
             json_noise(&j, fo->name, "disturbance",
                     density_sd(fo->density, fo->bandwidth_hz, rate_hz),
-                    fo->kind == RIGMAT_FORCE_TORQUE ? "N*m" : "N");
+                    rigmat_units_kind_symbol(rigmat_force_effort(m, fo)));
     }
     cli_json_arr_close(&j);
     cli_json_key(&j, "operating_point");

@@ -3,6 +3,7 @@
 #include "linearize.h"
 #include "trim.h"
 #include "equations.h"
+#include "kinds.h"
 
 #include <math.h>
 #include <gsl/gsl_math.h>
@@ -290,7 +291,7 @@ static rigmat_status warn_steady_motion(const rigmat_system *s, const rigmat_lay
                         "appears in no equation (a balancer's travel)",
                         "joint '%s' moves at %.6g %s but its coordinate appears in the "
                         "equations: the model is time-varying along it and holds at t = 0 only",
-                        jt->name, rate, jt->type == RIGMAT_JOINT_HINGE ? "rad/s" : "m/s") !=
+                        jt->name, rate, rigmat_joint_unit(jt, 1)) !=
                     RIGMAT_OK)
                 return RIGMAT_ENOMEM;
         }
@@ -316,13 +317,12 @@ static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti
     }
     for (k = 0; k < L->ny; k++) {
         const rigmat_sensor *se = &m->sensors[L->outputs[k].index];
-        double scale = fabs(se->gain), res = se->resolution;
-        if (se->kind == RIGMAT_SENSE_MOTOR_ANGLE && se->counts_per_rev > 0.0) {
-            if (res == 0.0)
-                res = 2.0 * M_PI / se->counts_per_rev; /* one decoded count */
-            if (se->unit_counts)
-                scale *= se->counts_per_rev / (2.0 * M_PI);
-        }
+        double scale = fabs(se->gain), res, kind_scale;
+        /* the kind's noise rule (src/model/kinds.c): an encoder's default
+         * resolution and its counts */
+        rigmat_sensor_noise_rule(se, &kind_scale, &res);
+        if (kind_scale != 1.0)
+            scale *= kind_scale;
         lti->output_noise_sd[k] = se->noise * scale;
         lti->output_density[k] = se->density * scale;
         lti->output_bandwidth_hz[k] = se->bandwidth_hz;

@@ -18,6 +18,7 @@
  */
 #include "mechanics.h"
 #include "layout.h"
+#include "kinds.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -109,6 +110,80 @@ static void rot(double complex c, double complex sn, double complex rx, double c
     *oy = sn * rx + c * ry;
 }
 
+/* ------------------------------------------- joint types: kinematics */
+
+/* Behaviour of each joint type (the table below, indexed by
+ * rigmat_joint_type like src/model/kinds.c):
+ *   translate: the child's origin offset in the parent frame at q (added to
+ *     r) and dr/dq in d (parent frame); returns 1 when the coordinate moves
+ *     the origin, 0 when it does not (then r and d are left alone);
+ *   turn: the child's angle, its Jacobian row and its rate and angular
+ *     acceleration at qdd = 0 from the coordinate (the parent's are
+ *     already in place); NULL when the coordinate does not turn the child. */
+struct joint_mech {
+    int (*translate)(const rigmat_joint *jt, double complex q, double complex *rx,
+            double complex *ry, double d[2]);
+    void (*turn)(rigmat_mech *s, size_t b, const rigmat_joint *jt, size_t c, double complex q,
+            double complex qd);
+};
+
+static int slider_translate(const rigmat_joint *jt, double complex q, double complex *rx,
+        double complex *ry, double d[2])
+{
+    *rx += q * jt->axis[0];
+    *ry += q * jt->axis[1];
+    d[0] = jt->axis[0];
+    d[1] = jt->axis[1];
+    return 1;
+}
+
+/* rolling: the wheel's centre sits a radius above the contact line and
+ * travels with q along the parent's x */
+static int rolling_translate(const rigmat_joint *jt, double complex q, double complex *rx,
+        double complex *ry, double d[2])
+{
+    *rx += q;
+    *ry += jt->radius_m;
+    d[0] = 1.0;
+    d[1] = 0.0;
+    return 1;
+}
+
+static void hinge_turn(rigmat_mech *s, size_t b, const rigmat_joint *jt, size_t c,
+        double complex q, double complex qd)
+{
+    size_t col;
+
+    if (jt->reference_world) {
+        /* absolute angle: the parent's rotation does not carry over */
+        s->bth[b] = jt->angle_rad + q;
+        for (col = 0; col < s->n; col++)
+            BJTH(s, b, col) = 0;
+        s->bom[b] = 0;
+        s->bal[b] = 0;
+    } else {
+        s->bth[b] += q;
+    }
+    BJTH(s, b, c) += 1.0;
+    s->bom[b] += qd;
+}
+
+/* rolling without slip: travel q turns the wheel by -q / radius */
+static void rolling_turn(rigmat_mech *s, size_t b, const rigmat_joint *jt, size_t c,
+        double complex q, double complex qd)
+{
+    s->bth[b] -= q / jt->radius_m;
+    BJTH(s, b, c) -= 1.0 / jt->radius_m;
+    s->bom[b] -= qd / jt->radius_m;
+}
+
+static const struct joint_mech joint_mech[RIGMAT_NJOINT_TYPES] = {
+    [RIGMAT_JOINT_SLIDER] = { slider_translate, NULL },
+    [RIGMAT_JOINT_HINGE] = { NULL, hinge_turn },
+    [RIGMAT_JOINT_ROLLING] = { rolling_translate, rolling_turn },
+    [RIGMAT_JOINT_FIXED] = { NULL, NULL },
+};
+
 static void kinematics(rigmat_mech *s)
 {
     const rigmat_model *m = s->m;
@@ -131,19 +206,15 @@ static void kinematics(rigmat_mech *s)
         const double complex q = c != RIGMAT_NONE ? s->q[c] : 0;
         const double complex qd = c != RIGMAT_NONE ? s->qd[c] : 0;
         const double complex omp = s->bom[p];
+        const struct joint_mech *jm = &joint_mech[jt->type];
         double complex rx = jt->at_m[0], ry = jt->at_m[1], ux, uy, dx = 0, dy = 0;
+        double d[2];
         int moves = 0; /* translation along dr/dq */
 
-        if (jt->type == RIGMAT_JOINT_SLIDER) {
-            rx += q * jt->axis[0];
-            ry += q * jt->axis[1];
-            rot(cp, sp, jt->axis[0], jt->axis[1], &dx, &dy);
-            moves = 1;
-        } else if (jt->type == RIGMAT_JOINT_ROLLING) {
-            rx += q;
-            ry += jt->radius_m;
-            rot(cp, sp, 1.0, 0.0, &dx, &dy);
-            moves = 1;
+        if (c != RIGMAT_NONE && jm->translate != NULL) {
+            moves = jm->translate(jt, q, &rx, &ry, d);
+            if (moves)
+                rot(cp, sp, d[0], d[1], &dx, &dy);
         }
         rot(cp, sp, rx, ry, &ux, &uy);
         /* S R r = (-uy, ux) */
@@ -169,24 +240,8 @@ static void kinematics(rigmat_mech *s)
             s->ba[2 * b] += -2.0 * omp * dy * qd;
             s->ba[2 * b + 1] += 2.0 * omp * dx * qd;
         }
-        if (jt->type == RIGMAT_JOINT_HINGE) {
-            if (jt->reference_world) {
-                /* absolute angle: the parent's rotation does not carry over */
-                s->bth[b] = jt->angle_rad + q;
-                for (col = 0; col < n; col++)
-                    BJTH(s, b, col) = 0;
-                s->bom[b] = 0;
-                s->bal[b] = 0;
-            } else {
-                s->bth[b] += q;
-            }
-            BJTH(s, b, c) += 1.0;
-            s->bom[b] += qd;
-        } else if (jt->type == RIGMAT_JOINT_ROLLING) {
-            s->bth[b] -= q / jt->radius_m;
-            BJTH(s, b, c) -= 1.0 / jt->radius_m;
-            s->bom[b] -= qd / jt->radius_m;
-        }
+        if (c != RIGMAT_NONE && jm->turn != NULL)
+            jm->turn(s, b, jt, c, q, qd);
         (void)k;
     }
 }
@@ -231,7 +286,7 @@ static void joint_rel(const rigmat_mech *s, size_t j, double complex *val, doubl
     const size_t c = s->coord[j];
     size_t col;
 
-    if (jt->type == RIGMAT_JOINT_HINGE) {
+    if (rigmat_joint_kind(jt->type)->rotational) {
         const size_t ch = jt->child, pa = jt->parent;
         *val = s->bth[ch] - s->bth[pa] - jt->angle_rad;
         for (col = 0; col < s->n; col++)
@@ -569,72 +624,132 @@ static void unpack(rigmat_mech *s, const double complex *x, const double complex
         s->cur[i] = s->xi[i] != RIGMAT_NONE ? x[s->xi[i]] : 0;
 }
 
-static double complex sensor_value(rigmat_mech *s, size_t k)
+/* ------------------------------------------- sensor kinds: readings */
+
+/* What each sensor kind measures, before gain and offset, from the state
+ * the evaluation has built (kinematics, and M, hb, Q and qdd after the
+ * solve).  Indexed by rigmat_sensor_kind like src/model/kinds.c. */
+typedef double complex (*sensor_reading)(rigmat_mech *s, const rigmat_sensor *se);
+
+static double complex read_joint_position(rigmat_mech *s, const rigmat_sensor *se)
+{
+    const size_t c = s->coord[se->joint];
+    return c != RIGMAT_NONE ? s->q[c] : 0;
+}
+
+static double complex read_joint_velocity(rigmat_mech *s, const rigmat_sensor *se)
+{
+    const size_t c = s->coord[se->joint];
+    return c != RIGMAT_NONE ? s->qd[c] : 0;
+}
+
+static double complex read_angle(rigmat_mech *s, const rigmat_sensor *se)
+{
+    return s->bth[se->body];
+}
+
+static double complex read_rate(rigmat_mech *s, const rigmat_sensor *se)
+{
+    return s->bom[se->body];
+}
+
+/* relative readings are body_b minus body */
+static double complex read_relative_angle(rigmat_mech *s, const rigmat_sensor *se)
+{
+    return s->bth[se->body_b] - s->bth[se->body];
+}
+
+static double complex read_relative_rate(rigmat_mech *s, const rigmat_sensor *se)
+{
+    return s->bom[se->body_b] - s->bom[se->body];
+}
+
+static double complex read_motor_angle(rigmat_mech *s, const rigmat_sensor *se)
+{
+    const rigmat_motor *mo = &s->m->motors[se->motor];
+    double complex th, rate, bias, v;
+    motor_out(s, se->motor, &th, s->tj, &rate, &bias);
+    v = s->msign[se->motor] * mo->gear_ratio * (th - s->mtheta0[se->motor]);
+    if (se->unit_counts)
+        v *= se->counts_per_rev / (2.0 * M_PI);
+    return v;
+}
+
+static double complex read_point_position(rigmat_mech *s, const rigmat_sensor *se)
+{
+    double complex p[2];
+    point_kin(s, se->body, se->at_m, p, NULL, NULL, NULL);
+    return se->axis[0] * p[0] + se->axis[1] * p[1];
+}
+
+static double complex read_point_velocity(rigmat_mech *s, const rigmat_sensor *se)
+{
+    double complex p[2], vel[2];
+    point_kin(s, se->body, se->at_m, p, NULL, vel, NULL);
+    return se->axis[0] * vel[0] + se->axis[1] * vel[1];
+}
+
+static double complex read_specific_force(rigmat_mech *s, const rigmat_sensor *se)
 {
     const rigmat_model *m = s->m;
-    const rigmat_sensor *se = &m->sensors[k];
     const size_t n = s->n;
-    double complex v = 0, p[2], vel[2], a[2];
+    const double gx = -m->gravity_m_s2 * sin(m->slope_rad);
+    const double gy = -m->gravity_m_s2 * cos(m->slope_rad);
+    const double complex c = ccos(s->bth[se->body]), sn = csin(s->bth[se->body]);
+    double complex ax, ay, bx, by, p[2], a[2];
     size_t r;
+    point_kin(s, se->body, se->at_m, p, s->tJa, NULL, a);
+    ax = a[0] - gx;
+    ay = a[1] - gy;
+    for (r = 0; r < n; r++) {
+        ax += s->tJa[r] * s->qdd[r];
+        ay += s->tJa[n + r] * s->qdd[r];
+    }
+    /* R(th)^T: world into the body frame */
+    bx = c * ax + sn * ay;
+    by = -sn * ax + c * ay;
+    return se->axis[0] * bx + se->axis[1] * by;
+}
 
-    switch (se->kind) {
-    case RIGMAT_SENSE_JOINT_POSITION:
-    case RIGMAT_SENSE_JOINT_VELOCITY: {
-        const size_t c = s->coord[se->joint];
-        if (c != RIGMAT_NONE)
-            v = se->kind == RIGMAT_SENSE_JOINT_POSITION ? s->q[c] : s->qd[c];
-        break;
-    }
-    case RIGMAT_SENSE_ANGLE: v = s->bth[se->body]; break;
-    case RIGMAT_SENSE_RATE: v = s->bom[se->body]; break;
-    case RIGMAT_SENSE_RELATIVE_ANGLE: v = s->bth[se->body_b] - s->bth[se->body]; break;
-    case RIGMAT_SENSE_RELATIVE_RATE: v = s->bom[se->body_b] - s->bom[se->body]; break;
-    case RIGMAT_SENSE_MOTOR_ANGLE: {
-        const rigmat_motor *mo = &m->motors[se->motor];
-        double complex th, rate, bias;
-        motor_out(s, se->motor, &th, s->tj, &rate, &bias);
-        v = s->msign[se->motor] * mo->gear_ratio * (th - s->mtheta0[se->motor]);
-        if (se->unit_counts)
-            v *= se->counts_per_rev / (2.0 * M_PI);
-        break;
-    }
-    case RIGMAT_SENSE_POINT_POSITION:
-        point_kin(s, se->body, se->at_m, p, NULL, NULL, NULL);
-        v = se->axis[0] * p[0] + se->axis[1] * p[1];
-        break;
-    case RIGMAT_SENSE_POINT_VELOCITY:
-        point_kin(s, se->body, se->at_m, p, NULL, vel, NULL);
-        v = se->axis[0] * vel[0] + se->axis[1] * vel[1];
-        break;
-    case RIGMAT_SENSE_SPECIFIC_FORCE: {
-        const double gx = -m->gravity_m_s2 * sin(m->slope_rad);
-        const double gy = -m->gravity_m_s2 * cos(m->slope_rad);
-        const double complex c = ccos(s->bth[se->body]), sn = csin(s->bth[se->body]);
-        double complex ax, ay, bx, by;
-        point_kin(s, se->body, se->at_m, p, s->tJa, NULL, a);
-        ax = a[0] - gx;
-        ay = a[1] - gy;
-        for (r = 0; r < n; r++) {
-            ax += s->tJa[r] * s->qdd[r];
-            ay += s->tJa[n + r] * s->qdd[r];
-        }
-        /* R(th)^T: world into the body frame */
-        bx = c * ax + sn * ay;
-        by = -sn * ax + c * ay;
-        v = se->axis[0] * bx + se->axis[1] * by;
-        break;
-    }
-    case RIGMAT_SENSE_CURRENT: v = s->cur[se->motor]; break;
-    case RIGMAT_SENSE_DRIVE_FORCE: {
-        const size_t c = s->coord[se->joint];
-        if (c == RIGMAT_NONE)
-            break;
-        v = s->hb[c] - s->Q[c];
-        for (r = 0; r < n; r++)
-            v += s->M[c * n + r] * s->qdd[r];
-        break;
-    }
-    }
+static double complex read_current(rigmat_mech *s, const rigmat_sensor *se)
+{
+    return s->cur[se->motor];
+}
+
+/* the generalized force the drive supplies: M qdd + hb - Q along the joint */
+static double complex read_drive_force(rigmat_mech *s, const rigmat_sensor *se)
+{
+    const size_t c = s->coord[se->joint], n = s->n;
+    double complex v;
+    size_t r;
+    if (c == RIGMAT_NONE)
+        return 0;
+    v = s->hb[c] - s->Q[c];
+    for (r = 0; r < n; r++)
+        v += s->M[c * n + r] * s->qdd[r];
+    return v;
+}
+
+static const sensor_reading sensor_readings[RIGMAT_NSENSOR_KINDS] = {
+    [RIGMAT_SENSE_JOINT_POSITION] = read_joint_position,
+    [RIGMAT_SENSE_JOINT_VELOCITY] = read_joint_velocity,
+    [RIGMAT_SENSE_ANGLE] = read_angle,
+    [RIGMAT_SENSE_RATE] = read_rate,
+    [RIGMAT_SENSE_RELATIVE_ANGLE] = read_relative_angle,
+    [RIGMAT_SENSE_RELATIVE_RATE] = read_relative_rate,
+    [RIGMAT_SENSE_MOTOR_ANGLE] = read_motor_angle,
+    [RIGMAT_SENSE_POINT_POSITION] = read_point_position,
+    [RIGMAT_SENSE_POINT_VELOCITY] = read_point_velocity,
+    [RIGMAT_SENSE_SPECIFIC_FORCE] = read_specific_force,
+    [RIGMAT_SENSE_CURRENT] = read_current,
+    [RIGMAT_SENSE_DRIVE_FORCE] = read_drive_force,
+};
+
+static double complex sensor_value(rigmat_mech *s, size_t k)
+{
+    const rigmat_sensor *se = &s->m->sensors[k];
+    const double complex v = (unsigned)se->kind < RIGMAT_NSENSOR_KINDS ?
+            sensor_readings[se->kind](s, se) : 0;
     return se->gain * v + se->offset;
 }
 
@@ -841,6 +956,81 @@ static double coupling(const rigmat_mech *s, double mass, double inertia,
  * motors, velocity sensors) and accelerations of position- and
  * velocity-driven ones (an inertia coupled to a free coordinate, an
  * accelerometer, a drive-force sensor). */
+/* ------------------------------------ sensor kinds: what they read */
+
+/* Whether a sensor reads the rate (or the acceleration) of coordinate c,
+ * which a position-driven (velocity-driven) joint does not supply; at the
+ * generic point check_needs sets up.  NULL: never.  Indexed by
+ * rigmat_sensor_kind. */
+struct sensor_needs {
+    int (*rate)(rigmat_mech *s, const rigmat_sensor *se, size_t c);
+    int (*acceleration)(rigmat_mech *s, const rigmat_sensor *se, size_t c);
+};
+
+static int joint_velocity_needs_rate(rigmat_mech *s, const rigmat_sensor *se, size_t c)
+{
+    return s->coord[se->joint] == c;
+}
+
+static int rate_needs_rate(rigmat_mech *s, const rigmat_sensor *se, size_t c)
+{
+    return nonzero(creal(BJTH(s, se->body, c)), 1.0);
+}
+
+static int relative_rate_needs_rate(rigmat_mech *s, const rigmat_sensor *se, size_t c)
+{
+    return nonzero(creal(BJTH(s, se->body_b, c) - BJTH(s, se->body, c)), 1.0);
+}
+
+static int point_velocity_needs_rate(rigmat_mech *s, const rigmat_sensor *se, size_t c)
+{
+    double complex p[2];
+    point_kin(s, se->body, se->at_m, p, s->tJa, NULL, NULL);
+    return nonzero(se->axis[0] * creal(s->tJa[c]) + se->axis[1] * creal(s->tJa[s->n + c]), 1.0);
+}
+
+static int specific_force_needs_acceleration(rigmat_mech *s, const rigmat_sensor *se, size_t c)
+{
+    double complex p[2];
+    point_kin(s, se->body, se->at_m, p, s->tJa, NULL, NULL);
+    return nonzero(creal(s->tJa[c]), 1.0) || nonzero(creal(s->tJa[s->n + c]), 1.0);
+}
+
+/* the drive force holds every body whose inertia couples its coordinate to c */
+static int drive_force_needs_acceleration(rigmat_mech *s, const rigmat_sensor *se, size_t c)
+{
+    const rigmat_model *m = s->m;
+    const size_t k = s->coord[se->joint];
+    size_t b;
+    int bad = 0;
+
+    if (k == RIGMAT_NONE)
+        return 0;
+    for (b = 1; b < s->nb && !bad; b++) {
+        const rigmat_body *bd = &m->bodies[b];
+        double complex pc[2];
+        point_kin(s, b, bd->com_m, pc, s->tJa, NULL, NULL);
+        bad = nonzero(coupling(s, bd->mass_kg, bd->inertia_kgm2, s->tJa, &BJTH(s, b, 0), k, c),
+                bd->mass_kg + bd->inertia_kgm2);
+    }
+    return bad;
+}
+
+static const struct sensor_needs sensor_needs[RIGMAT_NSENSOR_KINDS] = {
+    [RIGMAT_SENSE_JOINT_POSITION] = { NULL, NULL },
+    [RIGMAT_SENSE_JOINT_VELOCITY] = { joint_velocity_needs_rate, NULL },
+    [RIGMAT_SENSE_ANGLE] = { NULL, NULL },
+    [RIGMAT_SENSE_RATE] = { rate_needs_rate, NULL },
+    [RIGMAT_SENSE_RELATIVE_ANGLE] = { NULL, NULL },
+    [RIGMAT_SENSE_RELATIVE_RATE] = { relative_rate_needs_rate, NULL },
+    [RIGMAT_SENSE_MOTOR_ANGLE] = { NULL, NULL },
+    [RIGMAT_SENSE_POINT_POSITION] = { NULL, NULL },
+    [RIGMAT_SENSE_POINT_VELOCITY] = { point_velocity_needs_rate, NULL },
+    [RIGMAT_SENSE_SPECIFIC_FORCE] = { NULL, specific_force_needs_acceleration },
+    [RIGMAT_SENSE_CURRENT] = { NULL, NULL },
+    [RIGMAT_SENSE_DRIVE_FORCE] = { NULL, drive_force_needs_acceleration },
+};
+
 static rigmat_status check_needs(rigmat_mech *s, rigmat_error *err)
 {
     const rigmat_model *m = s->m;
@@ -871,20 +1061,8 @@ static rigmat_status check_needs(rigmat_mech *s, rigmat_error *err)
         }
         for (i = 0; i < m->nsensors; i++) {
             const rigmat_sensor *se = &m->sensors[i];
-            int bad = 0;
-            if (se->kind == RIGMAT_SENSE_JOINT_VELOCITY)
-                bad = s->coord[se->joint] == c;
-            else if (se->kind == RIGMAT_SENSE_RATE)
-                bad = nonzero(creal(BJTH(s, se->body, c)), 1.0);
-            else if (se->kind == RIGMAT_SENSE_RELATIVE_RATE)
-                bad = nonzero(creal(BJTH(s, se->body_b, c) - BJTH(s, se->body, c)), 1.0);
-            else if (se->kind == RIGMAT_SENSE_POINT_VELOCITY) {
-                double complex p[2];
-                point_kin(s, se->body, se->at_m, p, s->tJa, NULL, NULL);
-                bad = nonzero(se->axis[0] * creal(s->tJa[c]) + se->axis[1] * creal(s->tJa[n + c]),
-                        1.0);
-            }
-            if (bad)
+            const struct sensor_needs *sn = &sensor_needs[se->kind];
+            if (sn->rate != NULL && sn->rate(s, se, c))
                 return need(s, err, "sensor", se->name, se->loc, c, 0);
         }
     }
@@ -920,24 +1098,8 @@ static rigmat_status check_needs(rigmat_mech *s, rigmat_error *err)
         }
         for (i = 0; i < m->nsensors; i++) {
             const rigmat_sensor *se = &m->sensors[i];
-            int bad = 0;
-            if (se->kind == RIGMAT_SENSE_SPECIFIC_FORCE) {
-                double complex p[2];
-                point_kin(s, se->body, se->at_m, p, s->tJa, NULL, NULL);
-                bad = nonzero(creal(s->tJa[c]), 1.0) || nonzero(creal(s->tJa[n + c]), 1.0);
-            } else if (se->kind == RIGMAT_SENSE_DRIVE_FORCE &&
-                    s->coord[se->joint] != RIGMAT_NONE) {
-                const size_t k = s->coord[se->joint];
-                for (b = 1; b < s->nb && !bad; b++) {
-                    const rigmat_body *bd = &m->bodies[b];
-                    double complex pc[2];
-                    point_kin(s, b, bd->com_m, pc, s->tJa, NULL, NULL);
-                    bad = nonzero(coupling(s, bd->mass_kg, bd->inertia_kgm2, s->tJa,
-                                          &BJTH(s, b, 0), k, c),
-                            bd->mass_kg + bd->inertia_kgm2);
-                }
-            }
-            if (bad)
+            const struct sensor_needs *sn = &sensor_needs[se->kind];
+            if (sn->acceleration != NULL && sn->acceleration(s, se, c))
                 return need(s, err, "sensor", se->name, se->loc, c, 1);
         }
     }
@@ -1015,7 +1177,7 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     nm = m->nmotors;
     s->coord = idx_alloc(m->njoints, &bad);
     for (j = 0; j < m->njoints && !bad; j++)
-        if (m->joints[j].type != RIGMAT_JOINT_FIXED)
+        if (rigmat_joint_kind(m->joints[j].type)->has_coordinate)
             s->coord[j] = n++;
     s->n = n;
     s->cjoint = idx_alloc(n, &bad);
@@ -1087,7 +1249,11 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
         }
         {
             const rigmat_joint *jt = &m->joints[mo->joint];
-            if (jt->type == RIGMAT_JOINT_SLIDER) {
+            if (!rigmat_joint_kind(jt->type)->has_coordinate) {
+                st = RIGMAT_FAIL(err, RIGMAT_EMODEL, "motor '%s' is across fixed joint '%s'",
+                        mo->name, jt->name);
+                goto fail;
+            } else if (rigmat_joint_kind(jt->type)->motor_linear) {
                 s->mlin[k] = s->coord[mo->joint];
                 /* rotation per travel: a pulley of radius r turns 1/r rad per m, a
                  * screw of lead l turns 2 pi / l rad per m */
@@ -1099,10 +1265,6 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
                             jt->name);
                     goto fail;
                 }
-            } else if (jt->type == RIGMAT_JOINT_FIXED) {
-                st = RIGMAT_FAIL(err, RIGMAT_EMODEL, "motor '%s' is across fixed joint '%s'",
-                        mo->name, jt->name);
-                goto fail;
             } else {
                 s->mstator[k] = mo->mounted_on_child ? jt->child : jt->parent;
                 s->mrotor[k] = mo->mounted_on_child ? jt->parent : jt->child;
