@@ -163,6 +163,9 @@ START_TEST(bad_model_gets_its_diagnostic)
                 d.items[i].where.col == want_col && strstr(d.items[i].message, frag) != NULL;
     ck_assert_msg(found, "%s: no error at %lu:%lu containing '%s'; got:\n%s", l.names[_i],
             want_line, want_col, frag, text);
+    /* one mistake, one error: nothing downstream may repeat it */
+    ck_assert_msg(d.errors == 1, "%s: %zu errors for one mistake; got:\n%s", l.names[_i],
+            d.errors, text);
     rigmat_diags_release(&d);
     free_list(&l);
 }

@@ -95,6 +95,10 @@ rigmat_status cli_linearize(struct cli_env *env, const rigmat_model *m, rigmat_l
 
 /* Report a rigmat_error on env->err as "rigmat CMD: error: message" (with
  * its place when it has one) and the hint; returns err->status. */
+/* The model's name as every command's text shows it: "(unnamed)" for a
+ * model without one (JSON keeps "" under "model", as documented). */
+const char *cli_model_name(const rigmat_model *m);
+
 rigmat_status cli_report(struct cli_env *env, const rigmat_error *err);
 
 /* Parse a quantity given on the command line for an option, e.g.

@@ -107,7 +107,7 @@ static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
     const rigmat_layout *l = &m->layout;
     size_t i;
 
-    fprintf(f, "model: %s (%s)\n", m->name ? m->name : "(unnamed)", m->file);
+    fprintf(f, "model: %s (%s)\n", cli_model_name(m), m->file);
     fprintf(f, "gravity %.6g m/s^2, slope %.6g deg\n", m->gravity_m_s2,
             m->slope_rad * 180.0 / M_PI);
     fputs("\nbodies (inertia about the centre of mass; centre of mass in the body frame)\n", f);

@@ -97,7 +97,7 @@ static void discretize_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d
     const rigmat_signal *w = L->inputs + L->nu_control;
     const double rate_hz = 1.0 / d->period_s;
 
-    fprintf(f, "model: %s\norder hash: %s\n", m->name ? m->name : "", L->order_hash);
+    fprintf(f, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
     fprintf(f, "sampled at %.6g Hz (period %.6g ms), method %s", rate_hz, d->period_s * 1e3,
             rigmat_method_name(d->method));
     if (d->prewarp_hz > 0)

@@ -35,7 +35,7 @@ static void linearize_text(FILE *f, const rigmat_model *m, const rigmat_lti *l)
 {
     const rigmat_layout *L = &m->layout;
 
-    fprintf(f, "model: %s\norder hash: %s\n\n", m->name ? m->name : "", L->order_hash);
+    fprintf(f, "model: %s\norder hash: %s\n\n", cli_model_name(m), L->order_hash);
     cli_text_matrix(f, "A = df/dx", l->A, L->states, L->nx, L->states, L->nx);
     cli_text_matrix(f, "B = df/du", l->B, L->states, L->nx, L->inputs, L->nu);
     cli_text_matrix(f, "C = dh/dx", l->C, L->outputs, L->ny, L->states, L->nx);

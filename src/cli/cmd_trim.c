@@ -53,7 +53,7 @@ static void trim_text(FILE *f, const rigmat_model *m, const rigmat_trim_result *
     const rigmat_layout *L = &m->layout;
     size_t i;
 
-    fprintf(f, "model: %s\nsolved:", m->name ? m->name : "");
+    fprintf(f, "model: %s\nsolved:", cli_model_name(m));
     for (i = 0; i < m->op_solve.count; i++)
         fprintf(f, "%s %s", i ? "," : "", m->op_solve.names[i]);
     fputs(m->op_solve.count ? "\n\nstates\n" : " nothing (currents follow)\n\nstates\n", f);

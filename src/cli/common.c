@@ -12,6 +12,11 @@ static void put_clean(FILE *f, const char *s)
     }
 }
 
+const char *cli_model_name(const rigmat_model *m)
+{
+    return m->name != NULL && m->name[0] != '\0' ? m->name : "(unnamed)";
+}
+
 rigmat_status cli_report(struct cli_env *env, const rigmat_error *err)
 {
     if (err->where.file != NULL) {

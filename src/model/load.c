@@ -51,14 +51,23 @@ struct ld {
     const rigmat_options *opt;
     int nomem;
     int lost_child; /* a joint's child did not resolve: "not attached" would mislead */
-    /* per joint: its type was not understood (reported once); what depends
-     * on the type is not checked again, so one mistake gives one error */
+    /* per joint: its type (UNKNOWN_TYPE) or its driven word (UNKNOWN_DRIVEN)
+     * was not understood and has been reported; what depends on it is not
+     * checked again, so one mistake gives one error */
     unsigned char *joint_unknown;
 };
 
+enum { UNKNOWN_TYPE = 1, UNKNOWN_DRIVEN = 2 };
+
 static int joint_unknown(const struct ld *L, size_t j)
 {
-    return L->joint_unknown != NULL && j != RIGMAT_NONE && L->joint_unknown[j];
+    return L->joint_unknown != NULL && j != RIGMAT_NONE && (L->joint_unknown[j] & UNKNOWN_TYPE);
+}
+
+/* Whether the joint's `driven:` (and so its inputs) is unknown. */
+static int driven_unknown(const struct ld *L, size_t j)
+{
+    return L->joint_unknown != NULL && j != RIGMAT_NONE && L->joint_unknown[j] != 0;
 }
 
 /* The entry being read: "body 'chassis'" and its mapping. */
@@ -850,7 +859,7 @@ static void read_joints(struct ld *L, const rigmat_node *root)
              * keys, its uses elsewhere and its operating point are not
              * checked (one mistake, one error) */
             j->type = RIGMAT_JOINT_FIXED;
-            L->joint_unknown[m->njoints - 1] = 1;
+            L->joint_unknown[m->njoints - 1] = UNKNOWN_TYPE | UNKNOWN_DRIVEN;
             f = NULL;
         } else {
             j->type = rigmat_joint_kinds[t].type;
@@ -899,6 +908,8 @@ static void read_joints(struct ld *L, const rigmat_node *root)
             int dv = opt_word(L, &e, "driven", driven_words + 1, NW(driven_words) - 1,
                     "a driven derivative (position, velocity or acceleration)", -1);
             j->driven = dv < 0 ? RIGMAT_DRIVEN_NONE : (rigmat_driven)(dv + 1);
+            if (dv < 0 && field(&e, "driven") != NULL)
+                L->joint_unknown[m->njoints - 1] |= UNKNOWN_DRIVEN;
             if (j->driven != RIGMAT_DRIVEN_NONE) {
                 const int r = opt_word(L, &e, "role", role_words, NW(role_words),
                         "a role (input or disturbance)", 0);
@@ -1161,16 +1172,28 @@ static void motor_sheet_values(struct ld *L, const struct ent *e, rigmat_motor *
     int ok = 1, at;
 
     mo->datasheet = 1;
-    ok &= req_num(L, e, "rated_voltage", RIGMAT_Q_VOLTAGE, &mo->rated_voltage_v, NULL);
-    ok &= req_num(L, e, "stall_torque", RIGMAT_Q_TORQUE, &mo->stall_torque_nm, NULL);
-    ok &= req_num(L, e, "stall_current", RIGMAT_Q_CURRENT, &mo->stall_current_a, NULL);
-    ok &= req_num(L, e, "no_load_speed", RIGMAT_Q_ANGULAR_RATE, &mo->no_load_speed_rad_s, NULL);
-    ok &= req_num(L, e, "no_load_current", RIGMAT_Q_CURRENT, &mo->no_load_current_a, NULL);
-    must_positive(L, e, "rated_voltage", mo->rated_voltage_v);
-    must_positive(L, e, "stall_torque", mo->stall_torque_nm);
-    must_positive(L, e, "stall_current", mo->stall_current_a);
-    must_positive(L, e, "no_load_speed", mo->no_load_speed_rad_s);
-    must_nonneg(L, e, "no_load_current", mo->no_load_current_a);
+    /* a value that did not read (wrong unit, missing) is reported once:
+     * its range is checked only when it read */
+    if (req_num(L, e, "rated_voltage", RIGMAT_Q_VOLTAGE, &mo->rated_voltage_v, NULL))
+        must_positive(L, e, "rated_voltage", mo->rated_voltage_v);
+    else
+        ok = 0;
+    if (req_num(L, e, "stall_torque", RIGMAT_Q_TORQUE, &mo->stall_torque_nm, NULL))
+        must_positive(L, e, "stall_torque", mo->stall_torque_nm);
+    else
+        ok = 0;
+    if (req_num(L, e, "stall_current", RIGMAT_Q_CURRENT, &mo->stall_current_a, NULL))
+        must_positive(L, e, "stall_current", mo->stall_current_a);
+    else
+        ok = 0;
+    if (req_num(L, e, "no_load_speed", RIGMAT_Q_ANGULAR_RATE, &mo->no_load_speed_rad_s, NULL))
+        must_positive(L, e, "no_load_speed", mo->no_load_speed_rad_s);
+    else
+        ok = 0;
+    if (req_num(L, e, "no_load_current", RIGMAT_Q_CURRENT, &mo->no_load_current_a, NULL))
+        must_nonneg(L, e, "no_load_current", mo->no_load_current_a);
+    else
+        ok = 0;
     at = opt_word(L, e, "figures_at", at_words, NW(at_words), "motor or output", -2);
     if (at == -2 && mo->gear_ratio != 1.0) {
         missing(L, e, "figures_at", "with a gearbox say whether the sheet gives motor-shaft "
@@ -1538,6 +1561,8 @@ static int sensor_target(struct ld *L, const struct ent *e, const rigmat_sensor_
                     m->joints[s->joint].name);
             return 0;
         }
+        if (sd->joint_need == RIGMAT_NEED_DRIVEN && driven_unknown(L, s->joint))
+            return 0;
         if (sd->joint_need == RIGMAT_NEED_DRIVEN &&
                 m->joints[s->joint].driven == RIGMAT_DRIVEN_NONE) {
             lerr(L, e, of->loc, sd->joint_hint, "joint '%s' is not driven",
@@ -1732,6 +1757,8 @@ static void read_settings(struct ld *L, const struct ent *op, const char *key, i
         if (!ok)
             continue;
         if (which == 2) {
+            if (!input_kind(m, en->key, &q) && driven_unknown(L, find_joint(m, en->key)))
+                continue; /* its driven word was reported */
             if (!input_kind(m, en->key, &q)) {
                 nn = input_names(m, names, 64);
                 name_hint(hint, sizeof hint, en->key, names, nn);
@@ -1752,6 +1779,8 @@ static void read_settings(struct ld *L, const struct ent *op, const char *key, i
                             en->key);
                 continue;
             }
+            if (driven_unknown(L, j))
+                continue;
             if ((int)m->joints[j].driven > 0 && which + 1 >= (int)m->joints[j].driven) {
                 lerr(L, op, en->key_loc, "set the driven value under 'inputs'",
                         "joint '%s' is driven: its %s is an input, not a state", en->key,

@@ -7,10 +7,11 @@
  * marks; mark_loc() converts them exactly once.
  *
  * What YAML allows and schema 1 does not:
- *   - aliases (*name): refused at the first one.  A model has no use for
- *     them, and refusing them removes the "billion laughs" blow-up at the
- *     root (REFERENCES.md section 10); anchors alone are harmless and are
- *     ignored;
+ *   - anchors (&name) and aliases (*name), as the README says: an alias
+ *     is refused at the first one (refusing it removes the "billion
+ *     laughs" blow-up at the root); an anchor without any alias is refused
+ *     at its place once the document has been read, so a file that has
+ *     both gets the one error at the alias;
  *   - more than one document, keys that are not plain values;
  *   - duplicate keys, which libyaml does not check (STYLE.md 1.4 item 7):
  *     found here after each mapping closes, by sorting, so a mapping with
@@ -45,6 +46,8 @@ struct builder {
     size_t depth, cap;
     size_t nodes;
     int failed;   /* an error that stops the parse */
+    char *anchor; /* the first anchor met (refused after the parse), or NULL */
+    rigmat_loc anchor_loc;
     int errors;   /* errors that do not stop it (duplicate keys) */
     int nomem;
 };
@@ -118,6 +121,23 @@ static void fail_at(struct builder *b, rigmat_loc where, const char *hint, const
     if (rigmat_diags_add(b->d, RIGMAT_ERROR, where, no_loc, NULL, hint, "%s", buf) != RIGMAT_OK)
         b->nomem = 1;
     b->failed = 1;
+}
+
+/* Remember the first anchor (refused once the document is read). */
+static void note_anchor(struct builder *b, const yaml_char_t *anchor, yaml_mark_t mark)
+{
+    size_t n;
+
+    if (anchor == NULL || b->anchor != NULL)
+        return;
+    n = strlen((const char *)anchor) + 1;
+    b->anchor = malloc(n);
+    if (b->anchor == NULL) {
+        b->nomem = 1;
+        return;
+    }
+    memcpy(b->anchor, anchor, n);
+    b->anchor_loc = mark_loc(b, mark);
 }
 
 rigmat_node *rigmat_node_scalar(const char *text, rigmat_loc loc)
@@ -569,12 +589,15 @@ rigmat_status rigmat_load_yaml_text(const char *text, size_t len, const char *fi
                     "alias '*%s' refused", (const char *)ev.data.alias.anchor);
             break;
         case YAML_SCALAR_EVENT:
+            note_anchor(&b, ev.data.scalar.anchor, ev.start_mark);
             on_scalar(&b, &ev);
             break;
         case YAML_SEQUENCE_START_EVENT:
+            note_anchor(&b, ev.data.sequence_start.anchor, ev.start_mark);
             on_open(&b, &ev, RIGMAT_NODE_SEQ);
             break;
         case YAML_MAPPING_START_EVENT:
+            note_anchor(&b, ev.data.mapping_start.anchor, ev.start_mark);
             on_open(&b, &ev, RIGMAT_NODE_MAP);
             break;
         case YAML_SEQUENCE_END_EVENT:
@@ -592,6 +615,11 @@ rigmat_status rigmat_load_yaml_text(const char *text, size_t len, const char *fi
         yaml_event_delete(&ev);
     }
     yaml_parser_delete(&p);
+    if (b.anchor != NULL && !b.failed && !b.nomem)
+        fail_at(&b, b.anchor_loc,
+                "write the value out in full: anchors and aliases are not part of schema 1",
+                "anchor '&%s' refused", b.anchor);
+    free(b.anchor);
     for (i = 0; i < b.depth; i++)
         free(b.stack[i].key);
     free(b.stack);
