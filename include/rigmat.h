@@ -183,8 +183,11 @@ typedef struct rigmat_body {
     size_t joint;         /* the joint whose child this is; RIGMAT_NONE for ground */
 } rigmat_body;
 
+/* Joint types; what each one is (its word, coordinate, units, keys) is
+ * its entry in the kind table (src/model/kinds.c). */
 typedef enum rigmat_joint_type {
-    RIGMAT_JOINT_SLIDER, RIGMAT_JOINT_HINGE, RIGMAT_JOINT_ROLLING, RIGMAT_JOINT_FIXED
+    RIGMAT_JOINT_SLIDER, RIGMAT_JOINT_HINGE, RIGMAT_JOINT_ROLLING, RIGMAT_JOINT_FIXED,
+    RIGMAT_JOINT_TYPE_COUNT /* the number of types, not a type */
 } rigmat_joint_type;
 
 typedef enum rigmat_driven {
@@ -298,7 +301,8 @@ typedef enum rigmat_sensor_kind {
     RIGMAT_SENSE_MOTOR_ANGLE,
     RIGMAT_SENSE_POINT_POSITION, RIGMAT_SENSE_POINT_VELOCITY,
     RIGMAT_SENSE_SPECIFIC_FORCE,
-    RIGMAT_SENSE_CURRENT, RIGMAT_SENSE_DRIVE_FORCE
+    RIGMAT_SENSE_CURRENT, RIGMAT_SENSE_DRIVE_FORCE,
+    RIGMAT_SENSE_KIND_COUNT /* the number of kinds, not a kind (table: src/model/kinds.c) */
 } rigmat_sensor_kind;
 
 /* y = gain * (measured quantity) + offset.  noise, density and resolution

@@ -35,9 +35,7 @@ START_TEST(tables_are_in_enum_order)
         ck_assert(rigmat_joint_kinds[i].word != NULL && rigmat_joint_kinds[i].relations != NULL);
     for (i = 0; i < RIGMAT_NSENSOR_KINDS; i++)
         ck_assert_ptr_nonnull(rigmat_sensor_kinds[i].word);
-    /* the last enum constants are the last entries */
-    ck_assert_uint_eq(RIGMAT_JOINT_FIXED + 1, RIGMAT_NJOINT_TYPES);
-    ck_assert_uint_eq(RIGMAT_SENSE_DRIVE_FORCE + 1, RIGMAT_NSENSOR_KINDS);
+    /* the families the loader reads without a count in rigmat.h */
     ck_assert_uint_eq(RIGMAT_FORCE_ACROSS + 1, RIGMAT_NFORCE_FORMS);
     ck_assert_uint_eq(RIGMAT_SHAPE_BOX + 1, RIGMAT_NSHAPES);
     ck_assert_uint_eq(RIGMAT_DRIVE_DUTY + 1, RIGMAT_NMOTOR_DRIVES);

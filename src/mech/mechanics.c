@@ -745,11 +745,11 @@ static const sensor_reading sensor_readings[RIGMAT_NSENSOR_KINDS] = {
     [RIGMAT_SENSE_DRIVE_FORCE] = read_drive_force,
 };
 
+/* rigmat_mech_alloc has checked that every sensor's kind has a reading */
 static double complex sensor_value(rigmat_mech *s, size_t k)
 {
     const rigmat_sensor *se = &s->m->sensors[k];
-    const double complex v = (unsigned)se->kind < RIGMAT_NSENSOR_KINDS ?
-            sensor_readings[se->kind](s, se) : 0;
+    const double complex v = sensor_readings[se->kind](s, se);
     return se->gain * v + se->offset;
 }
 
@@ -1173,6 +1173,20 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
         st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "body 0 must be the ground");
         goto fail;
     }
+    /* every kind in the model has its behaviour in the tables above (a kind
+     * added to src/model/kinds.c without it is a bug, not a model error) */
+    for (j = 0; j < m->njoints; j++)
+        if ((size_t)m->joints[j].type >= RIGMAT_NJOINT_TYPES) {
+            st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "joint '%s' has no type", m->joints[j].name);
+            goto fail;
+        }
+    for (j = 0; j < m->nsensors; j++)
+        if ((size_t)m->sensors[j].kind >= RIGMAT_NSENSOR_KINDS ||
+                sensor_readings[m->sensors[j].kind] == NULL) {
+            st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "sensor '%s' has a kind without a reading",
+                    m->sensors[j].name);
+            goto fail;
+        }
     nb = s->nb = m->nbodies;
     nm = m->nmotors;
     s->coord = idx_alloc(m->njoints, &bad);

@@ -22,8 +22,8 @@
 #include "units.h"
 
 /* Entries in each table (the enums of rigmat.h have exactly these many). */
-#define RIGMAT_NJOINT_TYPES 4
-#define RIGMAT_NSENSOR_KINDS 12
+#define RIGMAT_NJOINT_TYPES ((size_t)RIGMAT_JOINT_TYPE_COUNT)
+#define RIGMAT_NSENSOR_KINDS ((size_t)RIGMAT_SENSE_KIND_COUNT)
 #define RIGMAT_NFORCE_FORMS 3
 #define RIGMAT_NSHAPES 7
 #define RIGMAT_NMOTOR_DRIVES 3
