@@ -373,11 +373,61 @@ static double complex rotor_row(rigmat_mech *s, size_t i, double ratio)
     return s->bal[st] + ratio * bias;
 }
 
-/* The motor's drive voltage from its input. */
+/* The motor's drive voltage from its input: a duty cycle scales the
+ * supply (the drives that need one, src/model/kinds.c). */
 static double complex motor_voltage(const rigmat_motor *mo, double complex u)
 {
-    return mo->drive == RIGMAT_DRIVE_DUTY ? u * mo->supply_v : u;
+    return rigmat_drive_kind_desc(mo->drive)->needs_supply ? u * mo->supply_v : u;
 }
+
+/* ------------------------------------------- force forms: virtual work */
+
+/* The generalized force of each force form at input value w, added to Q
+ * (indexed by rigmat_force_kind like src/model/kinds.c). */
+typedef void (*force_work)(rigmat_mech *s, const rigmat_force *fo, double complex w);
+
+/* on a body at a point, along a direction in the world or the body frame */
+static void point_force_work(rigmat_mech *s, const rigmat_force *fo, double complex w)
+{
+    const size_t n = s->n;
+    double complex p[2], fx = w * fo->direction[0], fy = w * fo->direction[1];
+    size_t r;
+    point_kin(s, fo->body, fo->at_m, p, s->tJa, NULL, NULL);
+    if (fo->frame_body) {
+        const double complex c = ccos(s->bth[fo->body]), sn = csin(s->bth[fo->body]);
+        rot(c, sn, w * fo->direction[0], w * fo->direction[1], &fx, &fy);
+    }
+    for (r = 0; r < n; r++)
+        s->Q[r] += s->tJa[r] * fx + s->tJa[n + r] * fy;
+}
+
+/* a torque on a body, optionally reacting on another */
+static void torque_work(rigmat_mech *s, const rigmat_force *fo, double complex w)
+{
+    size_t r;
+    for (r = 0; r < s->n; r++) {
+        double complex jr = BJTH(s, fo->body, r);
+        if (fo->reacting != RIGMAT_NONE)
+            jr -= BJTH(s, fo->reacting, r);
+        s->Q[r] += w * jr;
+    }
+}
+
+/* a generalized force along a joint's relative motion */
+static void across_work(rigmat_mech *s, const rigmat_force *fo, double complex w)
+{
+    double complex val, rate, bias;
+    size_t r;
+    joint_rel(s, fo->joint, &val, s->tj, &rate, &bias);
+    for (r = 0; r < s->n; r++)
+        s->Q[r] += w * s->tj[r];
+}
+
+static const force_work force_works[RIGMAT_NFORCE_FORMS] = {
+    [RIGMAT_FORCE_POINT] = point_force_work,
+    [RIGMAT_FORCE_TORQUE] = torque_work,
+    [RIGMAT_FORCE_ACROSS] = across_work,
+};
 
 /* Fill M, hb, Q and the motor currents from the state of the workspace
  * (q, qd, ueff and the current states in cur).  RIGMAT_ENUMERIC for a point
@@ -429,8 +479,8 @@ static rigmat_status assemble(rigmat_mech *s, rigmat_error *err)
             add_inertia(s, 0.0, mo->load_inertia_kgm2, s->tJb, z2, s->tj, al);
         }
         volt = motor_voltage(mo, s->ueff[s->umot[i]]);
-        if (mo->drive == RIGMAT_DRIVE_CURRENT)
-            s->cur[i] = s->ueff[s->umot[i]];
+        if (!rigmat_drive_kind_desc(mo->drive)->has_current_state)
+            s->cur[i] = s->ueff[s->umot[i]]; /* the drive sets the current */
         else if (mo->inductance_neglected)
             s->cur[i] = (volt - mo->polarity * mo->back_emf_v_s_rad * N * w) /
                     mo->resistance_ohm;
@@ -483,29 +533,7 @@ static rigmat_status assemble(rigmat_mech *s, rigmat_error *err)
     /* forces, torques, generalized forces */
     for (i = 0; i < m->nforces; i++) {
         const rigmat_force *fo = &m->forces[i];
-        const double complex w = s->ueff[s->ufor[i]];
-        if (fo->kind == RIGMAT_FORCE_POINT) {
-            double complex p[2], fx = w * fo->direction[0], fy = w * fo->direction[1];
-            point_kin(s, fo->body, fo->at_m, p, s->tJa, NULL, NULL);
-            if (fo->frame_body) {
-                const double complex c = ccos(s->bth[fo->body]), sn = csin(s->bth[fo->body]);
-                rot(c, sn, w * fo->direction[0], w * fo->direction[1], &fx, &fy);
-            }
-            for (r = 0; r < n; r++)
-                s->Q[r] += s->tJa[r] * fx + s->tJa[n + r] * fy;
-        } else if (fo->kind == RIGMAT_FORCE_TORQUE) {
-            for (r = 0; r < n; r++) {
-                double complex jr = BJTH(s, fo->body, r);
-                if (fo->reacting != RIGMAT_NONE)
-                    jr -= BJTH(s, fo->reacting, r);
-                s->Q[r] += w * jr;
-            }
-        } else {
-            double complex val, rate, bias;
-            joint_rel(s, fo->joint, &val, s->tj, &rate, &bias);
-            for (r = 0; r < n; r++)
-                s->Q[r] += w * s->tj[r];
-        }
+        force_works[fo->kind](s, fo, s->ueff[s->ufor[i]]);
     }
     return RIGMAT_OK;
 }
@@ -1053,7 +1081,9 @@ static rigmat_status check_needs(rigmat_mech *s, rigmat_error *err)
         for (i = 0; i < m->nmotors; i++) {
             const rigmat_motor *mo = &m->motors[i];
             double complex th, rt, bi;
-            if (mo->drive == RIGMAT_DRIVE_CURRENT && mo->friction_nm_s_rad == 0.0)
+            /* a drive that sets the current has no back-EMF to need the rate */
+            if (!rigmat_drive_kind_desc(mo->drive)->has_current_state &&
+                    mo->friction_nm_s_rad == 0.0)
                 continue;
             motor_out(s, i, &th, s->tj, &rt, &bi);
             if (nonzero(creal(s->tj[c]), row_scale(s->tj, n)))
@@ -1185,6 +1215,16 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
                 sensor_readings[m->sensors[j].kind] == NULL) {
             st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "sensor '%s' has a kind without a reading",
                     m->sensors[j].name);
+            goto fail;
+        }
+    for (j = 0; j < m->nforces; j++)
+        if ((size_t)m->forces[j].kind >= RIGMAT_NFORCE_FORMS) {
+            st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "force '%s' has no form", m->forces[j].name);
+            goto fail;
+        }
+    for (j = 0; j < m->nmotors; j++)
+        if ((size_t)m->motors[j].drive >= RIGMAT_NMOTOR_DRIVES) {
+            st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "motor '%s' has no drive", m->motors[j].name);
             goto fail;
         }
     nb = s->nb = m->nbodies;
