@@ -1686,7 +1686,9 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
 
 /* ------------------------------------------------------- operating point */
 
-/* What an input name is: its kind and unit.  0 if it is no input. */
+/* What an input name is: its kind and unit.  0 if it is no input, 2 if it
+ * is one whose unit cannot be known (a force across a joint that did not
+ * resolve, reported already). */
 static int input_kind(const rigmat_model *m, const char *name, rigmat_kind *q)
 {
     size_t k = find_motor(m, name);
@@ -1700,7 +1702,7 @@ static int input_kind(const rigmat_model *m, const char *name, rigmat_kind *q)
         const rigmat_force *f = &m->forces[k];
         *q = rigmat_force_effort(m, f);
         if (*q == RIGMAT_Q_NUMBER)
-            *q = RIGMAT_Q_FORCE; /* across a joint that did not resolve */
+            return 2; /* across a joint that did not resolve: unit unknown */
         return 1;
     }
     k = find_joint(m, name);
@@ -1757,9 +1759,12 @@ static void read_settings(struct ld *L, const struct ent *op, const char *key, i
         if (!ok)
             continue;
         if (which == 2) {
-            if (!input_kind(m, en->key, &q) && driven_unknown(L, find_joint(m, en->key)))
+            const int in = input_kind(m, en->key, &q);
+            if (in == 2)
+                continue; /* its joint was reported */
+            if (!in && driven_unknown(L, find_joint(m, en->key)))
                 continue; /* its driven word was reported */
-            if (!input_kind(m, en->key, &q)) {
+            if (!in) {
                 nn = input_names(m, names, 64);
                 name_hint(hint, sizeof hint, en->key, names, nn);
                 lerr(L, op, en->key_loc, hint, "unknown input '%s'", en->key);
