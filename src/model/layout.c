@@ -336,28 +336,20 @@ rigmat_status rigmat_layout_build(rigmat_model *m, rigmat_diags *d)
             goto done;
     }
     if (m->order_states.count > 0) {
-        size_t nx0 = l.nx;
-        rigmat_signal *copy = calloc(nx0 + 1, sizeof *copy);
-        if (copy == NULL) {
-            st = RIGMAT_ENOMEM;
-            goto done;
-        }
-        memcpy(copy, l.states, nx0 * sizeof *copy);
-        for (i = 0; i < nx0; i++)
-            missing[i] = 1;
-        for (k = 0; k < m->order_states.count; k++)
-            for (i = 0; i < nx0; i++)
-                if (strcmp(copy[i].name, m->order_states.names[k]) == 0)
-                    missing[i] = 0;
         /* only a coordinate may be left out; whether it is cyclic needs the
          * equations: rigmat_model_check_equations (mech stage) tests it */
+        for (i = 0; i < l.nx; i++)
+            missing[i] = 1;
+        for (k = 0; k < m->order_states.count; k++)
+            for (i = 0; i < l.nx; i++)
+                if (strcmp(l.states[i].name, m->order_states.names[k]) == 0)
+                    missing[i] = 0;
         st = RIGMAT_OK;
-        for (i = 0; i < nx0 && st == RIGMAT_OK; i++)
-            if (missing[i] && copy[i].kind != RIGMAT_SIG_COORD)
+        for (i = 0; i < l.nx && st == RIGMAT_OK; i++)
+            if (missing[i] && l.states[i].kind != RIGMAT_SIG_COORD)
                 st = diag(d, list_loc(&m->order_states, 0),
                         "only a cyclic coordinate may be left out",
-                        "the states list leaves out", copy[i].name);
-        free(copy);
+                        "the states list leaves out", l.states[i].name);
         if (st == RIGMAT_OK)
             st = reorder(l.states, &l.nx, &m->order_states, "states", 1, pos, missing, d);
         if (st != RIGMAT_OK)
