@@ -6,11 +6,12 @@
  * accepts and requires with each key's unit kind, and the few functions
  * where a stage needs behaviour that data cannot say (a sensor's unit when
  * it reads counts, its noise rule, a shape's inertia).  The loader
- * (load.c), the layout (layout.c), the mechanics (src/mech/kinds_mech.c,
+ * (load.c), the layout (layout.c), the mechanics (src/mech/mechanics.c,
  * indexed by the same enums) and the command line read these tables; no
- * other file tests a kind by name.  Adding a kind is one entry here, its
- * behaviour in src/mech/kinds_mech.c, and its enum constant in rigmat.h
- * (DEVELOPERS.md, "Adding a joint type or a sensor kind").
+ * other file tests a kind by name.  Adding a kind is one entry here (in
+ * kinds.c), its behaviour in the tables of src/mech/mechanics.c, and its
+ * enum constant in rigmat.h (DEVELOPERS.md, "Adding a joint type or a
+ * sensor kind").
  *
  * The tables are indexed by the enums of include/rigmat.h and each entry
  * repeats its enum, so a table out of order fails the kinds test.
