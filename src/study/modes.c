@@ -216,6 +216,7 @@ struct ws {
     gsl_permutation *perm;
     gsl_vector_complex *rhs, *sol;
     double *tv, *tv2;             /* n */
+    double *hv, *ht;              /* n + 1 */
     size_t *order;                /* n */
 };
 
@@ -245,6 +246,8 @@ static void ws_free(struct ws *w)
     free(w->cnorm);
     free(w->tv);
     free(w->tv2);
+    free(w->hv);
+    free(w->ht);
     free(w->order);
 }
 
@@ -288,11 +291,13 @@ static int ws_alloc(struct ws *w, size_t n, size_t nu, size_t ny)
     w->sol = gsl_vector_complex_alloc(n);
     w->tv = calloc(n, sizeof *w->tv);
     w->tv2 = calloc(n, sizeof *w->tv2);
+    w->hv = calloc(n + 1, sizeof *w->hv);
+    w->ht = calloc(n + 1, sizeof *w->ht);
     w->order = calloc(n, sizeof *w->order);
     return w->Ab && w->Bs && w->Cs && w->Bn && w->Cn && w->bnorm && w->cnorm && w->Mr && w->Mi
             && w->E && w->E1 && w->V && w->V1 && w->S && w->S1 && w->work && w->eigA && w->eval
             && w->evec && w->eig && w->P && w->Q && w->alpha && w->beta && w->gen && w->Z
-            && w->perm && w->rhs && w->sol && w->tv && w->tv2 && w->order;
+            && w->perm && w->rhs && w->sol && w->tv && w->tv2 && w->hv && w->ht && w->order;
 }
 
 /* ------------------------------------------------------------ helpers */
@@ -650,59 +655,158 @@ static int zero_before(double ar, double ai, double br, double bi)
     return ar > br;
 }
 
-/* The finite zeros of channel (j -> i) by QZ on the Rosenbrock pencil. */
+/* Householder reflection of the leading m entries of the working channel
+ * in w: turn b into the last axis, A <- H A H, c <- c H (H = H^T = H^-1). */
+static void reflect(struct ws *w, size_t m)
+{
+    gsl_matrix *A = w->eigA;
+    double *b = w->tv, *c = w->tv2, *v = w->hv, *t = w->ht;
+    double bn = 0.0, vv = 0.0;
+    size_t a, k;
+
+    for (a = 0; a < m; a++)
+        bn = hypot(bn, b[a]);
+    for (a = 0; a < m; a++)
+        v[a] = b[a];
+    v[m - 1] += b[m - 1] >= 0.0 ? bn : -bn;
+    for (a = 0; a < m; a++)
+        vv += v[a] * v[a];
+    if (!(vv > 0.0))
+        return;
+    /* A <- H A: each column minus 2 v (v^T col) / vv */
+    for (k = 0; k < m; k++) {
+        double dot = 0.0;
+        for (a = 0; a < m; a++)
+            dot += v[a] * gsl_matrix_get(A, a, k);
+        for (a = 0; a < m; a++)
+            gsl_matrix_set(A, a, k, gsl_matrix_get(A, a, k) - 2.0 * v[a] * dot / vv);
+    }
+    /* A <- A H: each row minus 2 (row v) v^T / vv */
+    for (a = 0; a < m; a++) {
+        double dot = 0.0;
+        for (k = 0; k < m; k++)
+            dot += gsl_matrix_get(A, a, k) * v[k];
+        for (k = 0; k < m; k++)
+            gsl_matrix_set(A, a, k, gsl_matrix_get(A, a, k) - 2.0 * dot * v[k] / vv);
+    }
+    {
+        double dot = 0.0;
+        for (k = 0; k < m; k++)
+            dot += c[k] * v[k];
+        for (k = 0; k < m; k++)
+            c[k] -= 2.0 * dot * v[k] / vv;
+    }
+    for (a = 0; a < m; a++)
+        t[a] = 0.0;
+    t[m - 1] = b[m - 1] >= 0.0 ? -bn : bn;
+    for (a = 0; a < m; a++)
+        b[a] = t[a];
+}
+
+/* The finite zeros of channel (j -> i): the infinite ones deflated by
+ * orthogonal compressions while the feedthrough is zero, then QZ on the
+ * Rosenbrock pencil of what is left (modes.h). */
 static int channel_zeros(struct ws *w, const rigmat_modes *md, const gsl_matrix *D, size_t i,
         size_t j, rigmat_channel_zeros *z)
 {
     const size_t n = w->n;
     const double om = md->omega_b;
-    double normP = 0.0;
-    size_t a, b, k, cnt = 0;
-    int gs;
+    double *b = w->tv, *c = w->tv2, d = 0.0, *ratio = w->hv;
+    size_t a, k, m = n, cnt = 0, ninf;
+    int gs, with_d = 0;
 
     z->input = j;
     z->output = i;
     z->no_path = no_path(w, md, D, i, j);
     if (z->no_path)
         return GSL_SUCCESS;
-    gsl_matrix_set_zero(w->P);
-    gsl_matrix_set_zero(w->Q);
-    for (a = 0; a < n; a++) {
-        for (b = 0; b < n; b++)
-            gsl_matrix_set(w->P, a, b, gsl_matrix_get(w->Ab, a, b));
-        gsl_matrix_set(w->P, a, n, gsl_matrix_get(w->Bn, a, j));
-        gsl_matrix_set(w->P, n, a, gsl_matrix_get(w->Cn, i, a));
-        gsl_matrix_set(w->Q, a, a, 1.0);
-    }
-    if (D != NULL) {
-        const double bn = w->bnorm[j] > 0.0 ? w->bnorm[j] : 1.0;
-        const double cn = w->cnorm[i] > 0.0 ? w->cnorm[i] : 1.0;
-        gsl_matrix_set(w->P, n, n, gsl_matrix_get(D, i, j) / (bn * cn));
-    }
-    for (a = 0; a <= n; a++)
-        for (b = 0; b <= n; b++)
-            normP = hypot(normP, gsl_matrix_get(w->P, a, b));
-    gs = gsl_eigen_gen(w->P, w->Q, w->alpha, w->beta, w->gen);
-    if (gs != GSL_SUCCESS)
-        return gs;
     z->re = malloc((n + 1) * sizeof *z->re);
     z->im = malloc((n + 1) * sizeof *z->im);
     if (z->re == NULL || z->im == NULL)
         return GSL_ENOMEM;
+    /* the channel in scaled units, time in units of 1/omega_b */
+    for (a = 0; a < n; a++) {
+        for (k = 0; k < n; k++)
+            gsl_matrix_set(w->eigA, a, k, gsl_matrix_get(w->Ab, a, k) / om);
+        b[a] = gsl_matrix_get(w->Bn, a, j);
+        c[a] = gsl_matrix_get(w->Cn, i, a);
+    }
+    if (D != NULL)
+        d = gsl_matrix_get(D, i, j) / ((w->bnorm[j] > 0.0 ? w->bnorm[j] : 1.0)
+                                               * (w->cnorm[i] > 0.0 ? w->cnorm[i] : 1.0));
+    /* deflate: [[A - sI, b], [c, 0]] with b along the last axis has the
+     * finite zeros of (A11, a12, c1, c2) */
+    while (m > 0) {
+        double bn = 0.0, cn = 0.0;
+
+        for (a = 0; a < m; a++) {
+            bn = hypot(bn, b[a]);
+            cn = hypot(cn, c[a]);
+        }
+        if (bn <= md->set.rtol || cn <= md->set.rtol) {
+            with_d = fabs(d) > md->set.inf_rtol;
+            break;
+        }
+        for (a = 0; a < m; a++) {
+            b[a] /= bn;
+            c[a] /= cn;
+        }
+        d /= bn * cn;
+        if (fabs(d) > md->set.inf_rtol) {
+            with_d = 1;
+            break;
+        }
+        reflect(w, m);
+        m--;
+        d = c[m];
+        for (a = 0; a < m; a++)
+            b[a] = gsl_matrix_get(w->eigA, a, m);
+    }
+    if (m == 0 || !with_d) {
+        /* no finite zero left (m = 0), or a channel that vanished in the
+         * rounding: none listed */
+        z->count = 0;
+        return GSL_SUCCESS;
+    }
+    /* QZ on the (m + 1) pencil, padded to n + 1 with exactly infinite
+     * eigenvalues (P = I, Q = 0), so one workspace serves every size */
+    gsl_matrix_set_zero(w->P);
+    gsl_matrix_set_zero(w->Q);
+    for (a = 0; a < m; a++) {
+        for (k = 0; k < m; k++)
+            gsl_matrix_set(w->P, a, k, gsl_matrix_get(w->eigA, a, k));
+        gsl_matrix_set(w->P, a, m, b[a]);
+        gsl_matrix_set(w->P, m, a, c[a]);
+        gsl_matrix_set(w->Q, a, a, 1.0);
+    }
+    gsl_matrix_set(w->P, m, m, d);
+    for (a = m + 1; a <= n; a++)
+        gsl_matrix_set(w->P, a, a, 1.0);
+    gs = gsl_eigen_gen(w->P, w->Q, w->alpha, w->beta, w->gen);
+    if (gs != GSL_SUCCESS)
+        return gs;
+    /* exactly n - m + 1 eigenvalues are infinite (the padding and the one
+     * of a pencil with d != 0): drop the pairs with the smallest
+     * |beta| / |alpha| */
+    ninf = n - m + 1;
     for (k = 0; k <= n; k++) {
+        const double mal = gsl_complex_abs(gsl_vector_complex_get(w->alpha, k));
+        const double be = fabs(gsl_vector_get(w->beta, k));
+        ratio[k] = mal > 0.0 ? be / mal : HUGE_VAL;
+    }
+    for (k = 0; k <= n; k++) {
+        size_t smaller = 0, p;
         const gsl_complex al = gsl_vector_complex_get(w->alpha, k);
         const double be = gsl_vector_get(w->beta, k);
-        const double mal = gsl_complex_abs(al);
         double zr, zi;
-        size_t p;
 
-        if (mal <= md->set.rtol * normP && fabs(be) <= md->set.rtol)
-            continue; /* a degenerate pair: the no-path test missed a tiny path */
-        if (!(fabs(be) * om > md->set.inf_rtol * mal))
-            continue; /* infinite */
-        zr = GSL_REAL(al) / be;
-        zi = GSL_IMAG(al) / be;
-        /* insertion, sorted */
+        for (a = 0; a <= n; a++)
+            if (ratio[a] < ratio[k] || (ratio[a] == ratio[k] && a < k))
+                smaller++;
+        if (smaller < ninf || be == 0.0)
+            continue;
+        zr = om * GSL_REAL(al) / be;
+        zi = om * GSL_IMAG(al) / be;
         p = cnt;
         while (p > 0 && zero_before(zr, zi, z->re[p - 1], z->im[p - 1])) {
             z->re[p] = z->re[p - 1];
