@@ -141,6 +141,7 @@ void rigmat_modes_free(rigmat_modes *md)
     free(md->zeros);
     gsl_matrix_free(md->dc_gain);
     free(md->scale);
+    free(md->balanced);
     free_names(md->state_names, md->nx);
     free_names(md->input_names, md->nu);
     free_names(md->output_names, md->ny);
@@ -163,10 +164,11 @@ static rigmat_modes *modes_alloc(const rigmat_lti *l)
     md->input_names = copy_names(l, SIDE_INPUT, nu);
     md->output_names = copy_names(l, SIDE_OUTPUT, ny);
     md->scale = calloc(nx ? nx : 1, sizeof *md->scale);
+    md->balanced = calloc(nx ? nx : 1, 1);
     md->modes = calloc(nx ? nx : 1, sizeof *md->modes);
     md->zeros = calloc(nu > 0 && ny > 0 ? nu * ny : 1, sizeof *md->zeros);
     if (md->state_names == NULL || md->input_names == NULL || md->output_names == NULL
-            || md->scale == NULL || md->modes == NULL || md->zeros == NULL)
+            || md->scale == NULL || md->balanced == NULL || md->modes == NULL || md->zeros == NULL)
         goto fail;
     if (nu > 0 && ny > 0) {
         md->dc_gain = gsl_matrix_calloc(ny, nu);
@@ -974,6 +976,8 @@ rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
 
     /* scaling and the scaled model */
     balance(l->A, md->scale, active, &omega_core, &w);
+    for (i = 0; i < n; i++)
+        md->balanced[i] = active[i] == SCALE_BALANCED;
     for (i = 0; i < n; i++)
         for (j = 0; j < n; j++)
             gsl_matrix_set(w.Ab, i, j,

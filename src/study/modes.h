@@ -147,6 +147,8 @@ typedef struct rigmat_modes {
     rigmat_modes_settings set;
     char **state_names, **input_names, **output_names; /* owned copies */
     double *scale;              /* nx: characteristic size of each state, in its unit */
+    unsigned char *balanced;    /* nx: 1 when the scale came from balancing, 0 when from
+                                 * its row or column (then measured per mode; see above) */
     double omega_b;             /* ||A_b||_2 (1/s); 1 when A is 0 */
     rigmat_mode *modes;         /* nx, sorted by |s| ascending, pairs together */
     rigmat_channel_zeros *zeros; /* ny * nu, output-major: zeros[i * nu + j] is u_j -> y_i */
