@@ -131,6 +131,10 @@ static void text_zeros(FILE *f, const rigmat_modes *md)
     const double snap = md->set.stab_rtol * md->omega_b;
 
     fputs("\ninvariant zeros of each channel (input -> output):\n", f);
+    if (md->nu == 0 || md->ny == 0) {
+        fputs("  (none: the model has no inputs or no outputs)\n", f);
+        return;
+    }
     for (j = 0; j < md->nu; j++)
         for (i = 0; i < md->ny; i++) {
             const rigmat_channel_zeros *z = &md->zeros[i * md->nu + j];

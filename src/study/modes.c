@@ -1078,7 +1078,7 @@ rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
         const double tol0 = md->set.stab_rtol * md->omega_b;
 
         m->frequency_hz = mag / (2.0 * M_PI);
-        m->damping = mag > 0.0 ? -m->s_re / mag : (double)GSL_NAN;
+        m->damping = mag > 0.0 ? (m->s_re == 0.0 ? 0.0 : -m->s_re / mag) : (double)GSL_NAN;
         if (m->s_re > tol0)
             m->stability = RIGMAT_UNSTABLE;
         else if (m->s_re < -tol0)
@@ -1301,31 +1301,35 @@ size_t rigmat_modes_summary(const rigmat_modes *md, char *buf, size_t size)
                 seen[i] |= m->seen_by[i];
         }
     } else {
-        /* the slowest mode that is not marginal */
+        /* the slowest stable mode; with none, the slowest marginal one */
         for (k = 0; k < md->nx && first == NULL; k++)
-            if (md->modes[k].stability == RIGMAT_STABLE)
+            if (md->modes[k].stability == RIGMAT_STABLE && is_rep(&md->modes[k]))
                 first = &md->modes[k];
-        if (first == NULL) {
-            sb_add(&b, "no unstable mode; all %zu marginal", md->nx);
-        } else {
+        if (first != NULL) {
             sb_add(&b, "stable; slowest mode at %.3g rad/s", hypot(first->s_re, first->s_im));
-            if (first->s_im != 0.0)
-                sb_add(&b, " (damping %.2g)", first->damping);
-            sb_add(&b, ", lives in ");
-            lives_in(&b, md, first);
-            for (i = 0; i < md->nu; i++)
-                reach[i] = first->reached_by[i];
-            for (i = 0; i < md->ny; i++)
-                seen[i] = first->seen_by[i];
+        } else {
+            for (k = 0; k < md->nx && first == NULL; k++)
+                if (is_rep(&md->modes[k]))
+                    first = &md->modes[k];
+            sb_add(&b, "no unstable mode; %zu marginal, the slowest at %.3g rad/s", nmarg,
+                    hypot(first->s_re, first->s_im));
         }
+        if (first->s_im != 0.0 && first->stability == RIGMAT_STABLE)
+            sb_add(&b, " (damping %.2g)", first->damping);
+        sb_add(&b, ", lives in ");
+        lives_in(&b, md, first);
+        for (i = 0; i < md->nu; i++)
+            reach[i] = first->reached_by[i];
+        for (i = 0; i < md->ny; i++)
+            seen[i] = first->seen_by[i];
     }
-    if (nun > 0 || first != NULL) {
+    {
         sb_add(&b, "; reached by ");
         name_list(&b, md->input_names, reach, md->nu, "no input");
         sb_add(&b, "; seen by ");
         name_list(&b, md->output_names, seen, md->ny, "no output");
     }
-    if (nmarg > 0 && (nun > 0 || first != NULL))
+    if (nmarg > 0 && (nun > 0 || first->stability == RIGMAT_STABLE))
         sb_add(&b, "; %zu marginal", nmarg);
     if (nunc > 0 || nuno > 0) {
         const char *sep = "; ";
