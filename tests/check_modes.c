@@ -356,6 +356,36 @@ START_TEST(the_demo_has_its_wrong_way_zero_from_drive_to_the_wheel)
 }
 END_TEST
 
+START_TEST(two_unstable_modes_are_both_named_in_the_summary)
+{
+    /* x1' = 2.2 x1 + u1 and an unstable oscillation x2'' = 0.3 x2' - 9 x2
+     * + u2 (roots 0.15 +- j sqrt(9 - 0.0225)); y1 = x1, y2 = x2 */
+    const double a[] = { 2.2, 0, 0, 0, 0, 1, 0, -9, 0.3 };
+    const double b[] = { 1, 0, 0, 0, 0, 1 }, c[] = { 1, 0, 0, 0, 1, 0 };
+    rigmat_lti *l = hand(3, 2, 2, a, b, c);
+    rigmat_modes *md = analyse(l, 0.0);
+    char line[256];
+
+    /* an oscillator's position and rate share equally in balanced units
+     * (|v2| / |v1| = |s| / sqrt(|a12 a21|) = 1), so their order is rounding */
+    rigmat_modes_summary(md, line, sizeof line);
+    ck_assert_msg(strcmp(line, "2 unstable modes: 2.2 rad/s in x1 and 3 rad/s (oscillating) in"
+            " x2, x3; reached by u1, u2; seen by y1, y2") == 0 || strcmp(line, "2 unstable modes:"
+            " 2.2 rad/s in x1 and 3 rad/s (oscillating) in x3, x2; reached by u1, u2; seen by y1,"
+            " y2") == 0, "%s", line);
+    /* sorted by |s|: the real mode (2.2) first, then the pair, Im > 0 first */
+    ck_assert_rel(md->modes[0].s_re, 2.2, 1e-12);
+    ck_assert(md->modes[1].s_im > 0.0 && md->modes[2].s_im < 0.0);
+    ck_assert_rel(md->modes[1].s_re, 0.15, 1e-12);
+    /* a cut buffer is terminated and the full length is returned */
+    ck_assert_uint_eq(rigmat_modes_summary(md, line, 10), strlen("2 unstable modes: 2.2 rad/s in"
+            " x1 and 3 rad/s (oscillating) in x2, x3; reached by u1, u2; seen by y1, y2"));
+    ck_assert_str_eq(line, "2 unstabl");
+    rigmat_modes_free(md);
+    rigmat_lti_free(l);
+}
+END_TEST
+
 START_TEST(bad_arguments_are_refused)
 {
     const double a[] = { 0, 1, -2, -3 }, b[] = { 0, 1 }, c[] = { 1, 0 };
@@ -390,6 +420,7 @@ Suite *modes_suite(void)
     tcase_add_test(tc, dc_gain_past_a_pole_at_zero_is_null_only_where_it_is_seen);
     tcase_add_test(tc, shares_and_zeros_do_not_depend_on_the_units_of_a_state);
     tcase_add_test(tc, the_demo_has_its_wrong_way_zero_from_drive_to_the_wheel);
+    tcase_add_test(tc, two_unstable_modes_are_both_named_in_the_summary);
     tcase_add_test(tc, bad_arguments_are_refused);
     suite_add_tcase(s, tc);
     return s;

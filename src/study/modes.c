@@ -511,7 +511,9 @@ static int mode_before(const rigmat_mode *a, const rigmat_mode *b)
 {
     const double ma = hypot(a->s_re, a->s_im), mb = hypot(b->s_re, b->s_im);
 
-    if (ma != mb)
+    /* a conjugate pair's magnitudes may differ in the last bits: equal
+     * within 1e-12 keeps the pair together, Im s > 0 first */
+    if (fabs(ma - mb) > 1e-12 * (ma > mb ? ma : mb))
         return ma < mb;
     if (a->s_im != b->s_im)
         return a->s_im > b->s_im;
@@ -1291,7 +1293,7 @@ size_t rigmat_modes_summary(const rigmat_modes *md, char *buf, size_t size)
             const rigmat_mode *m = &md->modes[k];
             if (!is_rep(m) || m->stability != RIGMAT_UNSTABLE)
                 continue;
-            sb_add(&b, "%s%.3g rad/s%s", c++ ? "; " : "", hypot(m->s_re, m->s_im),
+            sb_add(&b, "%s%.3g rad/s%s", c++ ? " and " : "", hypot(m->s_re, m->s_im),
                     m->s_im > 0.0 ? " (oscillating)" : "");
             sb_add(&b, nun > 1 ? " in " : ", lives in ");
             lives_in(&b, md, m);
