@@ -257,6 +257,43 @@ START_TEST(relative_degree_three_leaves_only_the_finite_zero)
 }
 END_TEST
 
+START_TEST(a_feedthrough_moves_the_zero_where_the_closed_form_puts_it)
+{
+    /* x' = -4.3 x + 1.9 u, y = 3.1 x + 2.2 u: G(s) = 2.2 + 5.89 / (s + 4.3)
+     * = (2.2 s + 2.2 * 4.3 + 5.89) / (s + 4.3), one zero at
+     * -(9.46 + 5.89) / 2.2 (closed form); G(0) = 2.2 + 5.89 / 4.3 */
+    const double a[] = { -4.3 }, b[] = { 1.9 }, c[] = { 3.1 };
+    rigmat_lti *l = hand(1, 1, 1, a, b, c);
+    rigmat_modes *md;
+
+    gsl_matrix_set(l->D, 0, 0, 2.2);
+    md = analyse(l, 0.0);
+    ck_assert_uint_eq(md->zeros[0].count, 1);
+    ck_assert_rel(md->zeros[0].re[0], -(2.2 * 4.3 + 1.9 * 3.1) / 2.2, 1e-12);
+    ck_assert_rel(gsl_matrix_get(md->dc_gain, 0, 0), 2.2 + 1.9 * 3.1 / 4.3, 1e-12);
+    rigmat_modes_free(md);
+    rigmat_lti_free(l);
+}
+END_TEST
+
+START_TEST(a_two_state_feedthrough_channel_keeps_both_zeros)
+{
+    /* G(s) = 0.5 + (s + 1) / (s^2 + 3 s + 2) = (0.5 s^2 + 2.5 s + 2) /
+     * ((s + 1)(s + 2)): zeros -1 and -4 (closed form, 0.5 (s + 1)(s + 4)) */
+    const double a[] = { 0, 1, -2, -3 }, b[] = { 0, 1 }, c[] = { 1, 1 };
+    rigmat_lti *l = hand(2, 1, 1, a, b, c);
+    rigmat_modes *md;
+
+    gsl_matrix_set(l->D, 0, 0, 0.5);
+    md = analyse(l, 0.0);
+    ck_assert_uint_eq(md->zeros[0].count, 2);
+    ck_assert_rel(md->zeros[0].re[0], -1.0, 1e-10);
+    ck_assert_rel(md->zeros[0].re[1], -4.0, 1e-10);
+    rigmat_modes_free(md);
+    rigmat_lti_free(l);
+}
+END_TEST
+
 START_TEST(dc_gain_past_a_pole_at_zero_is_null_only_where_it_is_seen)
 {
     /* a block with drag: x' = v, v' = -2.6 v + 1.7 F.  Position sees the
@@ -417,6 +454,8 @@ Suite *modes_suite(void)
     tcase_add_test(tc, a_repeated_eigenvalue_with_one_input_is_not_controllable);
     tcase_add_test(tc, a_right_half_plane_zero_is_found_and_counted);
     tcase_add_test(tc, relative_degree_three_leaves_only_the_finite_zero);
+    tcase_add_test(tc, a_feedthrough_moves_the_zero_where_the_closed_form_puts_it);
+    tcase_add_test(tc, a_two_state_feedthrough_channel_keeps_both_zeros);
     tcase_add_test(tc, dc_gain_past_a_pole_at_zero_is_null_only_where_it_is_seen);
     tcase_add_test(tc, shares_and_zeros_do_not_depend_on_the_units_of_a_state);
     tcase_add_test(tc, the_demo_has_its_wrong_way_zero_from_drive_to_the_wheel);

@@ -623,7 +623,7 @@ static int no_path(struct ws *w, const rigmat_modes *md, const gsl_matrix *D, si
     size_t k, a, b;
 
     if (D != NULL && w->bnorm[j] > 0.0 && w->cnorm[i] > 0.0
-            && fabs(gsl_matrix_get(D, i, j)) > tol * w->bnorm[j] * w->cnorm[i])
+            && fabs(gsl_matrix_get(D, i, j)) * md->omega_b > tol * w->bnorm[j] * w->cnorm[i])
         return 0;
     if (D != NULL && (w->bnorm[j] == 0.0 || w->cnorm[i] == 0.0) && gsl_matrix_get(D, i, j) != 0.0)
         return 0;
@@ -737,9 +737,11 @@ static int channel_zeros(struct ws *w, const rigmat_modes *md, const gsl_matrix 
         b[a] = gsl_matrix_get(w->Bn, a, j);
         c[a] = gsl_matrix_get(w->Cn, i, a);
     }
+    /* in time units of 1/omega_b, G(s) / (|S^-1 b| |c S| / omega_b) =
+     * d omega_b / (|S^-1 b| |c S|) + c^ (sigma I - A_b / omega_b)^-1 b^ */
     if (D != NULL)
-        d = gsl_matrix_get(D, i, j) / ((w->bnorm[j] > 0.0 ? w->bnorm[j] : 1.0)
-                                               * (w->cnorm[i] > 0.0 ? w->cnorm[i] : 1.0));
+        d = gsl_matrix_get(D, i, j) * om / ((w->bnorm[j] > 0.0 ? w->bnorm[j] : 1.0)
+                                                    * (w->cnorm[i] > 0.0 ? w->cnorm[i] : 1.0));
     /* deflate: [[A - sI, b], [c, 0]] with b along the last axis has the
      * finite zeros of (A11, a12, c1, c2) */
     while (m > 0) {
