@@ -650,7 +650,9 @@ static int zero_before(double ar, double ai, double br, double bi)
 {
     const double ma = hypot(ar, ai), mb = hypot(br, bi);
 
-    if (ma != mb)
+    /* a repeated zero is only known to about sqrt(eps): magnitudes within
+     * 1e-8 tie, so conjugates stay in pairs, Im > 0 first */
+    if (fabs(ma - mb) > 1e-8 * (ma > mb ? ma : mb))
         return ma < mb;
     if (ai != bi)
         return ai > bi;
