@@ -29,10 +29,9 @@ static rigmat_lti *load_lin(const char *path, rigmat_model **model)
     rigmat_diags_init(&d);
     opt.catalog_dir = "../catalog";
     ck_assert_msg(rigmat_model_load(path, NULL, 0, &opt, &m, &d) == RIGMAT_OK, "%s: %s", path,
-            d.count ? d.items[0].message : "");
+                  d.count ? d.items[0].message : "");
     rigmat_diags_release(&d);
-    ck_assert_msg(rigmat_linearize(m, &opt, &l, NULL, &e) == RIGMAT_OK, "%s: %s", path,
-            e.message);
+    ck_assert_msg(rigmat_linearize(m, &opt, &l, NULL, &e) == RIGMAT_OK, "%s: %s", path, e.message);
     *model = m;
     return l;
 }
@@ -43,13 +42,12 @@ static rigmat_modes *analyse(const rigmat_lti *l, double period_s)
     rigmat_error e;
 
     memset(&e, 0, sizeof e);
-    ck_assert_msg(rigmat_modes_compute(l, period_s, NULL, &md, &e) == RIGMAT_OK, "%s",
-            e.message);
+    ck_assert_msg(rigmat_modes_compute(l, period_s, NULL, &md, &e) == RIGMAT_OK, "%s", e.message);
     return md;
 }
 
 static rigmat_lti *hand(size_t nx, size_t nu, size_t ny, const double *a, const double *b,
-        const double *c)
+                        const double *c)
 {
     rigmat_lti *s = rigmat_lti_alloc(nx, nu, ny, nu);
 
@@ -134,8 +132,10 @@ START_TEST(inverted_pendulum_unstable_pole_is_sqrt_m_g_l_over_i_pivot)
     ck_assert(up->reached_by[0] && up->seen_by[0]);
     /* the summary line names the rate, the joint, the input, the sensor */
     rigmat_modes_summary(md, line, sizeof line);
-    snprintf(want, sizeof want, "1 unstable mode at %.3g rad/s, lives in pivot; reached by twist;"
-             " seen by angle", p);
+    snprintf(want, sizeof want,
+             "1 unstable mode at %.3g rad/s, lives in pivot; reached by twist;"
+             " seen by angle",
+             p);
     ck_assert_str_eq(line, want);
     /* an unstable, unforced rod still has a DC gain: -1 / (m g l) per
      * N*m, the torque that holds it off vertical, with the sign flipped */
@@ -354,8 +354,8 @@ START_TEST(shares_and_zeros_do_not_depend_on_the_units_of_a_state)
         ck_assert_int_eq(b->modes[k].observable, a->modes[k].observable);
         for (i = 0; i < a->nx; i++)
             ck_assert_msg(fabs(b->modes[k].share[i] - a->modes[k].share[i]) < 1e-6,
-                    "mode %zu state %zu: share %g, was %g", k, i, b->modes[k].share[i],
-                    a->modes[k].share[i]);
+                          "mode %zu state %zu: share %g, was %g", k, i, b->modes[k].share[i],
+                          a->modes[k].share[i]);
     }
     for (k = 0; k < a->nu * a->ny; k++) {
         ck_assert_uint_eq(b->zeros[k].count, a->zeros[k].count);
@@ -394,10 +394,10 @@ START_TEST(input_and_output_units_do_not_change_reach_sight_or_zeros)
         ck_assert_uint_eq(b->zeros[k].count, a->zeros[k].count);
         ck_assert_int_eq(b->zeros[k].no_path, a->zeros[k].no_path);
         for (i = 0; i < a->zeros[k].count; i++)
-            ck_assert_msg(fabs(b->zeros[k].re[i] - a->zeros[k].re[i])
-                            <= 1e-9 * (1.0 + hypot(a->zeros[k].re[i], a->zeros[k].im[i])),
-                    "channel %zu zero %zu: %g, was %g", k, i, b->zeros[k].re[i],
-                    a->zeros[k].re[i]);
+            ck_assert_msg(fabs(b->zeros[k].re[i] - a->zeros[k].re[i]) <=
+                                  1e-9 * (1.0 + hypot(a->zeros[k].re[i], a->zeros[k].im[i])),
+                          "channel %zu zero %zu: %g, was %g", k, i, b->zeros[k].re[i],
+                          a->zeros[k].re[i]);
     }
     rigmat_modes_free(a);
     rigmat_modes_free(b);
@@ -418,8 +418,8 @@ START_TEST(the_demo_has_its_wrong_way_zero_from_drive_to_the_wheel)
 
     for (i = 0; i < md->ny; i++)
         for (j = 0; j < md->nu; j++)
-            if (strcmp(md->output_names[i], "enc") == 0
-                    && strcmp(md->input_names[j], "drive") == 0) {
+            if (strcmp(md->output_names[i], "enc") == 0 &&
+                strcmp(md->input_names[j], "drive") == 0) {
                 const rigmat_channel_zeros *z = &md->zeros[i * md->nu + j];
                 ck_assert_uint_eq(z->rhp, 1);
                 found = 1;
@@ -444,17 +444,23 @@ START_TEST(two_unstable_modes_are_both_named_in_the_summary)
     /* an oscillator's position and rate share equally in balanced units
      * (|v2| / |v1| = |s| / sqrt(|a12 a21|) = 1), so their order is rounding */
     rigmat_modes_summary(md, line, sizeof line);
-    ck_assert_msg(strcmp(line, "2 unstable modes: 2.2 rad/s in x1 and 3 rad/s (oscillating) in"
-            " x2, x3; reached by u1, u2; seen by y1, y2") == 0 || strcmp(line, "2 unstable modes:"
-            " 2.2 rad/s in x1 and 3 rad/s (oscillating) in x3, x2; reached by u1, u2; seen by y1,"
-            " y2") == 0, "%s", line);
+    ck_assert_msg(
+            strcmp(line, "2 unstable modes: 2.2 rad/s in x1 and 3 rad/s (oscillating) in"
+                         " x2, x3; reached by u1, u2; seen by y1, y2") == 0 ||
+                    strcmp(line,
+                           "2 unstable modes:"
+                           " 2.2 rad/s in x1 and 3 rad/s (oscillating) in x3, x2; reached by u1, u2; seen by y1,"
+                           " y2") == 0,
+            "%s", line);
     /* sorted by |s|: the real mode (2.2) first, then the pair, Im > 0 first */
     ck_assert_rel(md->modes[0].s_re, 2.2, 1e-12);
     ck_assert(md->modes[1].s_im > 0.0 && md->modes[2].s_im < 0.0);
     ck_assert_rel(md->modes[1].s_re, 0.15, 1e-12);
     /* a cut buffer is terminated and the full length is returned */
-    ck_assert_uint_eq(rigmat_modes_summary(md, line, 10), strlen("2 unstable modes: 2.2 rad/s in"
-            " x1 and 3 rad/s (oscillating) in x2, x3; reached by u1, u2; seen by y1, y2"));
+    ck_assert_uint_eq(
+            rigmat_modes_summary(md, line, 10),
+            strlen("2 unstable modes: 2.2 rad/s in"
+                   " x1 and 3 rad/s (oscillating) in x2, x3; reached by u1, u2; seen by y1, y2"));
     ck_assert_str_eq(line, "2 unstabl");
     rigmat_modes_free(md);
     rigmat_lti_free(l);

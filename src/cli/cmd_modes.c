@@ -16,7 +16,8 @@
 static const char *const modes_usage[] = {
     "rigmat modes FILE [--rate FREQ] [--set PATH=VALUE]... [--format text|json] [-o FILE]"
     " [--catalog DIR]",
-    NULL };
+    NULL
+};
 
 /* ------------------------------------------------------------ text */
 
@@ -50,13 +51,12 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
 
     fprintf(f, "\nmodes (%zu): eigenvalues s of A", md->nx);
     if (md->period_s > 0.0)
-        fprintf(f, ", and z = exp(s T) at T = %.6g s (%.6g Hz)", md->period_s,
-                1.0 / md->period_s);
+        fprintf(f, ", and z = exp(s T) at T = %.6g s (%.6g Hz)", md->period_s, 1.0 / md->period_s);
     fprintf(f, "\n  %3s  %-28s", "#", "s [1/s]");
     if (md->period_s > 0.0)
         fprintf(f, " %-28s", "z");
-    fprintf(f, " %11s %9s %11s  %-9s %-12s %-12s\n", "freq [Hz]", "damping", "tau [s]",
-            "stability", "ctrb", "obsv");
+    fprintf(f, " %11s %9s %11s  %-9s %-12s %-12s\n", "freq [Hz]", "damping", "tau [s]", "stability",
+            "ctrb", "obsv");
     for (k = 0; k < md->nx; k++) {
         const rigmat_mode *m = &md->modes[k];
 
@@ -79,8 +79,9 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
         fprintf(f, " %11.4g %9s %11s  %-9s %-12s %-12s\n", m->frequency_hz, damp, tau,
                 rigmat_stability_name(m->stability), cm, om);
     }
-    fprintf(f, "\nwhere each mode lives (shares of its eigenvector in scaled units, >= %g %%),"
-               "\nwhich inputs reach it and which outputs see it:\n",
+    fprintf(f,
+            "\nwhere each mode lives (shares of its eigenvector in scaled units, >= %g %%),"
+            "\nwhich inputs reach it and which outputs see it:\n",
             md->set.share_min * 100.0);
     for (k = 0; k < md->nx; k++) {
         const rigmat_mode *m = &md->modes[k];
@@ -112,18 +113,19 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
     fprintf(f, "\nscaled units: each state divided by its scale, from balancing A (Osborne):\n");
     for (i = 0; i < md->nx; i++) {
         fprintf(f, "  %-28s %-12.4g %-8s%s\n", md->state_names[i], md->scale[i],
-                L != NULL && i < L->nx ? L->states[i].unit : "",
-                md->balanced[i] ? "" : " *");
+                L != NULL && i < L->nx ? L->states[i].unit : "", md->balanced[i] ? "" : " *");
         if (!md->balanced[i])
             unbalanced++;
     }
     if (unbalanced > 0)
         fputs("  * nothing depends on it, or it on nothing: its size is its rate of change\n"
-              "    (or its influence) over each mode's own rate |s|\n", f);
-    fprintf(f, "ctrb, obsv: PBH test; the number is the smallest singular value of [A - sI, B]\n"
-               "(control inputs) or of [A - sI; C], scaled, over its norm: yes above %g.\n"
-               "marginal: |Re s| <= %g x %.4g 1/s (the norm of scaled A)\n", md->set.rtol,
-            md->set.stab_rtol, md->omega_b);
+              "    (or its influence) over each mode's own rate |s|\n",
+              f);
+    fprintf(f,
+            "ctrb, obsv: PBH test; the number is the smallest singular value of [A - sI, B]\n"
+            "(control inputs) or of [A - sI; C], scaled, over its norm: yes above %g.\n"
+            "marginal: |Re s| <= %g x %.4g 1/s (the norm of scaled A)\n",
+            md->set.rtol, md->set.stab_rtol, md->omega_b);
 }
 
 static void text_zeros(FILE *f, const rigmat_modes *md)
@@ -159,7 +161,8 @@ static void text_zeros(FILE *f, const rigmat_modes *md)
     fprintf(f, "  (parts below %.3g 1/s, the marginal band, print as 0)\n", snap);
     if (nrhp > 0)
         fputs("  A zero in the right half plane (Re z > 0) makes the first response of that\n"
-              "  output to a step of that input go the wrong way before it turns.\n", f);
+              "  output to a step of that input go the wrong way before it turns.\n",
+              f);
 }
 
 static void text_dc_gain(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
@@ -167,7 +170,8 @@ static void text_dc_gain(FILE *f, const rigmat_modes *md, const rigmat_layout *L
     size_t i, j;
 
     fputs("\nDC gain (steady output per unit of input, -C A^-1 B + D; 'unbounded' where a\n"
-          "pole at 0 makes the output grow without end):\n", f);
+          "pole at 0 makes the output grow without end):\n",
+          f);
     if (md->dc_gain == NULL) {
         fputs("  (empty)\n", f);
         return;
@@ -180,7 +184,7 @@ static void text_dc_gain(FILE *f, const rigmat_modes *md, const rigmat_layout *L
         char lab[64];
 
         snprintf(lab, sizeof lab, "%s [%s]", md->output_names[i],
-                L != NULL && i < L->ny ? L->outputs[i].unit : "");
+                 L != NULL && i < L->ny ? L->outputs[i].unit : "");
         fprintf(f, "  %-24s", lab);
         for (j = 0; j < md->nu; j++) {
             const double g = gsl_matrix_get(md->dc_gain, i, j);
@@ -213,8 +217,7 @@ static void json_num_or_null(struct cli_json *j, double v)
         cli_json_null(j);
 }
 
-static void json_names(struct cli_json *j, char *const *names, const unsigned char *flags,
-        size_t n)
+static void json_names(struct cli_json *j, char *const *names, const unsigned char *flags, size_t n)
 {
     size_t i;
 
@@ -390,7 +393,9 @@ rigmat_status cmd_modes(int argc, char **argv, struct cli_env *env)
     const struct cli_opt opts[] = {
         { 0, "rate", CLI_OPT_STRING, &rate, "FREQ",
           "also the discrete eigenvalues z = exp(s T) at this sample rate" },
-        CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
+        CLI_COMMON_ROWS(&c),
+        CLI_OPT_END_ROW
+    };
     static const char *const formats[] = { "text", "json", NULL };
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;

@@ -19,11 +19,11 @@
  * at first and then at a rate near 0.96 per sweep on the twin pendulums,
  * so the step must be far below the accuracy wanted (1e-14 leaves about
  * 1e-12: left and right pendulum scales then agree). */
-#define BALANCE_STEP_TOL 1e-14
+#define BALANCE_STEP_TOL   1e-14
 #define BALANCE_MAX_SWEEPS 10000
 /* Points on the circle for the DC gain at a cancelled pole at 0, and the
  * radius as a fraction of the nearest non-zero pole or zero (modes.h). */
-#define DC_CIRCLE_POINTS 32
+#define DC_CIRCLE_POINTS   32
 #define DC_CIRCLE_FRACTION 0.1
 
 rigmat_modes_settings rigmat_modes_settings_default(void)
@@ -42,9 +42,12 @@ rigmat_modes_settings rigmat_modes_settings_default(void)
 const char *rigmat_stability_name(rigmat_stability s)
 {
     switch (s) {
-    case RIGMAT_STABLE: return "stable";
-    case RIGMAT_MARGINAL: return "marginal";
-    case RIGMAT_UNSTABLE: return "unstable";
+    case RIGMAT_STABLE:
+        return "stable";
+    case RIGMAT_MARGINAL:
+        return "marginal";
+    case RIGMAT_UNSTABLE:
+        return "unstable";
     }
     return "unknown";
 }
@@ -62,9 +65,12 @@ static const char *lti_name(const rigmat_lti *l, enum sig_side side, size_t i)
     if (L == NULL)
         return NULL;
     switch (side) {
-    case SIDE_STATE: return i < L->nx ? L->states[i].name : NULL;
-    case SIDE_INPUT: return i < L->nu ? L->inputs[i].name : NULL;
-    case SIDE_OUTPUT: return i < L->ny ? L->outputs[i].name : NULL;
+    case SIDE_STATE:
+        return i < L->nx ? L->states[i].name : NULL;
+    case SIDE_INPUT:
+        return i < L->nu ? L->inputs[i].name : NULL;
+    case SIDE_OUTPUT:
+        return i < L->ny ? L->outputs[i].name : NULL;
     }
     return NULL;
 }
@@ -167,8 +173,8 @@ static rigmat_modes *modes_alloc(const rigmat_lti *l)
     md->balanced = calloc(nx ? nx : 1, 1);
     md->modes = calloc(nx ? nx : 1, sizeof *md->modes);
     md->zeros = calloc(nu > 0 && ny > 0 ? nu * ny : 1, sizeof *md->zeros);
-    if (md->state_names == NULL || md->input_names == NULL || md->output_names == NULL
-            || md->scale == NULL || md->balanced == NULL || md->modes == NULL || md->zeros == NULL)
+    if (md->state_names == NULL || md->input_names == NULL || md->output_names == NULL ||
+        md->scale == NULL || md->balanced == NULL || md->modes == NULL || md->zeros == NULL)
         goto fail;
     if (nu > 0 && ny > 0) {
         md->dc_gain = gsl_matrix_calloc(ny, nu);
@@ -184,8 +190,8 @@ static rigmat_modes *modes_alloc(const rigmat_lti *l)
         m->sight = calloc(ny ? ny : 1, sizeof *m->sight);
         m->share = calloc(nx, sizeof *m->share);
         m->by_share = calloc(nx, sizeof *m->by_share);
-        if (m->reached_by == NULL || m->seen_by == NULL || m->reach == NULL || m->sight == NULL
-                || m->share == NULL || m->by_share == NULL)
+        if (m->reached_by == NULL || m->seen_by == NULL || m->reach == NULL || m->sight == NULL ||
+            m->share == NULL || m->by_share == NULL)
             goto fail;
     }
     return md;
@@ -198,36 +204,36 @@ fail:
 
 /* Scratch for one analysis, sized from nx, nu, ny once. */
 struct ws {
-    size_t n, q;                  /* nx; max(nu, ny) */
-    gsl_matrix *Ab;               /* n x n balanced A */
-    gsl_matrix *Bs, *Cs;          /* S^-1 B (n x nu), C S (ny x n), unnormalized */
-    gsl_matrix *Bn, *Cn;          /* the same with unit columns / rows */
-    double *bnorm, *cnorm;        /* the norms taken out */
-    gsl_matrix *Mr, *Mi;          /* (n + q) x (n + q) parts of a complex matrix */
-    gsl_matrix *E;                /* 2(n + q) x 2n embedded, then U */
-    gsl_matrix *E1;               /* 2n x 2n embedded A_b - sI, then U */
-    gsl_matrix *V, *V1;           /* 2n x 2n */
-    gsl_vector *S, *S1, *work;    /* 2n */
-    gsl_matrix *eigA;             /* n x n copy for the eigen solver */
+    size_t n, q;               /* nx; max(nu, ny) */
+    gsl_matrix *Ab;            /* n x n balanced A */
+    gsl_matrix *Bs, *Cs;       /* S^-1 B (n x nu), C S (ny x n), unnormalized */
+    gsl_matrix *Bn, *Cn;       /* the same with unit columns / rows */
+    double *bnorm, *cnorm;     /* the norms taken out */
+    gsl_matrix *Mr, *Mi;       /* (n + q) x (n + q) parts of a complex matrix */
+    gsl_matrix *E;             /* 2(n + q) x 2n embedded, then U */
+    gsl_matrix *E1;            /* 2n x 2n embedded A_b - sI, then U */
+    gsl_matrix *V, *V1;        /* 2n x 2n */
+    gsl_vector *S, *S1, *work; /* 2n */
+    gsl_matrix *eigA;          /* n x n copy for the eigen solver */
     gsl_vector_complex *eval;
     gsl_matrix_complex *evec;
     gsl_eigen_nonsymmv_workspace *eig;
-    gsl_matrix *P, *Q;            /* (n + 1) x (n + 1) pencil */
+    gsl_matrix *P, *Q; /* (n + 1) x (n + 1) pencil */
     gsl_vector_complex *alpha;
     gsl_vector *beta;
     gsl_eigen_gen_workspace *gen;
-    gsl_matrix_complex *Z;        /* n x n: s I - A_b, then its LU */
+    gsl_matrix_complex *Z; /* n x n: s I - A_b, then its LU */
     gsl_permutation *perm;
     gsl_vector_complex *rhs, *sol;
-    double *tv, *tv2;             /* n */
-    double *hv, *ht;              /* n + 1 */
-    size_t *order;                /* n */
+    double *tv, *tv2; /* n */
+    double *hv, *ht;  /* n + 1 */
+    size_t *order;    /* n */
 };
 
 static void ws_free(struct ws *w)
 {
-    gsl_matrix *const m[] = { w->Ab, w->Bs, w->Cs, w->Bn, w->Cn, w->Mr, w->Mi, w->E, w->E1,
-        w->V, w->V1, w->eigA, w->P, w->Q };
+    gsl_matrix *const m[] = { w->Ab, w->Bs, w->Cs, w->Bn, w->Cn,   w->Mr, w->Mi,
+                              w->E,  w->E1, w->V,  w->V1, w->eigA, w->P,  w->Q };
     gsl_vector *const v[] = { w->S, w->S1, w->work, w->beta };
     size_t i;
 
@@ -298,10 +304,10 @@ static int ws_alloc(struct ws *w, size_t n, size_t nu, size_t ny)
     w->hv = calloc(n + 1, sizeof *w->hv);
     w->ht = calloc(n + 1, sizeof *w->ht);
     w->order = calloc(n, sizeof *w->order);
-    return w->Ab && w->Bs && w->Cs && w->Bn && w->Cn && w->bnorm && w->cnorm && w->Mr && w->Mi
-            && w->E && w->E1 && w->V && w->V1 && w->S && w->S1 && w->work && w->eigA && w->eval
-            && w->evec && w->eig && w->P && w->Q && w->alpha && w->beta && w->gen && w->Z
-            && w->perm && w->rhs && w->sol && w->tv && w->tv2 && w->hv && w->ht && w->order;
+    return w->Ab && w->Bs && w->Cs && w->Bn && w->Cn && w->bnorm && w->cnorm && w->Mr && w->Mi &&
+           w->E && w->E1 && w->V && w->V1 && w->S && w->S1 && w->work && w->eigA && w->eval &&
+           w->evec && w->eig && w->P && w->Q && w->alpha && w->beta && w->gen && w->Z && w->perm &&
+           w->rhs && w->sol && w->tv && w->tv2 && w->hv && w->ht && w->order;
 }
 
 /* ------------------------------------------------------------ helpers */
@@ -391,7 +397,7 @@ enum { SCALE_NONE = 0, SCALE_BALANCED = 1, SCALE_ROW = 2, SCALE_COL = 3 };
  * column among the others (modes.h), then the rest from their rows or
  * columns and the characteristic rate of the balanced part. */
 static void balance(const gsl_matrix *A, double *d, unsigned char *active, double *omega_core,
-        struct ws *w)
+                    struct ws *w)
 {
     const size_t n = A->size1;
     size_t i, j, sweep;
@@ -520,7 +526,7 @@ static int mode_before(const rigmat_mode *a, const rigmat_mode *b)
 
 /* Reach, sight, controllability and observability of the mode s by PBH. */
 static int mode_pbh(struct ws *w, rigmat_mode *m, const rigmat_modes *md, double sr, double si,
-        double normAB, double normAC)
+                    double normAB, double normAC)
 {
     const size_t n = w->n, nu = md->nu, ny = md->ny, nc = md->nu_control;
     const double tol = md->set.rtol;
@@ -618,8 +624,8 @@ static int no_path(struct ws *w, const rigmat_modes *md, const gsl_matrix *D, si
     double *t = w->tv, *t2 = w->tv2;
     size_t k, a, b;
 
-    if (D != NULL && w->bnorm[j] > 0.0 && w->cnorm[i] > 0.0
-            && fabs(gsl_matrix_get(D, i, j)) * md->omega_b > tol * w->bnorm[j] * w->cnorm[i])
+    if (D != NULL && w->bnorm[j] > 0.0 && w->cnorm[i] > 0.0 &&
+        fabs(gsl_matrix_get(D, i, j)) * md->omega_b > tol * w->bnorm[j] * w->cnorm[i])
         return 0;
     if (D != NULL && (w->bnorm[j] == 0.0 || w->cnorm[i] == 0.0) && gsl_matrix_get(D, i, j) != 0.0)
         return 0;
@@ -711,7 +717,7 @@ static void reflect(struct ws *w, size_t m)
  * orthogonal compressions while the feedthrough is zero, then QZ on the
  * Rosenbrock pencil of what is left (modes.h). */
 static int channel_zeros(struct ws *w, const rigmat_modes *md, const gsl_matrix *D, size_t i,
-        size_t j, rigmat_channel_zeros *z)
+                         size_t j, rigmat_channel_zeros *z)
 {
     const size_t n = w->n;
     const double om = md->omega_b;
@@ -738,8 +744,8 @@ static int channel_zeros(struct ws *w, const rigmat_modes *md, const gsl_matrix 
     /* in time units of 1/omega_b, G(s) / (|S^-1 b| |c S| / omega_b) =
      * d omega_b / (|S^-1 b| |c S|) + c^ (sigma I - A_b / omega_b)^-1 b^ */
     if (D != NULL)
-        d = gsl_matrix_get(D, i, j) * om / ((w->bnorm[j] > 0.0 ? w->bnorm[j] : 1.0)
-                                                    * (w->cnorm[i] > 0.0 ? w->cnorm[i] : 1.0));
+        d = gsl_matrix_get(D, i, j) * om /
+            ((w->bnorm[j] > 0.0 ? w->bnorm[j] : 1.0) * (w->cnorm[i] > 0.0 ? w->cnorm[i] : 1.0));
     /* deflate: [[A - sI, b], [c, 0]] with b along the last axis has the
      * finite zeros of (A11, a12, c1, c2) */
     while (m > 0) {
@@ -890,9 +896,10 @@ static int dc_gain(struct ws *w, rigmat_modes *md, const rigmat_lti *l)
 
         for (a = 0; a < n; a++)
             for (b = 0; b < n; b++)
-                gsl_matrix_complex_set(w->Z, a, b,
+                gsl_matrix_complex_set(
+                        w->Z, a, b,
                         gsl_complex_rect((a == b ? sr : 0.0) - gsl_matrix_get(w->Ab, a, b),
-                                a == b ? si : 0.0));
+                                         a == b ? si : 0.0));
         gs = gsl_linalg_complex_LU_decomp(w->Z, w->perm, &signum);
         if (gs != GSL_SUCCESS)
             return gs;
@@ -904,7 +911,7 @@ static int dc_gain(struct ws *w, rigmat_modes *md, const rigmat_lti *l)
                 return gs;
             for (i = 0; i < ny; i++)
                 gsl_matrix_set(md->dc_gain, i, j,
-                        gsl_matrix_get(md->dc_gain, i, j) + wgt * channel_at(w, l->D, i, j));
+                               gsl_matrix_get(md->dc_gain, i, j) + wgt * channel_at(w, l->D, i, j));
         }
     }
     /* the exact cases: no path, a pole at 0 left, a zero at 0 left */
@@ -931,7 +938,8 @@ static int dc_gain(struct ws *w, rigmat_modes *md, const rigmat_lti *l)
 /* ------------------------------------------------------------ compute */
 
 rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
-        const rigmat_modes_settings *set, rigmat_modes **out, rigmat_error *err)
+                                   const rigmat_modes_settings *set, rigmat_modes **out,
+                                   rigmat_error *err)
 {
     const size_t n = l->nx, nu = l->nu, ny = l->ny;
     rigmat_modes *md = NULL;
@@ -946,10 +954,10 @@ rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
     memset(&w, 0, sizeof w);
     if (!(period_s >= 0.0) || !gsl_finite(period_s))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "sample period must be finite and >= 0, got %g",
-                period_s);
+                           period_s);
     if (l->nu_control > nu)
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "lti has %zu control inputs of %zu",
-                l->nu_control, nu);
+                           l->nu_control, nu);
     if (!all_finite(l->A) || !all_finite(l->B) || !all_finite(l->C) || !all_finite(l->D))
         return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the linear model holds a non-finite number");
     md = modes_alloc(l);
@@ -982,8 +990,7 @@ rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
         md->balanced[i] = active[i] == SCALE_BALANCED;
     for (i = 0; i < n; i++)
         for (j = 0; j < n; j++)
-            gsl_matrix_set(w.Ab, i, j,
-                    gsl_matrix_get(l->A, i, j) * md->scale[j] / md->scale[i]);
+            gsl_matrix_set(w.Ab, i, j, gsl_matrix_get(l->A, i, j) * md->scale[j] / md->scale[i]);
     /* norms by hypot: a gain of 1e300 or 1e-300 neither overflows nor
      * vanishes */
     for (j = 0; j < nu; j++) {
@@ -1112,8 +1119,8 @@ rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
             size_t cnt = 0;
 
             for (j = 0; j < n; j++)
-                if (hypot(md->modes[j].s_re - m->s_re, md->modes[j].s_im - m->s_im)
-                        <= md->set.cluster_rtol * md->omega_b) {
+                if (hypot(md->modes[j].s_re - m->s_re, md->modes[j].s_im - m->s_im) <=
+                    md->set.cluster_rtol * md->omega_b) {
                     cr += md->modes[j].s_re;
                     ci += md->modes[j].s_im;
                     cnt++;
@@ -1166,7 +1173,7 @@ static void sb_add(struct sbuf *b, const char *fmt, ...)
 
     va_start(ap, fmt);
     r = vsnprintf(b->len < b->size ? b->p + b->len : NULL, b->len < b->size ? b->size - b->len : 0,
-            fmt, ap);
+                  fmt, ap);
     va_end(ap);
     if (r > 0)
         b->len += (size_t)r;
@@ -1230,14 +1237,14 @@ static void lives_in(struct sbuf *b, const rigmat_modes *md, const rigmat_mode *
         if (best < 0.0 || (best < 0.2 && listed > 0))
             break;
         sb_add(b, "%s%.*s", listed ? ", " : "", (int)stem_len(md->state_names[bi]),
-                md->state_names[bi]);
+               md->state_names[bi]);
         prev = best;
         prev_i = bi;
     }
 }
 
 static void name_list(struct sbuf *b, char *const *names, const unsigned char *flags, size_t n,
-        const char *none)
+                      const char *none)
 {
     size_t i, c = 0;
 
@@ -1294,7 +1301,7 @@ size_t rigmat_modes_summary(const rigmat_modes *md, char *buf, size_t size)
             if (!is_rep(m) || m->stability != RIGMAT_UNSTABLE)
                 continue;
             sb_add(&b, "%s%.3g rad/s%s", c++ ? " and " : "", hypot(m->s_re, m->s_im),
-                    m->s_im > 0.0 ? " (oscillating)" : "");
+                   m->s_im > 0.0 ? " (oscillating)" : "");
             sb_add(&b, nun > 1 ? " in " : ", lives in ");
             lives_in(&b, md, m);
             for (i = 0; i < md->nu; i++)
@@ -1314,7 +1321,7 @@ size_t rigmat_modes_summary(const rigmat_modes *md, char *buf, size_t size)
                 if (is_rep(&md->modes[k]))
                     first = &md->modes[k];
             sb_add(&b, "no unstable mode; %zu marginal, the slowest at %.3g rad/s", nmarg,
-                    hypot(first->s_re, first->s_im));
+                   hypot(first->s_re, first->s_im));
         }
         if (first->s_im != 0.0 && first->stability == RIGMAT_STABLE)
             sb_add(&b, " (damping %.2g)", first->damping);

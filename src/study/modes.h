@@ -93,9 +93,9 @@
 #include "rigmat.h"
 
 typedef enum rigmat_stability {
-    RIGMAT_STABLE = 0,  /* Re s < -stab_rtol * omega_b */
-    RIGMAT_MARGINAL,    /* |Re s| <= stab_rtol * omega_b */
-    RIGMAT_UNSTABLE     /* Re s > stab_rtol * omega_b */
+    RIGMAT_STABLE = 0, /* Re s < -stab_rtol * omega_b */
+    RIGMAT_MARGINAL,   /* |Re s| <= stab_rtol * omega_b */
+    RIGMAT_UNSTABLE    /* Re s > stab_rtol * omega_b */
 } rigmat_stability;
 
 /* Tolerances, all relative and dimensionless; rigmat_modes_settings_default
@@ -114,46 +114,46 @@ rigmat_modes_settings rigmat_modes_settings_default(void);
 /* One eigenvalue.  A complex pair gives two modes, the one with Im s > 0
  * first. */
 typedef struct rigmat_mode {
-    double s_re, s_im;          /* continuous eigenvalue (1/s) */
-    double z_re, z_im;          /* e^{sT} when the period is > 0; else 0 */
-    double frequency_hz;        /* |s| / (2 pi) */
-    double damping;             /* -Re s / |s| in [-1, 1]; NaN when s = 0 */
-    double time_constant_s;     /* -1 / Re s (negative: growth); NaN when marginal */
+    double s_re, s_im;      /* continuous eigenvalue (1/s) */
+    double z_re, z_im;      /* e^{sT} when the period is > 0; else 0 */
+    double frequency_hz;    /* |s| / (2 pi) */
+    double damping;         /* -Re s / |s| in [-1, 1]; NaN when s = 0 */
+    double time_constant_s; /* -1 / Re s (negative: growth); NaN when marginal */
     rigmat_stability stability;
-    int controllable;           /* PBH with the control inputs */
-    int observable;             /* PBH with all outputs */
-    double ctrb_measure;        /* sigma_min([A_b - sI, B_c]) / ||[A_b, B_c]||_2 */
-    double obsv_measure;        /* sigma_min([A_b - sI; C_b]) / ||[A_b; C_b]||_2 */
-    unsigned char *reached_by;  /* nu flags: input j (either role) reaches the mode */
-    unsigned char *seen_by;     /* ny flags: output i sees the mode */
-    double *reach;              /* nu: projection of b_j on the left null space, in [0, 1] */
-    double *sight;              /* ny: projection of c_i on the right null space, in [0, 1] */
-    double *share;              /* nx: share of state i, sums to 1 */
-    size_t *by_share;           /* nx: state indices, largest share first */
+    int controllable;          /* PBH with the control inputs */
+    int observable;            /* PBH with all outputs */
+    double ctrb_measure;       /* sigma_min([A_b - sI, B_c]) / ||[A_b, B_c]||_2 */
+    double obsv_measure;       /* sigma_min([A_b - sI; C_b]) / ||[A_b; C_b]||_2 */
+    unsigned char *reached_by; /* nu flags: input j (either role) reaches the mode */
+    unsigned char *seen_by;    /* ny flags: output i sees the mode */
+    double *reach;             /* nu: projection of b_j on the left null space, in [0, 1] */
+    double *sight;             /* ny: projection of c_i on the right null space, in [0, 1] */
+    double *share;             /* nx: share of state i, sums to 1 */
+    size_t *by_share;          /* nx: state indices, largest share first */
 } rigmat_mode;
 
 /* The invariant zeros of one channel. */
 typedef struct rigmat_channel_zeros {
-    size_t input, output;       /* indices into the inputs and outputs */
-    size_t count;               /* finite zeros */
-    double *re, *im;            /* count each (1/s); sorted by |z|, then Im descending */
-    int no_path;                /* the transfer function is identically zero */
-    size_t rhp;                 /* zeros with Re z > stab_rtol * omega_b */
+    size_t input, output; /* indices into the inputs and outputs */
+    size_t count;         /* finite zeros */
+    double *re, *im;      /* count each (1/s); sorted by |z|, then Im descending */
+    int no_path;          /* the transfer function is identically zero */
+    size_t rhp;           /* zeros with Re z > stab_rtol * omega_b */
 } rigmat_channel_zeros;
 
 typedef struct rigmat_modes {
     size_t nx, nu, ny, nu_control;
-    double period_s;            /* 0 = no discrete eigenvalues */
+    double period_s; /* 0 = no discrete eigenvalues */
     rigmat_modes_settings set;
     char **state_names, **input_names, **output_names; /* owned copies */
-    double *scale;              /* nx: characteristic size of each state, in its unit */
-    unsigned char *balanced;    /* nx: 1 when the scale came from balancing, 0 when from
+    double *scale;               /* nx: characteristic size of each state, in its unit */
+    unsigned char *balanced;     /* nx: 1 when the scale came from balancing, 0 when from
                                  * its row or column (then measured per mode; see above) */
-    double omega_b;             /* ||A_b||_2 (1/s); 1 when A is 0 */
-    rigmat_mode *modes;         /* nx, sorted by |s| ascending, pairs together */
+    double omega_b;              /* ||A_b||_2 (1/s); 1 when A is 0 */
+    rigmat_mode *modes;          /* nx, sorted by |s| ascending, pairs together */
     rigmat_channel_zeros *zeros; /* ny * nu, output-major: zeros[i * nu + j] is u_j -> y_i */
-    gsl_matrix *dc_gain;        /* ny x nu (NULL when either is 0); NaN = a pole at 0 */
-    size_t zero_poles;          /* eigenvalues within stab_rtol * omega_b of 0 */
+    gsl_matrix *dc_gain;         /* ny x nu (NULL when either is 0); NaN = a pole at 0 */
+    size_t zero_poles;           /* eigenvalues within stab_rtol * omega_b of 0 */
 } rigmat_modes;
 
 /* Analyse l.  period_s > 0 adds z = e^{sT}; 0 leaves it out.  set may be
@@ -163,7 +163,8 @@ typedef struct rigmat_modes {
  * iteration fails or A holds a non-finite number, RIGMAT_EUSAGE for a
  * negative period, RIGMAT_ENOMEM when out of memory. */
 rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
-        const rigmat_modes_settings *set, rigmat_modes **out, rigmat_error *err);
+                                   const rigmat_modes_settings *set, rigmat_modes **out,
+                                   rigmat_error *err);
 void rigmat_modes_free(rigmat_modes *md);
 
 /* The one-line plain-language summary into buf (always terminated, cut to

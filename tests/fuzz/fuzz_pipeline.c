@@ -163,8 +163,8 @@ static void study(const rigmat_lti *s)
 
     memset(&e, 0, sizeof e);
     st = rigmat_modes_compute(s, 0.01, NULL, &md, &e);
-    FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_ENUMERIC || st == RIGMAT_ENOMEM,
-                 "modes status %d", (int)st);
+    FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_ENUMERIC || st == RIGMAT_ENOMEM, "modes status %d",
+                 (int)st);
     if (st != RIGMAT_OK) {
         FUZZ_REQUIRE(e.message[0] != '\0', "modes failed without a message");
         return;
