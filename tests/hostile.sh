@@ -5,10 +5,10 @@
 # entry of tests/hostile/ (files, and the folder that stands in for a model)
 # and on large inputs generated here into HOSTILE_GEN (default
 # build/hostile), so megabytes never sit in the repository.  Each entry is
-# given to `check`, and to `linearize` and `discretize --rate 100Hz` when
-# `rigmat --help` lists them.  Every run is bounded: address space
-# HOSTILE_VMEM_KB (default 1 GiB), wall time HOSTILE_TIMEOUT seconds
-# (default 10).  A run passes when
+# given to `check`, and to `linearize`, `discretize --rate 100Hz` and
+# `modes --rate 100Hz` when `rigmat --help` lists them.  Every run is
+# bounded: address space HOSTILE_VMEM_KB (default 1 GiB), wall time
+# HOSTILE_TIMEOUT seconds (default 10).  A run passes when
 #   - it exits 1 (bad model) or 4 (input/output error): not 0, not a
 #     signal, not the timeout;
 #   - standard error holds a diagnostic line containing `error:`;
@@ -134,6 +134,7 @@ run() { # run WHAT PATH COMMAND [ARGS...]
 cmds=check
 if "$R" --help 2>/dev/null | grep -q '^  linearize'; then cmds="$cmds linearize"; fi
 if "$R" --help 2>/dev/null | grep -q '^  discretize'; then cmds="$cmds discretize"; fi
+if "$R" --help 2>/dev/null | grep -q '^  modes'; then cmds="$cmds modes"; fi
 
 n=0
 for f in "$H"/* "$G"/* /dev/zero /dev/null; do
@@ -143,8 +144,8 @@ for f in "$H"/* "$G"/* /dev/zero /dev/null; do
     [ -e "$f" ] || [ -L "$f" ] || continue
     n=$((n + 1))
     for c in $cmds; do
-        if [ "$c" = discretize ]; then
-            run "$f" discretize "$f" --rate 100Hz
+        if [ "$c" = discretize ] || [ "$c" = modes ]; then
+            run "$f" "$c" "$f" --rate 100Hz
         else
             run "$f" "$c" "$f"
         fi
