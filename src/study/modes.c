@@ -56,21 +56,17 @@ const char *rigmat_stability_name(rigmat_stability s)
 
 enum sig_side { SIDE_STATE, SIDE_INPUT, SIDE_OUTPUT };
 
-/* The one place that reads signal names from an lti (today its borrowed
- * layout); "x1", "u1", "y1" ... when the lti carries none. */
+/* The one place that reads signal names from an lti (its plain signal
+ * lists); "x1", "u1", "y1" ... when the lti carries none. */
 static const char *lti_name(const rigmat_lti *l, enum sig_side side, size_t i)
 {
-    const rigmat_layout *L = l->layout;
-
-    if (L == NULL)
-        return NULL;
     switch (side) {
     case SIDE_STATE:
-        return i < L->nx ? L->states[i].name : NULL;
+        return l->states != NULL && i < l->nx ? l->states[i].name : NULL;
     case SIDE_INPUT:
-        return i < L->nu ? L->inputs[i].name : NULL;
+        return l->inputs != NULL && i < l->nu ? l->inputs[i].name : NULL;
     case SIDE_OUTPUT:
-        return i < L->ny ? L->outputs[i].name : NULL;
+        return l->outputs != NULL && i < l->ny ? l->outputs[i].name : NULL;
     }
     return NULL;
 }
