@@ -7,8 +7,8 @@
  * breakpoint a rounding error away from a node never leaks into the wrong
  * interval; sines are evaluated analytically.
  *
- * Methods: GSL odeiv2 (msbdf: the variable-order BDF of CVODE's lineage,
- * GSL reference manual "Ordinary Differential Equations"), the matrix
+ * Methods: GSL odeiv2 (bsimp: the semi-implicit extrapolation method of
+ * G. Bader and P. Deuflhard, Numer. Math. 41:373-398, 1983), the matrix
  * exponential of Higham (2005) (expm.h) on the augmented matrix written in
  * simulate.h (the construction of C. F. Van Loan, IEEE TAC 23(3), 1978,
  * for integrals of the exponential), and ZOH (discretize.h).
@@ -379,6 +379,7 @@ double rigmat_wave_eval(const rigmat_wave *waves, size_t nwaves, size_t input, d
 struct node {
     double t;
     size_t row; /* output row, or RIGMAT_NONE for a breakpoint only */
+    int brk;    /* a breakpoint of a signal falls here: the input may jump or kink */
 };
 
 struct plan {
@@ -410,7 +411,7 @@ static rigmat_status plan_build(struct plan *p, const rigmat_sim_opts *o, size_t
         const rigmat_sim_case *c, rigmat_error *err)
 {
     const double steps = o->duration_s / o->step_s;
-    double *bp = NULL, dur;
+    double *bp = NULL;
     size_t nbp = 0, k, i, j;
 
     memset(p, 0, sizeof *p);
@@ -432,7 +433,6 @@ static rigmat_status plan_build(struct plan *p, const rigmat_sim_opts *o, size_t
     p->nrows = (size_t)floor(steps + 0.5) + 1;
     p->step = o->step_s;
     p->snap = 1e-9 * o->step_s;
-    dur = (double)(p->nrows - 1) * o->step_s;
 
     for (k = 0; k < c->nwaves; k++)
         nbp += c->waves[k].kind == RIGMAT_WAVE_TABLE ? c->waves[k].ntable : 1;
@@ -461,17 +461,21 @@ static rigmat_status plan_build(struct plan *p, const rigmat_sim_opts *o, size_t
     j = 0;
     for (k = 0; k < p->nrows; k++) {
         const double tk = (double)k * o->step_s;
-        for (; j < nbp && bp[j] < tk - p->snap; j++) {
-            if (bp[j] <= p->snap || bp[j] >= dur)
+        for (; j < nbp && bp[j] <= tk + p->snap; j++) {
+            if (i > 0 && bp[j] - p->nodes[i - 1].t <= p->snap) {
+                p->nodes[i - 1].brk = 1;
                 continue;
-            if (i > 0 && bp[j] - p->nodes[i - 1].t <= p->snap)
-                continue;
+            }
+            if (bp[j] >= tk - p->snap || bp[j] <= p->snap)
+                continue; /* on this grid time (marked below) or at the start */
             p->nodes[i].t = bp[j];
             p->nodes[i].row = RIGMAT_NONE;
+            p->nodes[i].brk = 1;
             i++;
         }
         p->nodes[i].t = tk;
         p->nodes[i].row = k;
+        p->nodes[i].brk = j > 0 && fabs(bp[j - 1] - tk) <= p->snap;
         i++;
     }
     p->nnodes = i;
@@ -695,6 +699,10 @@ static rigmat_status nl_fail(const struct nl_ctx *c, double t, int gsl_status, d
     if (c->failed) {
         RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the nonlinear model fails at t = %.9g s: %s",
                 c->fail_t, c->fail.message);
+        if (err != NULL) {
+            err->where = c->fail.where;
+            err->within = c->fail.within;
+        }
         if (c->fail.hint[0])
             rigmat_error_hint(err, "%s", c->fail.hint);
         else
@@ -754,7 +762,7 @@ static rigmat_status sim_nonlinear(rigmat_system *sys, const rigmat_lti *lin,
     ode.dimension = nx;
     ode.params = &c;
     /* |e_i| <= rtol (a_i + |x_i|): epsabs = rtol with scale_abs = a_i, a_y = 1 */
-    drv = gsl_odeiv2_driver_alloc_scaled_new(&ode, gsl_odeiv2_step_msbdf,
+    drv = gsl_odeiv2_driver_alloc_scaled_new(&ode, gsl_odeiv2_step_bsimp,
             GSL_MIN_DBL(p->step, 1e-4) * 1e-2, o->rtol, o->rtol, 1.0, 0.0, scale);
     if (drv == NULL) {
         st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory for the integrator");
@@ -767,7 +775,9 @@ static rigmat_status sim_nonlinear(rigmat_system *sys, const rigmat_lti *lin,
         if (n > 0) {
             int gs;
             plan_interval(p, p->nodes[n - 1].t, tn);
-            gsl_odeiv2_driver_reset(drv);
+            /* restart the step-size control where the input jumps or kinks */
+            if (p->nodes[n - 1].brk)
+                gsl_odeiv2_driver_reset(drv);
             t = p->nodes[n - 1].t;
             gs = gsl_odeiv2_driver_apply(drv, &t, tn, x);
             if (gs != GSL_SUCCESS || !finite_n(x, nx)) {
