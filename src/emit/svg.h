@@ -44,19 +44,18 @@ double rigmat_svg_nice_number(double x, int round);
 
 /* Tick marks of one axis. */
 typedef struct rigmat_svg_ticks {
-    double lo, hi;   /* the widened axis range: lo <= data min, hi >= data max */
-    double step;     /* linear: the tick spacing; log: 0 */
-    size_t count;    /* number of ticks, <= RIGMAT_SVG_MAX_TICKS */
+    double lo, hi;    /* the widened range: lo <= data min, hi >= data max (to 1e-9 of hi - lo) */
+    double step;      /* linear: the tick spacing; log: 0 */
+    size_t count;     /* number of ticks, <= RIGMAT_SVG_MAX_TICKS */
     double value[24]; /* the ticks, ascending, lo <= value <= hi */
-    int decimals;    /* linear: digits after the point that label every tick exactly */
+    int decimals;     /* linear: digits after the point that label every tick exactly */
 } rigmat_svg_ticks;
 #define RIGMAT_SVG_MAX_TICKS 24
 
 /* Linear ticks for the data range [min, max] with about `target` (>= 2)
- * ticks.  min > max is swapped; min == max is widened to a unit of its
- * magnitude.  Returns RIGMAT_EUSAGE for non-finite input, else RIGMAT_OK. */
-rigmat_status rigmat_svg_ticks_linear(double min, double max, size_t target,
-        rigmat_svg_ticks *t);
+ * ticks.  min > max is swapped; min == max is widened by half its
+ * magnitude each way (to [-1, 1] at zero).  Returns RIGMAT_EUSAGE for non-finite input, else RIGMAT_OK. */
+rigmat_status rigmat_svg_ticks_linear(double min, double max, size_t target, rigmat_svg_ticks *t);
 
 /* Log-10 ticks for the range [min, max], 0 < min <= max, finite: the range
  * widens to whole decades; ticks at each decade (every other one beyond
@@ -72,34 +71,31 @@ void rigmat_svg_tick_label(const rigmat_svg_ticks *t, double v, char *buf, size_
 
 /* ------------------------------------------------------------------ plots */
 
-typedef enum rigmat_svg_scale {
-    RIGMAT_SVG_LINEAR = 0,
-    RIGMAT_SVG_LOG10
-} rigmat_svg_scale;
+typedef enum rigmat_svg_scale { RIGMAT_SVG_LINEAR = 0, RIGMAT_SVG_LOG10 } rigmat_svg_scale;
 
 typedef struct rigmat_svg_axis {
     const char *label; /* "time"; NULL for none */
     const char *unit;  /* "s", "rad/s", "1"; NULL or "" for none; shown as "label [unit]" */
     rigmat_svg_scale scale;
-    int fixed;         /* 1: use min and max (still rounded out to ticks) */
-    double min, max;   /* with fixed; on a log axis both > 0 */
+    int fixed;       /* 1: show exactly min..max (a log axis widens to decades) */
+    double min, max; /* with fixed; on a log axis both > 0 */
 } rigmat_svg_axis;
 
 typedef enum rigmat_svg_marker {
     RIGMAT_SVG_MARK_NONE = 0,
-    RIGMAT_SVG_MARK_CROSS,   /* x: poles */
-    RIGMAT_SVG_MARK_CIRCLE,  /* o: zeros */
+    RIGMAT_SVG_MARK_CROSS,  /* x: poles */
+    RIGMAT_SVG_MARK_CIRCLE, /* o: zeros */
     RIGMAT_SVG_MARK_SQUARE,
     RIGMAT_SVG_MARK_TRIANGLE
 } rigmat_svg_marker;
 
 typedef struct rigmat_svg_series {
-    const char *name;        /* legend entry; NULL leaves it out of the legend */
-    const double *x, *y;     /* n points; borrowed; may be NULL when n == 0 */
+    const char *name;    /* legend entry; NULL leaves it out of the legend */
+    const double *x, *y; /* n points; borrowed; may be NULL when n == 0 */
     size_t n;
-    int line;                /* 1: join the points */
+    int line; /* 1: join the points */
     rigmat_svg_marker marker;
-    size_t style;            /* colour and dash index (cycles); same index, same look */
+    size_t style; /* colour and dash index (cycles); same index, same look */
 } rigmat_svg_series;
 
 typedef enum rigmat_svg_frame {
@@ -109,22 +105,22 @@ typedef enum rigmat_svg_frame {
 } rigmat_svg_frame;
 
 typedef struct rigmat_svg_plot {
-    const char *title;       /* NULL for none */
+    const char *title; /* NULL for none */
     rigmat_svg_axis x, y;
     rigmat_svg_frame frame;
     const rigmat_svg_series *series; /* nseries entries; borrowed */
     size_t nseries;
-    int zero_line;           /* 1: a faint line at y = 0 (linear y only) */
+    int zero_line; /* 1: a faint line at y = 0 (linear y only) */
 } rigmat_svg_plot;
 
 typedef struct rigmat_svg_figure {
     const rigmat_svg_plot *plots; /* nplots panels, row by row; borrowed */
     size_t nplots;
-    size_t columns;          /* panels per row; 0 means 1 */
-    double panel_width_px;   /* 0 = 460 */
-    double panel_height_px;  /* 0 = 300 */
-    const char *caption;     /* a line above the panels; NULL for none */
-    int standalone;          /* 1: XML declaration and namespace, for a .svg file;
+    size_t columns;         /* panels per row; 0 means 1 */
+    double panel_width_px;  /* 0 = 460 */
+    double panel_height_px; /* 0 = 300 */
+    const char *caption;    /* a line above the panels; NULL for none */
+    int standalone;         /* 1: XML declaration and namespace, for a .svg file;
                                 0: an <svg> element to place inline in HTML */
 } rigmat_svg_figure;
 
