@@ -79,10 +79,12 @@ typedef enum rigmat_stability {
 /* Tolerances, all relative and dimensionless; rigmat_modes_settings_default
  * gives the documented defaults. */
 typedef struct rigmat_modes_settings {
-    double rtol;       /* PBH rank, null spaces, reach and sight; default 1e-8 */
-    double stab_rtol;  /* marginal band and zeros "at 0", relative to omega_b; default 1e-6 */
-    double inf_rtol;   /* a zero beyond omega_b / inf_rtol is infinite; default 1e-10 */
-    double share_min;  /* states below this share are not listed in text/JSON; default 0.01 */
+    double rtol;         /* PBH rank measure, reach, sight, no-path test; default 1e-10 */
+    double null_rtol;    /* null space of A_b - sI: sigma <= null_rtol omega_b; default 1e-8 */
+    double cluster_rtol; /* eigenvalues closer than this times omega_b are one; default 1e-7 */
+    double stab_rtol;    /* marginal band and zeros "at 0", relative to omega_b; default 1e-6 */
+    double inf_rtol;     /* a zero beyond omega_b / inf_rtol is infinite; default 1e-10 */
+    double share_min;    /* states below this share are not listed in text/JSON; default 0.01 */
 } rigmat_modes_settings;
 
 rigmat_modes_settings rigmat_modes_settings_default(void);
