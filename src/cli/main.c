@@ -21,6 +21,7 @@ CMD(trim)
 CMD(discretize)
 CMD(modes)
 CMD(parts)
+CMD(simulate)
 #undef CMD
 
 struct command {
@@ -34,6 +35,7 @@ static const struct command commands[] = {
     { "linearize", cmd_linearize, "continuous A, B, C, D at the operating point" },
     { "discretize", cmd_discretize, "sampled model and Kalman noise model at a rate" },
     { "modes", cmd_modes, "eigenvalues, modes, reach and sight, zeros, DC gain" },
+    { "simulate", cmd_simulate, "one response: nonlinear, linear or sampled; validity range" },
     { "trim", cmd_trim, "solve the operating point; print it and the residual" },
     { "parts", cmd_parts, "list the catalog, or show one part" },
 };

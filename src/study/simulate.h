@@ -106,6 +106,12 @@ rigmat_status rigmat_wave_parse(const char *text, const char *unit, size_t input
         rigmat_error *err);
 void rigmat_wave_release(rigmat_wave *w);
 
+/* Parse a value for a signal whose SI unit is unit ("5 deg" for "rad",
+ * "20 mm/s" for "m/s"; a bare number is SI) into *v.  RIGMAT_EUSAGE with
+ * a message naming what (e.g. "offset") for a wrong unit or bad text. */
+rigmat_status rigmat_sim_value(const char *text, const char *unit, const char *what, double *v,
+        rigmat_error *err);
+
 /* The deviation of one input at time t from the waves on that input
  * (impulses excluded); right-continuous at a step. */
 double rigmat_wave_eval(const rigmat_wave *waves, size_t nwaves, size_t input, double t_s);
