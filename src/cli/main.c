@@ -22,6 +22,7 @@ CMD(discretize)
 CMD(modes)
 CMD(parts)
 CMD(simulate)
+CMD(report)
 #undef CMD
 
 struct command {
@@ -38,6 +39,7 @@ static const struct command commands[] = {
     { "simulate", cmd_simulate, "one response: nonlinear, linear or sampled; validity range" },
     { "trim", cmd_trim, "solve the operating point; print it and the residual" },
     { "parts", cmd_parts, "list the catalog, or show one part" },
+    { "report", cmd_report, "HTML report with plots: modes, responses, validity, sampled model" },
 };
 
 /* Exit codes, documented in README.md. */
