@@ -153,4 +153,12 @@ void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigm
  * linearized it says so (text) or writes null (json). */
 void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, struct cli_json *j);
 
+/* ------------------------------------------------------- modes summary */
+
+/* The one-line modes summary (src/study/modes.h) that `check` and
+ * `linearize` print at the end of their text: "\nmodes: ...\n" to
+ * env->out.  l may be NULL: the model is then linearized here, quietly.
+ * When the analysis fails it says so on that line (src/cli/cmd_modes.c). */
+void cli_modes_summary(struct cli_env *env, const rigmat_model *m, const rigmat_lti *l);
+
 #endif /* RIGMAT_CLI_H */

@@ -525,6 +525,7 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
     else {
         check_text(env->out, m, rate_hz);
         check_sign_table(env, m, 0, NULL);
+        cli_modes_summary(env, m, NULL);
     }
     rigmat_model_free(m);
     return st;

@@ -105,6 +105,7 @@ rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
             fprintf(env->err, "rigmat linearize: error: the result is not finite\n");
     } else {
         linearize_text(env->out, m, lti);
+        cli_modes_summary(env, m, lti);
     }
     rigmat_lti_free(lti);
     rigmat_model_free(m);
