@@ -135,6 +135,11 @@ if "$R" --help | grep -q '^  simulate'; then
     printf 'time,push\n0,0\n0.05,2\n0.1,0\n' >"$T/push.csv"
     expect 0 "signal from a file" -- "$R" simulate "$C" --input push=file:"$T/push.csv" --duration 0.1s --step 25ms
     if [ "$(sed -n 4p "$T/out" | cut -d, -f4)" = 2 ]; then ok; else bad "file signal at t = 0.05 s"; fi
+    expect 0 "simulate --plot" -- "$R" simulate "$C" --input push=sine:1N@2Hz --plot "$T/sim.svg"
+    if [ -s "$T/sim.svg" ] && [ -s "$T/out" ]; then ok; else bad "--plot wrote nothing"; fi
+    if command -v xmllint >/dev/null 2>&1; then
+        if xmllint --noout "$T/sim.svg" 2>"$T/err"; then ok; else bad "--plot SVG is not well-formed XML"; fi
+    fi
     expect 0 "validity" -- "$R" simulate "$C" --validity --horizon 0.5s
     has "$T/out" "within 5 %" "validity states its criterion"
     expect 0 "validity json" -- "$R" simulate "$C" --validity --format json --criterion 0.02
@@ -147,7 +152,8 @@ if "$R" --help | grep -q '^  simulate'; then
         '  along: {type: slider, parent: rod, child: bead, axis: [1, 0]}' \
         'operating_point:' '  coordinates: {along: 50 mm}' '  rates: {along: -0.5 m/s}' \
         '  inputs: {}' '  solve: []' >"$T/bead.yaml"
-    expect 3 "failure part-way" -- "$R" simulate "$T/bead.yaml" --duration 0.2s --step 25ms
+    expect 3 "failure part-way" -- "$R" simulate "$T/bead.yaml" --duration 0.2s --step 25ms --plot "$T/bead.svg"
+    if [ -e "$T/bead.svg" ]; then bad "failed simulation wrote a plot"; else ok; fi
     has "$T/err" "fails at t = 0.1 s" "failure names the time"
     has "$T/err" "singular" "failure names the cause"
     if [ -s "$T/out" ]; then bad "failed simulation printed rows"; else ok; fi
