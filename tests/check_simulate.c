@@ -385,6 +385,54 @@ START_TEST(nonlinear_stops_where_the_mass_matrix_turns_singular)
 }
 END_TEST
 
+/* The integrator's step budget per interval is the "cannot meet the
+ * tolerance" failure: 3 steps cannot carry a swinging pendulum over 0.1 s
+ * at 1e-12. */
+START_TEST(nonlinear_reports_a_tolerance_it_cannot_meet)
+{
+    rigmat_model *m = tm_new("pendulum");
+    const size_t bob = tm_body(m, "bob", 0.37, 0.0021, 0, -0.29);
+    rigmat_system *sys = NULL;
+    rigmat_lti *l;
+    rigmat_sim_opts o = rigmat_sim_opts_default();
+    double off[2] = { 1.2, 0.0 };
+    rigmat_sim_case c = { off, NULL, 0 };
+    rigmat_sim_result r;
+    rigmat_error e;
+    rigmat_wave w;
+
+    (void)tm_joint(m, "swing", RIGMAT_JOINT_HINGE, 0, bob);
+    ck_assert_int_eq(tm_build(m, NULL, 0), RIGMAT_OK);
+    l = tm_lin(m, NULL);
+    memset(&e, 0, sizeof e);
+    ck_assert_int_eq(rigmat_system_alloc(m, &sys, &e), RIGMAT_OK);
+    rigmat_sim_result_init(&r);
+    o.duration_s = 1.0;
+    o.step_s = 0.1;
+    o.rtol = 1e-12;
+    o.max_steps = 3;
+    ck_assert_int_eq(rigmat_simulate(sys, l, &o, &c, &r, &e), RIGMAT_ENUMERIC);
+    ck_assert_ptr_nonnull(strstr(e.message, "cannot meet the tolerance"));
+    ck_assert_int_eq(r.complete, 0);
+    ck_assert_uint_ge(r.nrows, 1);
+    ck_assert_rel(r.x[0], 1.2, 0);
+    /* a malformed signal is refused before anything runs */
+    memset(&w, 0, sizeof w);
+    w.kind = RIGMAT_WAVE_TABLE;
+    c.waves = &w;
+    c.nwaves = 1;
+    o.max_steps = 1000;
+    ck_assert_int_eq(rigmat_simulate(sys, l, &o, &c, &r, &e), RIGMAT_EUSAGE);
+    w.kind = RIGMAT_WAVE_STEP;
+    w.input = 0; /* the pendulum has no inputs */
+    ck_assert_int_eq(rigmat_simulate(sys, l, &o, &c, &r, &e), RIGMAT_EUSAGE);
+    rigmat_sim_result_release(&r);
+    rigmat_system_free(sys);
+    rigmat_lti_free(l);
+    tm_free(m);
+}
+END_TEST
+
 START_TEST(signals_parse_with_units_and_refuse_wrong_ones)
 {
     rigmat_wave w;
@@ -536,6 +584,7 @@ Suite *simulate_suite(void)
     tcase_add_test(tc, sampled_matches_linear_at_the_sample_instants);
     tcase_add_test(tc, sampled_step_must_be_a_multiple_of_the_period);
     tcase_add_test(tc, nonlinear_stops_where_the_mass_matrix_turns_singular);
+    tcase_add_test(tc, nonlinear_reports_a_tolerance_it_cannot_meet);
     tcase_add_test(tc, signals_parse_with_units_and_refuse_wrong_ones);
     tcase_add_test(tc, validity_range_of_a_hanging_pendulum);
     tcase_add_test(tc, validity_of_a_linear_rig_is_unbounded);

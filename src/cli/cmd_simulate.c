@@ -624,7 +624,16 @@ rigmat_status cmd_simulate(int argc, char **argv, struct cli_env *env)
           "--validity: relative error bound (default 0.05)" },
         { 0, "horizon", CLI_OPT_STRING, &a.horizon, "TIME",
           "--validity: compared time span (default 1 s)" },
-        CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
+        /* the common rows (CLI_COMMON_ROWS), with this command's formats */
+        { 0, "set", CLI_OPT_LIST, &c.sets, "PATH=VALUE",
+          "override a model value, with units (repeatable)" },
+        { 0, "format", CLI_OPT_STRING, &c.format, "FORMAT",
+          "csv (default) or json; with --validity text (default) or json" },
+        { 'o', "output", CLI_OPT_STRING, NULL, "FILE",
+          "write the result to FILE (whole or not at all)" },
+        { 0, "catalog", CLI_OPT_STRING, &c.catalog, "DIR", "look for catalog parts in DIR first" },
+        { 'h', "help", CLI_OPT_FLAG, &c.help, NULL, "show this help" },
+        CLI_OPT_END_ROW };
     static const char *const formats[] = { "csv", "json", "text", NULL };
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;

@@ -426,10 +426,26 @@ static rigmat_status plan_build(struct plan *p, const rigmat_sim_opts *o, size_t
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
                 "%.0f output rows are more than the limit of %zu", floor(steps + 1),
                 o->max_rows);
-    for (k = 0; k < c->nwaves; k++)
-        if (c->waves[k].input >= nu)
-            return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "a signal drives input %zu of %zu",
-                    c->waves[k].input, nu);
+    for (k = 0; k < c->nwaves; k++) {
+        const rigmat_wave *w = &c->waves[k];
+        if (w->input >= nu)
+            return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "signal %zu drives input %zu of %zu", k,
+                    w->input, nu);
+        if (!isfinite(w->value) || !(w->t0_s >= 0) || !isfinite(w->t0_s) ||
+                (w->kind == RIGMAT_WAVE_SINE &&
+                        (!(w->frequency_hz > 0) || !isfinite(w->frequency_hz))))
+            return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+                    "signal %zu: a value, start time or frequency is out of range", k);
+        if (w->kind == RIGMAT_WAVE_TABLE) {
+            if (w->ntable == 0 || w->table_t_s == NULL || w->table_v == NULL)
+                return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "signal %zu: an empty table", k);
+            for (i = 0; i < w->ntable; i++)
+                if (!isfinite(w->table_t_s[i]) || !isfinite(w->table_v[i]) ||
+                        (i > 0 && !(w->table_t_s[i] > w->table_t_s[i - 1])))
+                    return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "signal %zu: table row %zu is not "
+                            "finite or its time does not increase", k, i);
+        }
+    }
     p->nrows = (size_t)floor(steps + 0.5) + 1;
     p->step = o->step_s;
     p->snap = 1e-9 * o->step_s;
@@ -734,6 +750,8 @@ static rigmat_status sim_nonlinear(rigmat_system *sys, const rigmat_lti *lin,
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the nonlinear simulation needs the system");
     if (!(o->rtol > 0) || !(o->rtol < 1))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the tolerance %g is not in (0, 1)", o->rtol);
+    if (!(o->atol_floor > 0) || !isfinite(o->atol_floor) || o->max_steps == 0)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "atol_floor and max_steps must be positive");
     memset(&c, 0, sizeof c);
     c.sys = sys;
     c.plan = p;
