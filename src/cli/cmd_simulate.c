@@ -12,7 +12,8 @@
  *   simulated   "nonlinear" | "linear" | "sampled"
  *   duration, step (s), rate (Hz, sampled only), tolerance (nonlinear only)
  *   complete    true (a partial table, see below, says false)
- *   stopped_at  s: the time the run reached
+ *   stopped_at  s: the time the run reached (the end, or the last good step
+ *               before a failure)
  *   time        [t_k]
  *   x, u, y     one row per time, absolute values, in the head's order
  *
