@@ -21,6 +21,8 @@ CMD(trim)
 CMD(discretize)
 CMD(modes)
 CMD(parts)
+CMD(simulate)
+CMD(report)
 #undef CMD
 
 struct command {
@@ -34,8 +36,10 @@ static const struct command commands[] = {
     { "linearize", cmd_linearize, "continuous A, B, C, D at the operating point" },
     { "discretize", cmd_discretize, "sampled model and Kalman noise model at a rate" },
     { "modes", cmd_modes, "eigenvalues, modes, reach and sight, zeros, DC gain" },
+    { "simulate", cmd_simulate, "one response: nonlinear, linear or sampled; validity range" },
     { "trim", cmd_trim, "solve the operating point; print it and the residual" },
     { "parts", cmd_parts, "list the catalog, or show one part" },
+    { "report", cmd_report, "HTML report with plots: modes, responses, validity, sampled model" },
 };
 
 /* Exit codes, documented in README.md. */
