@@ -633,13 +633,18 @@ START_TEST(part_lookup_order)
     ck_assert_int_eq(rigmat_load_part_path("x", p, &opt, &found, &e), RIGMAT_OK);
     ck_assert_ptr_nonnull(strstr(found, "/first/x.yaml"));
     free(found);
-    ck_assert_int_eq(rigmat_load_part_path("y", p, &opt, &found, &e), RIGMAT_EMODEL);
+    /* not found: an input error, whose hint names every folder searched */
+    ck_assert_int_eq(rigmat_load_part_path("y", p, &opt, &found, &e), RIGMAT_EIO);
     ck_assert_ptr_null(found);
     ck_assert_ptr_nonnull(strstr(e.message, "not found"));
-    ck_assert_int_eq(rigmat_load_part_path("a/./x", p, &opt, &found, &e), RIGMAT_EMODEL);
-    ck_assert_int_eq(rigmat_load_part_path("", p, &opt, &found, &e), RIGMAT_EMODEL);
-    ck_assert_int_eq(rigmat_load_part_path("x/", p, &opt, &found, &e), RIGMAT_EMODEL);
-    ck_assert_int_eq(rigmat_load_part_path("x y", p, &opt, &found, &e), RIGMAT_EMODEL);
+    ck_assert_ptr_nonnull(strstr(e.hint, "/first, "));
+    ck_assert_ptr_nonnull(strstr(e.hint, "proj/models, "));
+    ck_assert_ptr_nonnull(strstr(e.hint, "proj/models/../catalog"));
+    /* not a part name at all: bad usage */
+    ck_assert_int_eq(rigmat_load_part_path("a/./x", p, &opt, &found, &e), RIGMAT_EUSAGE);
+    ck_assert_int_eq(rigmat_load_part_path("", p, &opt, &found, &e), RIGMAT_EUSAGE);
+    ck_assert_int_eq(rigmat_load_part_path("x/", p, &opt, &found, &e), RIGMAT_EUSAGE);
+    ck_assert_int_eq(rigmat_load_part_path("x y", p, &opt, &found, &e), RIGMAT_EUSAGE);
     remove_tree(tmp);
     free(tmp);
 }

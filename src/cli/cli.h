@@ -46,6 +46,11 @@ struct cli_opt {
 
 #define CLI_OPT_END_ROW { 0, NULL, CLI_OPT_END, NULL, NULL, NULL }
 
+/* The folder of the running program into buf (from /proc/self/exe, else
+ * from argv0 when it names a path), or NULL when it cannot be found
+ * (src/cli/exe_dir.c). */
+const char *cli_exe_dir(const char *argv0, char *buf, size_t len);
+
 /* The options most commands take: --set, --format, -o, --catalog. */
 struct cli_common {
     struct cli_list sets;
