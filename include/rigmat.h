@@ -433,7 +433,7 @@ void rigmat_lti_free(rigmat_lti *s);
 /* (src/model/layout.h, src/mech/mechanics.h, src/mech/linearize.h, src/mech/trim.h) */
 
 /* Fill m->layout from the model: names, units, kinds and order of x, u and
- * y (DESIGN.md section 2), after the optional states/inputs/outputs lists
+ * y (README.md, "Rules worth knowing"), after the optional states/inputs/outputs lists
  * and `order: interleaved`, and the order hash.  Also checks that the
  * model's equations can be built (driven joints give every derivative the
  * model needs; a `states` list leaves out only cyclic coordinates).

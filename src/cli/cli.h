@@ -149,7 +149,7 @@ void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigm
 
 /* ------------------------------------------------------- sign table */
 
-/* The sign table of DESIGN.md section 2 for `rigmat check`
+/* The sign table of README.md ("Signs and frames") for `rigmat check`
  * (src/cli/cmd_check_signs.c): for each input, the sign of the first
  * non-zero response of every coordinate (its acceleration, or a lower
  * derivative for a driven input) and of every sensor, from the

@@ -6,7 +6,7 @@
  * the standard deviation per sample of every noise source at --rate, and
  * the operating point.  Text or JSON (the same content).
  *
- * Noise per sample (DESIGN.md "Noise, one convention"): a density N
+ * Noise per sample (README.md, "Noise convention"): a density N
  * averaged over a sample T has sd N/sqrt(T); through a first-order
  * bandwidth f_c its variance is N^2 pi f_c; `noise` is already per
  * sample; a quantization step q adds q^2/12 (uniform rounding error,
@@ -146,7 +146,7 @@ static void joint_relations(const rigmat_model *m, const rigmat_joint *j, char *
                 child, j->at_m[0], j->at_m[1], j->name, j->axis[0], j->axis[1], parent);
         break;
     case RIGMAT_JOINT_ROLLING:
-        /* worked sign example (DESIGN.md section 2): +0.1 m of travel on a
+        /* worked sign example (README.md, "Signs and frames"): +0.1 m of travel on a
          * 0.061 m wheel turns it by -0.1/0.061 = -1.64 rad, clockwise */
         snprintf(angle, alen, "%s angle = %s%s%s%s%s / %.6g m", child, base, JOIN(base, off),
                 off, (base[0] || off[0]) ? " - " : "-", j->name, j->radius_m);
