@@ -129,7 +129,8 @@ END_TEST
 
 START_TEST(prewarped_tustin_is_exact_at_its_frequency)
 {
-    /* mpmath at 40 digits, C (j5 I - A)^-1 B: G_c(j5) = -0.030503978779840849 - 0.019893899204244032j,
+    /* mpmath at 40 digits, C (j5 I - A)^-1 B:
+     * G_c(j5) = -0.030503978779840849 - 0.019893899204244032j,
      * and the prewarped map matches it at w1 = 5 rad/s */
     rigmat_lti *s = ref2();
     const double T = 0.1, w1 = 5.0;

@@ -308,7 +308,8 @@ static double complex geared_tf(double complex s)
 {
     const double c = 2, N = 5, pol = -1, eta = 0.8, Kt = 0.0274, Ke = 0.0262, R = 1.9,
                  L = 0.61e-3, b = 3.7e-6, J = 4.0e-3 + c * N * N * 1.1e-6;
-    return c * N * pol * eta * Kt / ((J * s + c * N * N * b) * (L * s + R) + c * N * N * eta * Kt * Ke);
+    return c * N * pol * eta * Kt /
+            ((J * s + c * N * N * b) * (L * s + R) + c * N * N * eta * Kt * Ke);
 }
 
 START_TEST(a_geared_drive_follows_the_motor_and_gearbox_rules)
@@ -320,7 +321,8 @@ START_TEST(a_geared_drive_follows_the_motor_and_gearbox_rules)
     size_t j, k;
 
     for (k = 0; k < 4; k++) {
-        const double complex s = 1.5 + (0.4 + 2.1 * (double)k) * pow(10.0, (double)k) * (double complex)I;
+        const double complex s =
+                1.5 + (0.4 + 2.1 * (double)k) * pow(10.0, (double)k) * (double complex)I;
         const double complex want = geared_tf(s);
         double complex got, gotd;
         for (j = 0; j < 3; j++) {
