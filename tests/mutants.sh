@@ -17,12 +17,15 @@
 # Environment: MUTANTS_LIST (default tests/mutants.list), MUTANTS_DIR (the
 # scratch folder; default a new temporary one, removed afterwards),
 # PYTHON (default /usr/bin/python3), MAKE (default make), MUTANTS_JOBS
-# (parallel jobs for the first build, default 2).
+# (parallel jobs for the first build, default 2), MUTANTS_TIMEOUT (seconds
+# per test case, default 300).  A test that times out does not count as a
+# catch: the run stops and says so (a busy machine, or a mutant that loops).
 set -u
 LIST=${MUTANTS_LIST:-tests/mutants.list}
 PY=${PYTHON:-/usr/bin/python3}
 MK=${MAKE:-make}
 JOBS=${MUTANTS_JOBS:-2}
+TIMEOUT=${MUTANTS_TIMEOUT:-300}
 TOP=$(pwd)
 TAB=$(printf '\t')
 
@@ -60,11 +63,15 @@ SUITES=$(sed -n 's/^RIGMAT_SUITE(\(.*\))$/\1/p' "$S/build/suites.h")
 [ -n "$SUITES" ] || die "no suites found in $S/build/suites.h"
 
 # run_suites: 0 when every suite passes, 1 at the first one that fails
-# (its name in $failed_by).
+# (its name in $failed_by); a timeout stops the run.
 run_suites() {
     for s in $SUITES; do
-        if ! (cd "$S/tests" && CK_RUN_SUITE=$s CK_VERBOSITY=silent CK_DEFAULT_TIMEOUT=60 \
+        if ! (cd "$S/tests" && CK_RUN_SUITE=$s CK_VERBOSITY=normal CK_DEFAULT_TIMEOUT=$TIMEOUT \
                 ../build/plain/check_rigmat) </dev/null >"$S/suite.log" 2>&1; then
+            if grep -q "Test timeout expired" "$S/suite.log"; then
+                grep "Test timeout expired" "$S/suite.log" >&2
+                die "suite $s timed out${1:+ under $1} (raise MUTANTS_TIMEOUT on a busy machine)"
+            fi
             failed_by="suite $s"
             return 1
         fi
@@ -122,6 +129,7 @@ with open(path, "w", encoding="utf-8") as f:
 EOF
 }
 
+start=$(date +%s)
 total=0
 caught=0
 survived=0
@@ -156,7 +164,7 @@ while IFS= read -r line || [ -n "$line" ]; do
         cat "$S/build.log" >&2
         die "$LIST:$lineno: the mutant does not compile (a mutant must be a valid program)"
     fi
-    if ! run_suites; then
+    if ! run_suites "$LIST:$lineno"; then
         :
     elif [ -n "$extra" ] && ! run_extra "$extra"; then
         :
@@ -174,6 +182,6 @@ done <"$LIST"
 
 # the restored tree builds again (keeps a kept scratch folder usable)
 build build/plain/check_rigmat || die "the restored sources do not build"
-echo "mutants: $total listed, $caught caught, $survived survived"
+echo "mutants: $total listed, $caught caught, $survived survived ($(($(date +%s) - start)) s)"
 [ "$total" -gt 0 ] || die "the list is empty"
 [ "$survived" = 0 ]
