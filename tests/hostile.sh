@@ -5,8 +5,8 @@
 # entry of tests/hostile/ (files, and the folder that stands in for a model)
 # and on large inputs generated here into HOSTILE_GEN (default
 # build/hostile), so megabytes never sit in the repository.  Each entry is
-# given to `check`, and to `linearize` and `discretize --rate 100Hz` when
-# `rigmat --help` lists them.  Every run is bounded: address space
+# given to `check`, `linearize` and `discretize --rate 100Hz`.  Every run
+# is bounded: address space
 # HOSTILE_VMEM_KB (default 1 GiB), wall time HOSTILE_TIMEOUT seconds
 # (default 10).  A run passes when
 #   - it exits 1 (bad model) or 4 (input/output error): not 0, not a
