@@ -65,7 +65,7 @@ typedef struct rigmat_error {
     rigmat_loc where;  /* the offending value, if the failure has a place */
     rigmat_loc within; /* the entry that encloses it, if any */
     char message[256]; /* lowercase, no full stop */
-    char hint[160];    /* optional; empty when there is none */
+    char hint[512];    /* optional; empty when there is none */
     const char *src_file; /* where rigmat raised it, for developers */
     int src_line;
 } rigmat_error;
@@ -133,6 +133,7 @@ typedef struct rigmat_options {
     const char *catalog_dir;    /* --catalog, or NULL */
     const char *catalog_env;    /* $RIGMAT_CATALOG, or NULL */
     const char *catalog_share;  /* installed share folder, or NULL */
+    const char *catalog_exe;    /* folder of the running program (its ../catalog), or NULL */
     double trim_tol;         /* steady-state residual tolerance (SI), default 1e-10 */
     size_t trim_max_iter;    /* default 100 */
     double rank_rtol;        /* relative singular-value threshold, default 1e-9 */
@@ -447,7 +448,7 @@ void rigmat_lti_free(rigmat_lti *s);
 /* (src/model/layout.h, src/mech/mechanics.h, src/mech/linearize.h, src/mech/trim.h) */
 
 /* Fill m->layout from the model: names, units, kinds and order of x, u and
- * y (DESIGN.md section 2), after the optional states/inputs/outputs lists
+ * y (README.md, "Rules worth knowing"), after the optional states/inputs/outputs lists
  * and `order: interleaved`, and the order hash.  rigmat_model_load calls
  * it; it never builds the equations of motion (a `states` list may leave
  * out only coordinates; whether they are cyclic is

@@ -370,7 +370,9 @@ START_TEST(datasheet_motor_figures)
     rigmat_model *m;
     const rigmat_motor *mo;
 
-    /* REFERENCES.md section 6 check values: V 12, I_stall 5, T_stall 0.18,
+    /* common practice (README.md, "Motors: gearbox, efficiency, count", worked):
+     * R = V/I_stall, Kt = T/I_stall, Ke = (V - R I_nl)/w_nl, b = Kt I_nl/w_nl;
+     * V 12, I_stall 5, T_stall 0.18,
      * I_nl 0.2, w_nl 320 rad/s = 3055.7749073643904 rpm */
     snprintf(text, sizeof text, "%s    rated_voltage: 12 V\n    stall_torque: 0.18 N*m\n"
             "    stall_current: 5 A\n    no_load_speed: 3055.7749073643904 rpm\n"
@@ -396,7 +398,8 @@ START_TEST(datasheet_output_figures_move_to_motor)
     rigmat_model *m;
     const rigmat_motor *mo;
 
-    /* the same motor behind N = 20, eta = 0.8 (REFERENCES.md section 6):
+    /* the same motor behind N = 20, eta = 0.8 (common practice: T_out = eta N T_m,
+     * w_out = w_m / N):
      * output stall torque 0.18*20*0.8 = 2.88 N*m, output speed 16 rad/s */
     snprintf(text, sizeof text, "%s    rated_voltage: 12 V\n    stall_torque: 2.88 N*m\n"
             "    stall_current: 5 A\n    no_load_speed: 16 rad/s\n"
@@ -648,13 +651,18 @@ START_TEST(part_lookup_order)
     ck_assert_int_eq(rigmat_load_part_path("x", p, &opt, &found, &e), RIGMAT_OK);
     ck_assert_ptr_nonnull(strstr(found, "/first/x.yaml"));
     free(found);
-    ck_assert_int_eq(rigmat_load_part_path("y", p, &opt, &found, &e), RIGMAT_EMODEL);
+    /* not found: an input error, whose hint names every folder searched */
+    ck_assert_int_eq(rigmat_load_part_path("y", p, &opt, &found, &e), RIGMAT_EIO);
     ck_assert_ptr_null(found);
     ck_assert_ptr_nonnull(strstr(e.message, "not found"));
-    ck_assert_int_eq(rigmat_load_part_path("a/./x", p, &opt, &found, &e), RIGMAT_EMODEL);
-    ck_assert_int_eq(rigmat_load_part_path("", p, &opt, &found, &e), RIGMAT_EMODEL);
-    ck_assert_int_eq(rigmat_load_part_path("x/", p, &opt, &found, &e), RIGMAT_EMODEL);
-    ck_assert_int_eq(rigmat_load_part_path("x y", p, &opt, &found, &e), RIGMAT_EMODEL);
+    ck_assert_ptr_nonnull(strstr(e.hint, "/first, "));
+    ck_assert_ptr_nonnull(strstr(e.hint, "proj/models, "));
+    ck_assert_ptr_nonnull(strstr(e.hint, "proj/models/../catalog"));
+    /* not a part name at all: bad usage */
+    ck_assert_int_eq(rigmat_load_part_path("a/./x", p, &opt, &found, &e), RIGMAT_EUSAGE);
+    ck_assert_int_eq(rigmat_load_part_path("", p, &opt, &found, &e), RIGMAT_EUSAGE);
+    ck_assert_int_eq(rigmat_load_part_path("x/", p, &opt, &found, &e), RIGMAT_EUSAGE);
+    ck_assert_int_eq(rigmat_load_part_path("x y", p, &opt, &found, &e), RIGMAT_EUSAGE);
     remove_tree(tmp);
     free(tmp);
 }

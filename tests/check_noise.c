@@ -1,5 +1,6 @@
 /* check_noise.c - Qd, Rd and the cross-covariance (src/sample/noise.c) against
- * closed forms, 60-digit references and the conventions of DESIGN.md. */
+ * closed forms, 60-digit references and the conventions of README.md ("Noise
+ * convention"). */
 #include "noise.h"
 #include "testutil.h"
 
@@ -67,7 +68,7 @@ START_TEST(double_integrator_closed_form)
     /* Bar-Shalom, Li, Kirubarajan, "Estimation with Applications to Tracking and
      * Navigation", Wiley 2001, section 6.2.2: white acceleration noise of intensity q,
      * Qd = q [[T^3/3, T^2/2], [T^2/2, T]]; q = 2, T = 0.1 gives
-     * [[6.666666666666667e-4, 0.01], [0.01, 0.2]] (REFERENCES.md section 3) */
+     * [[6.666666666666667e-4, 0.01], [0.01, 0.2]] */
     const double a[] = { 0, 1, 0, 0 }, g[] = { 0, 1 };
     const double Ts[] = { 0.1, 0.005, 3.3 };
     gsl_matrix *A = tu_mat(2, 2, a), *G = tu_mat(2, 1, g);
@@ -93,7 +94,8 @@ END_TEST
 
 START_TEST(reference_two_state_value)
 {
-    /* shared REFERENCES.md section 3 ([C], Van Loan equals direct quadrature):
+    /* the integral of e^(A s) G q G^T e^(A^T s) over [0, T] by direct quadrature
+     * (scipy.integrate.quad_vec), equal to Van Loan's value:
      * A = [[0, 1], [-2, -3]], G = [0; 1], q = 1, T = 0.1 */
     const double a[] = { 0, 1, -2, -3 }, g[] = { 0, 1 }, q = 1.0;
     const double want[] = { 2.667590732444895e-4, 3.707178875092714e-3, 3.707178875092714e-3,
@@ -243,7 +245,7 @@ END_TEST
 
 START_TEST(sensor_variances_follow_the_convention)
 {
-    /* DESIGN.md section 3, "Noise, one convention": density N (intensity N^2):
+    /* README.md, "Noise convention": density N (intensity N^2):
      * sample average over T -> N^2 / T; first-order bandwidth f_c -> N^2 pi f_c;
      * resolution q -> q^2 / 12 (Widrow, Kollar, Liu 1996); noise sd -> sd^2 */
     const double deg = M_PI / 180.0, T = 0.005;
@@ -263,7 +265,8 @@ START_TEST(sensor_variances_follow_the_convention)
     /* python3: 0.01*math.pi/180/math.sqrt(0.005) */
     ck_assert_rel(sqrt(a.total_var), 0.00246826829897687, 1e-15);
     ck_assert_rel(e.resolution_var, (2 * M_PI / 48) * (2 * M_PI / 48) / 12, 1e-15);
-    /* REFERENCES.md section 7: a 4096-count encoder has sigma = 4.428221104087446e-4 rad */
+    /* B. Widrow, I. Kollar, M.-C. Liu, IEEE Trans. Instrum. Meas. 45(2), 1996: sigma =
+     * q/sqrt(12); a 4096-count encoder, q = 2 pi/4096: 4.428221104087446e-4 rad (mpmath) */
     ck_assert_rel(sqrt(rigmat_noise_sensor(0, 0, 0, 2 * M_PI / 4096, T).total_var),
                   4.428221104087446e-4, 1e-15);
     ck_assert_rel(c.total_var, 0.02 * 0.02 + Ng * Ng / T + 1e-6 / 12, 1e-15);

@@ -26,6 +26,14 @@ has() { # has FILE PATTERN DESCRIPTION
 
 expect 0 "top-level help" -- "$R" --help
 has "$T/out" "usage: rigmat" "help goes to stdout"
+# Every command is listed and answers its own --help: a command that goes
+# missing fails here (no test below skips itself for want of a command).
+cp "$T/out" "$T/help.txt"
+for c in check linearize trim discretize parts; do
+    has "$T/help.txt" "^  $c " "top-level help lists '$c'"
+    expect 0 "$c --help" -- "$R" $c --help
+    has "$T/out" "usage: rigmat $c" "$c help text"
+done
 expect 0 "version" -- "$R" --version
 has "$T/out" "rigmat [0-9]" "version line"
 expect 2 "no command" -- "$R"
@@ -84,25 +92,195 @@ ln -s target.txt "$T/filelink"
 "$R" check "$DEMO" -o "$T/filelink" 2>"$T/err"
 if [ $? = 0 ] && [ -L "$T/filelink" ] && [ -s "$T/target.txt" ]; then ok; else bad "-o link to a file"; fi
 
-# Later stages, when present.
-if "$R" --help | grep -q '^  linearize'; then
-    expect 0 "linearize demo" -- "$R" linearize "$DEMO"
-    expect 0 "linearize demo json" -- "$R" linearize "$DEMO" --format json
-    has "$T/out" '"order_hash"' "linearize json has order_hash"
-    expect 1 "linearize bad model" -- "$R" linearize "$T/bad.yaml"
-fi
-if "$R" --help | grep -q '^  discretize'; then
-    expect 0 "discretize demo" -- "$R" discretize "$DEMO" --rate 200Hz
-    expect 0 "discretize demo json" -- "$R" discretize "$DEMO" --period 5ms --format json
-    has "$T/out" '"Qd"' "discretize json has Qd"
-    expect 2 "discretize without rate" -- "$R" discretize "$DEMO"
-    expect 2 "rate in rad/s" -- "$R" discretize "$DEMO" --rate 100rad/s
-    # regression (fuzz_pipeline): an overflowing variance is an error, never "inf"
-    expect 3 "overflowing Rd, text" -- "$R" discretize "$DEMO" --rate 100Hz --set sensors.gyro.gain=-1e308
-    has "$T/err" "not finite" "overflowing Rd message"
-    if grep -q inf "$T/out"; then bad "inf printed"; else ok; fi
-fi
-if "$R" --help | grep -q '^  modes'; then
+# linearize and discretize
+expect 0 "linearize demo" -- "$R" linearize "$DEMO"
+expect 0 "linearize demo json" -- "$R" linearize "$DEMO" --format json
+has "$T/out" '"order_hash"' "linearize json has order_hash"
+expect 1 "linearize bad model" -- "$R" linearize "$T/bad.yaml"
+expect 0 "discretize demo" -- "$R" discretize "$DEMO" --rate 200Hz
+expect 0 "discretize demo json" -- "$R" discretize "$DEMO" --period 5ms --format json
+has "$T/out" '"Qd"' "discretize json has Qd"
+expect 2 "discretize without rate" -- "$R" discretize "$DEMO"
+expect 2 "rate in rad/s" -- "$R" discretize "$DEMO" --rate 100rad/s
+# regression (fuzz_pipeline): an overflowing variance is an error, never "inf"
+expect 3 "overflowing Rd, text" -- "$R" discretize "$DEMO" --rate 100Hz --set sensors.gyro.gain=-1e308
+has "$T/err" "not finite" "overflowing Rd message"
+if grep -q inf "$T/out"; then bad "inf printed"; else ok; fi
+
+# JSON is read with Debian's python3, as the reference scripts read it.
+PY=${PYTHON:-/usr/bin/python3}
+# json_keys FILE KEY... : FILE is one JSON object holding every KEY
+json_keys() {
+    f=$1
+    shift
+    if "$PY" -c 'import json, sys
+d = json.load(open(sys.argv[1]))
+missing = [k for k in sys.argv[2:] if k not in d]
+sys.exit("missing keys: " + " ".join(missing) if missing else 0)' "$f" "$@" 2>"$T/pyerr"; then
+        ok
+    else
+        bad "JSON keys of $f: $(cat "$T/pyerr")"
+    fi
+}
+# json_val FILE EXPR : print EXPR, a Python expression on d (the JSON object)
+json_val() {
+    "$PY" -c 'import json, sys
+d = json.load(open(sys.argv[1]))
+print(eval(sys.argv[2]))' "$1" "$2"
+}
+# close GOT WANT RTOL DESCRIPTION : |GOT - WANT| <= RTOL |WANT|
+close() {
+    if awk -v a="$1" -v b="$2" -v t="$3" 'BEGIN { if (a == "" || b == "") exit 1
+            d = a - b; if (d < 0) d = -d; m = b < 0 ? -b : b; exit !(d <= t * m) }'; then
+        ok
+    else
+        bad "$4: got '$1', want '$2'"
+    fi
+}
+# below VALUE LIMIT DESCRIPTION : |VALUE| < LIMIT
+below() {
+    if awk -v v="$1" -v l="$2" 'BEGIN { if (v == "") exit 1; if (v < 0) v = -v; exit !(v < l) }'; then
+        ok
+    else
+        bad "$3: got '$1', want below $2"
+    fi
+}
+
+# trim: solves the operating point, prints it and the residual
+PM=examples/pendulum-motor.yaml
+expect 0 "trim the held pendulum" -- "$R" trim "$PM"
+has "$T/out" "^solved: drive" "trim names what it solved"
+has "$T/out" "a steady state" "trim says the point is steady"
+has "$T/out" "^  drive  *[0-9]" "trim prints the solved input"
+expect 0 "trim json" -- "$R" trim "$PM" --format json
+cp "$T/out" "$T/trim.json"
+json_keys "$T/trim.json" rigmat model kind order_hash states inputs outputs x u residual \
+    tolerance iterations converged free_unknowns unmet_equations
+has "$T/trim.json" '"kind": "trim"' "trim json kind"
+has "$T/trim.json" '"converged": true' "trim json converged"
+# The holding voltage, hand-derived from the example's figures: gravity's
+# torque at 20 deg from hanging is g sin(20 deg) (0.35 kg * 0.14 m (the
+# rod's middle) + 0.2 kg * 0.28 m (the bob)); at rest the motor gives
+# N eta Kt i = 50 * 0.66 * 0.0195 N*m/A * i against it, and V = R i with
+# R = 2.3 ohm (catalog/motors/gearmotor-12v-50.yaml; no back-EMF at rest).
+want_v=$(awk 'BEGIN { pi = atan2(0, -1); tq = 9.80665 * sin(20 * pi / 180) * (0.35 * 0.14 + 0.2 * 0.28)
+    printf "%.17g", 2.3 * tq / (50 * 0.66 * 0.0195) }')
+want_i=$(awk -v v="$want_v" 'BEGIN { printf "%.17g", v / 2.3 }')
+close "$(json_val "$T/trim.json" 'repr(d["u"][0])')" "$want_v" 1e-9 "trim: holding voltage"
+close "$(json_val "$T/trim.json" 'repr(d["x"][2])')" "$want_i" 1e-9 "trim: holding current"
+below "$(json_val "$T/trim.json" 'repr(d["residual"])')" 1e-10 "trim: residual below the tolerance"
+# a coordinate nothing fixes is named; a free cart is steady only with no net force
+cat >"$T/free.yaml" <<'YAML'
+rigmat: 1
+name: a cart free to rest anywhere
+bodies:
+  cart: {mass: 1 kg}
+joints:
+  rail: {type: slider, parent: ground, child: cart}
+forces:
+  push: {on: cart, direction: [1, 0]}
+operating_point:
+  inputs: {push: 0.7 N}
+  solve: [rail, push]
+YAML
+expect 0 "trim with a free coordinate" -- "$R" trim "$T/free.yaml" --format json
+cp "$T/out" "$T/free.json"
+got=$(json_val "$T/free.json" '" ".join(d["free_unknowns"])')
+[ "$got" = "rail.position" ] && ok || bad "free unknowns: '$got', want 'rail.position'"
+below "$(json_val "$T/free.json" 'repr(d["u"][0])')" 1e-12 "a free cart's steady push"
+expect 0 "trim text with a free coordinate" -- "$R" trim "$T/free.yaml"
+has "$T/out" "not fixed by the equations.*rail.position" "trim text names the free coordinate"
+# no steady state exists: exit 3, the unmet equation named, nothing on stdout
+sed -e 's/solve: \[rail, push\]/solve: [rail]/' "$T/free.yaml" >"$T/push.yaml"
+expect 3 "trim with no steady state" -- "$R" trim "$T/push.yaml"
+has "$T/err" "did not converge" "trim failure message"
+has "$T/err" "cannot be met: d(rail.velocity)/dt" "trim names the unmet equation"
+if [ -s "$T/out" ]; then bad "failed trim printed a result"; else ok; fi
+expect 2 "trim without a model" -- "$R" trim
+expect 1 "trim bad model" -- "$R" trim "$T/bad.yaml"
+expect 4 "trim missing file" -- "$R" trim "$T/nope.yaml"
+
+# parts: the catalog (exit codes as in README.md, "Commands")
+expect 0 "parts lists the catalog" -- "$R" parts
+has "$T/out" "^motors/gearmotor-24v-27 " "parts lists a motor"
+has "$T/out" "^sensors/gyro-mems " "parts lists a sensor"
+has "$T/out" "^wheels/wheel-122mm " "parts lists a wheel"
+expect 0 "parts json" -- "$R" parts --format json
+cp "$T/out" "$T/parts.json"
+json_keys "$T/parts.json" folders parts
+got=$(json_val "$T/parts.json" 'len(d["parts"]) > 5 and all(sorted(p) == ["file", "name", "summary"] for p in d["parts"])')
+[ "$got" = True ] && ok || bad "parts json: every entry carries name, summary and file"
+expect 0 "parts shows one part" -- "$R" parts motors/gearmotor-24v-27
+has "$T/out" "^part motors/gearmotor-24v-27 (" "parts names the part and its file"
+has "$T/out" "gear_ratio  *27" "parts shows the part's values"
+expect 0 "parts shows one part, json" -- "$R" parts motors/gearmotor-6v-100 --format json
+cp "$T/out" "$T/part.json"
+json_keys "$T/part.json" part file values
+# each value as written and in SI: rpm * 2 pi / 60 (common practice)
+written=$(json_val "$T/part.json" 'd["values"]["no_load_speed"]["written"].split()[0]')
+want=$(awk -v w="$written" 'BEGIN { printf "%.17g", w * 2 * atan2(0, -1) / 60 }')
+close "$(json_val "$T/part.json" 'repr(d["values"]["no_load_speed"]["si"])')" "$want" 1e-12 \
+    "parts: no-load speed in SI"
+expect 4 "parts: no such part" -- "$R" parts motors/no-such-motor
+has "$T/err" "part 'motors/no-such-motor' not found" "parts not-found message"
+expect 2 "parts: not a part name" -- "$R" parts ../catalog/motors/gearmotor-24v-27
+expect 2 "parts: absolute name" -- "$R" parts /etc/passwd
+expect 2 "parts: two names" -- "$R" parts motors/a motors/b
+expect 2 "parts: bad format" -- "$R" parts --format yamlish
+# --catalog comes first; a broken part file is a bad part (exit 1); the
+# not-found hint lists every folder searched, in order
+mkdir -p "$T/cat1/motors" "$T/cat2/motors"
+printf '# broken part\nresistance: [1 ohm\n' >"$T/cat1/motors/broken.yaml"
+printf '# a test motor\nresistance: 3 ohm\n' >"$T/cat2/motors/only-here.yaml"
+expect 1 "parts: a broken part file" -- "$R" parts motors/broken --catalog "$T/cat1"
+expect 0 "parts: --catalog" -- "$R" parts motors/only-here --catalog "$T/cat2"
+has "$T/out" "resistance  *3 ohm" "parts reads the --catalog folder"
+RIGMAT_CATALOG="$T/cat2" "$R" parts motors/nope --catalog "$T/cat1" >"$T/out" 2>"$T/err"
+[ $? = 4 ] && ok || bad "parts, not found in two catalogs: want exit 4"
+has "$T/err" "looked in $T/cat1, $T/cat2, " "not-found hint: --catalog, then \$RIGMAT_CATALOG, then the rest"
+
+# The catalog beside the program: a copy of the program in INST/bin finds
+# INST/catalog for a model kept anywhere, run from anywhere; with no
+# catalog anywhere, parts exits 4 and says where it looked.
+mkdir -p "$T/inst/bin" "$T/inst/catalog/motors" "$T/away/models" "$T/lost/bin"
+cp "$R" "$T/inst/bin/rigmat" && cp "$R" "$T/lost/bin/rigmat"
+printf '# a motor only the catalog beside the program has\nresistance: 2 ohm\n' \
+    >"$T/inst/catalog/motors/beside.yaml"
+printf 'inductance: neglect\ntorque_constant: 0.02 N*m/A\nrotor_inertia: 1 g*cm^2\n' \
+    >>"$T/inst/catalog/motors/beside.yaml"
+cat >"$T/away/models/spin.yaml" <<'YAML'
+rigmat: 1
+name: a flywheel on a catalog motor
+bodies:
+  fly: {mass: 0.1 kg, inertia: 1e-4 kg*m^2}
+joints:
+  shaft: {type: hinge, parent: ground, child: fly}
+motors:
+  drive: {part: motors/beside, across: shaft}
+YAML
+(cd "$T/away" && RIGMAT_CATALOG= "$T/inst/bin/rigmat" check models/spin.yaml) >"$T/out" 2>"$T/err"
+[ $? = 0 ] && ok || { bad "a model kept anywhere finds the catalog beside the program"; sed 's/^/  | /' "$T/err" >&2; }
+(cd "$T/away" && RIGMAT_CATALOG= "$T/inst/bin/rigmat" parts) >"$T/out" 2>"$T/err"
+[ $? = 0 ] && ok || bad "parts run from anywhere: want exit 0"
+has "$T/out" "^motors/beside " "parts lists the catalog beside the program"
+(cd "$T/away" && RIGMAT_CATALOG= "$T/lost/bin/rigmat" parts) >"$T/out" 2>"$T/err"
+[ $? = 4 ] && ok || bad "parts with no catalog folder: want exit 4"
+has "$T/err" "no catalog folder found" "no-catalog message"
+has "$T/err" "looked for \./catalog, $T/lost/bin/\.\./catalog, " "no-catalog hint lists the folders"
+(cd "$T/away" && RIGMAT_CATALOG= "$T/lost/bin/rigmat" parts --format json) >"$T/out" 2>"$T/err"
+[ $? = 4 ] && ok || bad "parts --format json with no catalog folder: want exit 4"
+if [ -s "$T/out" ]; then bad "parts printed a result without a catalog"; else ok; fi
+(cd "$T/away" && RIGMAT_CATALOG= "$T/lost/bin/rigmat" check models/spin.yaml) >"$T/out" 2>"$T/err"
+[ $? = 1 ] && ok || bad "a model naming a part no folder holds: want exit 1"
+has "$T/err" "part 'motors/beside' not found" "a missing part in a model"
+
+# has_cmd NAME: the command is listed by --help; a missing one fails the run
+has_cmd() {
+    if "$R" --help | grep -q "^  $1 "; then return 0; fi
+    bad "command '$1' is missing from rigmat --help"
+    return 1
+}
+if has_cmd modes; then
     expect 0 "modes help" -- "$R" modes --help
     has "$T/out" "--rate" "modes help lists --rate"
     expect 0 "modes demo" -- "$R" modes "$DEMO"
@@ -141,7 +319,7 @@ if "$R" --help | grep -q '^  modes'; then
     if grep -q '"summary"\|modes:' "$T/out"; then bad "linearize json changed"; else ok; fi
 fi
 
-if "$R" --help | grep -q '^  simulate'; then
+if has_cmd simulate; then
     C=examples/cart.yaml
     expect 0 "simulate help" -- "$R" simulate --help
     has "$T/out" "step:VALUE" "simulate help lists the signals"
@@ -204,9 +382,7 @@ fi
 
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
-    if "$R" --help | grep -q '^  modes'; then
-        expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json
-    fi
+    expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json
 done
 
 echo "cli: $pass passed, $fail failed"

@@ -46,6 +46,11 @@ struct cli_opt {
 
 #define CLI_OPT_END_ROW { 0, NULL, CLI_OPT_END, NULL, NULL, NULL }
 
+/* The folder of the running program into buf (from /proc/self/exe, else
+ * from argv0 when it names a path), or NULL when it cannot be found
+ * (src/cli/exe_dir.c). */
+const char *cli_exe_dir(const char *argv0, char *buf, size_t len);
+
 /* The options most commands take: --set, --format, -o, --catalog. */
 struct cli_common {
     struct cli_list sets;
@@ -148,7 +153,7 @@ void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigm
 
 /* ------------------------------------------------------- sign table */
 
-/* The sign table of DESIGN.md section 2 for `rigmat check`
+/* The sign table of README.md ("Signs and frames") for `rigmat check`
  * (src/cli/cmd_check_signs.c): for each input, the sign of the first
  * non-zero response of every coordinate (its acceleration, or a lower
  * derivative for a driven input) and of every sensor, from the

@@ -1,5 +1,5 @@
-/* cmd_check_signs.c - the sign table `rigmat check` prints (DESIGN.md
- * section 2, worked sign example): for each input, the sign of the first
+/* cmd_check_signs.c - the sign table `rigmat check` prints (README.md,
+ * "Signs and frames", worked example): for each input, the sign of the first
  * non-zero response of every coordinate and every sensor, from the
  * linearization at the operating point (rigmat_lti_first_response).
  * A coordinate's entry is its acceleration's sign when the input reaches

@@ -2,7 +2,7 @@
  * at a controller rate (src/sample/discretize.h) and the Kalman-filter noise model
  * (src/sample/noise.h), with sampling advice where it matters.
  *
- * JSON (DESIGN.md section 5): the head of `linearize` (cli_json_head), then
+ * JSON (README.md, "JSON output"): the head of `linearize` (cli_json_head), then
  *   period          s
  *   method          "zoh" | "foh" | "tustin" | "euler" | "backward-euler"
  *   prewarp         Hz (tustin with --prewarp only)
@@ -38,7 +38,9 @@ static const char *const discretize_usage[] = {
 };
 
 /* The lowest and highest multiples of the closed-loop bandwidth a sample
- * rate is usually chosen at (common practice; REFERENCES.md section 8). */
+ * rate is usually chosen at (common practice; G. F. Franklin, J. D. Powell,
+ * M. L. Workman, Digital Control of Dynamic Systems, 3rd ed., 1998, on
+ * sample-rate selection, from memory). */
 static const double rule_low = 10.0, rule_high = 30.0;
 
 struct discretize_args {

@@ -1,7 +1,7 @@
 /* cmd_linearize.c - `rigmat linearize FILE`: the continuous A, B, C, D at
  * the model's operating point (trimmed first when operating_point.solve
  * names unknowns), with the point itself and how far it is from a steady
- * state.  JSON layout: DESIGN.md section 5. */
+ * state.  JSON layout: README.md, "JSON output". */
 #include "cli.h"
 
 #include <string.h>

@@ -2,11 +2,16 @@
  *
  * Without NAME: one line per part found in the catalog folders (the lookup
  * order of src/model/load_part.c without a model: --catalog, $RIGMAT_CATALOG,
- * ./catalog, the installed share folder), its name and the first comment
- * line of its file; a part in an earlier folder hides one of the same name
- * in a later folder, as it does when a model is loaded.
+ * ./catalog, the catalog beside the program's folder, the installed share
+ * folder), its name and the first comment line of its file; a part in an
+ * earlier folder hides one of the same name in a later folder, as it does
+ * when a model is loaded.
  * With NAME: the part's values after its own `part:` chain is resolved,
  * each as written and in SI.
+ * Exit codes (README.md, "Commands"): 0 ok; 1 the part's file (or a part it
+ * builds on) is not a valid part; 2 bad usage, including a NAME that is not
+ * a part name; 4 the part is in no catalog folder, or no catalog folder
+ * exists (the hint lists the folders searched).
  */
 #include "cli.h"
 #include "load.h"
@@ -165,7 +170,13 @@ static rigmat_status list_parts(struct cli_env *env, int json)
 
     for (i = 0; st == RIGMAT_OK && i < nf; i++)
         st = walk(&l, folders[i], "", 0);
-    if (st == RIGMAT_OK) {
+    if (st == RIGMAT_OK && nf == 0) {
+        char where[512];
+        rigmat_load_part_candidates(NULL, &env->opt, where, sizeof where);
+        fprintf(env->err, "rigmat parts: error: no catalog folder found\n"
+                "  hint: looked for %s; give one with --catalog DIR or $RIGMAT_CATALOG\n", where);
+        st = RIGMAT_EIO;
+    } else if (st == RIGMAT_OK) {
         qsort(l.rows, l.n, sizeof *l.rows, cmp_row);
         if (json) {
             struct cli_json j;
@@ -189,10 +200,6 @@ static rigmat_status list_parts(struct cli_env *env, int json)
             }
             cli_json_arr_close(&j);
             st = cli_json_end(&j);
-        } else if (nf == 0) {
-            fprintf(env->err, "rigmat parts: error: no catalog folder found\n"
-                    "  hint: give one with --catalog DIR or $RIGMAT_CATALOG\n");
-            st = RIGMAT_EIO;
         } else {
             size_t w = 0;
             for (i = 0; i < l.n; i++)

@@ -115,7 +115,7 @@ int main(int argc, char **argv)
 {
     struct cli_env env;
     const struct command *cmd = NULL;
-    char *buf = NULL;
+    char *buf = NULL, exe_dir[4096];
     size_t len = 0, i;
     rigmat_status st;
 
@@ -125,6 +125,7 @@ int main(int argc, char **argv)
     env.opt = rigmat_options_default();
     env.opt.catalog_env = getenv("RIGMAT_CATALOG");
     env.opt.catalog_share = RIGMAT_SHARE_DIR;
+    env.opt.catalog_exe = cli_exe_dir(argc > 0 ? argv[0] : NULL, exe_dir, sizeof exe_dir);
 
     if (argc < 2) {
         main_usage(stderr);

@@ -312,7 +312,7 @@ static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti
             dens = m->forces[in->index].density;
         else if (in->kind == RIGMAT_SIG_DRIVEN)
             dens = m->joints[in->index].density;
-        /* DESIGN.md, noise: density N means intensity Qc = N^2 */
+        /* README.md, "Noise convention": density N means intensity Qc = N^2 */
         lti->input_intensity[k] = dens * dens;
     }
     for (k = 0; k < L->ny; k++) {

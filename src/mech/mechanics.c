@@ -14,7 +14,7 @@
  *
  * Rolling joint sign, worked: radius 0.061 m, q = +0.1 m of travel: the
  * centre moves +0.1 m along the parent's x and the wheel turns by
- * -0.1/0.061 = -1.64 rad (clockwise), as DESIGN.md section 2 states.
+ * -0.1/0.061 = -1.64 rad (clockwise), as README.md ("Signs and frames") states.
  */
 #include "mechanics.h"
 #include "layout.h"
@@ -25,7 +25,9 @@
 #include <string.h>
 #include <gsl/gsl_math.h>
 
-/* complex step size (REFERENCES.md section 4: anything in 1e-20..1e-200) */
+/* complex step size: far below the square root of the machine epsilon, with no
+ * subtraction to lose digits (J. R. R. A. Martins, P. Sturdza, J. J. Alonso,
+ * "The complex-step derivative approximation", ACM TOMS 29(3), 2003) */
 static const double step_h = 1e-20;
 
 struct rigmat_mech {
@@ -1430,7 +1432,7 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
     for (k = 0; k < L->nu; k++)
         if (s->xsh[k] != RIGMAT_NONE)
             x[s->xsh[k]] = u[k];
-    /* motor currents always follow (DESIGN.md, operating point): the
+    /* motor currents always follow (README.md, "Rules worth knowing"): the
      * circuit is linear in i, so with i = 0, L di/dt = V - pol Ke N w and
      * the steady current is that over R */
     if (m->nmotors > 0) {

@@ -16,7 +16,8 @@
  * Complex step (W. Squire, G. Trapp, SIAM Review 40(1), 1998): every
  * operation here is analytic in the inputs; nothing takes cabs, conj or
  * carg, comparisons look at creal only, the linear solve is done in complex
- * arithmetic.  Keep it that way: see shared/REFERENCES.md section 4.
+ * arithmetic.  Keep it that way: see DEVELOPERS.md, "Complex-step rules"
+ * (after J. R. R. A. Martins, P. Sturdza, J. J. Alonso, ACM TOMS 29(3), 2003).
  *
  * Coordinates: every non-fixed joint owns one coordinate (driven ones too;
  * they are prescribed).  The canonical state, input and output vectors are

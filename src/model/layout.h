@@ -1,5 +1,5 @@
 /* layout.h - the state, input and output vectors of a model: names, units,
- * kinds and order (DESIGN.md section 2), and the order hash.
+ * kinds and order (README.md, "Rules worth knowing"), and the order hash.
  *
  * Canonical order: states are the coordinates (joints in file order that
  * have a coordinate state), then the rates (joints with a rate state), then

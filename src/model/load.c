@@ -1,4 +1,4 @@
-/* load.c - schema 1 (DESIGN.md section 3): the tree from load_yaml.c,
+/* load.c - schema 1 (README.md, "The model file"): the tree from load_yaml.c,
  * after parts and --set overrides, read into a rigmat_model.
  *
  * Every field declares its kind (a rigmat_kind for numbers with units, a
@@ -8,7 +8,7 @@
  * recorded with the offending key or value and its entry, and reading goes
  * on (up to opt->max_errors), so one run reports all it can.
  *
- * Decisions beyond DESIGN.md, made here:
+ * Decisions beyond the README's description of the schema, made here:
  *   - names match [A-Za-z_][A-Za-z0-9_-]*; each section's names are unique;
  *     joints, motors, forces and sensors are also unique among each other,
  *     because they name states, inputs and outputs ("tilt.angle", "drive",
@@ -1160,8 +1160,8 @@ static const rigmat_entry *first_of(const struct ent *e, const char *const *keys
     return best;
 }
 
-/* Datasheet figures to circuit values at the motor shaft (REFERENCES.md
- * section 6, common practice): R = V/I_stall; output-shaft figures moved
+/* Datasheet figures to circuit values at the motor shaft (common practice;
+ * README.md, "Motors: gearbox, efficiency, count"): R = V/I_stall; output-shaft figures moved
  * to the motor (T_m = T_out/(N eta), w_m = N w_out); Kt = T_m/I_stall;
  * Ke = (V - R I_nl)/w_m; b = eta Kt I_nl/w_m, so that the no-load point is
  * a steady state of the model, whose efficiency acts on Kt i. */

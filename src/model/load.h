@@ -92,15 +92,24 @@ rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path,
 /* Resolve a part name to a file path (malloc'd, caller frees) by the
  * lookup order documented in load_part.c.  model_path may be NULL (no
  * model: the catalog folders alone, see load_part.c).  Returns RIGMAT_OK,
- * RIGMAT_EMODEL with a message in err (bad name, not found) or
- * RIGMAT_ENOMEM. */
+ * or with a message in err: RIGMAT_EUSAGE (not a valid part name),
+ * RIGMAT_EIO (no folder holds it; the hint lists every folder searched),
+ * RIGMAT_EMODEL (it resolves outside its folder) or RIGMAT_ENOMEM.  A model
+ * reports each of these as a model error; `rigmat parts NAME` exits with
+ * the status's own code. */
 rigmat_status rigmat_load_part_path(const char *name, const char *model_path,
         const rigmat_options *opt, char **path, rigmat_error *err);
 
-/* The folders searched for parts, in order (at most 6; each malloc'd,
+/* The folders searched for parts, in order (at most 7; each malloc'd,
  * caller frees each and sets *n).  Folders that do not exist are left out. */
 rigmat_status rigmat_load_part_folders(const char *model_path, const rigmat_options *opt,
         char **folders, size_t max, size_t *n);
+
+/* The folders the lookup would search, whether they exist or not, as one
+ * comma-separated line in buf (truncated to len), for a hint when none
+ * exists. */
+void rigmat_load_part_candidates(const char *model_path, const rigmat_options *opt, char *buf,
+        size_t len);
 
 /* Apply --set overrides (load_set.c).  Errors are placed at "--set", line =
  * the override's 1-based position, column = the character in it. */

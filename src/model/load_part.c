@@ -11,11 +11,15 @@
  *   4. MODELDIR                           parts kept next to the model
  *   5. MODELDIR/../catalog                models in a subfolder of a project that keeps
  *                                         catalog/ at its top (this repository's examples/)
- *   6. SHARE/catalog                      the installed catalog (opt->catalog_share)
+ *   6. EXEDIR/../catalog                  beside the folder of the running program
+ *                                         (opt->catalog_exe): build/rigmat finds the
+ *                                         repository's catalog/ without an install
+ *   7. SHARE/catalog                      the installed catalog (opt->catalog_share)
  * MODELDIR is the folder of the model file.  Without a model (`rigmat
- * parts`) only 1, 2, ./catalog and 6 are searched: the current folder
+ * parts`) only 1, 2, ./catalog, 6 and 7 are searched: the current folder
  * itself holds anything, not a catalog.  Folders that do not exist, and
- * folders met before (by realpath), are skipped.
+ * folders met before (by realpath), are skipped.  README.md ("Rules worth
+ * knowing") documents the same order.
  *
  * A part name may not leave its catalog folder: no absolute path, no
  * backslash, no empty, `.` or `..` component, only [A-Za-z0-9._-] in a
@@ -33,7 +37,7 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#define MAX_FOLDERS 6
+#define MAX_FOLDERS 7
 
 static const char *const part_sections[] = { "bodies", "joints", "springs", "dampers", "motors",
     "forces", "sensors" };
@@ -128,10 +132,36 @@ rigmat_status rigmat_load_part_folders(const char *model_path, const rigmat_opti
         st = add_folder(folders, max, n, dup_s(dir));
     if (st == RIGMAT_OK && model_path != NULL)
         st = add_folder(folders, max, n, join(dir, "/", "../catalog"));
+    if (st == RIGMAT_OK && opt->catalog_exe != NULL)
+        st = add_folder(folders, max, n, join(opt->catalog_exe, "/", "../catalog"));
     if (st == RIGMAT_OK && opt->catalog_share != NULL)
         st = add_folder(folders, max, n, join(opt->catalog_share, "/", "catalog"));
     free(dir);
     return st;
+}
+
+void rigmat_load_part_candidates(const char *model_path, const rigmat_options *opt, char *buf,
+        size_t len)
+{
+    const char *dir = model_path != NULL ? "MODELDIR" : ".";
+    size_t used = 0;
+
+    if (len == 0)
+        return;
+    buf[0] = '\0';
+#define CAND(cond, a, b)                                                                      \
+    if ((cond) && used < len)                                                                 \
+        used += (size_t)snprintf(buf + used, len - used, "%s%s%s", used ? ", " : "", (a), (b))
+    CAND(opt->catalog_dir != NULL, opt->catalog_dir, "");
+    CAND(opt->catalog_env != NULL && opt->catalog_env[0] != '\0', opt->catalog_env, "");
+    CAND(1, dir, "/catalog");
+    CAND(model_path != NULL, dir, "");
+    CAND(model_path != NULL, dir, "/../catalog");
+    CAND(opt->catalog_exe != NULL, opt->catalog_exe, "/../catalog");
+    CAND(opt->catalog_share != NULL, opt->catalog_share, "/catalog");
+#undef CAND
+    if (model_path != NULL && used < len)
+        (void)snprintf(buf + used, len - used, " (MODELDIR: the model's folder)");
 }
 
 /* Check a part name against the rules in the file comment. */
@@ -140,33 +170,33 @@ static rigmat_status check_name(const char *name, rigmat_error *err)
     const char *p = name, *c;
 
     if (name[0] == '\0')
-        return RIGMAT_FAIL(err, RIGMAT_EMODEL, "a part name may not be empty");
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "a part name may not be empty");
     if (name[0] == '/') {
-        RIGMAT_FAIL(err, RIGMAT_EMODEL, "part name '%s' is an absolute path", name);
+        RIGMAT_FAIL(err, RIGMAT_EUSAGE, "part name '%s' is an absolute path", name);
         rigmat_error_hint(err, "name a part inside a catalog folder, e.g. motors/gearmotor-24v-27");
-        return RIGMAT_EMODEL;
+        return RIGMAT_EUSAGE;
     }
     if (strchr(name, '\\') != NULL) {
-        RIGMAT_FAIL(err, RIGMAT_EMODEL, "part name '%s' contains a backslash", name);
+        RIGMAT_FAIL(err, RIGMAT_EUSAGE, "part name '%s' contains a backslash", name);
         rigmat_error_hint(err, "separate folders with '/'");
-        return RIGMAT_EMODEL;
+        return RIGMAT_EUSAGE;
     }
     if (strlen(name) > 200)
-        return RIGMAT_FAIL(err, RIGMAT_EMODEL, "part name is longer than 200 characters");
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "part name is longer than 200 characters");
     while (1) {
         const char *end = strchr(p, '/');
         const size_t len = end ? (size_t)(end - p) : strlen(p);
         if (len == 0)
-            return RIGMAT_FAIL(err, RIGMAT_EMODEL, "part name '%s' has an empty component", name);
+            return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "part name '%s' has an empty component", name);
         if ((len == 1 && p[0] == '.') || (len == 2 && p[0] == '.' && p[1] == '.')) {
-            RIGMAT_FAIL(err, RIGMAT_EMODEL, "part name '%s' leaves the catalog folder", name);
+            RIGMAT_FAIL(err, RIGMAT_EUSAGE, "part name '%s' leaves the catalog folder", name);
             rigmat_error_hint(err, "'.' and '..' are not allowed in a part name");
-            return RIGMAT_EMODEL;
+            return RIGMAT_EUSAGE;
         }
         for (c = p; c < p + len; c++)
             if (!((*c >= 'a' && *c <= 'z') || (*c >= 'A' && *c <= 'Z') ||
                         (*c >= '0' && *c <= '9') || *c == '_' || *c == '-' || *c == '.'))
-                return RIGMAT_FAIL(err, RIGMAT_EMODEL,
+                return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
                         "part name '%s' has a character other than letters, digits, '.', '_', "
                         "'-' and '/'", name);
         if (end == NULL)
@@ -182,7 +212,7 @@ rigmat_status rigmat_load_part_path(const char *name, const char *model_path,
     char *folders[MAX_FOLDERS];
     size_t nf = 0, i, used = 0;
     rigmat_status st;
-    char hint[160];
+    char hint[sizeof err->hint];
     const size_t nlen = strlen(name);
     const int has_ext = nlen > 5 && strcmp(name + nlen - 5, ".yaml") == 0;
 
@@ -216,19 +246,26 @@ rigmat_status rigmat_load_part_path(const char *name, const char *model_path,
         free(file);
     }
     if (*path == NULL && st == RIGMAT_OK) {
+        /* every folder searched, in order; a list too long for the hint says
+         * how many it leaves out rather than stopping silently */
         hint[0] = '\0';
         for (i = 0; i < nf; i++) {
             const size_t l = strlen(folders[i]);
-            if (used + l + 3 >= sizeof hint - 4)
+            if (used + l + 2 + 24 >= sizeof hint) {
+                (void)snprintf(hint + used, sizeof hint - used, " and %zu more", nf - i);
                 break;
+            }
             used += (size_t)snprintf(hint + used, sizeof hint - used, "%s%s", i ? ", " : "",
                     folders[i]);
         }
-        st = RIGMAT_FAIL(err, RIGMAT_EMODEL, "part '%s' not found", name);
-        if (nf == 0)
-            rigmat_error_hint(err, "no catalog folder exists; give one with --catalog DIR");
-        else
+        st = RIGMAT_FAIL(err, RIGMAT_EIO, "part '%s' not found", name);
+        if (nf == 0) {
+            rigmat_load_part_candidates(model_path, opt, hint, sizeof hint);
+            rigmat_error_hint(err, "no catalog folder exists (looked for %s); give one with "
+                    "--catalog DIR", hint);
+        } else {
             rigmat_error_hint(err, "looked in %s", hint);
+        }
     }
     for (i = 0; i < nf; i++)
         free(folders[i]);

@@ -13,7 +13,8 @@
  *     at its place once the document has been read, so a file that has
  *     both gets the one error at the alias;
  *   - more than one document, keys that are not plain values;
- *   - duplicate keys, which libyaml does not check (STYLE.md 1.4 item 7):
+ *   - duplicate keys, which libyaml does not check (YAML 1.2, 2009, section
+ *     3.2.1.1: the keys of a mapping are unique; from memory):
  *     found here after each mapping closes, by sorting, so a mapping with
  *     100000 keys costs n log n, not n^2.
  * Limits (rigmat_options): file size, nesting depth, node count.
@@ -63,7 +64,7 @@ static char *dup_n(const char *s, size_t n)
 }
 
 /* libyaml marks are 0-based in line and column, columns in characters
- * (REFERENCES.md section 10).  The first line of a --set value starts at
+ * (libyaml 0.2.5, yaml.h, yaml_mark_t).  The first line of a --set value starts at
  * the value's column in the argument. */
 static rigmat_loc mark_loc(const struct builder *b, yaml_mark_t mk)
 {

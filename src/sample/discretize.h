@@ -5,7 +5,8 @@
  * on) and a period T, build
  *     x[k+1] = Ad x[k] + Bd u[k] + Gd w[k],   y[k] = Cd x[k] + Dd u[k] + Ed w[k].
  *
- * Methods (formulas: shared REFERENCES.md section 3; G. F. Franklin,
+ * Methods (formulas: C. F. Van Loan, IEEE Trans. Automatic Control 23(3), 1978,
+ * for the block exponentials; G. F. Franklin,
  * J. D. Powell, M. L. Workman, "Digital Control of Dynamic Systems", 3rd ed.,
  * 1998, chapters 4 and 6):
  *   ZOH             exp([[A, B], [0, 0]] T) = [[Ad, Bd], [0, I]]; exact for

@@ -1,7 +1,7 @@
 /* noise.h - the discrete noise model of a Kalman filter: Qd, Rd and the
  * cross-covariance S.
  *
- * Convention (shared DESIGN.md section 3, "Noise, one convention"): a
+ * Convention (README.md, "Noise convention"): a
  * density N is white noise of intensity Qc = N^2, E[w(t) w(s)] = Qc
  * delta(t - s).  Hence
  *   - the average of such a signal over one period T has variance N^2 / T;

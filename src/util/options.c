@@ -14,6 +14,7 @@ rigmat_options rigmat_options_default(void)
     o.catalog_dir = NULL;
     o.catalog_env = NULL;
     o.catalog_share = NULL;
+    o.catalog_exe = NULL;
     o.trim_tol = 1e-10;
     o.trim_max_iter = 100;
     o.rank_rtol = 1e-9;

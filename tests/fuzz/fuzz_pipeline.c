@@ -6,8 +6,8 @@
  * fuzz_load.c).  A model that loads goes through rigmat_linearize, then
  * rigmat_discretize (ZOH, T = 10 ms), rigmat_noise_build and
  * rigmat_sampling_advice.  Properties checked (include/rigmat.h,
- * src/sample/discretize.h, src/sample/noise.h, and DESIGN.md: "NaN/Inf/overflow ... is
- * reported, not printed as a matrix"):
+ * src/sample/discretize.h, src/sample/noise.h, and README.md, "JSON output": a
+ * non-finite result is an error, never printed):
  *   - every status is one its header documents;
  *   - a model linearized has the layout's sizes and finite A, B, C, D and
  *     operating point;

@@ -10,10 +10,12 @@ sympy.physics), linearize them symbolically at an operating point and compare
 the result with `rigmat linearize FILE --format json`.
 
 Sources of the conventions:
-  * DESIGN.md (ours): joint kinematics, state/input/output order and names,
-    the meaning of `count`, `polarity`, `efficiency`, `mounted_on`, sensors.
-  * Conventions decided by the project lead beyond DESIGN.md (ours), used
-    here exactly:
+  * README.md (ours: "Signs and frames", "Motors: gearbox, efficiency,
+    count", "Sensors: gain, offset and noise units", "Rules worth knowing"):
+    joint kinematics, state/input/output order and names, the meaning of
+    `count`, `polarity`, `efficiency`, `mounted_on`, sensors.
+  * The project's modelling conventions (ours, stated in those README
+    sections), used here exactly:
       - gravity vector g_vec = -g*(sin(slope), cos(slope));
       - motor current i per motor, in the drive's sense;
         L di/dt = V - R i - polarity*Ke*N*w_out;
@@ -31,8 +33,9 @@ Sources of the conventions:
         it increases with the coordinate of the rotor's own joint (stator/
         rotor form) or of the `across` joint;
       - specific force along a body axis = axis . R(theta)^T (a_P - g_vec)
-        (the accelerometer model of REFERENCES.md section 7: f = a - g,
-        resolved in the sensor's axes);
+        (the accelerometer model f = a - g resolved in the sensor's axes:
+        D. H. Titterton, J. L. Weston, Strapdown Inertial Navigation
+        Technology, 2nd ed., 2004, from memory);
       - hinge `reference: world`: q is the child's world angle.
   * Lagrange's equations and the mass-matrix form M(q) qdd = Q + dL/dq -
     (d/dq dL/dqd) qd: standard analytical mechanics (e.g. H. Goldstein,
@@ -61,7 +64,7 @@ PREC = 30  # decimal digits used when evaluating the symbolic Jacobians
 # --------------------------------------------------------------- kinematics
 
 def rot(th):
-    """Planar rotation by th (counter-clockwise positive, DESIGN.md section 2)."""
+    """Planar rotation by th (counter-clockwise positive, README.md "Signs and frames")."""
     return sp.Matrix([[sp.cos(th), -sp.sin(th)], [sp.sin(th), sp.cos(th)]])
 
 
@@ -78,7 +81,7 @@ def kinetic_point(m, pos, q, qd):
 
 
 def gravity_vector(g, slope):
-    """The lead's convention: g_vec = -g*(sin(slope), cos(slope))."""
+    """README.md ("Signs and frames"): g_vec = -g*(sin(slope), cos(slope))."""
     return sp.Matrix([-g * sp.sin(slope), -g * sp.cos(slope)])
 
 
@@ -90,7 +93,7 @@ def potential_gravity(m, pos, gvec):
 def specific_force(pos, th, q, qd, qdd, gvec):
     """Specific force at the point pos(q) of a body at angle th, in the body's
     axes: R(th)^T (a_P - g_vec), with a_P = J qdd + Jdot qd, J = d pos/dq
-    (the accelerometer model of REFERENCES.md section 7, lead's convention)."""
+    (the accelerometer model of Titterton and Weston 2004, from memory)."""
     J = pos.jacobian(q)
     a = J * qdd + (J * qd).jacobian(q) * qd
     return rot(th).T * (a - gvec)
@@ -122,7 +125,7 @@ def viscous_q(coef, w_rel, qd):
 # -------------------------------------------------------------------- motor
 
 class Motor:
-    """A brushed DC motor with gearbox, in the lead's conventions (see top).
+    """A brushed DC motor with gearbox, in README.md's conventions (see top).
 
     w_out: relative output rotation rate as an expression of qd;
     w_stator: the stator's angular rate in the world;
@@ -153,7 +156,7 @@ class Motor:
 
 
 def motor_angle_sign(theta_out, coord):
-    """s = +1 or -1 so that s*theta_out increases with `coord` (lead's rule).
+    """s = +1 or -1 so that s*theta_out increases with `coord` (README.md, "Rules worth knowing").
     The parameters in theta_out must be declared positive (radius, ratio)."""
     s = sp.sign(sp.diff(theta_out, coord))
     if s not in (1, -1):
@@ -376,9 +379,9 @@ def selftest_dc_motor(rep):
 
     A motor with stator on the ground drives an inertia J_l (a hinge, w_out =
     qd). With the helper's conventions the speed transfer function must be
-    the standard one of REFERENCES.md section 6,
+    the standard DC motor model (common practice),
         w(s)/V(s) = Kt' / ((J s + b')(L s + R) + Kt' Ke'),
-    with the gearbox reflected as in REFERENCES.md section 6 (total inertia
+    with the gearbox reflected as is common practice (total inertia
     at the load J_l + N^2 J_motor, [CP]): here J = J_l + count N^2 Jr,
     b' = count N^2 b, Kt' = pol count eff N Kt, Ke' = pol N Ke.
     """

@@ -54,7 +54,9 @@ def rel(got, want):
 
 def mp_reference(method, A, B, C, D, T):
     """The sampled model at 40 digits (mpmath), from the formulas of
-    /work/shared/REFERENCES.md section 3 (zoh and foh through the exponential
+    C. F. Van Loan, IEEE Trans. Automatic Control 23(3), 1978, and G. F.
+    Franklin, J. D. Powell, M. L. Workman, Digital Control of Dynamic
+    Systems, 1998, chapters 4 and 6 (zoh and foh through the exponential
     of the augmented matrix; Tustin, Euler and backward Euler in closed
     form).  Used to arbitrate when ours and scipy's double-precision results
     differ by more than the tolerance: both carry rounding, and the 40-digit

@@ -4,23 +4,25 @@
 The rig (a model of our own, values chosen at random-looking decimals so
 that no term can hide behind a 1 or a 0):
   * `travel`: a rolling joint on the ground, wheel radius r; the wheel centre
-    is at (x, r) and the wheel's angle is -x/r (DESIGN.md section 2: forward
-    travel turns the wheel clockwise);
+    is at (x, r) and the wheel's angle is -x/r (README.md, "Signs and
+    frames": forward travel turns the wheel clockwise);
   * `tilt`: a hinge from the wheel to the chassis with `reference: world`, so
-    its coordinate phi is the chassis' world angle (lead's convention); the
+    its coordinate phi is the chassis' world angle (README.md, "Signs and frames"); the
     chassis frame sits at the wheel centre, its centre of mass at com;
   * a damper across `tilt` (relative rotation child minus parent:
     phi - (-x/r));
   * two identical gearmotors (`count: 2`, `polarity: -1`) with stator on the
     chassis and rotor on the wheel: w_out = rotor rate - stator rate
-    = -xd/r - phid, the rotor spins at phid + N*w_out (DESIGN.md, motors);
+    = -xd/r - phid, the rotor spins at phid + N*w_out (README.md, "Motors:
+    gearbox, efficiency, count");
   * voltage drive, with the armature inductance kept (current state) and
     with it neglected (current algebraic);
   * outputs: a gyro on the chassis (its rate), the motor-shaft encoder
     (motor_angle, rad) and an accelerometer on the chassis along the body x
-    and y axes (specific force, REFERENCES.md section 7).
+    and y axes (specific force f = a - g: D. H. Titterton, J. L. Weston,
+    Strapdown Inertial Navigation Technology, 2004, from memory).
 
-Conventions are those of DESIGN.md and of the project lead, listed in
+Conventions are those of README.md, listed in
 lagrange_common.py. The Lagrangian is written out by hand below; nothing is
 taken from rigmat except the JSON it prints.
 
@@ -52,7 +54,7 @@ def derive(neglect_inductance):
     q = sp.Matrix([x, phi])
     qd = sp.Matrix([xd, phid])
 
-    # Kinematics (DESIGN.md section 2).
+    # Kinematics (README.md, "Signs and frames").
     p_w = sp.Matrix([x, r])                        # rolling: centre at at + [q, r]
     th_w = -x / r                                  # wheel angle -q/r
     th_c = phi                                     # reference: world
@@ -207,8 +209,9 @@ def self_test(models):
             sp.Matrix(xs)), {x: 0, phi: 0, xd: 0, phid: 0, i: 0, Vin: 0})
         return A, p
 
-    # 1. REFERENCES.md section 4 (cart-pole check, point mass on a massless rod,
-    #    M = 1, m = 0.1, l = 0.5, g = 9.81): eigenvalues 0, 0, +-4.6456431201718456.
+    # 1. Cart-pole, point mass on a massless rod (M = 1, m = 0.1, l = 0.5,
+    #    g = 9.81; hand-derived: eigenvalues 0, 0, +-sqrt((M + m) g / (M l))):
+    #    0, 0, +-4.6456431201718456.
     #    The wheel becomes the cart with a point-mass wheel (r_disc = 0).
     A, _ = off(dict(mw=1.0, rdisc=0.0, mc=0.1, Ic=0.0, cy=0.5, g=9.81))
     ev = np.sort_complex(np.linalg.eigvals(A[:4, :4]))
@@ -231,7 +234,7 @@ def self_test(models):
     rep.rel("self-test: wheel+chassis unstable root (A&M)", [ev.real.max()], [lam], 1e-12)
 
     # 3. Equilibrium: upright, still, no input, level ground -> f = 0, and the
-    #    accelerometer reads +1 g along the chassis' y axis (REFERENCES.md 7).
+    #    accelerometer reads +1 g along the chassis' y axis (f = a - g, as above).
     pr = params(CASES["rest"])
     at = {x: 0, phi: 0, xd: 0, phid: 0, i: 0, Vin: 0}
     fr = lc.evaluate(f.subs({k: lc.to_sym(v) for k, v in pr.items()}), at)[:, 0]
@@ -239,8 +242,8 @@ def self_test(models):
     rep.rel("self-test: f = 0 upright at rest", fr, np.zeros(5), 1e-14)
     rep.rel("self-test: accel reads (0, +g) at rest", hr[2:], [0.0, BASE["g"]], 1e-14)
 
-    # 4. The encoder sign: forward travel reads positive (lead's rule;
-    #    DESIGN.md worked sign example: forward is +x).
+    # 4. The encoder sign: forward travel reads positive (README.md, "Rules
+    #    worth knowing" and the worked sign example: forward is +x).
     rep.check("self-test: encoder sign s = -1 (wheel angle -x/r)", s == -1, "s = %d" % s)
 
     # 5. Inductance neglected = the L-kept model with di/dt = 0 eliminated: the

@@ -6,14 +6,14 @@ The rig (a model of our own, with random-looking decimal values):
     and does not rotate;
   * `pivot`: a hinge on the cart at [0, h] (reference: parent); its
     coordinate th is the pole's angle, counter-clockwise positive, 0 upright;
-    the pole is a uniform rod of length l along its +y axis (DESIGN.md,
-    bodies: rod, direction default +y, centre of mass at mid-length,
+    the pole is a uniform rod of length l along its +y axis (README.md,
+    "The model file": rod, direction default +y, centre of mass at mid-length,
     centroidal inertia m l^2/12);
   * dampers across `track` (cart friction) and across `pivot`;
   * one gearmotor `across: track` with `mounted_on: child`: the stator rides
     on the cart (angular rate 0, since the cart does not turn) and the pinion
     of radius rp on the output shaft meshes with a rack on the ground, so the
-    relative output rate is w_out = pd/rp (lead's convention: across a
+    relative output rate is w_out = pd/rp (README.md's convention: across a
     slider, qdot/radius), the rotor spins at 0 + N*w_out and the pinion
     (load inertia) at w_out; a positive drive pushes the cart along +x;
   * two drive variants: voltage with the inductance kept (current state),
@@ -22,7 +22,7 @@ The rig (a model of our own, with random-looking decimal values):
     the cart, cart velocity, and an accelerometer at the pole's tip along
     the pole's x axis (specific force; D is non-zero under current drive).
 
-Conventions: DESIGN.md and the project lead's, listed in lagrange_common.py.
+Conventions: README.md's, listed in lagrange_common.py.
 
 Usage: RIGMAT=build/rigmat /usr/bin/python3 tests/ref/test_lagrange_cartpole_rack.py
        /usr/bin/python3 tests/ref/test_lagrange_cartpole_rack.py --self-test
@@ -114,7 +114,8 @@ def params(c):
          slope: c["slope"], c1: c["c1"], c2: c["c2"], rp: c["rp"], R: c["R"], L: c["L"],
          Kt: c["Kt"], Ke: c["Ke"], Jr: c["Jr"], b: c["b"], N: c["N"], eff: c["eff"],
          count: c["count"], pol: c["pol"], Jload: c["Jload"]}
-    # A uniform rod (DESIGN.md bodies: rod): centre at l/2, inertia m l^2/12.
+    # A uniform rod (README.md, bodies: rod; common practice): centre at l/2,
+    # inertia m l^2/12.
     d[lcom] = c.get("lcom", c["lpole"] / 2)
     d[Ipole] = c.get("Ipole", c["mpole"] * c["lpole"] ** 2 / 12)
     return d
@@ -184,7 +185,7 @@ def self_test(models):
     f, h, xs, us, s = models[True]
     at0 = {p: 0, th: 0, pd: 0, thd: 0, u: 0}
 
-    # 1. REFERENCES.md section 4, point mass on a massless rod (M = 1,
+    # 1. Cart-pole, point mass on a massless rod (hand-derived; M = 1,
     #    m = 0.1, l = 0.5, g = 9.81), a horizontal force on the cart as input.
     #    Here: motor massless and frictionless, current drive with
     #    N*eff*Kt/rp = 1, so the generalized force on p is the input itself.
@@ -229,8 +230,8 @@ def self_test(models):
     #    "Feedback Systems" (2008), balance system (from memory):
     #    lambda^2 = M_t m g l_c / (M_t J_t - m^2 l_c^2), M_t = M + m,
     #    J_t = J + m l_c^2, where the cart mass M gains the rotor and pinion
-    #    inertia reflected through the gearbox and pinion (REFERENCES.md
-    #    section 6: total inertia at the load J_load + N^2 J_motor, [CP]),
+    #    inertia reflected through the gearbox and pinion (common
+    #    practice: total inertia at the load J_load + N^2 J_motor),
     #    divided by rp^2 for translation. Motor unpowered (i = u = 0), no
     #    dampers, no friction.
     c = dict(BASE, slope=0.0, c1=0.0, c2=0.0, b=0.0)
@@ -245,7 +246,8 @@ def self_test(models):
             [lam], 1e-12)
 
     # 3. Upright at rest with no input is a steady state; the tip
-    #    accelerometer then reads 0 along the pole's x axis (REFERENCES.md 7).
+    #    accelerometer then reads 0 along the pole's x axis (f = a - g; Titterton
+    #    and Weston 2004, from memory).
     ps = {k: lc.to_sym(v) for k, v in params(CASES["voltage"]).items()}
     fv, hv, xv, _, sv = models[False]
     at = {p: 0, th: 0, pd: 0, thd: 0, i: 0, u: 0}

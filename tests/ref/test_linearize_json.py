@@ -3,12 +3,12 @@
 Independent of the C code: the order hash is recomputed here from the names
 and units the JSON lists (FNV-1a 64-bit, offset basis 0xcbf29ce484222325,
 prime 0x100000001b3: G. Fowler, L. C. Noll, K.-P. Vo, the FNV hash, from
-memory), the member list is DESIGN.md section 5's, the matrix shapes follow
+memory), the member list is README.md's ("JSON output"), the matrix shapes follow
 the signal lists, a coordinate's row of A is the unit row of its rate
 (x' = rate, exactly), the equilibrium is consistent (is_steady when residual <=
 1e-10), and for the demo the sign of the first
-non-zero response of the travel to +drive is +, as DESIGN.md's worked sign
-example requires (numpy matrix powers, threshold relative to the terms).
+non-zero response of the travel to +drive is +, as README.md's worked sign
+example ("Signs and frames") requires (numpy matrix powers, threshold relative to the terms).
 
 Usage: RIGMAT=build/rigmat /usr/bin/python3 tests/ref/test_linearize_json.py
 """
