@@ -19,6 +19,7 @@ CMD(check)
 CMD(linearize)
 CMD(trim)
 CMD(discretize)
+CMD(gains)
 CMD(parts)
 #undef CMD
 
@@ -32,6 +33,7 @@ static const struct command commands[] = {
     { "check", cmd_check, "validate a model; summary, noise per sample, sign table" },
     { "linearize", cmd_linearize, "continuous A, B, C, D at the operating point" },
     { "discretize", cmd_discretize, "sampled model and Kalman noise model at a rate" },
+    { "gains", cmd_gains, "steady-state Kalman gain; LQR gain with --weights" },
     { "trim", cmd_trim, "solve the operating point; print it and the residual" },
     { "parts", cmd_parts, "list the catalog, or show one part" },
 };

@@ -266,9 +266,11 @@ void rigmat_gains_explain(const rigmat_lti *l, rigmat_gains_problem p,
 {
     const int kf = p == RIGMAT_GAINS_KALMAN;
     const char *wf = weights_file != NULL ? weights_file : "the weights file";
-    const char *st = info->index != RIGMAT_NONE ? rigmat_gains_name(l, RIGMAT_GAINS_STATE,
-                                                                    info->index)
-                                                : "?";
+    /* the state the mode mostly lives in: the largest entry of its right
+     * eigenvector in the original model, which for the filter's dual problem
+     * (Ad^T in place of A) is the left eigenvector of the solver's matrix */
+    const size_t at = kf ? info->left : info->right;
+    const char *st = at != RIGMAT_NONE ? rigmat_gains_name(l, RIGMAT_GAINS_STATE, at) : "?";
     char z[96];
     rigmat_status status;
 

@@ -13,6 +13,11 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_linalg.h>
 
+/* Below this relative change a rise of Newton's change means round-off
+ * has been reached (quadratic convergence from 1e-6 takes one more step to
+ * reach 1e-12). */
+static const double NEWTON_STALL = 1e-6;
+
 rigmat_riccati_opts rigmat_riccati_opts_default(void)
 {
     rigmat_riccati_opts o;
@@ -378,7 +383,8 @@ static int newton(rigmat_riccati_ws *w, const gsl_matrix *B, const gsl_matrix *R
         gsl_matrix_memcpy(w->X2, w->Hk);
         if (gain(w, w->Ab, B, R, NULL, w->X2, &gs) != RIGMAT_NONE || gs != 0)
             return 1;
-        if (change <= o->newton_rtol || (i > 2 && change >= prev))
+        /* converged, or stalled at round-off (Newton's change can rise while far off) */
+        if (change <= o->newton_rtol || (change >= prev && prev <= NEWTON_STALL))
             return 0;
         prev = change;
     }
@@ -412,6 +418,37 @@ static void put_block(gsl_matrix *P, size_t p, size_t q, size_t i, size_t j, dou
 
 /* The PBH refusals of riccati.h on (Ab, B) and (F = Qb^1/2, Ab).  Fills
  * info; returns 0 (none), 1 (a defect), -1 (a GSL failure). */
+/* Fill info->right (from eigenvector column k of w->Z) and info->left (the
+ * null vector of (Ab - z I)^H) for the eigenvalue z = re + i im of Ab. */
+static int eigvec_sides(rigmat_riccati_ws *w, size_t k, double re, double im,
+        rigmat_riccati_info *info)
+{
+    const size_t n = w->n;
+    double best = -1.0;
+    size_t i, j;
+
+    info->right = 0;
+    for (i = 0; i < n; i++) {
+        const double a = gsl_complex_abs(gsl_matrix_complex_get(w->Z, i, k));
+        if (a > best) {
+            best = a;
+            info->right = i;
+        }
+    }
+    gsl_matrix_set_zero(w->P);
+    for (i = 0; i < n; i++)
+        for (j = 0; j < n; j++)
+            put_block(w->P, n, n, i, j, gsl_matrix_get(w->Ab, j, i) - (i == j ? re : 0.0),
+                      i == j ? im : 0.0);
+    if (pbh_smin(w, n, n, 1.0) < 0.0)
+        return -1;
+    {
+        gsl_vector_view v = gsl_matrix_column(w->V, 2 * n - 1);
+        info->left = argmax_complex(&v.vector, n);
+    }
+    return 0;
+}
+
 static int pbh(rigmat_riccati_ws *w, const gsl_matrix *B, const rigmat_riccati_opts *o,
         rigmat_riccati_info *info)
 {
@@ -456,7 +493,7 @@ static int pbh(rigmat_riccati_ws *w, const gsl_matrix *B, const rigmat_riccati_o
                 info->re = re;
                 info->im = im;
                 info->index = argmax_complex(&v.vector, n);
-                return 1;
+                return eigvec_sides(w, k, re, im, info) < 0 ? -1 : 1;
             }
         }
         if (fabs(mag - 1.0) <= o->circle_tol) {
@@ -480,7 +517,7 @@ static int pbh(rigmat_riccati_ws *w, const gsl_matrix *B, const rigmat_riccati_o
                 info->im = im;
                 info->margin = s;
                 info->index = argmax_complex(&v.vector, n);
-                return 1;
+                return eigvec_sides(w, k, re, im, info) < 0 ? -1 : 1;
             }
         }
     }
@@ -574,7 +611,7 @@ rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, con
     info->defect = RIGMAT_RICCATI_FINE;
     info->re = info->im = 0.0;
     info->margin = NAN;
-    info->index = RIGMAT_NONE;
+    info->index = info->right = info->left = RIGMAT_NONE;
     if (o == NULL)
         o = &def;
     if (w == NULL || A == NULL || B == NULL || Q == NULL || R == NULL || X == NULL)
@@ -681,6 +718,7 @@ rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, con
     if (!(rho < 1.0 - o->circle_tol)) {
         info->re = re;
         info->im = im;
+        info->right = info->left = info->index;
         return refuse(err, info, RIGMAT_RICCATI_NOT_STABILIZING);
     }
     info->index = RIGMAT_NONE;

@@ -47,7 +47,8 @@
  *     doubling (Smith's iteration), and K_{i+1} = (R + B^T X_i B)^-1 B^T X_i Ab.
  *     Newton converges quadratically to the stabilizing solution from any
  *     stabilizing gain (Hewer 1971); it stops when the relative change of
- *     X falls below newton_rtol (default 1e-13) or stops falling.
+ *     X falls below newton_rtol (default 1e-13), or rises again once below
+ *     1e-6 (round-off reached; far from the solution the change may rise).
  *
  * Refusals, found before the iteration (PBH tests, T. Kailath, "Linear
  * Systems", 1980, section 2.4.3; M. L. J. Hautus, 1969):
@@ -122,6 +123,8 @@ typedef struct rigmat_riccati_info {
     double re, im;          /* the offending eigenvalue z (defects with a mode) */
     double margin;          /* PBH: relative smallest singular value found */
     size_t index;           /* state (or R column) the defect points at; RIGMAT_NONE */
+    size_t right, left;     /* modes: largest entries of the right and left eigenvectors
+                             * of Ab (closed loop: of A - B K) for z; RIGMAT_NONE */
 } rigmat_riccati_info;
 
 /* Scratch space for n states and m inputs; allocated once, reused; free
