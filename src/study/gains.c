@@ -303,8 +303,11 @@ void rigmat_gains_explain(const rigmat_lti *l, rigmat_gains_problem p,
                         "the mode at z = %s (mostly '%s') is not detectable: no sensor sees it "
                         "and it does not decay",
                         z, st);
-            rigmat_error_hint(err, "add a sensor that reads '%s', or leave a cyclic coordinate "
-                                   "out with a `states:` list", st);
+            if (fabs(hypot(info->re, info->im) - 1.0) <= 1e-6)
+                rigmat_error_hint(err, "add a sensor that reads '%s', or leave a cyclic "
+                                       "coordinate out with a `states:` list", st);
+            else
+                rigmat_error_hint(err, "add a sensor that reads '%s'", st);
         } else {
             RIGMAT_FAIL(err, status,
                         "the mode at z = %s (mostly '%s') is not stabilizable: no control input "
