@@ -150,6 +150,14 @@ if "$R" --help | grep -q '^  gains'; then
     has "$T/err" "must be positive" "negative weight refused"
     has "$T/err" "w4.yaml:3:1: error: unknown key 'input'" "unknown key placed"
     has "$T/err" "did you mean 'inputs'" "unknown key hint"
+    # a weights file gets the model loader's protections
+    for f in alias-billion-laughs.yaml deep-flow-seq-5000.yaml duplicate-keys-1000.yaml \
+        binary-garbage.bin empty.yaml number-1e999.yaml control-chars-echoed.yaml; do
+        "$R" gains "$DEMO" --rate 200Hz --weights "tests/hostile/$f" >"$T/out" 2>"$T/err"
+        rc=$?
+        if { [ $rc = 1 ] || [ $rc = 4 ]; } && grep -q "error" "$T/err" && [ ! -s "$T/out" ]; then ok
+        else bad "hostile weights $f: exit $rc"; fi
+    done
 fi
 
 for f in examples/*.yaml; do

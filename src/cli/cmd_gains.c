@@ -355,6 +355,12 @@ rigmat_status cmd_gains(int argc, char **argv, struct cli_env *env)
         st = rigmat_noise_build(lti, d, &no, nw, &nz, &e);
     if (st != RIGMAT_OK)
         goto report;
+    if (d->ny > 0 && gsl_matrix_isnull(nz->Qd))
+        fprintf(env->err,
+                "rigmat gains: note: the model has no process noise (no disturbance with a "
+                "`density`): the filter trusts the model, and its gain is zero on every stable "
+                "mode\n  hint: add disturbances with a `density` for a filter that tracks the "
+                "real machine\n");
     if (d->ny > 0) {
         gw = rigmat_gains_ws_alloc(d->nx, d->ny);
         kw = rigmat_riccati_ws_alloc(d->nx, d->ny);
