@@ -32,9 +32,9 @@ static void random_walk(double q, double r, double s)
     gsl_matrix_set(Q, 0, 0, q);
     gsl_matrix_set(R, 0, 0, r);
     gsl_matrix_set(S, 0, 0, s);
-    ck_assert_int_eq(rigmat_kalman_solve(A, C, Q, R, s != 0.0 ? S : NULL, NULL, gw, rw, &k, NULL,
-                                         &err),
-                     RIGMAT_OK);
+    ck_assert_int_eq(
+            rigmat_kalman_solve(A, C, Q, R, s != 0.0 ? S : NULL, NULL, gw, rw, &k, NULL, &err),
+            RIGMAT_OK);
     ck_assert_rel(gsl_matrix_get(k->prior, 0, 0), P, 1e-13);
     ck_assert_rel(gsl_matrix_get(k->gain, 0, 0), P / (P + r), 1e-13);
     ck_assert_rel(gsl_matrix_get(k->posterior, 0, 0), P * r / (P + r), 1e-13);
@@ -98,8 +98,8 @@ START_TEST(double_integrator_lqr_is_stabilizing_and_consistent)
     for (i = 0; i < 2; i++)
         ck_assert(gsl_complex_abs(gsl_vector_complex_get(l->poles, i)) < 1.0);
     for (k = 0; k < 200000; k++) {
-        const double u = -(gsl_matrix_get(l->gain, 0, 0) * x[0] +
-                           gsl_matrix_get(l->gain, 0, 1) * x[1]);
+        const double u =
+                -(gsl_matrix_get(l->gain, 0, 0) * x[0] + gsl_matrix_get(l->gain, 0, 1) * x[1]);
         const double x0 = x[0] + T * x[1] + T * T / 2 * u, x1 = x[1] + T * u;
         cost += gsl_matrix_get(Q, 0, 0) * x[0] * x[0] + gsl_matrix_get(Q, 1, 1) * x[1] * x[1] +
                 gsl_matrix_get(R, 0, 0) * u * u;

@@ -104,8 +104,8 @@ START_TEST(random_cases_match_scipy)
         diff = rigmat_test_matrix_reldiff(d.X, want);
         ck_assert_msg(diff <= 1e-9, "%s: X differs from scipy by %.3g", name, diff);
         /* the residual at round-off: a small multiple of n * eps */
-        ck_assert_msg(d.info.residual <= 100.0 * (double)n * DBL_EPSILON, "%s: residual %.3g",
-                      name, d.info.residual);
+        ck_assert_msg(d.info.residual <= 100.0 * (double)n * DBL_EPSILON, "%s: residual %.3g", name,
+                      d.info.residual);
         ck_assert_msg(spectral_radius(d.poles) < 1.0, "%s: closed loop not stable", name);
         if (diff > worst)
             worst = diff;
@@ -270,8 +270,8 @@ START_TEST(bad_weights_are_refused)
     {
         gsl_matrix *B2 = gsl_matrix_calloc(2, 2);
         memset(&d.err, 0, sizeof d.err);
-        ck_assert_int_eq(rigmat_riccati_solve(d.A, B2, d.Q, d.R, NULL, NULL, d.w, d.X, NULL,
-                                              NULL, NULL, &d.err),
+        ck_assert_int_eq(rigmat_riccati_solve(d.A, B2, d.Q, d.R, NULL, NULL, d.w, d.X, NULL, NULL,
+                                              NULL, &d.err),
                          RIGMAT_EUSAGE);
         gsl_matrix_free(B2);
     }

@@ -47,7 +47,8 @@ static rigmat_status parse_args(struct cli_env *env, const struct gains_args *a,
 
     if ((a->rate == NULL) == (a->period == NULL)) {
         fprintf(env->err, "rigmat gains: %s\n",
-                a->rate == NULL ? "missing --rate or --period" : "give --rate or --period, not both");
+                a->rate == NULL ? "missing --rate or --period"
+                                : "give --rate or --period, not both");
         return RIGMAT_EUSAGE;
     }
     st = a->rate != NULL ? cli_quantity(env, "rate", a->rate, RIGMAT_Q_FREQUENCY, &v)
@@ -61,7 +62,7 @@ static rigmat_status parse_args(struct cli_env *env, const struct gains_args *a,
     o->period_s = a->rate != NULL ? 1.0 / v : v;
     if (a->method != NULL) {
         if (rigmat_method_parse(a->method, &o->method) != 0 ||
-                (o->method != RIGMAT_METHOD_ZOH && o->method != RIGMAT_METHOD_EULER)) {
+            (o->method != RIGMAT_METHOD_ZOH && o->method != RIGMAT_METHOD_EULER)) {
             fprintf(env->err,
                     "rigmat gains: method '%s' is not offered here\n"
                     "  hint: use zoh (the default) or euler: the gains need the sampled state to "
@@ -108,8 +109,8 @@ static void text_poles(FILE *f, const char *title, const gsl_vector_complex *z, 
     fputc('\n', f);
 }
 
-static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d,
-                       const rigmat_kalman *k, const rigmat_lqr *q)
+static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d, const rigmat_kalman *k,
+                       const rigmat_lqr *q)
 {
     const rigmat_layout *L = &m->layout;
     const double T = d->period_s;
@@ -117,8 +118,9 @@ static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d,
     size_t at;
 
     fprintf(f, "model: %s\norder hash: %s\n", m->name ? m->name : "", L->order_hash);
-    fprintf(f, "sampled at %.6g Hz (period %.6g ms), method %s; gains act on deviations from "
-               "the operating point\n\n",
+    fprintf(f,
+            "sampled at %.6g Hz (period %.6g ms), method %s; gains act on deviations from "
+            "the operating point\n\n",
             1.0 / T, T * 1e3, rigmat_method_name(d->method));
     if (k != NULL) {
         fputs("steady-state Kalman filter (noise model Qd, Rd of the sampled model)\n"
@@ -144,8 +146,9 @@ static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d,
         }
         text_poles(f, "estimator poles, eig(Ad - Kp Cd)", k->poles, T);
         slowest(k->poles, T, &mag, &tau, &at);
-        fprintf(f, "slowest estimator pole: |z| = %.6g, time constant %.4g ms; Riccati residual "
-                   "%.2g (%zu doubling steps)\n\n",
+        fprintf(f,
+                "slowest estimator pole: |z| = %.6g, time constant %.4g ms; Riccati residual "
+                "%.2g (%zu doubling steps)\n\n",
                 mag, tau * 1e3, k->info.residual, k->info.iterations);
     } else {
         fputs("no sensors: no Kalman filter\n\n", f);
@@ -156,8 +159,9 @@ static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d,
         cli_text_matrix(f, "X (cost-to-go)", q->cost_to_go, L->states, d->nx, L->states, d->nx);
         text_poles(f, "closed-loop poles, eig(Ad - Bd K)", q->poles, T);
         slowest(q->poles, T, &mag, &tau, &at);
-        fprintf(f, "slowest closed-loop pole: |z| = %.6g, time constant %.4g ms; Riccati "
-                   "residual %.2g (%zu doubling steps)\n\n",
+        fprintf(f,
+                "slowest closed-loop pole: |z| = %.6g, time constant %.4g ms; Riccati "
+                "residual %.2g (%zu doubling steps)\n\n",
                 mag, tau * 1e3, q->info.residual, q->info.iterations);
     }
     fputs("caution: test every gain on the real machine with current limits set in the drive "

@@ -37,12 +37,18 @@ void rigmat_gains_ws_free(rigmat_gains_ws *w)
 {
     if (w == NULL)
         return;
-    if (w->At) gsl_matrix_free(w->At);
-    if (w->Ct) gsl_matrix_free(w->Ct);
-    if (w->PCt) gsl_matrix_free(w->PCt);
-    if (w->T) gsl_matrix_free(w->T);
-    if (w->Mt) gsl_matrix_free(w->Mt);
-    if (w->L) gsl_matrix_free(w->L);
+    if (w->At)
+        gsl_matrix_free(w->At);
+    if (w->Ct)
+        gsl_matrix_free(w->Ct);
+    if (w->PCt)
+        gsl_matrix_free(w->PCt);
+    if (w->T)
+        gsl_matrix_free(w->T);
+    if (w->Mt)
+        gsl_matrix_free(w->Mt);
+    if (w->L)
+        gsl_matrix_free(w->L);
     free(w);
 }
 
@@ -50,13 +56,20 @@ void rigmat_kalman_free(rigmat_kalman *k)
 {
     if (k == NULL)
         return;
-    if (k->gain) gsl_matrix_free(k->gain);
-    if (k->predictor_gain) gsl_matrix_free(k->predictor_gain);
-    if (k->prior) gsl_matrix_free(k->prior);
-    if (k->posterior) gsl_matrix_free(k->posterior);
-    if (k->innovation) gsl_matrix_free(k->innovation);
-    if (k->output_sd) gsl_vector_free(k->output_sd);
-    if (k->poles) gsl_vector_complex_free(k->poles);
+    if (k->gain)
+        gsl_matrix_free(k->gain);
+    if (k->predictor_gain)
+        gsl_matrix_free(k->predictor_gain);
+    if (k->prior)
+        gsl_matrix_free(k->prior);
+    if (k->posterior)
+        gsl_matrix_free(k->posterior);
+    if (k->innovation)
+        gsl_matrix_free(k->innovation);
+    if (k->output_sd)
+        gsl_vector_free(k->output_sd);
+    if (k->poles)
+        gsl_vector_complex_free(k->poles);
     free(k);
 }
 
@@ -64,9 +77,12 @@ void rigmat_lqr_free(rigmat_lqr *l)
 {
     if (l == NULL)
         return;
-    if (l->gain) gsl_matrix_free(l->gain);
-    if (l->cost_to_go) gsl_matrix_free(l->cost_to_go);
-    if (l->poles) gsl_vector_complex_free(l->poles);
+    if (l->gain)
+        gsl_matrix_free(l->gain);
+    if (l->cost_to_go)
+        gsl_matrix_free(l->cost_to_go);
+    if (l->poles)
+        gsl_vector_complex_free(l->poles);
     free(l);
 }
 
@@ -92,9 +108,10 @@ static int chol_solve(const gsl_matrix *L, gsl_matrix *Y)
 }
 
 rigmat_status rigmat_kalman_solve(const gsl_matrix *Ad, const gsl_matrix *Cd, const gsl_matrix *Qd,
-        const gsl_matrix *Rd, const gsl_matrix *S, const rigmat_riccati_opts *o,
-        rigmat_gains_ws *gw, rigmat_riccati_ws *rw, rigmat_kalman **out,
-        rigmat_riccati_info *info, rigmat_error *err)
+                                  const gsl_matrix *Rd, const gsl_matrix *S,
+                                  const rigmat_riccati_opts *o, rigmat_gains_ws *gw,
+                                  rigmat_riccati_ws *rw, rigmat_kalman **out,
+                                  rigmat_riccati_info *info, rigmat_error *err)
 {
     rigmat_riccati_info local;
     rigmat_kalman *k;
@@ -133,7 +150,7 @@ rigmat_status rigmat_kalman_solve(const gsl_matrix *Ad, const gsl_matrix *Cd, co
         k->output_sd = gsl_vector_alloc(p);
         k->poles = gsl_vector_complex_alloc(n);
         if (!k->gain || !k->predictor_gain || !k->prior || !k->posterior || !k->innovation ||
-                !k->output_sd || !k->poles) {
+            !k->output_sd || !k->poles) {
             rigmat_kalman_free(k);
             return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         }
@@ -187,8 +204,9 @@ rigmat_status rigmat_kalman_solve(const gsl_matrix *Ad, const gsl_matrix *Cd, co
 }
 
 rigmat_status rigmat_lqr_solve(const gsl_matrix *Ad, const gsl_matrix *Bd, const gsl_matrix *Q,
-        const gsl_matrix *R, const rigmat_riccati_opts *o, rigmat_riccati_ws *rw,
-        rigmat_lqr **out, rigmat_riccati_info *info, rigmat_error *err)
+                               const gsl_matrix *R, const rigmat_riccati_opts *o,
+                               rigmat_riccati_ws *rw, rigmat_lqr **out, rigmat_riccati_info *info,
+                               rigmat_error *err)
 {
     rigmat_riccati_info local;
     rigmat_lqr *l;
@@ -234,9 +252,12 @@ static const rigmat_signal *signal_of(const rigmat_lti *l, rigmat_gains_group g,
     if (L == NULL)
         return NULL;
     switch (g) {
-    case RIGMAT_GAINS_STATE: return i < L->nx ? &L->states[i] : NULL;
-    case RIGMAT_GAINS_INPUT: return i < L->nu ? &L->inputs[i] : NULL;
-    case RIGMAT_GAINS_OUTPUT: return i < L->ny ? &L->outputs[i] : NULL;
+    case RIGMAT_GAINS_STATE:
+        return i < L->nx ? &L->states[i] : NULL;
+    case RIGMAT_GAINS_INPUT:
+        return i < L->nu ? &L->inputs[i] : NULL;
+    case RIGMAT_GAINS_OUTPUT:
+        return i < L->ny ? &L->outputs[i] : NULL;
     }
     return NULL;
 }
@@ -262,7 +283,8 @@ static void format_z(char *buf, size_t len, double re, double im)
 }
 
 void rigmat_gains_explain(const rigmat_lti *l, rigmat_gains_problem p,
-        const rigmat_riccati_info *info, const char *weights_file, rigmat_error *err)
+                          const rigmat_riccati_info *info, const char *weights_file,
+                          rigmat_error *err)
 {
     const int kf = p == RIGMAT_GAINS_KALMAN;
     const char *wf = weights_file != NULL ? weights_file : "the weights file";
@@ -304,8 +326,10 @@ void rigmat_gains_explain(const rigmat_lti *l, rigmat_gains_problem p,
                         "and it does not decay",
                         z, st);
             if (fabs(hypot(info->re, info->im) - 1.0) <= 1e-6)
-                rigmat_error_hint(err, "add a sensor that reads '%s', or leave a cyclic "
-                                       "coordinate out with a `states:` list", st);
+                rigmat_error_hint(err,
+                                  "add a sensor that reads '%s', or leave a cyclic "
+                                  "coordinate out with a `states:` list",
+                                  st);
             else
                 rigmat_error_hint(err, "add a sensor that reads '%s'", st);
         } else {
@@ -323,8 +347,10 @@ void rigmat_gains_explain(const rigmat_lti *l, rigmat_gains_problem p,
                         "the mode at z = %s (mostly '%s') is on the unit circle and receives "
                         "no process noise: the filter would stop correcting it",
                         z, st);
-            rigmat_error_hint(err, "give a disturbance with a `density` that moves '%s', or "
-                                   "leave a cyclic coordinate out with a `states:` list", st);
+            rigmat_error_hint(err,
+                              "give a disturbance with a `density` that moves '%s', or "
+                              "leave a cyclic coordinate out with a `states:` list",
+                              st);
         } else {
             RIGMAT_FAIL(err, status,
                         "the mode at z = %s (mostly '%s') is on the unit circle and carries no "

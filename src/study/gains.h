@@ -64,10 +64,10 @@ typedef struct rigmat_kalman {
 
 /* The LQR.  Owns every matrix. */
 typedef struct rigmat_lqr {
-    size_t nx, nu;              /* nu: control inputs */
-    gsl_matrix *gain;           /* K, nu x nx: u = -K x */
-    gsl_matrix *cost_to_go;     /* X, nx x nx */
-    gsl_vector_complex *poles;  /* eig(Ad - Bd K), nx */
+    size_t nx, nu;             /* nu: control inputs */
+    gsl_matrix *gain;          /* K, nu x nx: u = -K x */
+    gsl_matrix *cost_to_go;    /* X, nx x nx */
+    gsl_vector_complex *poles; /* eig(Ad - Bd K), nx */
     rigmat_riccati_info info;
 } rigmat_lqr;
 
@@ -76,10 +76,10 @@ typedef struct rigmat_lqr {
  * size is 0. */
 typedef struct rigmat_gains_ws {
     size_t nx, p;
-    gsl_matrix *At;       /* nx x nx */
+    gsl_matrix *At;           /* nx x nx */
     gsl_matrix *Ct, *PCt, *T; /* nx x p */
-    gsl_matrix *Mt;       /* p x nx */
-    gsl_matrix *L;        /* p x p */
+    gsl_matrix *Mt;           /* p x nx */
+    gsl_matrix *L;            /* p x p */
 } rigmat_gains_ws;
 
 rigmat_gains_ws *rigmat_gains_ws_alloc(size_t nx, size_t p);
@@ -92,22 +92,26 @@ void rigmat_gains_ws_free(rigmat_gains_ws *w);
  * not NULL) for every refusal of rigmat_riccati_solve; RIGMAT_EUSAGE for
  * sizes; RIGMAT_ENOMEM. */
 rigmat_status rigmat_kalman_solve(const gsl_matrix *Ad, const gsl_matrix *Cd, const gsl_matrix *Qd,
-        const gsl_matrix *Rd, const gsl_matrix *S, const rigmat_riccati_opts *o,
-        rigmat_gains_ws *gw, rigmat_riccati_ws *rw, rigmat_kalman **out,
-        rigmat_riccati_info *info, rigmat_error *err);
+                                  const gsl_matrix *Rd, const gsl_matrix *S,
+                                  const rigmat_riccati_opts *o, rigmat_gains_ws *gw,
+                                  rigmat_riccati_ws *rw, rigmat_kalman **out,
+                                  rigmat_riccati_info *info, rigmat_error *err);
 void rigmat_kalman_free(rigmat_kalman *k);
 
 /* The LQR of (Ad, Bd) with weights Q (nx x nx) and R (nu x nu); rw is
  * exactly (nx, nu).  Ownership and statuses as rigmat_kalman_solve. */
 rigmat_status rigmat_lqr_solve(const gsl_matrix *Ad, const gsl_matrix *Bd, const gsl_matrix *Q,
-        const gsl_matrix *R, const rigmat_riccati_opts *o, rigmat_riccati_ws *rw,
-        rigmat_lqr **out, rigmat_riccati_info *info, rigmat_error *err);
+                               const gsl_matrix *R, const rigmat_riccati_opts *o,
+                               rigmat_riccati_ws *rw, rigmat_lqr **out, rigmat_riccati_info *info,
+                               rigmat_error *err);
 void rigmat_lqr_free(rigmat_lqr *l);
 
 /* ------------------------------------------------------ names of signals */
 
 typedef enum rigmat_gains_group {
-    RIGMAT_GAINS_STATE, RIGMAT_GAINS_INPUT, RIGMAT_GAINS_OUTPUT
+    RIGMAT_GAINS_STATE,
+    RIGMAT_GAINS_INPUT,
+    RIGMAT_GAINS_OUTPUT
 } rigmat_gains_group;
 
 /* The name and unit of state, input or output i of l: the one place in
@@ -124,6 +128,7 @@ typedef enum rigmat_gains_problem { RIGMAT_GAINS_KALMAN, RIGMAT_GAINS_LQR } rigm
  * sensor without noise, or the input, with a hint; weights_file names the
  * weights (may be NULL).  Does nothing when info->defect is RIGMAT_RICCATI_FINE. */
 void rigmat_gains_explain(const rigmat_lti *l, rigmat_gains_problem p,
-        const rigmat_riccati_info *info, const char *weights_file, rigmat_error *err);
+                          const rigmat_riccati_info *info, const char *weights_file,
+                          rigmat_error *err);
 
 #endif /* RIGMAT_GAINS_H */

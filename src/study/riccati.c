@@ -39,26 +39,52 @@ void rigmat_riccati_ws_free(rigmat_riccati_ws *w)
 
     if (w == NULL)
         return;
-    mats[0] = &w->Ab; mats[1] = &w->Qb; mats[2] = &w->G; mats[3] = &w->Ak; mats[4] = &w->Gk;
-    mats[5] = &w->Hk; mats[6] = &w->W; mats[7] = &w->Y1; mats[8] = &w->Y2; mats[9] = &w->T1;
-    mats[10] = &w->T2; mats[11] = &w->X2; mats[12] = &w->F; mats[13] = &w->Bt;
-    mats[14] = &w->St; mats[15] = &w->Kt; mats[16] = &w->L; mats[17] = &w->Rx;
+    mats[0] = &w->Ab;
+    mats[1] = &w->Qb;
+    mats[2] = &w->G;
+    mats[3] = &w->Ak;
+    mats[4] = &w->Gk;
+    mats[5] = &w->Hk;
+    mats[6] = &w->W;
+    mats[7] = &w->Y1;
+    mats[8] = &w->Y2;
+    mats[9] = &w->T1;
+    mats[10] = &w->T2;
+    mats[11] = &w->X2;
+    mats[12] = &w->F;
+    mats[13] = &w->Bt;
+    mats[14] = &w->St;
+    mats[15] = &w->Kt;
+    mats[16] = &w->L;
+    mats[17] = &w->Rx;
     mats[18] = &w->XB;
     for (i = 0; i < sizeof mats / sizeof mats[0]; i++)
         if (*mats[i] != NULL)
             gsl_matrix_free(*mats[i]);
-    if (w->Nt) gsl_matrix_free(w->Nt);
-    if (w->bs) gsl_vector_free(w->bs);
-    if (w->P) gsl_matrix_free(w->P);
-    if (w->V) gsl_matrix_free(w->V);
-    if (w->perm) gsl_permutation_free(w->perm);
-    if (w->sv) gsl_vector_free(w->sv);
-    if (w->svw) gsl_vector_free(w->svw);
-    if (w->ev) gsl_vector_free(w->ev);
-    if (w->sw) gsl_eigen_symmv_free(w->sw);
-    if (w->nw) gsl_eigen_nonsymmv_free(w->nw);
-    if (w->z) gsl_vector_complex_free(w->z);
-    if (w->Z) gsl_matrix_complex_free(w->Z);
+    if (w->Nt)
+        gsl_matrix_free(w->Nt);
+    if (w->bs)
+        gsl_vector_free(w->bs);
+    if (w->P)
+        gsl_matrix_free(w->P);
+    if (w->V)
+        gsl_matrix_free(w->V);
+    if (w->perm)
+        gsl_permutation_free(w->perm);
+    if (w->sv)
+        gsl_vector_free(w->sv);
+    if (w->svw)
+        gsl_vector_free(w->svw);
+    if (w->ev)
+        gsl_vector_free(w->ev);
+    if (w->sw)
+        gsl_eigen_symmv_free(w->sw);
+    if (w->nw)
+        gsl_eigen_nonsymmv_free(w->nw);
+    if (w->z)
+        gsl_vector_complex_free(w->z);
+    if (w->Z)
+        gsl_matrix_complex_free(w->Z);
     free(w);
 }
 
@@ -106,9 +132,9 @@ rigmat_riccati_ws *rigmat_riccati_ws_alloc(size_t n, size_t m)
     w->z = gsl_vector_complex_alloc(n);
     w->Z = gsl_matrix_complex_alloc(n, n);
     if (!w->Ab || !w->Qb || !w->G || !w->Ak || !w->Gk || !w->Hk || !w->W || !w->Y1 || !w->Y2 ||
-            !w->T1 || !w->T2 || !w->X2 || !w->F || !w->Bt || !w->St || !w->Kt || !w->Nt ||
-            !w->L || !w->Rx || !w->XB || !w->perm || !w->P || !w->V || !w->sv || !w->svw ||
-            !w->ev || !w->bs || !w->sw || !w->nw || !w->z || !w->Z) {
+        !w->T1 || !w->T2 || !w->X2 || !w->F || !w->Bt || !w->St || !w->Kt || !w->Nt || !w->L ||
+        !w->Rx || !w->XB || !w->perm || !w->P || !w->V || !w->sv || !w->svw || !w->ev || !w->bs ||
+        !w->sw || !w->nw || !w->z || !w->Z) {
         rigmat_riccati_ws_free(w);
         return NULL;
     }
@@ -213,7 +239,7 @@ static size_t argmax_complex(const gsl_vector *v, size_t n)
  * the column where R + B^T X B is not positive definite; *gs receives a
  * BLAS status. */
 static size_t gain(rigmat_riccati_ws *w, const gsl_matrix *Aop, const gsl_matrix *B,
-        const gsl_matrix *R, const gsl_matrix *S, const gsl_matrix *X, int *gs)
+                   const gsl_matrix *R, const gsl_matrix *S, const gsl_matrix *X, int *gs)
 {
     size_t bad;
 
@@ -238,7 +264,8 @@ static size_t gain(rigmat_riccati_ws *w, const gsl_matrix *Aop, const gsl_matrix
 }
 
 double rigmat_riccati_residual(const gsl_matrix *A, const gsl_matrix *B, const gsl_matrix *Q,
-        const gsl_matrix *R, const gsl_matrix *S, const gsl_matrix *X, rigmat_riccati_ws *w)
+                               const gsl_matrix *R, const gsl_matrix *S, const gsl_matrix *X,
+                               rigmat_riccati_ws *w)
 {
     double num, den;
     int gs = 0;
@@ -276,7 +303,7 @@ static int lu_solve_cols(rigmat_riccati_ws *w, gsl_matrix *Y)
 /* SDA on (A0, G0, H0) -> w->Hk.  Returns 0 when converged, 1 when not
  * (max_iter, a singular I + G H or a non-finite update). */
 static int sda(rigmat_riccati_ws *w, const gsl_matrix *A0, const gsl_matrix *G0,
-        const gsl_matrix *H0, const rigmat_riccati_opts *o, size_t *iters, double *update)
+               const gsl_matrix *H0, const rigmat_riccati_opts *o, size_t *iters, double *update)
 {
     const size_t n = w->n;
     size_t k, i;
@@ -358,7 +385,7 @@ static int stein(rigmat_riccati_ws *w, const rigmat_riccati_opts *o)
 /* Newton's method in Hewer's form on the transformed problem (Ab, B, R,
  * Qb), from the gain in w->Kt, into w->Hk.  0 when converged. */
 static int newton(rigmat_riccati_ws *w, const gsl_matrix *B, const gsl_matrix *R,
-        const rigmat_riccati_opts *o, size_t *steps)
+                  const rigmat_riccati_opts *o, size_t *steps)
 {
     double prev = HUGE_VAL;
     size_t i;
@@ -421,7 +448,7 @@ static void put_block(gsl_matrix *P, size_t p, size_t q, size_t i, size_t j, dou
 /* Fill info->right (from eigenvector column k of w->Z) and info->left (the
  * null vector of (Ab - z I)^H) for the eigenvalue z = re + i im of Ab. */
 static int eigvec_sides(rigmat_riccati_ws *w, size_t k, double re, double im,
-        rigmat_riccati_info *info)
+                        rigmat_riccati_info *info)
 {
     const size_t n = w->n;
     double best = -1.0;
@@ -450,7 +477,7 @@ static int eigvec_sides(rigmat_riccati_ws *w, size_t k, double re, double im,
 }
 
 static int pbh(rigmat_riccati_ws *w, const gsl_matrix *B, const rigmat_riccati_opts *o,
-        rigmat_riccati_info *info)
+               rigmat_riccati_info *info)
 {
     const size_t n = w->n, m = w->m;
     const double na = fro(w->Ab) > 1.0 ? fro(w->Ab) : 1.0;
@@ -526,8 +553,8 @@ static int pbh(rigmat_riccati_ws *w, const gsl_matrix *B, const rigmat_riccati_o
 
 /* Eigenvalues of A - B K (K in w->Kt) into w->z (vectors w->Z); the
  * spectral radius and the index of its largest eigenvector entry. */
-static int closed_loop(rigmat_riccati_ws *w, const gsl_matrix *A, const gsl_matrix *B,
-        double *rho, size_t *at, double *re, double *im)
+static int closed_loop(rigmat_riccati_ws *w, const gsl_matrix *A, const gsl_matrix *B, double *rho,
+                       size_t *at, double *re, double *im)
 {
     size_t k, i, best = 0;
     double r = 0.0;
@@ -562,14 +589,22 @@ static int closed_loop(rigmat_riccati_ws *w, const gsl_matrix *A, const gsl_matr
 static const char *defect_words(rigmat_riccati_defect d)
 {
     switch (d) {
-    case RIGMAT_RICCATI_FINE: return "no defect";
-    case RIGMAT_RICCATI_R_NOT_PD: return "R is not positive definite";
-    case RIGMAT_RICCATI_Q_INDEFINITE: return "Q - S R^-1 S^T is not positive semidefinite";
-    case RIGMAT_RICCATI_UNSTABILIZABLE: return "a mode on or outside the unit circle is not stabilizable";
-    case RIGMAT_RICCATI_UNIT_CIRCLE: return "a mode on the unit circle is not seen by Q";
-    case RIGMAT_RICCATI_NO_CONVERGENCE: return "the doubling iteration did not converge";
-    case RIGMAT_RICCATI_NOT_STABILIZING: return "the solution found is not stabilizing";
-    case RIGMAT_RICCATI_RESIDUAL: return "the residual is too large";
+    case RIGMAT_RICCATI_FINE:
+        return "no defect";
+    case RIGMAT_RICCATI_R_NOT_PD:
+        return "R is not positive definite";
+    case RIGMAT_RICCATI_Q_INDEFINITE:
+        return "Q - S R^-1 S^T is not positive semidefinite";
+    case RIGMAT_RICCATI_UNSTABILIZABLE:
+        return "a mode on or outside the unit circle is not stabilizable";
+    case RIGMAT_RICCATI_UNIT_CIRCLE:
+        return "a mode on the unit circle is not seen by Q";
+    case RIGMAT_RICCATI_NO_CONVERGENCE:
+        return "the doubling iteration did not converge";
+    case RIGMAT_RICCATI_NOT_STABILIZING:
+        return "the solution found is not stabilizing";
+    case RIGMAT_RICCATI_RESIDUAL:
+        return "the residual is too large";
     }
     return "unknown defect";
 }
@@ -578,7 +613,7 @@ static rigmat_status refuse(rigmat_error *err, rigmat_riccati_info *info, rigmat
 {
     info->defect = d;
     if (d == RIGMAT_RICCATI_UNSTABILIZABLE || d == RIGMAT_RICCATI_UNIT_CIRCLE ||
-            d == RIGMAT_RICCATI_NOT_STABILIZING)
+        d == RIGMAT_RICCATI_NOT_STABILIZING)
         return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "riccati: %s (z = %.6g%+.6gi, state %zu)",
                            defect_words(d), info->re, info->im, info->index);
     if (d == RIGMAT_RICCATI_R_NOT_PD)
@@ -590,11 +625,11 @@ static rigmat_status refuse(rigmat_error *err, rigmat_riccati_info *info, rigmat
     return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "riccati: %s", defect_words(d));
 }
 
-
 rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, const gsl_matrix *Q,
-        const gsl_matrix *R, const gsl_matrix *S, const rigmat_riccati_opts *o,
-        rigmat_riccati_ws *w, gsl_matrix *X, gsl_matrix *K, gsl_vector_complex *poles,
-        rigmat_riccati_info *info_out, rigmat_error *err)
+                                   const gsl_matrix *R, const gsl_matrix *S,
+                                   const rigmat_riccati_opts *o, rigmat_riccati_ws *w,
+                                   gsl_matrix *X, gsl_matrix *K, gsl_vector_complex *poles,
+                                   rigmat_riccati_info *info_out, rigmat_error *err)
 {
     rigmat_riccati_info local;
     rigmat_riccati_info *info = info_out != NULL ? info_out : &local;
@@ -619,10 +654,9 @@ rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, con
     n = w->n;
     m = w->m;
     if (A->size1 != n || A->size2 != n || B->size1 != n || B->size2 != m || Q->size1 != n ||
-            Q->size2 != n || R->size1 != m || R->size2 != m || X->size1 != n || X->size2 != n ||
-            (S != NULL && (S->size1 != n || S->size2 != m)) ||
-            (K != NULL && (K->size1 != m || K->size2 != n)) ||
-            (poles != NULL && poles->size != n))
+        Q->size2 != n || R->size1 != m || R->size2 != m || X->size1 != n || X->size2 != n ||
+        (S != NULL && (S->size1 != n || S->size2 != m)) ||
+        (K != NULL && (K->size1 != m || K->size2 != n)) || (poles != NULL && poles->size != n))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
                            "riccati: sizes do not match the workspace (%zu states, %zu inputs)", n,
                            m);
@@ -707,7 +741,7 @@ rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, con
         gsl_matrix_memcpy(X, w->X2);
         bad = gain(w, A, B, R, S, X, &gs);
         if (bad == RIGMAT_NONE && gs == 0 &&
-                closed_loop(w, A, B, &rho, &info->index, &re, &im) != 0)
+            closed_loop(w, A, B, &rho, &info->index, &re, &im) != 0)
             return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "riccati: closed-loop eigenvalues failed");
     }
     if (bad != RIGMAT_NONE || gs != 0) {

@@ -50,8 +50,9 @@
  *     X falls below newton_rtol (default 1e-13), or rises again once below
  *     1e-6 (round-off reached; far from the solution the change may rise).
  *
- * Refusals, found before the iteration (PBH tests, T. Kailath, "Linear
- * Systems", 1980, section 2.4.3; M. L. J. Hautus, 1969):
+ * Refusals, found before the iteration (the PBH test, shared REFERENCES.md
+ * "PBH test": rank[A - zI, B] = n; T. Kailath, "Linear Systems", 1980,
+ * section 2.4.3, from memory):
  *   - R not positive definite (its Cholesky factorization breaks down at a
  *     column, returned in info->index);
  *   - Qb not positive semidefinite;
@@ -76,8 +77,10 @@
  *     ||A^T X A - X - (A^T X B + S) K + Q||_F /
  *         (||X||_F + ||A^T X A||_F + ||(A^T X B + S) K||_F + ||Q||_F)
  * is computed in the original (untransformed) terms and returned; on the
- * examples and the random cases of tests/ref it is ~1e-16 to 1e-14.  The
+ * examples and the random cases of tests/ref it is 1e-18 to 3e-13.  The
  * forward error is this times the condition number of the DARE.
+ *
+ * Journal, volume and page details above are from memory.
  *
  * Units: none of its own; X has the units of Q (Q's units per R's units in K).
  */
@@ -114,16 +117,16 @@ typedef enum rigmat_riccati_defect {
 
 /* What a solve did, filled whatever the status. */
 typedef struct rigmat_riccati_info {
-    size_t iterations;      /* SDA steps of the last SDA run */
-    size_t newton_steps;    /* 0 unless the detectability fallback ran */
-    double update;          /* last relative SDA update */
-    double residual;        /* relative residual (above); NaN when none computed */
-    double rho;             /* spectral radius of the closed loop A - B K */
+    size_t iterations;   /* SDA steps of the last SDA run */
+    size_t newton_steps; /* 0 unless the detectability fallback ran */
+    double update;       /* last relative SDA update */
+    double residual;     /* relative residual (above); NaN when none computed */
+    double rho;          /* spectral radius of the closed loop A - B K */
     rigmat_riccati_defect defect;
-    double re, im;          /* the offending eigenvalue z (defects with a mode) */
-    double margin;          /* PBH: relative smallest singular value found */
-    size_t index;           /* state (or R column) the defect points at; RIGMAT_NONE */
-    size_t right, left;     /* modes: largest entries of the right and left eigenvectors
+    double re, im;      /* the offending eigenvalue z (defects with a mode) */
+    double margin;      /* PBH: relative smallest singular value found */
+    size_t index;       /* state (or R column) the defect points at; RIGMAT_NONE */
+    size_t right, left; /* modes: largest entries of the right and left eigenvectors
                              * of Ab (closed loop: of A - B K) for z; RIGMAT_NONE */
 } rigmat_riccati_info;
 
@@ -133,18 +136,18 @@ typedef struct rigmat_riccati_info {
 typedef struct rigmat_riccati_ws {
     size_t n, m;
     gsl_matrix *Ab, *Qb, *G, *Ak, *Gk, *Hk, *W, *Y1, *Y2, *T1, *T2, *X2, *F; /* n x n */
-    gsl_matrix *Bt, *St, *Kt, *Nt; /* m x n */
-    gsl_matrix *L, *Rx;            /* m x m */
-    gsl_matrix *XB;                /* n x m */
-    gsl_permutation *perm;         /* n */
-    gsl_matrix *P, *V;             /* PBH: 2 max(n + m, 2n) x 2n, 2n x 2n */
-    gsl_vector *sv, *svw;          /* 2n */
-    gsl_vector *ev;                /* n, symmetric eigenvalues */
-    gsl_vector *bs;                /* m, PBH column scales of B */
-    gsl_eigen_symmv_workspace *sw; /* n */
+    gsl_matrix *Bt, *St, *Kt, *Nt;                                           /* m x n */
+    gsl_matrix *L, *Rx;                                                      /* m x m */
+    gsl_matrix *XB;                                                          /* n x m */
+    gsl_permutation *perm;                                                   /* n */
+    gsl_matrix *P, *V;                /* PBH: 2 max(n + m, 2n) x 2n, 2n x 2n */
+    gsl_vector *sv, *svw;             /* 2n */
+    gsl_vector *ev;                   /* n, symmetric eigenvalues */
+    gsl_vector *bs;                   /* m, PBH column scales of B */
+    gsl_eigen_symmv_workspace *sw;    /* n */
     gsl_eigen_nonsymmv_workspace *nw; /* n */
-    gsl_vector_complex *z;         /* n eigenvalues */
-    gsl_matrix_complex *Z;         /* n x n eigenvectors */
+    gsl_vector_complex *z;            /* n eigenvalues */
+    gsl_matrix_complex *Z;            /* n x n eigenvectors */
 } rigmat_riccati_ws;
 
 rigmat_riccati_ws *rigmat_riccati_ws_alloc(size_t n, size_t m);
@@ -158,14 +161,16 @@ void rigmat_riccati_ws_free(rigmat_riccati_ws *w);
  * that do not match the workspace, RIGMAT_ENUMERIC with info->defect set
  * and a message in err for every refusal listed above (GSL failures too). */
 rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, const gsl_matrix *Q,
-        const gsl_matrix *R, const gsl_matrix *S, const rigmat_riccati_opts *o,
-        rigmat_riccati_ws *w, gsl_matrix *X, gsl_matrix *K, gsl_vector_complex *poles,
-        rigmat_riccati_info *info, rigmat_error *err);
+                                   const gsl_matrix *R, const gsl_matrix *S,
+                                   const rigmat_riccati_opts *o, rigmat_riccati_ws *w,
+                                   gsl_matrix *X, gsl_matrix *K, gsl_vector_complex *poles,
+                                   rigmat_riccati_info *info, rigmat_error *err);
 
 /* The relative residual of X for (A, B, Q, R, S) as defined above, with
  * the gain K = (R + B^T X B)^-1 (B^T X A + S^T) (m x n) it implies.  NaN
  * when R + B^T X B is not positive definite.  Uses w's scratch. */
 double rigmat_riccati_residual(const gsl_matrix *A, const gsl_matrix *B, const gsl_matrix *Q,
-        const gsl_matrix *R, const gsl_matrix *S, const gsl_matrix *X, rigmat_riccati_ws *w);
+                               const gsl_matrix *R, const gsl_matrix *S, const gsl_matrix *X,
+                               rigmat_riccati_ws *w);
 
 #endif /* RIGMAT_RICCATI_H */

@@ -14,8 +14,10 @@ void rigmat_weights_free(rigmat_weights *w)
 {
     if (w == NULL)
         return;
-    if (w->Q) gsl_matrix_free(w->Q);
-    if (w->R) gsl_matrix_free(w->R);
+    if (w->Q)
+        gsl_matrix_free(w->Q);
+    if (w->R)
+        gsl_matrix_free(w->R);
     free(w->x_max);
     free(w->u_max);
     free(w->u_from_limit);
@@ -89,8 +91,8 @@ static void list_names(char *buf, size_t len, const rigmat_lti *l, rigmat_gains_
     size_t used = (size_t)snprintf(buf, len, "use one of: "), i;
 
     for (i = 0; i < n && used + 8 < len; i++) {
-        const int k = snprintf(buf + used, len - used, "%s%s", i ? ", " : "",
-                               rigmat_gains_name(l, g, i));
+        const int k =
+                snprintf(buf + used, len - used, "%s%s", i ? ", " : "", rigmat_gains_name(l, g, i));
         if (k < 0)
             break;
         used += (size_t)k;
@@ -118,14 +120,14 @@ static void werr(struct wctx *c, rigmat_loc at, const char *hint, const char *fm
     vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
     if (rigmat_diags_add(c->d, RIGMAT_ERROR, at, c->within, c->within_what, hint, "%s", msg) ==
-            RIGMAT_ENOMEM)
+        RIGMAT_ENOMEM)
         c->nomem = 1;
 }
 
 /* One value: a positive quantity in the signal's unit (a bare number is
  * SI).  1 when read into *out. */
 static int value(struct wctx *c, const rigmat_node *n, const char *name, const char *unit,
-        double *out)
+                 double *out)
 {
     rigmat_quantity q;
     rigmat_error e;
@@ -210,7 +212,7 @@ static void section(struct wctx *c, const rigmat_entry *sec, rigmat_gains_group 
 }
 
 rigmat_status rigmat_weights_load(const char *path, const rigmat_lti *l, const rigmat_options *opt,
-        rigmat_weights **out, rigmat_diags *d)
+                                  rigmat_weights **out, rigmat_diags *d)
 {
     const size_t before = d->errors;
     rigmat_node *root = NULL;
@@ -290,7 +292,7 @@ rigmat_status rigmat_weights_load(const char *path, const rigmat_lti *l, const r
     w->u_max = calloc(l->nu_control ? l->nu_control : 1, sizeof *w->u_max);
     w->u_from_limit = calloc(l->nu_control ? l->nu_control : 1, sizeof *w->u_from_limit);
     if ((l->nx && !w->Q) || (l->nu_control && !w->R) || !w->x_max || !w->u_max ||
-            !w->u_from_limit) {
+        !w->u_from_limit) {
         st = RIGMAT_ENOMEM;
         goto done;
     }

@@ -30,12 +30,12 @@
 #include "rigmat.h"
 
 typedef struct rigmat_weights {
-    size_t nx, nu;       /* states; control inputs */
-    gsl_matrix *Q;       /* nx x nx, diagonal 1 / x_max^2 (0 without a weight) */
-    gsl_matrix *R;       /* nu x nu, diagonal 1 / u_max^2 */
-    double *x_max;       /* nx, SI; 0 = no weight */
-    double *u_max;       /* nu, SI */
-    int *u_from_limit;   /* nu: 1 when u_max is the input's limit */
+    size_t nx, nu;     /* states; control inputs */
+    gsl_matrix *Q;     /* nx x nx, diagonal 1 / x_max^2 (0 without a weight) */
+    gsl_matrix *R;     /* nu x nu, diagonal 1 / u_max^2 */
+    double *x_max;     /* nx, SI; 0 = no weight */
+    double *u_max;     /* nu, SI */
+    int *u_from_limit; /* nu: 1 when u_max is the input's limit */
 } rigmat_weights;
 
 /* Read path against the states and control inputs of l (names and units
@@ -45,7 +45,7 @@ typedef struct rigmat_weights {
  * at least one error in d, RIGMAT_EIO when the file cannot be read,
  * RIGMAT_ENOMEM. */
 rigmat_status rigmat_weights_load(const char *path, const rigmat_lti *l, const rigmat_options *opt,
-        rigmat_weights **out, rigmat_diags *d);
+                                  rigmat_weights **out, rigmat_diags *d);
 void rigmat_weights_free(rigmat_weights *w);
 
 #endif /* RIGMAT_WEIGHTS_H */
