@@ -115,6 +115,8 @@ if "$R" --help | grep -q '^  gains'; then
     has "$T/out" '"closed_loop_poles"' "gains json lqr"
     expect 2 "gains without rate" -- "$R" gains "$DEMO"
     expect 2 "gains with tustin" -- "$R" gains "$DEMO" --rate 200Hz --method tustin
+    expect 0 "gains with euler, by period" -- "$R" gains "$DEMO" --period 5ms --method euler
+    has "$T/out" "method euler" "gains text names the method"
     expect 4 "gains weights file missing" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/nope.yaml"
     # undetectable and unstabilizable modes: exit 3, the mode named
     expect 3 "gains undetectable mode" -- "$R" gains "$G/unlinked.yaml" --rate 200Hz

@@ -6,7 +6,9 @@
 # and on large inputs generated here into HOSTILE_GEN (default
 # build/hostile), so megabytes never sit in the repository.  Each entry is
 # given to `check`, and to `linearize` and `discretize --rate 100Hz` when
-# `rigmat --help` lists them.  Every run is bounded: address space
+# `rigmat --help` lists them, and as the weights file of `gains
+# examples/balancer.yaml --rate 100Hz --weights ENTRY` (the weights reader
+# shares the model loader's YAML reader and limits).  Every run is bounded: address space
 # HOSTILE_VMEM_KB (default 1 GiB), wall time HOSTILE_TIMEOUT seconds
 # (default 10).  A run passes when
 #   - it exits 1 (bad model) or 4 (input/output error): not 0, not a
@@ -134,6 +136,7 @@ run() { # run WHAT PATH COMMAND [ARGS...]
 cmds=check
 if "$R" --help 2>/dev/null | grep -q '^  linearize'; then cmds="$cmds linearize"; fi
 if "$R" --help 2>/dev/null | grep -q '^  discretize'; then cmds="$cmds discretize"; fi
+if "$R" --help 2>/dev/null | grep -q '^  gains'; then cmds="$cmds gains-weights"; fi
 
 n=0
 for f in "$H"/* "$G"/* /dev/zero /dev/null; do
@@ -145,6 +148,8 @@ for f in "$H"/* "$G"/* /dev/zero /dev/null; do
     for c in $cmds; do
         if [ "$c" = discretize ]; then
             run "$f" discretize "$f" --rate 100Hz
+        elif [ "$c" = gains-weights ]; then
+            run "$f" gains examples/balancer.yaml --rate 100Hz --weights "$f"
         else
             run "$f" "$c" "$f"
         fi
