@@ -247,6 +247,49 @@ START_TEST(unweighted_integrator_is_named)
 }
 END_TEST
 
+START_TEST(defective_mode_is_named_after_the_iteration)
+{
+    /* A Jordan block J = [[1.2, 1], [0, 1.2]] seen through T (A = T J T^-1)
+     * with B = T [1; 0]: the mode z = 1.2 is not stabilizable (B misses the
+     * block's last direction; Kailath 1980, section 2.4.3, from memory),
+     * but its eigenvalues are computed only to about sqrt(eps), so the
+     * strict PBH test misses it; the iteration then fails and the late
+     * PBH test must name it. */
+    struct dare d;
+    const double t[4] = { 0.83, -0.41, 0.27, 1.19 };
+    const double det = t[0] * t[3] - t[1] * t[2];
+    const double ti[4] = { t[3] / det, -t[1] / det, -t[2] / det, t[0] / det };
+    const double J[4] = { 1.2, 1.0, 0.0, 1.2 };
+    double TJ[4];
+    size_t i, j, k;
+
+    dare_alloc(&d, 2, 1, 0);
+    for (i = 0; i < 2; i++)
+        for (j = 0; j < 2; j++) {
+            TJ[2 * i + j] = 0.0;
+            for (k = 0; k < 2; k++)
+                TJ[2 * i + j] += t[2 * i + k] * J[2 * k + j];
+        }
+    for (i = 0; i < 2; i++)
+        for (j = 0; j < 2; j++) {
+            double v = 0.0;
+            for (k = 0; k < 2; k++)
+                v += TJ[2 * i + k] * ti[2 * k + j];
+            gsl_matrix_set(d.A, i, j, v);
+        }
+    gsl_matrix_set(d.B, 0, 0, t[0]);
+    gsl_matrix_set(d.B, 1, 0, t[2]);
+    gsl_matrix_set_identity(d.Q);
+    gsl_matrix_set(d.R, 0, 0, 0.7);
+    ck_assert_int_eq(dare_solve(&d), RIGMAT_ENUMERIC);
+    ck_assert_int_eq(d.info.defect, RIGMAT_RICCATI_UNSTABILIZABLE);
+    ck_assert_rel(d.info.re, 1.2, 1e-6);
+    /* found after the iteration, not before */
+    ck_assert_uint_gt(d.info.iterations, 0);
+    dare_free(&d);
+}
+END_TEST
+
 START_TEST(bad_weights_are_refused)
 {
     struct dare d;
@@ -295,6 +338,7 @@ Suite *riccati_suite(void)
     suite_add_tcase(s, tr);
     tcase_add_test(te, unstabilizable_mode_is_named);
     tcase_add_test(te, unweighted_integrator_is_named);
+    tcase_add_test(te, defective_mode_is_named_after_the_iteration);
     tcase_add_test(te, bad_weights_are_refused);
     suite_add_tcase(s, te);
     return s;

@@ -69,7 +69,11 @@
  *     costs nothing, or receives no noise, and stays on the circle);
  *     info->index is the largest entry of the right null vector.
  * and after it: no convergence within max_iter; a closed loop with a pole at
- * |z| >= 1 - circle_tol (info->index: largest entry of its eigenvector);
+ * |z| >= 1 - circle_tol (info->index: largest entry of its eigenvector).
+ * Both first run the PBH tests again at pbh_rtol_late (default 1e-6) and,
+ * when they find a nearly defective mode, report it as above instead: a
+ * defective (Jordan) eigenvalue is computed only to about sqrt(eps), which
+ * can hide its rank defect from the strict test;
  * R + B^T X B not positive definite; a relative residual above
  * residual_max (default 1e-8).
  *
@@ -92,13 +96,14 @@
 #include <gsl/gsl_permutation.h>
 
 typedef struct rigmat_riccati_opts {
-    double rtol;         /* SDA stop: relative update in the 1-norm; default 1e-15 */
-    size_t max_iter;     /* SDA steps (also per Stein solve); default 64 */
-    double newton_rtol;  /* Newton stop: relative change of X; default 1e-13 */
-    size_t newton_max;   /* Newton steps; default 30 */
-    double pbh_rtol;     /* PBH rank threshold, relative; default 1e-10 */
-    double circle_tol;   /* | |z| - 1 | <= this is on the unit circle; default 1e-6 */
-    double residual_max; /* largest relative residual accepted; default 1e-8 */
+    double rtol;          /* SDA stop: relative update in the 1-norm; default 1e-15 */
+    size_t max_iter;      /* SDA steps (also per Stein solve); default 64 */
+    double newton_rtol;   /* Newton stop: relative change of X; default 1e-13 */
+    size_t newton_max;    /* Newton steps; default 30 */
+    double pbh_rtol;      /* PBH rank threshold, relative; default 1e-10 */
+    double pbh_rtol_late; /* the same after a failed iteration; default 1e-6 */
+    double circle_tol;    /* | |z| - 1 | <= this is on the unit circle; default 1e-6 */
+    double residual_max;  /* largest relative residual accepted; default 1e-8 */
 } rigmat_riccati_opts;
 
 rigmat_riccati_opts rigmat_riccati_opts_default(void);
