@@ -249,38 +249,23 @@ END_TEST
 
 START_TEST(defective_mode_is_named_after_the_iteration)
 {
-    /* A Jordan block J = [[1.2, 1], [0, 1.2]] seen through T (A = T J T^-1)
-     * with B = T [1; 0]: the mode z = 1.2 is not stabilizable (B misses the
-     * block's last direction; Kailath 1980, section 2.4.3, from memory),
-     * but its eigenvalues are computed only to about sqrt(eps), so the
-     * strict PBH test misses it; the iteration then fails and the late
-     * PBH test must name it. */
+    /* A Jordan block J = [[1.2, 1], [0, 1.2]] seen through a random T
+     * (A = T J T^-1, B = T [1; 0]; T = numpy.random.default_rng(3)
+     * .standard_normal((2, 2)), values below to 17 digits): the mode
+     * z = 1.2 is not stabilizable (B misses the block's last direction;
+     * Kailath 1980, section 2.4.3, from memory), but its eigenvalues come
+     * out as 1.2 +/- 9e-8i, so the strict PBH test misses the defect; the
+     * iteration then fails and the late PBH test must name it. */
+    static const double a[4] = { 10.654783092490838, -46.152836232695876, 1.9368890543442343,
+                                 -8.2547830924908379 };
+    static const double b[2] = { 2.0409191213851825, 0.41809884672577885 };
     struct dare d;
-    const double t[4] = { 0.83, -0.41, 0.27, 1.19 };
-    const double det = t[0] * t[3] - t[1] * t[2];
-    const double ti[4] = { t[3] / det, -t[1] / det, -t[2] / det, t[0] / det };
-    const double J[4] = { 1.2, 1.0, 0.0, 1.2 };
-    double TJ[4];
-    size_t i, j, k;
 
     dare_alloc(&d, 2, 1, 0);
-    for (i = 0; i < 2; i++)
-        for (j = 0; j < 2; j++) {
-            TJ[2 * i + j] = 0.0;
-            for (k = 0; k < 2; k++)
-                TJ[2 * i + j] += t[2 * i + k] * J[2 * k + j];
-        }
-    for (i = 0; i < 2; i++)
-        for (j = 0; j < 2; j++) {
-            double v = 0.0;
-            for (k = 0; k < 2; k++)
-                v += TJ[2 * i + k] * ti[2 * k + j];
-            gsl_matrix_set(d.A, i, j, v);
-        }
-    gsl_matrix_set(d.B, 0, 0, t[0]);
-    gsl_matrix_set(d.B, 1, 0, t[2]);
+    tu_fill(d.A, a);
+    tu_fill(d.B, b);
     gsl_matrix_set_identity(d.Q);
-    gsl_matrix_set(d.R, 0, 0, 0.7);
+    gsl_matrix_set(d.R, 0, 0, 1.0);
     ck_assert_int_eq(dare_solve(&d), RIGMAT_ENUMERIC);
     ck_assert_int_eq(d.info.defect, RIGMAT_RICCATI_UNSTABILIZABLE);
     ck_assert_rel(d.info.re, 1.2, 1e-6);
