@@ -16,9 +16,10 @@
  *     librigmat must call gsl_set_error_handler_off() once, first: rigmat
  *     checks every GSL status itself.
  *
- * Sampling, the noise model, the matrix exponential and units have headers
- * of their own, installed beside this one: <rigmat/discretize.h>,
- * <rigmat/noise.h>, <rigmat/expm.h>, <rigmat/units.h>.
+ * Sampling, the noise model, the matrix exponential, units, the Riccati
+ * solver and the Kalman/LQR gains have headers of their own, installed
+ * beside this one: <rigmat/discretize.h>, <rigmat/noise.h>,
+ * <rigmat/expm.h>, <rigmat/units.h>, <rigmat/riccati.h>, <rigmat/gains.h>.
  *
  * Copyright (C) 2026 the rigmat authors.  GPL-3.0-or-later.
  */

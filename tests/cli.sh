@@ -380,6 +380,65 @@ if has_cmd simulate; then
     has "$T/err" "rows before the failure are in" "--partial note"
 fi
 
+if "$R" --help | grep -q '^  gains'; then
+    G=tests/gains
+    expect 0 "gains help" -- "$R" gains --help
+    has "$T/out" "weights" "gains help names --weights"
+    expect 0 "gains demo" -- "$R" gains "$DEMO" --rate 200Hz
+    has "$T/out" "slowest estimator pole" "gains text summary"
+    has "$T/out" "emergency stop" "gains text caution"
+    expect 0 "gains demo json with weights" -- "$R" gains "$DEMO" --rate 200Hz --format json --weights "$G/balancer.yaml"
+    has "$T/out" '"posterior_covariance"' "gains json kalman"
+    has "$T/out" '"closed_loop_poles"' "gains json lqr"
+    expect 2 "gains without rate" -- "$R" gains "$DEMO"
+    expect 2 "gains with tustin" -- "$R" gains "$DEMO" --rate 200Hz --method tustin
+    expect 0 "gains with euler, by period" -- "$R" gains "$DEMO" --period 5ms --method euler
+    has "$T/out" "method euler" "gains text names the method"
+    expect 4 "gains weights file missing" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/nope.yaml"
+    # undetectable and unstabilizable modes: exit 3, the mode named
+    expect 3 "gains undetectable mode" -- "$R" gains "$G/unlinked.yaml" --rate 200Hz
+    has "$T/err" "z = 1.027.*mostly 'pivot.*not detectable" "undetectable mode named"
+    expect 3 "gains unstabilizable mode" -- "$R" gains "$G/unlinked.yaml" --rate 200Hz \
+        --weights "$G/unlinked-weights.yaml" --set 'sensors.arm_rate={measures: rate, of: arm, noise: 0.01 rad/s}'
+    has "$T/err" "mostly 'pivot.*not stabilizable" "unstabilizable mode named"
+    if [ -s "$T/out" ]; then bad "refused gains printed a result"; else ok; fi
+    # a free mode without process noise, an integrator without weight
+    expect 3 "gains noiseless free mode" -- "$R" gains examples/cart.yaml --rate 200Hz
+    has "$T/err" "mostly 'track.position'.*no process noise" "noiseless mode named"
+    printf 'states:\n  tilt.angle: 3 deg\ninputs:\n  drive: 0.6\n' >"$T/w0.yaml"
+    expect 3 "gains unweighted integrator" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/w0.yaml"
+    has "$T/err" "mostly 'travel.position'.*carries no weight" "unweighted integrator named"
+    has "$T/err" "hint: give 'travel.position' a weight" "unweighted integrator hint"
+    # bad weights: FILE:LINE:COL, a hint, exit 1, nothing printed
+    printf 'states:\n  tilt.angel: 3 deg\ninputs:\n  drive: 0.6\n' >"$T/w1.yaml"
+    expect 1 "gains misspelt state" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/w1.yaml"
+    has "$T/err" "w1.yaml:2:3: error: no state 'tilt.angel'" "misspelt state placed"
+    has "$T/err" "did you mean 'tilt.angle'" "misspelt state hint"
+    if [ -s "$T/out" ]; then bad "bad weights printed a result"; else ok; fi
+    printf 'states:\n  tilt.angle: 3 deg\ninputs:\n  driev: 0.6\n' >"$T/w2.yaml"
+    expect 1 "gains misspelt input" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/w2.yaml"
+    has "$T/err" "w2.yaml:4:3: error: no control input 'driev'" "misspelt input placed"
+    has "$T/err" "did you mean 'drive'" "misspelt input hint"
+    has "$T/err" "control input 'drive' has no weight" "missing input weight named"
+    printf 'states:\n  tilt.angle: 3 kg\ninputs:\n  drive: 0.6\n  shove: 2 N\n' >"$T/w3.yaml"
+    expect 1 "gains wrong unit, disturbance weighted" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/w3.yaml"
+    has "$T/err" "w3.yaml:2:15: error: expected rad for 'tilt.angle', got kg" "wrong unit placed"
+    has "$T/err" "'shove' is a disturbance input" "disturbance weight refused"
+    printf 'states:\n  tilt.angle: -3 deg\ninput:\n  drive: 0.6\n' >"$T/w4.yaml"
+    expect 1 "gains negative weight, unknown key" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/w4.yaml"
+    has "$T/err" "must be positive" "negative weight refused"
+    has "$T/err" "w4.yaml:3:1: error: unknown key 'input'" "unknown key placed"
+    has "$T/err" "did you mean 'inputs'" "unknown key hint"
+    # a weights file gets the model loader's protections
+    for f in alias-billion-laughs.yaml deep-flow-seq-5000.yaml duplicate-keys-1000.yaml \
+        binary-garbage.bin empty.yaml number-1e999.yaml control-chars-echoed.yaml; do
+        "$R" gains "$DEMO" --rate 200Hz --weights "tests/hostile/$f" >"$T/out" 2>"$T/err"
+        rc=$?
+        if { [ $rc = 1 ] || [ $rc = 4 ]; } && grep -q "error" "$T/err" && [ ! -s "$T/out" ]; then ok
+        else bad "hostile weights $f: exit $rc"; fi
+    done
+fi
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

@@ -5,10 +5,12 @@
 # entry of tests/hostile/ (files, and the folder that stands in for a model)
 # and on large inputs generated here into HOSTILE_GEN (default
 # build/hostile), so megabytes never sit in the repository.  Each entry is
-# given to `check`, and to `linearize`, `discretize --rate 100Hz` and
-# `modes --rate 100Hz` when `rigmat --help` lists them.  Every run is
-# bounded: address space HOSTILE_VMEM_KB (default 1 GiB), wall time
-# HOSTILE_TIMEOUT seconds (default 10).  A run passes when
+# given to `check`, `linearize`, `discretize --rate 100Hz` and
+# `modes --rate 100Hz`, and as the weights file of `gains
+# examples/balancer.yaml --rate 100Hz --weights ENTRY` (the weights reader
+# shares the model loader's YAML reader and limits).  Every run is bounded:
+# address space HOSTILE_VMEM_KB (default 1 GiB), wall time HOSTILE_TIMEOUT
+# seconds (default 10).  A run passes when
 #   - it exits 1 (bad model) or 4 (input/output error): not 0, not a
 #     signal, not the timeout;
 #   - standard error holds a diagnostic line containing `error:`;
@@ -133,7 +135,7 @@ run() { # run WHAT PATH COMMAND [ARGS...]
 
 # every command that reads a model (tests/cli.sh fails if one goes missing;
 # none is skipped here for want of it)
-cmds="check linearize discretize modes"
+cmds="check linearize discretize modes gains-weights"
 
 n=0
 for f in "$H"/* "$G"/* /dev/zero /dev/null; do
@@ -145,6 +147,8 @@ for f in "$H"/* "$G"/* /dev/zero /dev/null; do
     for c in $cmds; do
         if [ "$c" = discretize ] || [ "$c" = modes ]; then
             run "$f" "$c" "$f" --rate 100Hz
+        elif [ "$c" = gains-weights ]; then
+            run "$f" gains examples/balancer.yaml --rate 100Hz --weights "$f"
         else
             run "$f" "$c" "$f"
         fi

@@ -3,12 +3,17 @@
  * sample at 200 Hz, and check the sampled model against the continuous one
  * through an invariant that needs no reference values: for ZOH,
  * Ad = exp(A T), so the eigenvalues of Ad are exp(lambda T) and
- * det(Ad) = exp(T trace(A)) (Jacobi's formula; common practice). */
+ * det(Ad) = exp(T trace(A)) (Jacobi's formula; common practice).  Then the
+ * steady-state Kalman filter through <rigmat/gains.h>, checked by its own
+ * Riccati residual and a stable estimator (every pole inside |z| = 1). */
 #include <rigmat.h>
 #include <rigmat/discretize.h>
+#include <rigmat/gains.h>
+#include <rigmat/noise.h>
 
 #include <math.h>
 #include <stdio.h>
+#include <gsl/gsl_complex_math.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_linalg.h>
 #include <gsl/gsl_permutation.h>
@@ -63,6 +68,33 @@ int main(int argc, char **argv)
     bad = !(fabs(det - exp(o.period_s * trace)) <= 1e-10 * exp(o.period_s * trace));
     printf("libuser: %zu states, det(Ad) %.15g, exp(T tr A) %.15g: %s\n", z->nx, det,
             exp(o.period_s * trace), bad ? "MISMATCH" : "ok");
+    {
+        const rigmat_noise_opts no = rigmat_noise_opts_default();
+        rigmat_noise_ws *nw = rigmat_noise_ws_alloc(s->nx, s->nu - s->nu_control);
+        rigmat_gains_ws *gw = rigmat_gains_ws_alloc(z->nx, z->ny);
+        rigmat_riccati_ws *rw = rigmat_riccati_ws_alloc(z->nx, z->ny);
+        rigmat_noise *nz = NULL;
+        rigmat_kalman *k = NULL;
+        double rho = 0.0;
+        if (nw == NULL || gw == NULL || rw == NULL ||
+                rigmat_noise_build(s, z, &no, nw, &nz, &e) != RIGMAT_OK ||
+                rigmat_kalman_solve(z->Ad, z->Cd, nz->Qd, nz->Rd, nz->S, NULL, gw, rw, &k, NULL,
+                        &e) != RIGMAT_OK) {
+            fprintf(stderr, "kalman: %s\n", e.message);
+            return 1;
+        }
+        for (i = 0; i < k->nx; i++)
+            if (gsl_complex_abs(gsl_vector_complex_get(k->poles, i)) > rho)
+                rho = gsl_complex_abs(gsl_vector_complex_get(k->poles, i));
+        bad |= !(k->info.residual < 1e-12 && rho < 1.0);
+        printf("libuser: Kalman filter, residual %.3g, slowest pole |z| %.6f: %s\n",
+                k->info.residual, rho, bad ? "MISMATCH" : "ok");
+        rigmat_kalman_free(k);
+        rigmat_noise_free(nz);
+        rigmat_riccati_ws_free(rw);
+        rigmat_gains_ws_free(gw);
+        rigmat_noise_ws_free(nw);
+    }
     gsl_matrix_free(lu);
     gsl_permutation_free(p);
     rigmat_dlti_free(z);

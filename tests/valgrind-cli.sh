@@ -71,6 +71,16 @@ if true; then  # simulate (tests/cli.sh fails if it goes missing)
         '  coordinates: {along: 50 mm}' '  rates: {along: -0.5 m/s}' >"$T/bead.yaml"
     vg 3 simulate "$T/bead.yaml" --duration 0.2s --step 25ms --partial "$T/part.csv"
 fi
+if "$R" --help 2>/dev/null | grep -q '^  gains'; then
+    vg 0 gains examples/balancer.yaml --rate 100Hz --weights tests/gains/balancer.yaml
+    vg 0 gains examples/ball-beam.yaml --rate 100Hz --weights tests/gains/ball-beam.yaml --format json
+    printf 'states:\n  tilt.angel: 3 deg\ninputs: {drive: 0.6, shove: 1 N}\n' >"$T/w.yaml"
+    vg fail gains examples/balancer.yaml --rate 100Hz --weights "$T/w.yaml"
+    for f in alias-billion-laughs.yaml deep-flow-seq-5000.yaml duplicate-keys-1000.yaml \
+        binary-garbage.bin; do
+        vg fail gains examples/balancer.yaml --rate 100Hz --weights "tests/hostile/$f"
+    done
+fi
 
 echo "valgrind-cli: $pass passed, $fail failed"
 [ "$fail" = 0 ]

@@ -20,6 +20,7 @@ CMD(linearize)
 CMD(trim)
 CMD(discretize)
 CMD(modes)
+CMD(gains)
 CMD(parts)
 CMD(simulate)
 CMD(report)
@@ -37,6 +38,7 @@ static const struct command commands[] = {
     { "discretize", cmd_discretize, "sampled model and Kalman noise model at a rate" },
     { "modes", cmd_modes, "eigenvalues, modes, reach and sight, zeros, DC gain" },
     { "simulate", cmd_simulate, "one response: nonlinear, linear or sampled; validity range" },
+    { "gains", cmd_gains, "steady-state Kalman gain; LQR gain with --weights" },
     { "trim", cmd_trim, "solve the operating point; print it and the residual" },
     { "parts", cmd_parts, "list the catalog, or show one part" },
     { "report", cmd_report, "HTML report with plots: modes, responses, validity, sampled model" },
