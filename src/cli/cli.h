@@ -13,7 +13,21 @@
 #define RIGMAT_CLI_H
 
 #include "rigmat.h"
+#include "result.h"
 #include <stdio.h>
+
+/* The files of a folder format (mtx): each a memory stream, written to
+ * the -o folder by main() whole or not at all (src/cli/outdir.c). */
+struct cli_file {
+    char *name; /* "Ad.mtx" */
+    char *buf;
+    size_t len;
+    FILE *f;
+};
+struct cli_files {
+    struct cli_file items[64];
+    size_t n;
+};
 
 struct cli_env {
     const char *command;    /* "linearize" */
@@ -21,6 +35,7 @@ struct cli_env {
     FILE *err;              /* standard error */
     rigmat_options opt;     /* defaults, adjusted by common options */
     const char *output;     /* -o FILE, or NULL for standard output */
+    struct cli_files files; /* a folder format's files, or none */
 };
 
 enum cli_opt_type {
@@ -46,21 +61,32 @@ struct cli_opt {
 
 #define CLI_OPT_END_ROW { 0, NULL, CLI_OPT_END, NULL, NULL, NULL }
 
-/* The options most commands take: --set, --format, -o, --catalog. */
+/* The options most commands take: --set, --format, -o, --catalog; and
+ * those of the export formats (CLI_EXPORT_ROWS): --name, --ctype. */
 struct cli_common {
     struct cli_list sets;
     const char *format;  /* NULL = text */
     const char *catalog;
     int help;
+    const char *name;    /* c: identifier prefix */
+    const char *ctype;   /* c: "double" (default) or "float" */
 };
 #define CLI_COMMON_ROWS(c) \
     { 0, "set", CLI_OPT_LIST, &(c)->sets, "PATH=VALUE", \
       "override a model value, with units (repeatable)" }, \
-    { 0, "format", CLI_OPT_STRING, &(c)->format, "FORMAT", "output format: text or json" }, \
+    { 0, "format", CLI_OPT_STRING, &(c)->format, "FORMAT", "output format (the list in the usage line)" }, \
     { 'o', "output", CLI_OPT_STRING, NULL, "FILE", \
-      "write the result to FILE (whole or not at all)" }, \
+      "write the result to FILE, or to folder FILE for mtx (whole or not at all)" }, \
     { 0, "catalog", CLI_OPT_STRING, &(c)->catalog, "DIR", "look for catalog parts in DIR first" }, \
     { 'h', "help", CLI_OPT_FLAG, &(c)->help, NULL, "show this help" }
+
+#define CLI_EXPORT_ROWS(c) \
+    { 0, "name", CLI_OPT_STRING, &(c)->name, "NAME", \
+      "c: prefix of the header's identifiers (default: the model's name)" }, \
+    { 0, "ctype", CLI_OPT_STRING, &(c)->ctype, "TYPE", "c: double (default) or float" }
+
+/* Every --format word a command with matrices offers, NULL-terminated. */
+extern const char *const cli_all_formats[];
 
 /* Parse argv[1..argc-1] against opts; positional arguments are returned in
  * pos (pointers into argv).  `-o`/`--output` always sets env->output.
@@ -89,6 +115,20 @@ rigmat_status cli_model_command(int argc, char **argv, const struct cli_opt *opt
         const char *const *usage, const char *const *formats, struct cli_env *env,
         const struct cli_common *c, const char **file, int *fmt, int *done);
 
+/* Render r in the --format of c (text when none) to env->out, or for a
+ * folder format into env->files; model_file gives the provenance line of
+ * the exports.  Checks --ctype; a non-finite number is reported here
+ * (exit 3, naming it), whatever the format.  Returns the status. */
+rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct cli_common *c,
+        const char *model_file);
+
+/* Write env->files into the folder path whole or not at all: a new folder
+ * built beside it and renamed into place; an existing one is replaced only
+ * when it holds nothing but files of the same extension (a previous
+ * export).  RIGMAT_EIO with err filled on failure, the old folder kept. */
+rigmat_status cli_outdir_write(const char *path, struct cli_files *files, rigmat_error *err);
+void cli_files_release(struct cli_files *files);
+
 /* Linearize m at its operating point, printing the warnings to env->err
  * and reporting a failure (its status is returned). */
 rigmat_status cli_linearize(struct cli_env *env, const rigmat_model *m, rigmat_lti **out);
@@ -104,34 +144,29 @@ rigmat_status cli_quantity(struct cli_env *env, const char *option, const char *
 
 /* ------------------------------------------------------------ writers */
 
-/* A small JSON emitter over a FILE: numbers with 17 significant digits (so
- * they round-trip), strings escaped, non-finite numbers refused (the
- * emitter remembers the failure; cli_json_end returns RIGMAT_ENUMERIC). */
-struct cli_json {
-    FILE *f;
-    int depth;
-    int first[32]; /* first item at this depth */
-    int bad;       /* a non-finite number was asked for */
-    int pretty;
-};
-void cli_json_begin(struct cli_json *j, FILE *f);       /* opens the top object */
-rigmat_status cli_json_end(struct cli_json *j);         /* closes it, newline */
-void cli_json_key(struct cli_json *j, const char *key); /* inside an object */
-void cli_json_obj_open(struct cli_json *j);
-void cli_json_obj_close(struct cli_json *j);
-void cli_json_arr_open(struct cli_json *j);
-void cli_json_arr_close(struct cli_json *j);
-void cli_json_str(struct cli_json *j, const char *s);
-void cli_json_num(struct cli_json *j, double v);
-void cli_json_int(struct cli_json *j, long v);
-void cli_json_bool(struct cli_json *j, int v);
-void cli_json_null(struct cli_json *j);
+/* The JSON emitter of the emit stage (src/emit/result.h) under its older
+ * names, for commands not yet describing their result as a rigmat_result:
+ * numbers with 17 significant digits, strings escaped, non-finite numbers
+ * refused (cli_json_end returns RIGMAT_ENUMERIC). */
+#define cli_json rigmat_json
+#define cli_json_begin rigmat_json_begin   /* opens the top object */
+#define cli_json_end rigmat_json_end       /* closes it, newline */
+#define cli_json_key rigmat_json_key       /* inside an object */
+#define cli_json_obj_open rigmat_json_obj_open
+#define cli_json_obj_close rigmat_json_obj_close
+#define cli_json_arr_open rigmat_json_arr_open
+#define cli_json_arr_close rigmat_json_arr_close
+#define cli_json_str rigmat_json_str
+#define cli_json_num rigmat_json_num
+#define cli_json_int rigmat_json_int
+#define cli_json_bool rigmat_json_bool
+#define cli_json_null rigmat_json_null
 /* A matrix as a list of rows; NULL or empty gives [] rows of the given
  * shape (rows x 0 gives rows empty lists). */
 void cli_json_matrix(struct cli_json *j, const gsl_matrix *m, size_t rows, size_t cols);
 void cli_json_vector(struct cli_json *j, const gsl_vector *v, size_t n);
 /* [{name, unit[, role]}...] for a signal list. */
-void cli_json_signals(struct cli_json *j, const rigmat_signal *s, size_t n, int with_role);
+#define cli_json_signals rigmat_json_signals
 /* "operating_point": {x, u, y} of a linear model. */
 void cli_json_operating_point(struct cli_json *j, const rigmat_lti *l);
 /* The common head: rigmat, model, kind, order_hash, states, inputs, outputs. */
