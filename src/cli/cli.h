@@ -183,9 +183,9 @@ void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigm
  * (src/cli/cmd_check_signs.c): for each input, the sign of the first
  * non-zero response of every coordinate (its acceleration, or a lower
  * derivative for a driven input) and of every sensor, from the
- * linearization at the operating point.  Text to env->out, or, when json
- * is non-zero, a "sign_table" member added to j.  When the model cannot be
- * linearized it says so (text) or writes null (json). */
-void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, struct cli_json *j);
+ * linearization at the operating point: a "sign_table" member added to
+ * the result r, with its own text layout.  When the model cannot be
+ * linearized the member is null and the text says why. */
+void check_sign_table(struct cli_env *env, const rigmat_model *m, rigmat_result *r);
 
 #endif /* RIGMAT_CLI_H */

@@ -336,6 +336,14 @@ void rigmat_result_compact(rigmat_result *r)
         n->compact = 1;
 }
 
+void rigmat_result_text_list(rigmat_result *r)
+{
+    rigmat_rnode *n = last(r);
+
+    if (n != NULL)
+        n->text_list = 1;
+}
+
 void rigmat_result_title(rigmat_result *r, const char *title)
 {
     rigmat_rnode *n = last(r);

@@ -96,6 +96,7 @@ typedef struct rigmat_rnode {
     size_t rows, cols;
     const rigmat_signal *row_names, *col_names; /* borrowed; NULL = unnamed */
     int with_role;          /* RIGMAT_R_SIGNALS: each entry carries its role */
+    int text_list;          /* vector: "name value unit" lines, no blank line after */
     size_t parent, first, last, next; /* indices into the node array; RIGMAT_NONE */
 } rigmat_rnode;
 
@@ -158,6 +159,8 @@ void rigmat_result_text(rigmat_result *r, const char *fmt, ...) RIGMAT_PRINTF(2,
 void rigmat_result_show(rigmat_result *r, unsigned show);
 void rigmat_result_compact(rigmat_result *r);
 void rigmat_result_title(rigmat_result *r, const char *title);
+/* A vector's text as a list ("  name  value unit") instead of a table. */
+void rigmat_result_text_list(rigmat_result *r);
 void rigmat_result_export_name(rigmat_result *r, const char *name);
 /* Its own text rendering, printf-style (the node's children are not shown). */
 void rigmat_result_as_text(rigmat_result *r, const char *fmt, ...) RIGMAT_PRINTF(2, 3);

@@ -102,7 +102,14 @@ static void node(FILE *f, const rigmat_result *r, size_t i)
                 n->cols);
         break;
     case RIGMAT_R_VECTOR:
-        text_vector(f, title, n->data, n->row_names, n->rows);
+        if (n->text_list) {
+            fprintf(f, "%s\n", title);
+            for (c = 0; c < n->rows; c++)
+                fprintf(f, "  %-24s %.10g %s\n", n->row_names ? n->row_names[c].name : "",
+                        n->data[c], n->row_names ? n->row_names[c].unit : "");
+        } else {
+            text_vector(f, title, n->data, n->row_names, n->rows);
+        }
         break;
     case RIGMAT_R_OBJECT:
     case RIGMAT_R_ARRAY:
