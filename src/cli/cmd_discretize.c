@@ -174,7 +174,8 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     rigmat_result_key(r, "operating_point");
     rigmat_result_object(r);
     rigmat_result_key(r, "x");
-    rigmat_result_vector(r, l->x0, l->nx, L->states);
+    /* the plant's states: the first l->nx of xs (the delay stages follow) */
+    rigmat_result_vector(r, l->x0, l->nx, xs);
     rigmat_result_export_name(r, "x0");
     rigmat_result_key(r, "u");
     rigmat_result_vector(r, l->u0, l->nu, L->inputs);

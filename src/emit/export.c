@@ -354,7 +354,7 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
             }
         }
     }
-    fprintf(f, "/* %s.h: the %s model, for firmware.\n", low, r->kind);
+    fprintf(f, "/* The %s model as a C header, for firmware.\n", r->kind);
     provenance(f, r, o, " * ");
     fprintf(f, " * Arrays are %s, %d significant digits: each converts back to the value\n"
                " * rigmat computed.  Matrices are [rows][columns], rows and columns in the\n"
@@ -520,6 +520,15 @@ rigmat_status rigmat_emit_numpy(const rigmat_result *r, const rigmat_emit_opts *
     fputs("# Arrays are float64 with 17 significant digits: each converts back to the\n"
           "# value rigmat computed.  Matrices are rows x columns in the order of the\n"
           "# name lists below.\n\nimport numpy as np\n\n", f);
+    /* the rows and columns of the matrices: one list per dimension */
+    for (i = 0; i < r->ndims; i++) {
+        char w[32];
+        ident(w, sizeof w, r->dims[i].word, 0, "dim");
+        fprintf(f, "%s_names = ", w);
+        py_list(f, r->dims[i].sig, r->dims[i].n, 0);
+        fprintf(f, "%s_units = ", w);
+        py_list(f, r->dims[i].sig, r->dims[i].n, 1);
+    }
     for (i = 1; i < r->n; i++) {
         const rigmat_rnode *n = &r->nodes[i];
         if (!exported(r, i))
@@ -528,6 +537,8 @@ rigmat_status rigmat_emit_numpy(const rigmat_result *r, const rigmat_emit_opts *
         switch (n->type) {
         case RIGMAT_R_NUMBER:
             fmt_num(num, sizeof num, n->num, 17);
+            if (strchr(num, '.') == NULL && strchr(num, 'e') == NULL)
+                strcat(num, ".0");
             fprintf(f, "%s = %s%s%s\n", name, num, n->unit && n->unit[0] ? "  # " : "",
                     n->unit ? n->unit : "");
             break;
@@ -545,19 +556,16 @@ rigmat_status rigmat_emit_numpy(const rigmat_result *r, const rigmat_emit_opts *
         case RIGMAT_R_NULL:
             fprintf(f, "%s = None\n", name);
             break;
-        case RIGMAT_R_SIGNALS: {
-            size_t len = strlen(name);
-            const char *stem = len > 1 && name[len - 1] == 's' ? name : NULL;
+        case RIGMAT_R_SIGNALS:
             fprintf(f, "%s = ", name);
             py_list(f, n->row_names, n->rows, 0);
-            fprintf(f, "%.*s_units = ", (int)(stem ? len - 1 : len), name);
+            fprintf(f, "%s_units = ", name);
             py_list(f, n->row_names, n->rows, 1);
             if (n->with_role) {
-                fprintf(f, "%.*s_roles = ", (int)(stem ? len - 1 : len), name);
+                fprintf(f, "%s_roles = ", name);
                 py_list(f, n->row_names, n->rows, 2);
             }
             break;
-        }
         case RIGMAT_R_VECTOR:
             fprintf(f, "%s = np.array([", name);
             for (a = 0; a < n->rows; a++) {
