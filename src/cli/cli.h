@@ -76,7 +76,7 @@ struct cli_common {
       "override a model value, with units (repeatable)" }, \
     { 0, "format", CLI_OPT_STRING, &(c)->format, "FORMAT", "output format (the list in the usage line)" }, \
     { 'o', "output", CLI_OPT_STRING, NULL, "FILE", \
-      "write the result to FILE, or to folder FILE for mtx (whole or not at all)" }, \
+      "write the result to FILE (mtx: to folder FILE), whole or not at all" }, \
     { 0, "catalog", CLI_OPT_STRING, &(c)->catalog, "DIR", "look for catalog parts in DIR first" }, \
     { 'h', "help", CLI_OPT_FLAG, &(c)->help, NULL, "show this help" }
 

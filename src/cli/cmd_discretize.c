@@ -331,8 +331,8 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
           "tustin: match the continuous model exactly at FREQ" },
         { 0, "delay", CLI_OPT_STRING, &a.delay, "SAMPLES",
           "zoh: input delay in samples, whole plus fraction (1.5)" },
-        CLI_COMMON_ROWS(&c),
         CLI_EXPORT_ROWS(&c),
+        CLI_COMMON_ROWS(&c),
         CLI_OPT_END_ROW
     };
     rigmat_result *r = NULL;

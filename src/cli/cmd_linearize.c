@@ -76,7 +76,7 @@ rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env);
 rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
 {
     struct cli_common c;
-    const struct cli_opt opts[] = { CLI_COMMON_ROWS(&c), CLI_EXPORT_ROWS(&c), CLI_OPT_END_ROW };
+    const struct cli_opt opts[] = { CLI_EXPORT_ROWS(&c), CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
     rigmat_result *r = NULL;
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;
