@@ -6,9 +6,11 @@
  * det(Ad) = exp(T trace(A)) (Jacobi's formula; common practice). */
 #include <rigmat.h>
 #include <rigmat/discretize.h>
+#include <rigmat/result.h>
 
 #include <math.h>
 #include <stdio.h>
+#include <string.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_linalg.h>
 #include <gsl/gsl_permutation.h>
@@ -58,6 +60,33 @@ int main(int argc, char **argv)
     bad = !(fabs(det - exp(o.period_s * trace)) <= 1e-10 * exp(o.period_s * trace));
     printf("libuser: %zu states, det(Ad) %.15g, exp(T tr A) %.15g: %s\n", z->nx, det,
             exp(o.period_s * trace), bad ? "MISMATCH" : "ok");
+    /* export Ad as a C header to a stream, the way the program does */
+    {
+        const rigmat_layout *L = &m->layout;
+        rigmat_result *r = rigmat_result_alloc("discrete");
+        static char text[1 << 16];
+        size_t len = 0;
+        FILE *f = tmpfile();
+        rigmat_emit_opts eo = { "balancer", 0, NULL };
+        rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+                L->outputs, L->ny);
+        rigmat_result_dim(r, "state", L->states, z->nx);
+        rigmat_result_key(r, "Ad");
+        rigmat_result_matrix(r, z->Ad, z->nx, z->nx, L->states, L->states);
+        if (f == NULL || rigmat_result_write(r, RIGMAT_FORMAT_C, &eo, f, NULL, &e) != RIGMAT_OK)
+            bad = 1;
+        if (f != NULL) {
+            rewind(f);
+            len = fread(text, 1, sizeof text - 1, f);
+            fclose(f);
+        }
+        text[len] = '\0';
+        if (strstr(text, "static const double balancer_Ad[BALANCER_N_STATES]"
+                                         "[BALANCER_N_STATES] = {") == NULL)
+            bad = 1;
+        printf("libuser: C header export %s\n", bad ? "MISMATCH" : "ok");
+        rigmat_result_free(r);
+    }
     gsl_matrix_free(lu);
     gsl_permutation_free(p);
     rigmat_dlti_free(z);
