@@ -115,6 +115,8 @@ expect 2 "format not offered by trim" -- "$R" trim "$DEMO" --format csv
 expect 2 "format not offered by parts" -- "$R" parts --format numpy
 expect 2 "mtx without -o" -- "$R" discretize "$DEMO" --rate 200Hz --format mtx
 has "$T/err" "give the folder" "mtx without -o hint"
+expect 2 "--ctype without --format c" -- "$R" linearize "$DEMO" --format numpy --ctype float
+has "$T/err" "applies to the C header only" "--ctype without c message"
 expect 2 "unknown --ctype" -- "$R" discretize "$DEMO" --rate 200Hz --format c --ctype half
 expect 0 "c header" -- "$R" discretize "$DEMO" --rate 200Hz --format c -o "$T/model.h"
 has "$T/model.h" "static const double aisle_courier_balancing_base_Ad" "c header arrays"

@@ -115,9 +115,13 @@ rigmat_status cli_model_command(int argc, char **argv, const struct cli_opt *opt
         const char *const *usage, const char *const *formats, struct cli_env *env,
         const struct cli_common *c, const char **file, int *fmt, int *done);
 
+/* Check --name and --ctype against the --format of c (they apply to the
+ * C header only); prints a usage error and returns RIGMAT_EUSAGE. */
+rigmat_status cli_export_options(struct cli_env *env, const struct cli_common *c);
+
 /* Render r in the --format of c (text when none) to env->out, or for a
  * folder format into env->files; model_file gives the provenance line of
- * the exports.  Checks --ctype; a non-finite number is reported here
+ * the exports.  A non-finite number is reported here
  * (exit 3, naming it), whatever the format.  Returns the status. */
 rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct cli_common *c,
         const char *model_file);

@@ -82,6 +82,24 @@ static int file_hash(const char *path, unsigned long long *h)
     return c ? -1 : 0;
 }
 
+rigmat_status cli_export_options(struct cli_env *env, const struct cli_common *c)
+{
+    const rigmat_format_info *fi = rigmat_format_find(c->format != NULL ? c->format : "text");
+
+    if ((c->ctype != NULL || c->name != NULL) && (fi == NULL || fi->format != RIGMAT_FORMAT_C)) {
+        fprintf(env->err, "rigmat %s: --%s applies to the C header only\n"
+                "  hint: add --format c, or leave --%s out\n", env->command,
+                c->ctype != NULL ? "ctype" : "name", c->ctype != NULL ? "ctype" : "name");
+        return RIGMAT_EUSAGE;
+    }
+    if (c->ctype != NULL && strcmp(c->ctype, "float") != 0 && strcmp(c->ctype, "double") != 0) {
+        fprintf(env->err, "rigmat %s: unknown --ctype '%s'\n  hint: use double or float\n",
+                env->command, c->ctype);
+        return RIGMAT_EUSAGE;
+    }
+    return RIGMAT_OK;
+}
+
 rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct cli_common *c,
         const char *model_file)
 {
@@ -98,11 +116,6 @@ rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct
     memset(&o, 0, sizeof o);
     if (fi == NULL)
         return RIGMAT_EUSAGE; /* cli_format refused it already */
-    if (c->ctype != NULL && strcmp(c->ctype, "float") != 0 && strcmp(c->ctype, "double") != 0) {
-        fprintf(env->err, "rigmat %s: unknown --ctype '%s'\n  hint: use double or float\n",
-                env->command, c->ctype);
-        return RIGMAT_EUSAGE;
-    }
     o.ctype_float = c->ctype != NULL && strcmp(c->ctype, "float") == 0;
     o.name = c->name;
     if (model_file != NULL) {
