@@ -123,7 +123,7 @@ START_TEST(non_finite_is_refused_by_every_format)
         free(out);
     }
     rigmat_result_free(r);
-    r = small_result("cart", NAN);
+    r = small_result("cart", (double)NAN);
     {
         rigmat_status st;
         rigmat_error e;

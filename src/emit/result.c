@@ -54,6 +54,7 @@ static char *dup_s(rigmat_result *r, const char *s)
     return p;
 }
 
+static char *vformat(rigmat_result *r, const char *fmt, va_list ap) RIGMAT_PRINTF(2, 0);
 static char *vformat(rigmat_result *r, const char *fmt, va_list ap)
 {
     va_list aq;
