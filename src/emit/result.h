@@ -184,13 +184,14 @@ typedef struct rigmat_emit_opts {
     const char *source; /* provenance: "model FILE (hash ...)"; NULL = none */
 } rigmat_emit_opts;
 
-/* Render r in format fmt to out (or, for a folder format, to files opened
- * through sink, which may then not be NULL).  RIGMAT_ENUMERIC when a number
- * is not finite (err names it; nothing is written), RIGMAT_ENOMEM when the
- * result could not be built, RIGMAT_EUSAGE when the format needs matrices
- * the result lacks, RIGMAT_EIO when a sink file cannot be opened or a float
- * export overflows... (RIGMAT_ENUMERIC).  The stream's own write errors are
- * the caller's to check (ferror). */
+/* Render r in format fmt to out (for a folder format, to the files opened
+ * through sink, which may then not be NULL; out is unused).  Statuses:
+ * RIGMAT_ENUMERIC when a number is not finite, or a float C header cannot
+ * hold one (err names it; nothing is written); RIGMAT_ENOMEM when the
+ * result could not be built; RIGMAT_EUSAGE when an export format is asked
+ * of a result without matrices, or a folder format without a sink;
+ * RIGMAT_EIO when the sink cannot open a file.  Write errors of the
+ * streams themselves are the caller's to check (ferror, fclose). */
 rigmat_status rigmat_result_write(const rigmat_result *r, rigmat_format fmt,
         const rigmat_emit_opts *o, FILE *out, const rigmat_emit_sink *sink, rigmat_error *err);
 
