@@ -27,6 +27,8 @@ struct cli_file {
 struct cli_files {
     struct cli_file items[64];
     size_t n;
+    int folder;   /* a folder format was rendered: -o names a folder */
+    char ext[16]; /* the extension of its files (".mtx") */
 };
 
 struct cli_env {

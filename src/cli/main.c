@@ -175,7 +175,7 @@ int main(int argc, char **argv)
         fprintf(stderr, "rigmat %s: out of memory while writing the result\n", cmd->name);
         st = RIGMAT_ENOMEM;
     }
-    if (st == RIGMAT_OK && env.files.n > 0)
+    if (st == RIGMAT_OK && env.files.folder)
         st = emit_folder(&env);
     else if (st == RIGMAT_OK)
         st = emit(&env, buf, len);

@@ -144,15 +144,18 @@ rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct
         cli_files_release(&env->files);
         return cli_report(env, &e);
     }
+    env->files.folder = fi->folder;
+    snprintf(env->files.ext, sizeof env->files.ext, ".%s", fi->word);
     return RIGMAT_OK;
 }
 
 /* ------------------------------------------------------------ the folder */
 
+/* Whether name ends in ext (a non-empty ".mtx") after at least one character. */
 static int has_ext(const char *name, const char *ext)
 {
     const size_t n = strlen(name), k = strlen(ext);
-    return n > k && strcmp(name + n - k, ext) == 0;
+    return k > 1 && ext[0] == '.' && n > k && strcmp(name + n - k, ext) == 0;
 }
 
 /* Remove the files of dir (only its plain entries) and dir itself. */
@@ -218,7 +221,7 @@ static rigmat_status write_one(const char *dir, const struct cli_file *cf, rigma
 
 rigmat_status cli_outdir_write(const char *path, struct cli_files *files, rigmat_error *err)
 {
-    const char *ext = files->n > 0 ? strrchr(files->items[0].name, '.') : NULL;
+    const char *ext = files->ext;
     char *tmp = NULL, *old = NULL;
     struct stat st;
     int exists;
@@ -232,9 +235,9 @@ rigmat_status cli_outdir_write(const char *path, struct cli_files *files, rigmat
     if (exists && !S_ISDIR(st.st_mode))
         return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write the folder '%s': a file of that name "
                 "exists", path);
-    if (exists && !only_exports(path, ext != NULL ? ext : "")) {
+    if (exists && !only_exports(path, ext)) {
         rc = RIGMAT_FAIL(err, RIGMAT_EIO, "the folder '%s' holds other files than %s files",
-                path, ext != NULL ? ext : "exported");
+                path, ext);
         rigmat_error_hint(err, "give a new or empty folder; rigmat replaces a folder only when "
                 "it holds nothing but a previous export");
         return rc;
