@@ -11,7 +11,8 @@ reader outside rigmat and compared with the JSON with zero difference:
   value exactly, floats the float rounding of it (numpy.float32).  The
   header also compiles with gcc -std=c99 -Wall -Wextra -Wpedantic -Werror,
   -std=c11, as C++ (g++ -Wall -Wextra -Werror) and, for float, under
-  -Wdouble-promotion.  A model with an awkward name must still give valid
+  -Wdouble-promotion, also for a Cortex-M4 when arm-none-eabi-gcc is
+  installed.  A model with an awkward name must still give valid
   identifiers.
 - numpy: the module is imported by this interpreter's numpy.
 - mtx: every file is read by scipy.io.mmread.
@@ -41,6 +42,7 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(os.path.dirname(HERE))
 CC = os.environ.get("CC_TEST", "gcc")
 CXX = os.environ.get("CXX_TEST", "g++")
+ARM_CC = "arm-none-eabi-gcc"  # optional: the float header for a Cortex-M4
 
 failures = 0
 # A name with a leading digit, a comment closer, quotes, a backslash, a
@@ -267,6 +269,11 @@ def check_c(tag, j, args, tmp, ctype, prefix, name_args=()):
     compile_ok(tag + " c11 " + ctype, [CC, "-std=c11", "-Wpedantic", "-fsyntax-only"] + strict
                + [src])
     compile_ok(tag + " c++ " + ctype, [CXX, "-x", "c++", "-fsyntax-only"] + strict + [src])
+    if ctype == "float" and shutil.which(ARM_CC):
+        # a microcontroller with a single-precision FPU: no double arithmetic
+        compile_ok(tag + " arm float", [ARM_CC, "-std=c99", "-mcpu=cortex-m4", "-mthumb",
+                                        "-mfloat-abi=hard", "-mfpu=fpv4-sp-d16", "-Wpedantic",
+                                        "-Wdouble-promotion", "-fsyntax-only"] + strict + [src])
     out = subprocess.run([exe], capture_output=True, text=True, check=True).stdout
     got = {}
     for line in out.splitlines():
@@ -364,6 +371,8 @@ def main():
         check_c("--name", j, ["linearize", odd] + cat, tmp, "float", "plant", ["--name", "plant"])
     finally:
         shutil.rmtree(tmp)
+    if not shutil.which(ARM_CC):
+        print("note: %s not found; the float header was not cross-compiled" % ARM_CC)
     print("exports: %d failure(s)" % failures)
     return 1 if failures else 0
 
