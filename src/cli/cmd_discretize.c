@@ -2,7 +2,8 @@
  * at a controller rate (src/sample/discretize.h) and the Kalman-filter noise model
  * (src/sample/noise.h), with sampling advice where it matters.
  *
- * JSON (DESIGN.md section 5): the head of `linearize` (cli_json_head), then
+ * The result is described once (discretize_result) and rendered in any
+ * format by src/emit.  JSON (README.md, "JSON output"): the head, then
  *   period          s
  *   method          "zoh" | "foh" | "tustin" | "euler" | "backward-euler"
  *   prewarp         Hz (tustin with --prewarp only)
