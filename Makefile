@@ -13,12 +13,12 @@ PYTHON  ?= /usr/bin/python3
 # Debian packages the build, tests and reference scripts need.
 DEB_PKGS = build-essential pkg-config libgsl-dev libyaml-dev check libsubunit-dev \
            libopenblas-dev python3-numpy python3-scipy python3-sympy python3-mpmath \
-           time valgrind clang libclang-rt-14-dev
+           time valgrind clang libclang-rt-14-dev groff-base
 # Headers / files whose presence shows each package is installed.
 DEB_PROBES = /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h /usr/include/check.h \
              /usr/lib/python3/dist-packages/scipy /usr/lib/python3/dist-packages/sympy \
              /usr/lib/python3/dist-packages/mpmath /usr/lib/python3/dist-packages/numpy \
-             /usr/bin/time /usr/bin/valgrind /usr/bin/clang
+             /usr/bin/time /usr/bin/valgrind /usr/bin/clang /usr/bin/groff
 
 BUILD = build
 .DEFAULT_GOAL := all
@@ -44,9 +44,10 @@ TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c tes
 BENCH_SRC := $(sort $(wildcard bench/*.c))
 # Installed beside rigmat.h as <rigmat/NAME.h>: units, the matrix
 # exponential, sampling, the noise model, simulation, the validity range,
-# the Riccati solver and the gains.
+# the Riccati solver, the gains and the result writers.
 PUBLIC_SUBHEADERS = src/model/units.h src/sample/expm.h src/sample/discretize.h src/sample/noise.h \
-    src/study/simulate.h src/study/validity.h src/study/riccati.h src/study/gains.h
+    src/study/simulate.h src/study/validity.h src/study/riccati.h src/study/gains.h \
+    src/emit/result.h
 
 # Three flavours share the sources: plain, sanitized (ASan+UBSan), and the
 # plain -O0 -g one valgrind wants (flavour flags come after CFLAGS, so -O0 holds).
@@ -86,7 +87,7 @@ $(BUILD)/suites.h: $(sort $(wildcard tests/check_*.c))
 	@mkdir -p $(@D)
 	@sed -n 's/^Suite \*\([a-z_0-9]*\)_suite(void)$$/RIGMAT_SUITE(\1)/p' $^ > $@.tmp && mv $@.tmp $@
 
-.PHONY: all deps check check-unit check-cli check-ref check-san check-valgrind demo bench \
+.PHONY: all deps check check-unit check-cli check-man check-ref check-san check-valgrind demo bench \
         install uninstall clean fuzz format check-install FORCE check-hostile check-fuzz check-fuzz-replay \
         check-fuzz-short check-valgrind-cli check-stages \
         check-mutants
@@ -120,7 +121,7 @@ demo: all
 
 # check: unit suites (plain), command-line tests, reference scripts, then the
 # unit suites again under AddressSanitizer + UndefinedBehaviorSanitizer.
-check: all check-stages check-symbols check-unit check-cli check-ref check-install check-san check-hostile check-fuzz
+check: all check-stages check-symbols check-unit check-cli check-man check-ref check-install check-san check-hostile check-fuzz
 	@echo "rigmat: all checks passed"
 # check-stages: no include from a later stage into an earlier one, no
 # include cycle (tests/stages.sh, with a self-test that plants both).
@@ -135,6 +136,9 @@ check-install: all
 	sh tests/install.sh
 check-cli: $(BUILD)/rigmat
 	RIGMAT=$(BUILD)/rigmat sh tests/cli.sh
+# The man page and the bash completion against the program's help.
+check-man: $(BUILD)/rigmat
+	RIGMAT=$(BUILD)/rigmat sh tests/man.sh
 check-ref: $(BUILD)/rigmat
 	@for t in tests/ref/test_*.py; do [ -e "$$t" ] || continue; \
 	    echo "reference: $$t"; RIGMAT=$(BUILD)/rigmat $(PYTHON) $$t || exit 1; done
@@ -221,7 +225,10 @@ $(BUILD)/bench/%: bench/%.c $(BUILD)/plain/librigmat.a
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib/pkgconfig \
-	    $(DESTDIR)$(PREFIX)/include $(DESTDIR)$(PREFIX)/share/rigmat
+	    $(DESTDIR)$(PREFIX)/include $(DESTDIR)$(PREFIX)/share/rigmat \
+	    $(DESTDIR)$(PREFIX)/share/man/man1 $(DESTDIR)$(PREFIX)/share/bash-completion/completions
+	install -m 644 doc/rigmat.1 $(DESTDIR)$(PREFIX)/share/man/man1/rigmat.1
+	install -m 644 doc/rigmat.bash $(DESTDIR)$(PREFIX)/share/bash-completion/completions/rigmat
 	install -m 755 $(BUILD)/rigmat $(DESTDIR)$(PREFIX)/bin/rigmat
 	install -m 644 $(BUILD)/librigmat.a $(DESTDIR)$(PREFIX)/lib/librigmat.a
 	install -d $(DESTDIR)$(PREFIX)/include/rigmat
@@ -232,7 +239,9 @@ install: all
 	    rigmat.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/rigmat.pc
 uninstall:
 	rm -f $(DESTDIR)$(PREFIX)/bin/rigmat $(DESTDIR)$(PREFIX)/lib/librigmat.a \
-	    $(DESTDIR)$(PREFIX)/include/rigmat.h $(DESTDIR)$(PREFIX)/lib/pkgconfig/rigmat.pc
+	    $(DESTDIR)$(PREFIX)/include/rigmat.h $(DESTDIR)$(PREFIX)/lib/pkgconfig/rigmat.pc \
+	    $(DESTDIR)$(PREFIX)/share/man/man1/rigmat.1 \
+	    $(DESTDIR)$(PREFIX)/share/bash-completion/completions/rigmat
 	rm -rf $(DESTDIR)$(PREFIX)/include/rigmat
 	rm -rf $(DESTDIR)$(PREFIX)/share/rigmat
 

@@ -439,6 +439,43 @@ if "$R" --help | grep -q '^  gains'; then
     done
 fi
 
+# Export formats (README.md, "Export formats"): usage errors, and the mtx
+# folder written whole or not at all.
+expect 2 "unknown format" -- "$R" linearize "$DEMO" --format yamlish
+has "$T/err" "unknown format 'yamlish'" "unknown format message"
+has "$T/err" "hint: use one of text, json, csv, c, numpy, mtx, latex" "unknown format hint"
+expect 2 "format not offered by check" -- "$R" check "$DEMO" --format c
+has "$T/err" "not offered by this command" "format not offered message"
+has "$T/err" "linearize and discretize write every format" "format not offered hint"
+expect 2 "format not offered by trim" -- "$R" trim "$DEMO" --format csv
+expect 2 "format not offered by parts" -- "$R" parts --format numpy
+expect 2 "mtx without -o" -- "$R" discretize "$DEMO" --rate 200Hz --format mtx
+has "$T/err" "give the folder" "mtx without -o hint"
+expect 2 "--ctype without --format c" -- "$R" linearize "$DEMO" --format numpy --ctype float
+has "$T/err" "applies to the C header only" "--ctype without c message"
+expect 2 "unknown --ctype" -- "$R" discretize "$DEMO" --rate 200Hz --format c --ctype half
+expect 0 "c header" -- "$R" discretize "$DEMO" --rate 200Hz --format c -o "$T/model.h"
+has "$T/model.h" "static const double aisle_courier_balancing_base_Ad" "c header arrays"
+has "$T/model.h" "#define AISLE_COURIER_BALANCING_BASE_ORDER_HASH" "c header order hash"
+if grep -q '[0-9][0-9]:[0-9][0-9]:[0-9][0-9]' "$T/model.h"; then bad "c header has a time"; else ok; fi
+"$R" discretize "$DEMO" --rate 200Hz --format c >"$T/again.h" 2>/dev/null
+if cmp -s "$T/model.h" "$T/again.h"; then ok; else bad "c header not reproducible"; fi
+expect 0 "float header" -- "$R" discretize "$DEMO" --rate 200Hz --format c --ctype float --name plant
+has "$T/out" "static const float plant_Ad" "float header with --name"
+expect 0 "mtx folder" -- "$R" discretize "$DEMO" --rate 200Hz --format mtx -o "$T/mtx"
+if [ -f "$T/mtx/Ad.mtx" ] && [ -f "$T/mtx/Qd.mtx" ] && [ ! -s "$T/out" ]; then ok; else bad "mtx files"; fi
+has "$T/mtx/Ad.mtx" "%%MatrixMarket matrix array real general" "mtx header"
+expect 0 "mtx folder replaced" -- "$R" linearize "$DEMO" --format mtx -o "$T/mtx"
+if [ -f "$T/mtx/A.mtx" ] && [ ! -e "$T/mtx/Ad.mtx" ]; then ok; else bad "mtx folder not replaced whole"; fi
+expect 1 "mtx with a bad model" -- "$R" linearize "$T/bad.yaml" --format mtx -o "$T/mtx2"
+if [ -e "$T/mtx2" ]; then bad "failed mtx run left a folder"; else ok; fi
+mkdir "$T/keep" && echo mine >"$T/keep/notes.txt"
+expect 4 "mtx into a folder with other files" -- "$R" linearize "$DEMO" --format mtx -o "$T/keep"
+if [ "$(cat "$T/keep/notes.txt")" = mine ] && [ ! -e "$T/keep/A.mtx" ]; then ok; else bad "mtx touched a foreign folder"; fi
+if ls "$T" | grep -q 'tmp-\|old-'; then bad "temporary folder left behind"; else ok; fi
+expect 3 "non-finite result, csv" -- "$R" discretize "$DEMO" --rate 100Hz --format csv --set sensors.gyro.gain=-1e308
+if [ -s "$T/out" ]; then bad "non-finite csv printed"; else ok; fi
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

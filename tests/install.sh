@@ -9,6 +9,8 @@ make --no-print-directory install DESTDIR="$T" PREFIX=/opt/rigmat >/dev/null
 P="$T/opt/rigmat"
 test -x "$P/bin/rigmat" && test -f "$P/include/rigmat.h" && test -f "$P/lib/librigmat.a"
 test -f "$P/share/rigmat/catalog/motors/gearmotor-24v-27.yaml"
+test -f "$P/share/man/man1/rigmat.1" && test -f "$P/share/bash-completion/completions/rigmat"
+man -l "$P/share/man/man1/rigmat.1" >/dev/null 2>&1 || groff -man -Tutf8 "$P/share/man/man1/rigmat.1" >/dev/null
 flags=$(PKG_CONFIG_PATH="$P/lib/pkgconfig" pkg-config --define-variable=prefix="$P" \
     --cflags --libs --static rigmat)
 # shellcheck disable=SC2086

@@ -10,9 +10,11 @@
 #include <rigmat/discretize.h>
 #include <rigmat/gains.h>
 #include <rigmat/noise.h>
+#include <rigmat/result.h>
 
 #include <math.h>
 #include <stdio.h>
+#include <string.h>
 #include <gsl/gsl_complex_math.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_linalg.h>
@@ -94,6 +96,33 @@ int main(int argc, char **argv)
         rigmat_riccati_ws_free(rw);
         rigmat_gains_ws_free(gw);
         rigmat_noise_ws_free(nw);
+    }
+    /* export Ad as a C header to a stream, the way the program does */
+    {
+        const rigmat_layout *L = &m->layout;
+        rigmat_result *r = rigmat_result_alloc("discrete");
+        static char text[1 << 16];
+        size_t len = 0;
+        FILE *f = tmpfile();
+        rigmat_emit_opts eo = { "balancer", 0, NULL };
+        rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+                L->outputs, L->ny);
+        rigmat_result_dim(r, "state", L->states, z->nx);
+        rigmat_result_key(r, "Ad");
+        rigmat_result_matrix(r, z->Ad, z->nx, z->nx, L->states, L->states);
+        if (f == NULL || rigmat_result_write(r, RIGMAT_FORMAT_C, &eo, f, NULL, &e) != RIGMAT_OK)
+            bad = 1;
+        if (f != NULL) {
+            rewind(f);
+            len = fread(text, 1, sizeof text - 1, f);
+            fclose(f);
+        }
+        text[len] = '\0';
+        if (strstr(text, "static const double balancer_Ad[BALANCER_N_STATES]"
+                                         "[BALANCER_N_STATES] = {") == NULL)
+            bad = 1;
+        printf("libuser: C header export %s\n", bad ? "MISMATCH" : "ok");
+        rigmat_result_free(r);
     }
     gsl_matrix_free(lu);
     gsl_permutation_free(p);

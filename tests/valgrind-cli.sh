@@ -82,5 +82,14 @@ if "$R" --help 2>/dev/null | grep -q '^  gains'; then
     done
 fi
 
+# every export format of the demo, the mtx folder included
+for fmt in json csv c numpy latex; do
+    vg 0 discretize examples/balancer.yaml --rate 200Hz --format "$fmt"
+done
+vg 0 discretize examples/balancer.yaml --rate 200Hz --format c --ctype float
+vg 0 linearize examples/balancer.yaml --format mtx -o "$T/mtx"
+vg 0 trim examples/balancer.yaml --format json
+vg 0 parts --format json
+
 echo "valgrind-cli: $pass passed, $fail failed"
 [ "$fail" = 0 ]

@@ -13,7 +13,23 @@
 #define RIGMAT_CLI_H
 
 #include "rigmat.h"
+#include "result.h"
 #include <stdio.h>
+
+/* The files of a folder format (mtx): each a memory stream, written to
+ * the -o folder by main() whole or not at all (src/cli/outdir.c). */
+struct cli_file {
+    char *name; /* "Ad.mtx" */
+    char *buf;
+    size_t len;
+    FILE *f;
+};
+struct cli_files {
+    struct cli_file items[64];
+    size_t n;
+    int folder;   /* a folder format was rendered: -o names a folder */
+    char ext[16]; /* the extension of its files (".mtx") */
+};
 
 struct cli_env {
     const char *command;    /* "linearize" */
@@ -21,6 +37,7 @@ struct cli_env {
     FILE *err;              /* standard error */
     rigmat_options opt;     /* defaults, adjusted by common options */
     const char *output;     /* -o FILE, or NULL for standard output */
+    struct cli_files files; /* a folder format's files, or none */
 };
 
 enum cli_opt_type {
@@ -51,21 +68,32 @@ struct cli_opt {
  * (src/cli/exe_dir.c). */
 const char *cli_exe_dir(const char *argv0, char *buf, size_t len);
 
-/* The options most commands take: --set, --format, -o, --catalog. */
+/* The options most commands take: --set, --format, -o, --catalog; and
+ * those of the export formats (CLI_EXPORT_ROWS): --name, --ctype. */
 struct cli_common {
     struct cli_list sets;
     const char *format;  /* NULL = text */
     const char *catalog;
     int help;
+    const char *name;    /* c: identifier prefix */
+    const char *ctype;   /* c: "double" (default) or "float" */
 };
 #define CLI_COMMON_ROWS(c) \
     { 0, "set", CLI_OPT_LIST, &(c)->sets, "PATH=VALUE", \
       "override a model value, with units (repeatable)" }, \
-    { 0, "format", CLI_OPT_STRING, &(c)->format, "FORMAT", "output format: text or json" }, \
+    { 0, "format", CLI_OPT_STRING, &(c)->format, "FORMAT", "output format (the list in the usage line)" }, \
     { 'o', "output", CLI_OPT_STRING, NULL, "FILE", \
-      "write the result to FILE (whole or not at all)" }, \
+      "write the result to FILE (mtx: to folder FILE), whole or not at all" }, \
     { 0, "catalog", CLI_OPT_STRING, &(c)->catalog, "DIR", "look for catalog parts in DIR first" }, \
     { 'h', "help", CLI_OPT_FLAG, &(c)->help, NULL, "show this help" }
+
+#define CLI_EXPORT_ROWS(c) \
+    { 0, "name", CLI_OPT_STRING, &(c)->name, "NAME", \
+      "c: prefix of the header's identifiers (default: the model's name)" }, \
+    { 0, "ctype", CLI_OPT_STRING, &(c)->ctype, "TYPE", "c: double (default) or float" }
+
+/* Every --format word a command with matrices offers, NULL-terminated. */
+extern const char *const cli_all_formats[];
 
 /* Parse argv[1..argc-1] against opts; positional arguments are returned in
  * pos (pointers into argv).  `-o`/`--output` always sets env->output.
@@ -94,6 +122,24 @@ rigmat_status cli_model_command(int argc, char **argv, const struct cli_opt *opt
         const char *const *usage, const char *const *formats, struct cli_env *env,
         const struct cli_common *c, const char **file, int *fmt, int *done);
 
+/* Check --name and --ctype against the --format of c (they apply to the
+ * C header only); prints a usage error and returns RIGMAT_EUSAGE. */
+rigmat_status cli_export_options(struct cli_env *env, const struct cli_common *c);
+
+/* Render r in the --format of c (text when none) to env->out, or for a
+ * folder format into env->files; model_file gives the provenance line of
+ * the exports.  A non-finite number is reported here
+ * (exit 3, naming it), whatever the format.  Returns the status. */
+rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct cli_common *c,
+        const char *model_file);
+
+/* Write env->files into the folder path whole or not at all: a new folder
+ * built beside it and renamed into place; an existing one is replaced only
+ * when it holds nothing but files of the same extension (a previous
+ * export).  RIGMAT_EIO with err filled on failure, the old folder kept. */
+rigmat_status cli_outdir_write(const char *path, struct cli_files *files, rigmat_error *err);
+void cli_files_release(struct cli_files *files);
+
 /* Linearize m at its operating point, printing the warnings to env->err
  * and reporting a failure (its status is returned). */
 rigmat_status cli_linearize(struct cli_env *env, const rigmat_model *m, rigmat_lti **out);
@@ -113,34 +159,29 @@ rigmat_status cli_quantity(struct cli_env *env, const char *option, const char *
 
 /* ------------------------------------------------------------ writers */
 
-/* A small JSON emitter over a FILE: numbers with 17 significant digits (so
- * they round-trip), strings escaped, non-finite numbers refused (the
- * emitter remembers the failure; cli_json_end returns RIGMAT_ENUMERIC). */
-struct cli_json {
-    FILE *f;
-    int depth;
-    int first[32]; /* first item at this depth */
-    int bad;       /* a non-finite number was asked for */
-    int pretty;
-};
-void cli_json_begin(struct cli_json *j, FILE *f);       /* opens the top object */
-rigmat_status cli_json_end(struct cli_json *j);         /* closes it, newline */
-void cli_json_key(struct cli_json *j, const char *key); /* inside an object */
-void cli_json_obj_open(struct cli_json *j);
-void cli_json_obj_close(struct cli_json *j);
-void cli_json_arr_open(struct cli_json *j);
-void cli_json_arr_close(struct cli_json *j);
-void cli_json_str(struct cli_json *j, const char *s);
-void cli_json_num(struct cli_json *j, double v);
-void cli_json_int(struct cli_json *j, long v);
-void cli_json_bool(struct cli_json *j, int v);
-void cli_json_null(struct cli_json *j);
+/* The JSON emitter of the emit stage (src/emit/result.h) under its older
+ * names, for commands not yet describing their result as a rigmat_result:
+ * numbers with 17 significant digits, strings escaped, non-finite numbers
+ * refused (cli_json_end returns RIGMAT_ENUMERIC). */
+#define cli_json rigmat_json
+#define cli_json_begin rigmat_json_begin   /* opens the top object */
+#define cli_json_end rigmat_json_end       /* closes it, newline */
+#define cli_json_key rigmat_json_key       /* inside an object */
+#define cli_json_obj_open rigmat_json_obj_open
+#define cli_json_obj_close rigmat_json_obj_close
+#define cli_json_arr_open rigmat_json_arr_open
+#define cli_json_arr_close rigmat_json_arr_close
+#define cli_json_str rigmat_json_str
+#define cli_json_num rigmat_json_num
+#define cli_json_int rigmat_json_int
+#define cli_json_bool rigmat_json_bool
+#define cli_json_null rigmat_json_null
 /* A matrix as a list of rows; NULL or empty gives [] rows of the given
  * shape (rows x 0 gives rows empty lists). */
 void cli_json_matrix(struct cli_json *j, const gsl_matrix *m, size_t rows, size_t cols);
 void cli_json_vector(struct cli_json *j, const gsl_vector *v, size_t n);
 /* [{name, unit[, role]}...] for a signal list. */
-void cli_json_signals(struct cli_json *j, const rigmat_signal *s, size_t n, int with_role);
+#define cli_json_signals rigmat_json_signals
 /* "operating_point": {x, u, y} of a linear model. */
 void cli_json_operating_point(struct cli_json *j, const rigmat_lti *l);
 /* The common head: rigmat, model, kind, order_hash, states, inputs, outputs. */
@@ -157,10 +198,10 @@ void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigm
  * (src/cli/cmd_check_signs.c): for each input, the sign of the first
  * non-zero response of every coordinate (its acceleration, or a lower
  * derivative for a driven input) and of every sensor, from the
- * linearization at the operating point.  Text to env->out, or, when json
- * is non-zero, a "sign_table" member added to j.  When the model cannot be
- * linearized it says so (text) or writes null (json). */
-void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, struct cli_json *j);
+ * linearization at the operating point: a "sign_table" member added to
+ * the result r, with its own text layout.  When the model cannot be
+ * linearized the member is null and the text says why. */
+void check_sign_table(struct cli_env *env, const rigmat_model *m, rigmat_result *r);
 
 /* ------------------------------------------------------- modes summary */
 

@@ -6,7 +6,7 @@
  * the standard deviation per sample of every noise source at --rate, and
  * the operating point.  Text or JSON (the same content).
  *
- * Noise per sample (README.md, "Noise convention"): a density N
+ * Noise per sample (DESIGN.md "Noise, one convention"): a density N
  * averaged over a sample T has sd N/sqrt(T); through a first-order
  * bandwidth f_c its variance is N^2 pi f_c; `noise` is already per
  * sample; a quantization step q adds q^2/12 (uniform rounding error,
@@ -102,88 +102,293 @@ static void settings_text(FILE *f, const char *title, const rigmat_setting *s, s
     fputs(n ? " (SI)\n" : " none\n", f);
 }
 
-static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
+/* Text of a piece of the layout written by one of the helpers above into
+ * a memory stream, attached to the node just added. */
+struct capture {
+    char *buf;
+    size_t len;
+    FILE *f;
+};
+
+static FILE *capture_open(struct capture *c, rigmat_result *r)
 {
-    const rigmat_layout *l = &m->layout;
+    c->buf = NULL;
+    c->len = 0;
+    c->f = open_memstream(&c->buf, &c->len);
+    if (c->f == NULL)
+        r->status = RIGMAT_ENOMEM;
+    return c->f;
+}
+
+/* As the text of the node just added (as_text), or as a text line. */
+static void capture_close(struct capture *c, rigmat_result *r, int as_node_text)
+{
+    if (c->f == NULL)
+        return;
+    if (fclose(c->f) != 0)
+        r->status = RIGMAT_ENOMEM;
+    if (as_node_text)
+        rigmat_result_as_text(r, "%s", c->buf != NULL ? c->buf : "");
+    else
+        rigmat_result_text(r, "%s", c->buf != NULL ? c->buf : "");
+    free(c->buf);
+    c->f = NULL;
+}
+
+static void vec2(rigmat_result *r, const char *key, const double v[2])
+{
+    rigmat_result_key(r, key);
+    rigmat_result_array(r);
+    rigmat_result_number(r, v[0], "m");
+    rigmat_result_number(r, v[1], "m");
+    rigmat_result_close(r);
+}
+
+static void settings(rigmat_result *r, const char *key, const rigmat_setting *s, size_t n)
+{
     size_t i;
 
-    fprintf(f, "model: %s (%s)\n", cli_model_name(m), m->file);
-    fprintf(f, "gravity %.6g m/s^2, slope %.6g deg\n", m->gravity_m_s2,
-            m->slope_rad * 180.0 / M_PI);
-    fputs("\nbodies (inertia about the centre of mass; centre of mass in the body frame)\n", f);
-    fputs("  ground       the fixed world body\n", f);
-    for (i = 1; i < m->nbodies; i++)
-        body_text(f, &m->bodies[i]);
-    fputs("\njoints\n", f);
-    for (i = 0; i < m->njoints; i++) {
-        const rigmat_joint *j = &m->joints[i];
-        char angle[256], place[256];
-        const rigmat_joint_desc *jd = rigmat_joint_kind(j->type);
-        fprintf(f, "  %-12s %s, %s -> %s", j->name, jd->word, m->bodies[j->parent].name,
-                m->bodies[j->child].name);
-        if (jd->has_coordinate)
-            fprintf(f, ", coordinate %s%s [%s]", j->name, jd->suffix[0],
-                    rigmat_joint_unit(j, 0));
-        if (j->driven != RIGMAT_DRIVEN_NONE)
-            fprintf(f, ", driven by %s (%s)",
-                    j->driven == RIGMAT_DRIVEN_POSITION ? "position"
-                    : j->driven == RIGMAT_DRIVEN_VELOCITY ? "velocity" : "acceleration",
-                    j->role == RIGMAT_ROLE_DISTURBANCE ? "disturbance" : "input");
-        fputc('\n', f);
-        joint_relations(m, j, angle, sizeof angle, place, sizeof place);
-        fprintf(f, "      %s\n      %s\n", angle, place);
+    rigmat_result_key(r, key);
+    rigmat_result_object(r);
+    for (i = 0; i < n; i++) {
+        rigmat_result_key(r, s[i].name);
+        rigmat_result_number(r, s[i].value, NULL);
     }
-    fprintf(f, "\nstates (%zu), order hash %s\n", l->nx, l->order_hash);
-    signals_text(f, l->states, 0, l->nx);
-    fprintf(f, "\ninputs: control (%zu)\n", l->nu_control);
-    signals_text(f, l->inputs, 0, l->nu_control);
-    fprintf(f, "inputs: disturbance (%zu)\n", l->nu - l->nu_control);
-    signals_text(f, l->inputs, l->nu_control, l->nu);
-    fprintf(f, "\noutputs (%zu)\n", l->ny);
-    signals_text(f, l->outputs, 0, l->ny);
-    if (m->nmotors > 0)
-        fputs("\nmotors (values at the motor shaft, one motor)\n", f);
-    for (i = 0; i < m->nmotors; i++) {
-        const rigmat_motor *mo = &m->motors[i];
-        fprintf(f, "  %-12s %s form%s%s%s: R %.6g ohm, L ", mo->name,
-                mo->datasheet ? "datasheet" : "circuit", mo->part ? " (part " : "",
-                mo->part ? mo->part : "", mo->part ? ")" : "", mo->resistance_ohm);
-        if (mo->inductance_neglected)
-            fputs("neglected", f);
-        else
-            fprintf(f, "%.6g H", mo->inductance_h);
-        fprintf(f, ", Kt %.6g N*m/A, Ke %.6g V*s/rad, rotor %.6g kg*m^2, friction %.6g "
-                "N*m*s/rad\n", mo->torque_constant_nm_a, mo->back_emf_v_s_rad,
-                mo->rotor_inertia_kgm2, mo->friction_nm_s_rad);
-        fprintf(f, "      gear ratio %.6g, efficiency %.6g, count %u, polarity %+d, drive %s",
-                mo->gear_ratio, mo->efficiency, mo->count, mo->polarity,
-                rigmat_drive_kind_desc(mo->drive)->word);
-        if (rigmat_drive_kind_desc(mo->drive)->needs_supply)
-            fprintf(f, " from %.6g V", mo->supply_v);
-        if (mo->radius_m > 0.0)
-            fprintf(f, ", radius %.6g m", mo->radius_m);
-        if (mo->lead_m > 0.0)
-            fprintf(f, ", lead %.6g m/rev", mo->lead_m);
-        fputc('\n', f);
-        if (mo->datasheet)
-            fprintf(f, "      from the sheet (%s-shaft figures): Kt = T_stall/I_stall = %.6g "
-                    "N*m/A, Ke = (V - R I_nl)/w_nl = %.6g V*s/rad, mismatch %.1f%%; Kt is used "
-                    "for torque, Ke for the back-EMF\n", mo->figures_at_output ? "output" :
-                    "motor", mo->kt_from_sheet, mo->ke_from_sheet, 100.0 * kt_ke_mismatch(mo));
-    }
-    if (rate_hz > 0.0)
-        fprintf(f, "\nnoise per sample at %.6g Hz (T = %.6g s)\n", rate_hz, 1.0 / rate_hz);
+    rigmat_result_close(r);
+}
+
+/* One entry of "noise": its JSON record and its line of text. */
+static void noise_entry(rigmat_result *r, const char *name, const char *kind, double sd,
+        const char *unit)
+{
+    rigmat_result_object(r);
+    rigmat_result_key(r, "name");
+    rigmat_result_string(r, name);
+    rigmat_result_key(r, "kind");
+    rigmat_result_string(r, kind);
+    rigmat_result_key(r, "sd_per_sample");
+    if (sd < 0.0)
+        rigmat_result_null(r);
     else
-        fputs("\nnoise per sample (give --rate for white densities)\n", f);
+        rigmat_result_number(r, sd, unit);
+    rigmat_result_key(r, "unit");
+    rigmat_result_string(r, unit);
+    rigmat_result_close(r);
+}
+
+static void body_entry(rigmat_result *r, const rigmat_body *b)
+{
+    struct capture c;
+
+    rigmat_result_object(r);
+    rigmat_result_key(r, "name");
+    rigmat_result_string(r, b->name);
+    rigmat_result_key(r, "mass");
+    rigmat_result_number(r, b->mass_kg, "kg");
+    rigmat_result_key(r, "inertia");
+    rigmat_result_number(r, b->inertia_kgm2, "kg*m^2");
+    vec2(r, "com", b->com_m);
+    rigmat_result_key(r, "shape");
+    rigmat_result_string(r, rigmat_shape_kind_desc(b->shape)->word);
+    rigmat_result_close(r);
+    if (capture_open(&c, r) != NULL)
+        body_text(c.f, b);
+    capture_close(&c, r, 1);
+}
+
+static void joint_entry(rigmat_result *r, const rigmat_model *m, const rigmat_joint *j)
+{
+    const rigmat_joint_desc *jd = rigmat_joint_kind(j->type);
+    char angle[256], place[256], coord[160], unit[40];
+
+    coord[0] = '\0';
+    snprintf(unit, sizeof unit, " [%s]", jd->has_coordinate ? rigmat_joint_unit(j, 0) : "");
+    joint_relations(m, j, angle, sizeof angle, place, sizeof place);
+    rigmat_result_object(r);
+    rigmat_result_key(r, "name");
+    rigmat_result_string(r, j->name);
+    rigmat_result_key(r, "type");
+    rigmat_result_string(r, rigmat_joint_kind(j->type)->word);
+    rigmat_result_key(r, "parent");
+    rigmat_result_string(r, m->bodies[j->parent].name);
+    rigmat_result_key(r, "child");
+    rigmat_result_string(r, m->bodies[j->child].name);
+    rigmat_result_key(r, "coordinate");
+    if (!jd->has_coordinate) {
+        rigmat_result_null(r);
+    } else {
+        snprintf(coord, sizeof coord, "%s%s", j->name, jd->suffix[0]);
+        rigmat_result_string(r, coord);
+    }
+    rigmat_result_key(r, "angle_relation");
+    rigmat_result_string(r, angle);
+    rigmat_result_key(r, "position_relation");
+    rigmat_result_string(r, place);
+    rigmat_result_close(r);
+    rigmat_result_as_text(r, "  %-12s %s, %s -> %s%s%s%s%s%s%s%s\n      %s\n      %s\n", j->name,
+            rigmat_joint_kind(j->type)->word, m->bodies[j->parent].name, m->bodies[j->child].name,
+            jd->has_coordinate ? ", coordinate " : "", jd->has_coordinate ? coord : "",
+            jd->has_coordinate ? unit : "",
+            j->driven != RIGMAT_DRIVEN_NONE ? ", driven by " : "",
+            j->driven == RIGMAT_DRIVEN_NONE ? ""
+            : j->driven == RIGMAT_DRIVEN_POSITION ? "position"
+            : j->driven == RIGMAT_DRIVEN_VELOCITY ? "velocity" : "acceleration",
+            j->driven == RIGMAT_DRIVEN_NONE ? ""
+            : j->role == RIGMAT_ROLE_DISTURBANCE ? " (disturbance)" : " (input)",
+            "", angle, place);
+}
+
+static void motor_entry(rigmat_result *r, const rigmat_motor *mo)
+{
+    struct capture c;
+    FILE *f;
+
+    rigmat_result_object(r);
+    rigmat_result_key(r, "name");
+    rigmat_result_string(r, mo->name);
+    rigmat_result_key(r, "form");
+    rigmat_result_string(r, mo->datasheet ? "datasheet" : "circuit");
+    rigmat_result_key(r, "resistance");
+    rigmat_result_number(r, mo->resistance_ohm, "ohm");
+    rigmat_result_key(r, "inductance");
+    if (mo->inductance_neglected)
+        rigmat_result_null(r);
+    else
+        rigmat_result_number(r, mo->inductance_h, "H");
+    rigmat_result_key(r, "torque_constant");
+    rigmat_result_number(r, mo->torque_constant_nm_a, "N*m/A");
+    rigmat_result_key(r, "back_emf_constant");
+    rigmat_result_number(r, mo->back_emf_v_s_rad, "V*s/rad");
+    rigmat_result_key(r, "rotor_inertia");
+    rigmat_result_number(r, mo->rotor_inertia_kgm2, "kg*m^2");
+    rigmat_result_key(r, "friction");
+    rigmat_result_number(r, mo->friction_nm_s_rad, "N*m*s/rad");
+    rigmat_result_key(r, "gear_ratio");
+    rigmat_result_number(r, mo->gear_ratio, NULL);
+    rigmat_result_key(r, "efficiency");
+    rigmat_result_number(r, mo->efficiency, NULL);
+    rigmat_result_key(r, "count");
+    rigmat_result_integer(r, (long)mo->count);
+    rigmat_result_key(r, "polarity");
+    rigmat_result_integer(r, mo->polarity);
+    rigmat_result_key(r, "drive");
+    rigmat_result_string(r, rigmat_drive_kind_desc(mo->drive)->word);
+    if (mo->datasheet) {
+        rigmat_result_key(r, "kt_from_sheet");
+        rigmat_result_number(r, mo->kt_from_sheet, "N*m/A");
+        rigmat_result_key(r, "ke_from_sheet");
+        rigmat_result_number(r, mo->ke_from_sheet, "V*s/rad");
+        rigmat_result_key(r, "mismatch");
+        rigmat_result_number(r, kt_ke_mismatch(mo), NULL);
+    }
+    rigmat_result_close(r);
+    f = capture_open(&c, r);
+    if (f == NULL)
+        return;
+    fprintf(f, "  %-12s %s form%s%s%s: R %.6g ohm, L ", mo->name,
+            mo->datasheet ? "datasheet" : "circuit", mo->part ? " (part " : "",
+            mo->part ? mo->part : "", mo->part ? ")" : "", mo->resistance_ohm);
+    if (mo->inductance_neglected)
+        fputs("neglected", f);
+    else
+        fprintf(f, "%.6g H", mo->inductance_h);
+    fprintf(f, ", Kt %.6g N*m/A, Ke %.6g V*s/rad, rotor %.6g kg*m^2, friction %.6g "
+            "N*m*s/rad\n", mo->torque_constant_nm_a, mo->back_emf_v_s_rad,
+            mo->rotor_inertia_kgm2, mo->friction_nm_s_rad);
+    fprintf(f, "      gear ratio %.6g, efficiency %.6g, count %u, polarity %+d, drive %s",
+            mo->gear_ratio, mo->efficiency, mo->count, mo->polarity, rigmat_drive_kind_desc(mo->drive)->word);
+    if (mo->drive == RIGMAT_DRIVE_DUTY)
+        fprintf(f, " from %.6g V", mo->supply_v);
+    if (mo->radius_m > 0.0)
+        fprintf(f, ", radius %.6g m", mo->radius_m);
+    if (mo->lead_m > 0.0)
+        fprintf(f, ", lead %.6g m/rev", mo->lead_m);
+    fputc('\n', f);
+    if (mo->datasheet)
+        fprintf(f, "      from the sheet (%s-shaft figures): Kt = T_stall/I_stall = %.6g "
+                "N*m/A, Ke = (V - R I_nl)/w_nl = %.6g V*s/rad, mismatch %.1f%%; Kt is used "
+                "for torque, Ke for the back-EMF\n", mo->figures_at_output ? "output" :
+                "motor", mo->kt_from_sheet, mo->ke_from_sheet, 100.0 * kt_ke_mismatch(mo));
+    capture_close(&c, r, 1);
+}
+
+/* The result of `check`, described once: the JSON records, each with its
+ * line of the text layout. */
+static void check_result(struct cli_env *env, rigmat_result *r, const rigmat_model *m,
+        double rate_hz)
+{
+    const rigmat_layout *l = &m->layout;
+    struct capture c;
+    size_t i;
+
+    rigmat_result_head(r, m->name, l->order_hash, l->states, l->nx, l->inputs, l->nu,
+            l->outputs, l->ny);
+    rigmat_result_key(r, "file");
+    rigmat_result_string(r, m->file);
+    rigmat_result_as_text(r, "model: %s (%s)\n", cli_model_name(m), m->file);
+    rigmat_result_key(r, "gravity");
+    rigmat_result_number(r, m->gravity_m_s2, "m/s^2");
+    rigmat_result_as_text(r, "gravity %.6g m/s^2, slope %.6g deg\n", m->gravity_m_s2,
+            m->slope_rad * 180.0 / M_PI);
+    rigmat_result_key(r, "slope");
+    rigmat_result_number(r, m->slope_rad, "rad");
+    rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+    rigmat_result_key(r, "nu_control");
+    rigmat_result_integer(r, (long)l->nu_control);
+    rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+    rigmat_result_text(r, "\nbodies (inertia about the centre of mass; centre of mass in the "
+            "body frame)\n  ground       the fixed world body\n");
+    rigmat_result_key(r, "bodies");
+    rigmat_result_array(r);
+    for (i = 1; i < m->nbodies; i++)
+        body_entry(r, &m->bodies[i]);
+    rigmat_result_close(r);
+    rigmat_result_text(r, "\njoints\n");
+    rigmat_result_key(r, "joints");
+    rigmat_result_array(r);
+    for (i = 0; i < m->njoints; i++)
+        joint_entry(r, m, &m->joints[i]);
+    rigmat_result_close(r);
+    /* the vectors of the head, laid out for people */
+    if (capture_open(&c, r) != NULL) {
+        fprintf(c.f, "\nstates (%zu), order hash %s\n", l->nx, l->order_hash);
+        signals_text(c.f, l->states, 0, l->nx);
+        fprintf(c.f, "\ninputs: control (%zu)\n", l->nu_control);
+        signals_text(c.f, l->inputs, 0, l->nu_control);
+        fprintf(c.f, "inputs: disturbance (%zu)\n", l->nu - l->nu_control);
+        signals_text(c.f, l->inputs, l->nu_control, l->nu);
+        fprintf(c.f, "\noutputs (%zu)\n", l->ny);
+        signals_text(c.f, l->outputs, 0, l->ny);
+        if (m->nmotors > 0)
+            fputs("\nmotors (values at the motor shaft, one motor)\n", c.f);
+    }
+    capture_close(&c, r, 0);
+    rigmat_result_key(r, "motors");
+    rigmat_result_array(r);
+    for (i = 0; i < m->nmotors; i++)
+        motor_entry(r, &m->motors[i]);
+    rigmat_result_close(r);
+    rigmat_result_key(r, "rate");
+    if (rate_hz > 0.0) {
+        rigmat_result_number(r, rate_hz, "Hz");
+        rigmat_result_as_text(r, "\nnoise per sample at %.6g Hz (T = %.6g s)\n", rate_hz,
+                1.0 / rate_hz);
+    } else {
+        rigmat_result_null(r);
+        rigmat_result_as_text(r, "\nnoise per sample (give --rate for white densities)\n");
+    }
+    rigmat_result_key(r, "noise");
+    rigmat_result_array(r);
     for (i = 0; i < m->nsensors; i++) {
         const rigmat_sensor *s = &m->sensors[i];
         const double sd = sensor_sd(s, rate_hz);
+        noise_entry(r, s->name, "sensor", sd < 0.0 ? sd : sd * fabs(s->gain), rigmat_sensor_measured_unit(m, s));
         if (s->noise == 0.0 && s->density == 0.0 && sensor_resolution(s) == 0.0)
-            fprintf(f, "  %-12s sensor, noiseless\n", s->name);
+            rigmat_result_as_text(r, "  %-12s sensor, noiseless\n", s->name);
         else if (sd < 0.0)
-            fprintf(f, "  %-12s sensor, needs --rate\n", s->name);
+            rigmat_result_as_text(r, "  %-12s sensor, needs --rate\n", s->name);
         else
-            fprintf(f, "  %-12s sensor, sd %.6g %s%s\n", s->name, sd * fabs(s->gain),
+            rigmat_result_as_text(r, "  %-12s sensor, sd %.6g %s%s\n", s->name, sd * fabs(s->gain),
                     rigmat_sensor_measured_unit(m, s), s->gain != 1.0 ? " (times |gain|)" : "");
     }
     for (i = 0; i < m->nforces; i++) {
@@ -192,211 +397,46 @@ static void check_text(FILE *f, const rigmat_model *m, double rate_hz)
         const char *u = rigmat_units_kind_symbol(rigmat_force_effort(m, fo));
         if (fo->density <= 0.0)
             continue;
+        noise_entry(r, fo->name, "disturbance", sd, u);
         if (sd < 0.0)
-            fprintf(f, "  %-12s disturbance, needs --rate\n", fo->name);
+            rigmat_result_as_text(r, "  %-12s disturbance, needs --rate\n", fo->name);
         else
-            fprintf(f, "  %-12s disturbance, sd %.6g %s\n", fo->name, sd, u);
+            rigmat_result_as_text(r, "  %-12s disturbance, sd %.6g %s\n", fo->name, sd, u);
     }
+    rigmat_result_close(r);
     for (i = 0; i < m->njoints; i++) {
         const rigmat_joint *j = &m->joints[i];
         const double sd = density_sd(j->density, j->bandwidth_hz, rate_hz);
         if (j->driven == RIGMAT_DRIVEN_NONE || j->density <= 0.0)
             continue;
         if (sd < 0.0)
-            fprintf(f, "  %-12s driven joint, needs --rate\n", j->name);
+            rigmat_result_text(r, "  %-12s driven joint, needs --rate\n", j->name);
         else
-            fprintf(f, "  %-12s driven joint, sd %.6g (SI)\n", j->name, sd);
+            rigmat_result_text(r, "  %-12s driven joint, sd %.6g (SI)\n", j->name, sd);
     }
-    fputs("\noperating point\n", f);
-    settings_text(f, "coordinates", m->op_coordinates, m->nop_coordinates);
-    settings_text(f, "rates", m->op_rates, m->nop_rates);
-    settings_text(f, "inputs", m->op_inputs, m->nop_inputs);
-    fputs("  solve:", f);
+    rigmat_result_key(r, "operating_point");
+    rigmat_result_object(r);
+    settings(r, "coordinates", m->op_coordinates, m->nop_coordinates);
+    settings(r, "rates", m->op_rates, m->nop_rates);
+    settings(r, "inputs", m->op_inputs, m->nop_inputs);
+    rigmat_result_key(r, "solve");
+    rigmat_result_array(r);
     for (i = 0; i < m->op_solve.count; i++)
-        fprintf(f, "%s %s", i ? "," : "", m->op_solve.names[i]);
-    fputs(m->op_solve.count ? "\n" : " nothing\n", f);
-}
-
-static void json_vec2(struct cli_json *j, const double v[2])
-{
-    cli_json_arr_open(j);
-    cli_json_num(j, v[0]);
-    cli_json_num(j, v[1]);
-    cli_json_arr_close(j);
-}
-
-static void json_settings(struct cli_json *j, const char *key, const rigmat_setting *s, size_t n)
-{
-    size_t i;
-    cli_json_key(j, key);
-    cli_json_obj_open(j);
-    for (i = 0; i < n; i++) {
-        cli_json_key(j, s[i].name);
-        cli_json_num(j, s[i].value);
+        rigmat_result_string(r, m->op_solve.names[i]);
+    rigmat_result_close(r);
+    rigmat_result_close(r);
+    if (capture_open(&c, r) != NULL) {
+        fputs("\noperating point\n", c.f);
+        settings_text(c.f, "coordinates", m->op_coordinates, m->nop_coordinates);
+        settings_text(c.f, "rates", m->op_rates, m->nop_rates);
+        settings_text(c.f, "inputs", m->op_inputs, m->nop_inputs);
+        fputs("  solve:", c.f);
+        for (i = 0; i < m->op_solve.count; i++)
+            fprintf(c.f, "%s %s", i ? "," : "", m->op_solve.names[i]);
+        fputs(m->op_solve.count ? "\n" : " nothing\n", c.f);
     }
-    cli_json_obj_close(j);
-}
-
-static void json_noise(struct cli_json *j, const char *name, const char *kind, double sd,
-        const char *unit)
-{
-    cli_json_obj_open(j);
-    cli_json_key(j, "name");
-    cli_json_str(j, name);
-    cli_json_key(j, "kind");
-    cli_json_str(j, kind);
-    cli_json_key(j, "sd_per_sample");
-    if (sd < 0.0)
-        cli_json_null(j);
-    else
-        cli_json_num(j, sd);
-    cli_json_key(j, "unit");
-    cli_json_str(j, unit);
-    cli_json_obj_close(j);
-}
-
-static rigmat_status check_json(struct cli_env *env, FILE *f, const rigmat_model *m,
-        double rate_hz)
-{
-    struct cli_json j;
-    size_t i;
-
-    cli_json_begin(&j, f);
-    cli_json_head(&j, m, "check");
-    cli_json_key(&j, "file");
-    cli_json_str(&j, m->file);
-    cli_json_key(&j, "gravity");
-    cli_json_num(&j, m->gravity_m_s2);
-    cli_json_key(&j, "slope");
-    cli_json_num(&j, m->slope_rad);
-    cli_json_key(&j, "nu_control");
-    cli_json_int(&j, (long)m->layout.nu_control);
-    cli_json_key(&j, "bodies");
-    cli_json_arr_open(&j);
-    for (i = 1; i < m->nbodies; i++) {
-        const rigmat_body *b = &m->bodies[i];
-        cli_json_obj_open(&j);
-        cli_json_key(&j, "name");
-        cli_json_str(&j, b->name);
-        cli_json_key(&j, "mass");
-        cli_json_num(&j, b->mass_kg);
-        cli_json_key(&j, "inertia");
-        cli_json_num(&j, b->inertia_kgm2);
-        cli_json_key(&j, "com");
-        json_vec2(&j, b->com_m);
-        cli_json_key(&j, "shape");
-        cli_json_str(&j, rigmat_shape_kind_desc(b->shape)->word);
-        cli_json_obj_close(&j);
-    }
-    cli_json_arr_close(&j);
-    cli_json_key(&j, "joints");
-    cli_json_arr_open(&j);
-    for (i = 0; i < m->njoints; i++) {
-        const rigmat_joint *jt = &m->joints[i];
-        char angle[256], place[256], coord[160];
-        joint_relations(m, jt, angle, sizeof angle, place, sizeof place);
-        cli_json_obj_open(&j);
-        cli_json_key(&j, "name");
-        cli_json_str(&j, jt->name);
-        cli_json_key(&j, "type");
-        cli_json_str(&j, rigmat_joint_kind(jt->type)->word);
-        cli_json_key(&j, "parent");
-        cli_json_str(&j, m->bodies[jt->parent].name);
-        cli_json_key(&j, "child");
-        cli_json_str(&j, m->bodies[jt->child].name);
-        cli_json_key(&j, "coordinate");
-        if (!rigmat_joint_kind(jt->type)->has_coordinate) {
-            cli_json_null(&j);
-        } else {
-            snprintf(coord, sizeof coord, "%s%s", jt->name, rigmat_joint_kind(jt->type)->suffix[0]);
-            cli_json_str(&j, coord);
-        }
-        cli_json_key(&j, "angle_relation");
-        cli_json_str(&j, angle);
-        cli_json_key(&j, "position_relation");
-        cli_json_str(&j, place);
-        cli_json_obj_close(&j);
-    }
-    cli_json_arr_close(&j);
-    cli_json_key(&j, "motors");
-    cli_json_arr_open(&j);
-    for (i = 0; i < m->nmotors; i++) {
-        const rigmat_motor *mo = &m->motors[i];
-        cli_json_obj_open(&j);
-        cli_json_key(&j, "name");
-        cli_json_str(&j, mo->name);
-        cli_json_key(&j, "form");
-        cli_json_str(&j, mo->datasheet ? "datasheet" : "circuit");
-        cli_json_key(&j, "resistance");
-        cli_json_num(&j, mo->resistance_ohm);
-        cli_json_key(&j, "inductance");
-        if (mo->inductance_neglected)
-            cli_json_null(&j);
-        else
-            cli_json_num(&j, mo->inductance_h);
-        cli_json_key(&j, "torque_constant");
-        cli_json_num(&j, mo->torque_constant_nm_a);
-        cli_json_key(&j, "back_emf_constant");
-        cli_json_num(&j, mo->back_emf_v_s_rad);
-        cli_json_key(&j, "rotor_inertia");
-        cli_json_num(&j, mo->rotor_inertia_kgm2);
-        cli_json_key(&j, "friction");
-        cli_json_num(&j, mo->friction_nm_s_rad);
-        cli_json_key(&j, "gear_ratio");
-        cli_json_num(&j, mo->gear_ratio);
-        cli_json_key(&j, "efficiency");
-        cli_json_num(&j, mo->efficiency);
-        cli_json_key(&j, "count");
-        cli_json_int(&j, (long)mo->count);
-        cli_json_key(&j, "polarity");
-        cli_json_int(&j, mo->polarity);
-        cli_json_key(&j, "drive");
-        cli_json_str(&j, rigmat_drive_kind_desc(mo->drive)->word);
-        if (mo->datasheet) {
-            cli_json_key(&j, "kt_from_sheet");
-            cli_json_num(&j, mo->kt_from_sheet);
-            cli_json_key(&j, "ke_from_sheet");
-            cli_json_num(&j, mo->ke_from_sheet);
-            cli_json_key(&j, "mismatch");
-            cli_json_num(&j, kt_ke_mismatch(mo));
-        }
-        cli_json_obj_close(&j);
-    }
-    cli_json_arr_close(&j);
-    cli_json_key(&j, "rate");
-    if (rate_hz > 0.0)
-        cli_json_num(&j, rate_hz);
-    else
-        cli_json_null(&j);
-    cli_json_key(&j, "noise");
-    cli_json_arr_open(&j);
-    for (i = 0; i < m->nsensors; i++) {
-        const rigmat_sensor *s = &m->sensors[i];
-        const double sd = sensor_sd(s, rate_hz);
-        json_noise(&j, s->name, "sensor", sd < 0.0 ? sd : sd * fabs(s->gain),
-                rigmat_sensor_measured_unit(m, s));
-    }
-    for (i = 0; i < m->nforces; i++) {
-        const rigmat_force *fo = &m->forces[i];
-        if (fo->density > 0.0)
-            json_noise(&j, fo->name, "disturbance",
-                    density_sd(fo->density, fo->bandwidth_hz, rate_hz),
-                    rigmat_units_kind_symbol(rigmat_force_effort(m, fo)));
-    }
-    cli_json_arr_close(&j);
-    cli_json_key(&j, "operating_point");
-    cli_json_obj_open(&j);
-    json_settings(&j, "coordinates", m->op_coordinates, m->nop_coordinates);
-    json_settings(&j, "rates", m->op_rates, m->nop_rates);
-    json_settings(&j, "inputs", m->op_inputs, m->nop_inputs);
-    cli_json_key(&j, "solve");
-    cli_json_arr_open(&j);
-    for (i = 0; i < m->op_solve.count; i++)
-        cli_json_str(&j, m->op_solve.names[i]);
-    cli_json_arr_close(&j);
-    cli_json_obj_close(&j);
-    check_sign_table(env, m, 1, &j);
-    return cli_json_end(&j);
+    capture_close(&c, r, 1);
+    check_sign_table(env, m, r);
 }
 
 /* called from the table in main.c */
@@ -409,6 +449,7 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
         { 0, "rate", CLI_OPT_STRING, &rate, "FREQ", "sample rate for the noise per sample" },
         CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
     static const char *const formats[] = { "text", "json", NULL };
+    rigmat_result *res = NULL;
     rigmat_model *m = NULL;
     const char *file = NULL;
     int done = 0;
@@ -433,13 +474,18 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
     st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;
-    if (fmt == 1)
-        st = check_json(env, env->out, m, rate_hz);
-    else {
-        check_text(env->out, m, rate_hz);
-        check_sign_table(env, m, 0, NULL);
-        cli_modes_summary(env, m, NULL);
+    res = rigmat_result_alloc("check");
+    if (res == NULL) {
+        fprintf(env->err, "rigmat check: out of memory\n");
+        st = RIGMAT_ENOMEM;
+    } else {
+        check_result(env, res, m, rate_hz);
+        st = cli_emit(env, res, &c, file);
+        /* the text ends with the one-line modes summary */
+        if (st == RIGMAT_OK && (c.format == NULL || strcmp(c.format, "text") == 0))
+            cli_modes_summary(env, m, NULL);
     }
+    rigmat_result_free(res);
     rigmat_model_free(m);
     return st;
 }

@@ -35,7 +35,7 @@ static int row_sign(const rigmat_lti *l, const struct sign_row *r, size_t k, dou
     return rigmat_lti_first_response(l, row, d, k, order);
 }
 
-void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, struct cli_json *j)
+void check_sign_table(struct cli_env *env, const rigmat_model *m, rigmat_result *r)
 {
     const rigmat_layout *L = &m->layout;
     rigmat_lti *l = NULL;
@@ -43,22 +43,24 @@ void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, stru
     struct sign_row *rows = NULL;
     double *row = NULL;
     size_t nr = 0, i, k;
-    FILE *f = env->out;
+    char *text = NULL;
+    size_t tlen = 0;
+    FILE *f = NULL;
 
     memset(&e, 0, sizeof e);
+    rigmat_result_key(r, "sign_table");
     if (rigmat_linearize(m, &env->opt, &l, NULL, &e) != RIGMAT_OK) {
-        if (json) {
-            cli_json_key(j, "sign_table");
-            cli_json_null(j);
-        } else {
-            fprintf(f, "\nsign table: not available: %s\n", e.message);
-        }
+        rigmat_result_null(r);
+        rigmat_result_as_text(r, "\nsign table: not available: %s\n", e.message);
         return;
     }
     rows = calloc(L->nx + L->ny + 1, sizeof *rows);
     row = calloc(L->nx + 1, sizeof *row);
-    if (rows == NULL || row == NULL)
+    f = open_memstream(&text, &tlen);
+    if (rows == NULL || row == NULL || f == NULL) {
+        r->status = RIGMAT_ENOMEM;
         goto done;
+    }
     for (i = 0; i < L->nx; i++)
         if (L->states[i].kind == RIGMAT_SIG_COORD) {
             rows[nr].name = m->joints[L->states[i].index].name;
@@ -70,43 +72,39 @@ void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, stru
         rows[nr].is_output = 1;
         rows[nr++].index = i;
     }
-    if (json) {
-        cli_json_key(j, "sign_table");
-        cli_json_obj_open(j);
-        cli_json_key(j, "inputs");
-        cli_json_arr_open(j);
+    /* the JSON: inputs, then a row per coordinate and sensor */
+    rigmat_result_object(r);
+    rigmat_result_key(r, "inputs");
+    rigmat_result_array(r);
+    for (k = 0; k < L->nu; k++)
+        rigmat_result_string(r, L->inputs[k].name);
+    rigmat_result_close(r);
+    rigmat_result_key(r, "rows");
+    rigmat_result_array(r);
+    for (i = 0; i < nr; i++) {
+        int order;
+        rigmat_result_object(r);
+        rigmat_result_key(r, "name");
+        rigmat_result_string(r, rows[i].name);
+        rigmat_result_key(r, "kind");
+        rigmat_result_string(r, rows[i].is_output ? "sensor" : "coordinate");
+        rigmat_result_key(r, "signs");
+        rigmat_result_array(r);
         for (k = 0; k < L->nu; k++)
-            cli_json_str(j, L->inputs[k].name);
-        cli_json_arr_close(j);
-        cli_json_key(j, "rows");
-        cli_json_arr_open(j);
-        for (i = 0; i < nr; i++) {
-            cli_json_obj_open(j);
-            cli_json_key(j, "name");
-            cli_json_str(j, rows[i].name);
-            cli_json_key(j, "kind");
-            cli_json_str(j, rows[i].is_output ? "sensor" : "coordinate");
-            cli_json_key(j, "signs");
-            cli_json_arr_open(j);
-            for (k = 0; k < L->nu; k++) {
-                int order;
-                cli_json_str(j, sign_char(row_sign(l, &rows[i], k, row, &order)));
-            }
-            cli_json_arr_close(j);
-            cli_json_key(j, "orders");
-            cli_json_arr_open(j);
-            for (k = 0; k < L->nu; k++) {
-                int order;
-                (void)row_sign(l, &rows[i], k, row, &order);
-                cli_json_int(j, order);
-            }
-            cli_json_arr_close(j);
-            cli_json_obj_close(j);
+            rigmat_result_string(r, sign_char(row_sign(l, &rows[i], k, row, &order)));
+        rigmat_result_close(r);
+        rigmat_result_key(r, "orders");
+        rigmat_result_array(r);
+        for (k = 0; k < L->nu; k++) {
+            (void)row_sign(l, &rows[i], k, row, &order);
+            rigmat_result_integer(r, order);
         }
-        cli_json_arr_close(j);
-        cli_json_obj_close(j);
-        goto done;
+        rigmat_result_close(r);
+        rigmat_result_close(r);
     }
+    rigmat_result_close(r);
+    rigmat_result_close(r);
+    /* the same table, laid out for people */
     fputs("\nsign table: the first response to a positive input, with its derivative order\n"
           "(coordinates: 2 = the acceleration; sensors: 0 = reached directly)\n", f);
     fprintf(f, "  %-20s", "");
@@ -128,7 +126,14 @@ void check_sign_table(struct cli_env *env, const rigmat_model *m, int json, stru
         }
         fputc('\n', f);
     }
+    if (fclose(f) != 0)
+        r->status = RIGMAT_ENOMEM;
+    f = NULL;
+    rigmat_result_as_text(r, "%s", text != NULL ? text : "");
 done:
+    if (f != NULL)
+        fclose(f);
+    free(text);
     free(rows);
     free(row);
     rigmat_lti_free(l);

@@ -2,7 +2,8 @@
  * at a controller rate (src/sample/discretize.h) and the Kalman-filter noise model
  * (src/sample/noise.h), with sampling advice where it matters.
  *
- * JSON (README.md, "JSON output"): the head of `linearize` (cli_json_head), then
+ * The result is described once (discretize_result) and rendered in any
+ * format by src/emit.  JSON (README.md, "JSON output"): the head, then
  *   period          s
  *   method          "zoh" | "foh" | "tustin" | "euler" | "backward-euler"
  *   prewarp         Hz (tustin with --prewarp only)
@@ -33,8 +34,9 @@
 
 static const char *const discretize_usage[] = {
     "rigmat discretize FILE (--rate FREQ | --period TIME) [--method METHOD] [--prewarp FREQ]",
-    "                  [--delay SAMPLES] [--set PATH=VALUE]... [--format text|json] [-o FILE]",
-    "                  [--catalog DIR]", NULL
+    "                  [--delay SAMPLES] [--set PATH=VALUE]... [--format FORMAT] [-o FILE|DIR]",
+    "                  [--catalog DIR] [--name NAME] [--ctype double|float]",
+    "FORMAT: text, json, csv, c, numpy, mtx (-o DIR), latex", NULL
 };
 
 /* The lowest and highest multiples of the closed-loop bandwidth a sample
@@ -62,130 +64,131 @@ static rigmat_signal *sampled_states(const rigmat_layout *L, const rigmat_dlti *
     return s;
 }
 
-static void text_noise(FILE *f, const rigmat_layout *L, const rigmat_noise *nz)
+/* The noise per sample, a text-only summary (the matrices carry it all). */
+static void noise_lines(rigmat_result *r, const rigmat_layout *L, const rigmat_noise *nz)
 {
     size_t i;
 
-    fputs("noise per sample (standard deviation; README.md, noise convention)\n", f);
+    rigmat_result_text(r, "noise per sample (standard deviation; README.md, noise convention)\n");
     for (i = 0; i < L->ny; i++) {
         const rigmat_sensor_noise *s = &nz->sensor[i];
-        fprintf(f, "  %s [%s]: %.4g", L->outputs[i].name, L->outputs[i].unit,
-                sqrt(gsl_matrix_get(nz->Rd, i, i)));
+        char parts[4][80];
+        parts[0][0] = parts[1][0] = parts[2][0] = parts[3][0] = '\0';
         if (s->noise_var > 0)
-            fprintf(f, "; noise %.4g", sqrt(s->noise_var));
+            snprintf(parts[0], sizeof parts[0], "; noise %.4g", sqrt(s->noise_var));
         if (s->density_var > 0)
-            fprintf(f, "; density %.4g", sqrt(s->density_var));
+            snprintf(parts[1], sizeof parts[1], "; density %.4g", sqrt(s->density_var));
         if (s->resolution_var > 0)
-            fprintf(f, "; resolution %.4g", sqrt(s->resolution_var));
+            snprintf(parts[2], sizeof parts[2], "; resolution %.4g", sqrt(s->resolution_var));
         if (nz->direct_var[i] > 0)
-            fprintf(f, "; disturbance reaching it directly %.4g", sqrt(nz->direct_var[i]));
-        if (gsl_matrix_get(nz->Rd, i, i) == 0.0)
-            fputs(" (no noise given)", f);
-        fputc('\n', f);
+            snprintf(parts[3], sizeof parts[3], "; disturbance reaching it directly %.4g",
+                    sqrt(nz->direct_var[i]));
+        rigmat_result_text(r, "  %s [%s]: %.4g%s%s%s%s%s\n", L->outputs[i].name,
+                L->outputs[i].unit, sqrt(gsl_matrix_get(nz->Rd, i, i)), parts[0], parts[1],
+                parts[2], parts[3],
+                gsl_matrix_get(nz->Rd, i, i) == 0.0 ? " (no noise given)" : "");
     }
     for (i = 0; i < nz->nw; i++) {
         const rigmat_signal *in = &L->inputs[L->nu_control + i];
         if (nz->disturbance_sd[i] > 0)
-            fprintf(f, "  disturbance %s [%s]: %.4g averaged over one period\n", in->name, in->unit,
-                    nz->disturbance_sd[i]);
+            rigmat_result_text(r, "  disturbance %s [%s]: %.4g averaged over one period\n",
+                    in->name, in->unit, nz->disturbance_sd[i]);
     }
-    fputc('\n', f);
+    rigmat_result_text(r, "\n");
 }
 
-static void discretize_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d,
-                            const rigmat_noise *nz, const rigmat_signal *xs)
+/* The result, described once for every format. */
+static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti *l,
+        const rigmat_dlti *d, const rigmat_noise *nz, const rigmat_signal *xs)
 {
     const rigmat_layout *L = &m->layout;
     const rigmat_signal *w = L->inputs + L->nu_control;
     const double rate_hz = 1.0 / d->period_s;
+    rigmat_result *r = rigmat_result_alloc("discrete");
+    char line[160];
 
-    fprintf(f, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
-    fprintf(f, "sampled at %.6g Hz (period %.6g ms), method %s", rate_hz, d->period_s * 1e3,
-            rigmat_method_name(d->method));
+    if (r == NULL)
+        return NULL;
+    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    rigmat_result_dim(r, "state", xs, d->nx);
+    rigmat_result_dim(r, "input", L->inputs, d->nu);
+    rigmat_result_dim(r, "disturbance", w, d->nw);
+    rigmat_result_dim(r, "output", L->outputs, d->ny);
+    rigmat_result_text(r, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
+    rigmat_result_text(r, "sampled at %.6g Hz (period %.6g ms), method %s", rate_hz,
+            d->period_s * 1e3, rigmat_method_name(d->method));
     if (d->prewarp_hz > 0)
-        fprintf(f, ", prewarped at %.6g Hz", d->prewarp_hz);
+        rigmat_result_text(r, ", prewarped at %.6g Hz", d->prewarp_hz);
     if (d->delay_samples > 0)
-        fprintf(f, ", input delay %.6g samples (%.6g ms)", d->delay_samples,
+        rigmat_result_text(r, ", input delay %.6g samples (%.6g ms)", d->delay_samples,
                 d->delay_samples * d->period_s * 1e3);
-    fputs("\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + noise (Qd);  y[k] = Cd x[k] + Dd u[k] + "
-          "Ed w[k] + noise (Rd)\n\n",
-          f);
-    cli_text_matrix(f, "Ad", d->Ad, xs, d->nx, xs, d->nx);
-    cli_text_matrix(f, "Bd (control inputs)", d->Bd, xs, d->nx, L->inputs, d->nu);
-    cli_text_matrix(f, "Gd (disturbances)", d->Gd, xs, d->nx, w, d->nw);
-    cli_text_matrix(f, "Cd", d->Cd, L->outputs, d->ny, xs, d->nx);
-    cli_text_matrix(f, "Dd", d->Dd, L->outputs, d->ny, L->inputs, d->nu);
-    cli_text_matrix(f, "Ed (disturbance feedthrough)", d->Ed, L->outputs, d->ny, w, d->nw);
-    cli_text_matrix(f,
-                    nz->qd_exact ? "Qd (process noise per period, exact)"
-                                 : "Qd (process noise per period, exact for zoh only)",
-                    nz->Qd, xs, d->nx, xs, d->nx);
-    cli_text_matrix(f, "Rd (measurement noise per sample)", nz->Rd, L->outputs, d->ny, L->outputs,
-                    d->ny);
-    if (nz->S != NULL)
-        cli_text_matrix(f, "S = E[w_k v_k^T] (process-measurement cross-covariance)", nz->S, xs,
-                        d->nx, L->outputs, d->ny);
-    text_noise(f, L, nz);
-    fprintf(f,
-            "advice (common practice): sample %g-%g times faster than the closed-loop "
-            "bandwidth; %.6g Hz suits a closed-loop bandwidth of about %.3g-%.3g Hz\n",
-            rule_low, rule_high, rate_hz, rate_hz / rule_high, rate_hz / rule_low);
-}
-
-static rigmat_status discretize_json(FILE *f, const rigmat_model *m, const rigmat_lti *l,
-                                     const rigmat_dlti *d, const rigmat_noise *nz)
-{
-    struct cli_json j;
-
-    cli_json_begin(&j, f);
-    cli_json_head(&j, m, "discrete");
-    cli_json_key(&j, "period");
-    cli_json_num(&j, d->period_s);
-    cli_json_key(&j, "method");
-    cli_json_str(&j, rigmat_method_name(d->method));
+    rigmat_result_text(r, "\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + noise (Qd);  y[k] = Cd x[k] "
+            "+ Dd u[k] + Ed w[k] + noise (Rd)\n\n");
+    rigmat_result_key(r, "period");
+    rigmat_result_number(r, d->period_s, "s");
+    rigmat_result_key(r, "method");
+    rigmat_result_string(r, rigmat_method_name(d->method));
     if (d->prewarp_hz > 0) {
-        cli_json_key(&j, "prewarp");
-        cli_json_num(&j, d->prewarp_hz);
+        rigmat_result_key(r, "prewarp");
+        rigmat_result_number(r, d->prewarp_hz, "Hz");
     }
-    cli_json_key(&j, "delay");
-    cli_json_num(&j, d->delay_samples);
-    cli_json_key(&j, "delay_states");
-    cli_json_signals(&j, d->delay_states, d->nx - d->nx_plant, 0);
-    cli_json_key(&j, "Ad");
-    cli_json_matrix(&j, d->Ad, d->nx, d->nx);
-    cli_json_key(&j, "Bd");
-    cli_json_matrix(&j, d->Bd, d->nx, d->nu);
-    cli_json_key(&j, "Cd");
-    cli_json_matrix(&j, d->Cd, d->ny, d->nx);
-    cli_json_key(&j, "Dd");
-    cli_json_matrix(&j, d->Dd, d->ny, d->nu);
-    cli_json_key(&j, "Gd");
-    cli_json_matrix(&j, d->Gd, d->nx, d->nw);
-    cli_json_key(&j, "Ed");
-    cli_json_matrix(&j, d->Ed, d->ny, d->nw);
-    cli_json_key(&j, "Qc");
-    {
-        const int pretty = j.pretty;
-        size_t i;
-        cli_json_arr_open(&j);
-        j.pretty = 0;
-        for (i = 0; i < l->nu; i++)
-            cli_json_num(&j, l->input_intensity[i]);
-        cli_json_arr_close(&j);
-        j.pretty = pretty;
-    }
-    cli_json_key(&j, "Qd");
-    cli_json_matrix(&j, nz->Qd, d->nx, d->nx);
-    cli_json_key(&j, "qd_exact");
-    cli_json_bool(&j, nz->qd_exact);
-    cli_json_key(&j, "Rd");
-    cli_json_matrix(&j, nz->Rd, d->ny, d->ny);
+    rigmat_result_key(r, "delay");
+    rigmat_result_number(r, d->delay_samples, "samples");
+    rigmat_result_key(r, "delay_states");
+    rigmat_result_signals(r, d->delay_states, d->nx - d->nx_plant, 0);
+    rigmat_result_key(r, "Ad");
+    rigmat_result_matrix(r, d->Ad, d->nx, d->nx, xs, xs);
+    rigmat_result_key(r, "Bd");
+    rigmat_result_matrix(r, d->Bd, d->nx, d->nu, xs, L->inputs);
+    rigmat_result_title(r, "Bd (control inputs)");
+    rigmat_result_key(r, "Cd");
+    rigmat_result_matrix(r, d->Cd, d->ny, d->nx, L->outputs, xs);
+    rigmat_result_key(r, "Dd");
+    rigmat_result_matrix(r, d->Dd, d->ny, d->nu, L->outputs, L->inputs);
+    rigmat_result_key(r, "Gd");
+    rigmat_result_matrix(r, d->Gd, d->nx, d->nw, xs, w);
+    rigmat_result_title(r, "Gd (disturbances)");
+    rigmat_result_key(r, "Ed");
+    rigmat_result_matrix(r, d->Ed, d->ny, d->nw, L->outputs, w);
+    rigmat_result_title(r, "Ed (disturbance feedthrough)");
+    rigmat_result_key(r, "Qc");
+    rigmat_result_values(r, l->input_intensity, l->nu, L->inputs);
+    rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+    rigmat_result_key(r, "Qd");
+    rigmat_result_matrix(r, nz->Qd, d->nx, d->nx, xs, xs);
+    rigmat_result_title(r, nz->qd_exact ? "Qd (process noise per period, exact)"
+                                        : "Qd (process noise per period, exact for zoh only)");
+    rigmat_result_key(r, "qd_exact");
+    rigmat_result_bool(r, nz->qd_exact);
+    rigmat_result_key(r, "Rd");
+    rigmat_result_matrix(r, nz->Rd, d->ny, d->ny, L->outputs, L->outputs);
+    rigmat_result_title(r, "Rd (measurement noise per sample)");
     if (nz->S != NULL) {
-        cli_json_key(&j, "S");
-        cli_json_matrix(&j, nz->S, d->nx, d->ny);
+        rigmat_result_key(r, "S");
+        rigmat_result_matrix(r, nz->S, d->nx, d->ny, xs, L->outputs);
+        rigmat_result_title(r, "S = E[w_k v_k^T] (process-measurement cross-covariance)");
     }
-    cli_json_operating_point(&j, l);
-    return cli_json_end(&j);
+    noise_lines(r, L, nz);
+    snprintf(line, sizeof line, "advice (common practice): sample %g-%g times faster than the "
+            "closed-loop bandwidth; ", rule_low, rule_high);
+    rigmat_result_text(r, "%s%.6g Hz suits a closed-loop bandwidth of about %.3g-%.3g Hz\n",
+            line, rate_hz, rate_hz / rule_high, rate_hz / rule_low);
+    rigmat_result_key(r, "operating_point");
+    rigmat_result_object(r);
+    rigmat_result_key(r, "x");
+    /* the plant's states: the first l->nx of xs (the delay stages follow) */
+    rigmat_result_vector(r, l->x0, l->nx, xs);
+    rigmat_result_export_name(r, "x0");
+    rigmat_result_key(r, "u");
+    rigmat_result_vector(r, l->u0, l->nu, L->inputs);
+    rigmat_result_export_name(r, "u0");
+    rigmat_result_key(r, "y");
+    rigmat_result_vector(r, l->y0, l->ny, L->outputs);
+    rigmat_result_export_name(r, "y0");
+    rigmat_result_close(r);
+    rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+    return r;
 }
 
 /* "drive.current" -> "drive" into buf */
@@ -331,10 +334,11 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
           "tustin: match the continuous model exactly at FREQ" },
         { 0, "delay", CLI_OPT_STRING, &a.delay, "SAMPLES",
           "zoh: input delay in samples, whole plus fraction (1.5)" },
+        CLI_EXPORT_ROWS(&c),
         CLI_COMMON_ROWS(&c),
         CLI_OPT_END_ROW
     };
-    static const char *const formats[] = { "text", "json", NULL };
+    rigmat_result *r = NULL;
     rigmat_discretize_opts o = rigmat_discretize_opts_default();
     const rigmat_sampling_limits lim = rigmat_sampling_limits_default();
     const rigmat_noise_opts no = rigmat_noise_opts_default();
@@ -356,7 +360,8 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
     memset(&c, 0, sizeof c);
     memset(&a, 0, sizeof a);
     memset(&e, 0, sizeof e);
-    st = cli_model_command(argc, argv, opts, discretize_usage, formats, env, &c, &file, &fmt, &done);
+    st = cli_model_command(argc, argv, opts, discretize_usage, cli_all_formats, env, &c, &file,
+            &fmt, &done);
     if (st != RIGMAT_OK || done)
         return st;
     st = parse_args(env, &a, &o);
@@ -400,17 +405,17 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
                  &o);
     if (nz->S != NULL)
         print_direct(env, m, lti);
-    if (fmt == 1) {
-        st = discretize_json(env->out, m, lti, d, nz);
-        if (st != RIGMAT_OK)
-            fprintf(env->err, "rigmat discretize: error: the result is not finite\n");
-    } else {
-        discretize_text(env->out, m, d, nz, xs);
+    r = discretize_result(m, lti, d, nz, xs);
+    if (r == NULL) {
+        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
+        goto report;
     }
+    st = cli_emit(env, r, &c, file);
     goto done;
 report:
     st = cli_report(env, &e);
 done:
+    rigmat_result_free(r);
     free(xs);
     rigmat_noise_free(nz);
     rigmat_dlti_free(d);

@@ -117,7 +117,7 @@ static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d, con
     double mag, tau;
     size_t at;
 
-    fprintf(f, "model: %s\norder hash: %s\n", m->name ? m->name : "", L->order_hash);
+    fprintf(f, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
     fprintf(f,
             "sampled at %.6g Hz (period %.6g ms), method %s; gains act on deviations from "
             "the operating point\n\n",

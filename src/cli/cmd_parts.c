@@ -161,8 +161,9 @@ static int cmp_row(const void *a, const void *b)
     return strcmp(((const struct part_row *)a)->name, ((const struct part_row *)b)->name);
 }
 
-static rigmat_status list_parts(struct cli_env *env, int json)
+static rigmat_status list_parts(struct cli_env *env, const struct cli_common *c)
 {
+    rigmat_result *r = NULL;
     char *folders[8];
     size_t nf = 0, i;
     struct part_list l = { NULL, 0, 0 };
@@ -178,38 +179,39 @@ static rigmat_status list_parts(struct cli_env *env, int json)
         st = RIGMAT_EIO;
     } else if (st == RIGMAT_OK) {
         qsort(l.rows, l.n, sizeof *l.rows, cmp_row);
-        if (json) {
-            struct cli_json j;
-            cli_json_begin(&j, env->out);
-            cli_json_key(&j, "folders");
-            cli_json_arr_open(&j);
-            for (i = 0; i < nf; i++)
-                cli_json_str(&j, folders[i]);
-            cli_json_arr_close(&j);
-            cli_json_key(&j, "parts");
-            cli_json_arr_open(&j);
-            for (i = 0; i < l.n; i++) {
-                cli_json_obj_open(&j);
-                cli_json_key(&j, "name");
-                cli_json_str(&j, l.rows[i].name);
-                cli_json_key(&j, "summary");
-                cli_json_str(&j, l.rows[i].summary);
-                cli_json_key(&j, "file");
-                cli_json_str(&j, l.rows[i].file);
-                cli_json_obj_close(&j);
-            }
-            cli_json_arr_close(&j);
-            st = cli_json_end(&j);
+        if ((r = rigmat_result_alloc("parts")) == NULL) {
+            fprintf(env->err, "rigmat parts: out of memory\n");
+            st = RIGMAT_ENOMEM;
         } else {
             size_t w = 0;
             for (i = 0; i < l.n; i++)
                 if (strlen(l.rows[i].name) > w)
                     w = strlen(l.rows[i].name);
-            for (i = 0; i < l.n; i++)
-                fprintf(env->out, "%-*s  %s\n", (int)w, l.rows[i].name,
+            rigmat_result_key(r, "folders");
+            rigmat_result_array(r);
+            for (i = 0; i < nf; i++)
+                rigmat_result_string(r, folders[i]);
+            rigmat_result_close(r);
+            rigmat_result_show(r, RIGMAT_SHOW_JSON);
+            rigmat_result_key(r, "parts");
+            rigmat_result_array(r);
+            for (i = 0; i < l.n; i++) {
+                rigmat_result_object(r);
+                rigmat_result_key(r, "name");
+                rigmat_result_string(r, l.rows[i].name);
+                rigmat_result_key(r, "summary");
+                rigmat_result_string(r, l.rows[i].summary);
+                rigmat_result_key(r, "file");
+                rigmat_result_string(r, l.rows[i].file);
+                rigmat_result_close(r);
+                rigmat_result_as_text(r, "%-*s  %s\n", (int)w, l.rows[i].name,
                         without_own_name(l.rows[i].name, l.rows[i].summary));
+            }
+            rigmat_result_close(r);
+            st = cli_emit(env, r, c, NULL);
         }
     }
+    rigmat_result_free(r);
     for (i = 0; i < l.n; i++) {
         free(l.rows[i].name);
         free(l.rows[i].summary);
@@ -254,14 +256,14 @@ static void text_value(FILE *f, const rigmat_node *n, int depth)
 
 /* A part with its chain resolved: wrap it as the only entry of a section,
  * so load_part.c merges it exactly as for a model. */
-static rigmat_status show_part(struct cli_env *env, const char *name, int json)
+static rigmat_status show_part(struct cli_env *env, const char *name, const struct cli_common *c)
 {
+    rigmat_result *r = NULL;
     rigmat_diags files, d;
     rigmat_error e;
     rigmat_node *root = NULL, *sec = NULL, *ent = NULL, *val = NULL;
     const rigmat_loc at = { "parts", 0, 0 };
     rigmat_status st;
-    struct cli_json j;
     char *path = NULL;
     size_t i;
 
@@ -297,17 +299,19 @@ static rigmat_status show_part(struct cli_env *env, const char *name, int json)
     rigmat_diags_print(&d, env->err);
     if (st != RIGMAT_OK)
         goto done;
-    if (json) {
-        cli_json_begin(&j, env->out);
-        cli_json_key(&j, "part");
-        cli_json_str(&j, name);
-        cli_json_key(&j, "file");
-        cli_json_str(&j, path);
-        cli_json_key(&j, "values");
-        cli_json_obj_open(&j);
-    } else {
-        fprintf(env->out, "part %s (%s)\n", name, path);
+    r = rigmat_result_alloc("part");
+    if (r == NULL) {
+        st = RIGMAT_ENOMEM;
+        goto done;
     }
+    rigmat_result_key(r, "part");
+    rigmat_result_string(r, name);
+    rigmat_result_as_text(r, "part %s (%s)\n", name, path);
+    rigmat_result_key(r, "file");
+    rigmat_result_string(r, path);
+    rigmat_result_show(r, RIGMAT_SHOW_JSON);
+    rigmat_result_key(r, "values");
+    rigmat_result_object(r);
     for (i = 0; i < ent->n; i++) {
         const rigmat_entry *en = &ent->entries[i];
         rigmat_quantity q;
@@ -338,33 +342,28 @@ static rigmat_status show_part(struct cli_env *env, const char *name, int json)
             st = RIGMAT_ENOMEM;
             goto done;
         }
-        if (json) {
-            cli_json_key(&j, en->key);
-            cli_json_obj_open(&j);
-            cli_json_key(&j, "written");
-            cli_json_str(&j, text);
-            if (have_si) {
-                cli_json_key(&j, "si");
-                cli_json_num(&j, q.value);
-                cli_json_key(&j, "unit");
-                cli_json_str(&j, dim);
-            }
-            cli_json_obj_close(&j);
-        } else {
-            fprintf(env->out, "  %-20s %s", en->key, text);
-            if (have_si)
-                fprintf(env->out, "  = %.6g%s%s", q.value, dim[0] ? " " : "", dim);
-            fputc('\n', env->out);
+        rigmat_result_key(r, en->key);
+        rigmat_result_object(r);
+        rigmat_result_key(r, "written");
+        rigmat_result_string(r, text);
+        if (have_si) {
+            rigmat_result_key(r, "si");
+            rigmat_result_number(r, q.value, dim);
+            rigmat_result_key(r, "unit");
+            rigmat_result_string(r, dim);
         }
+        rigmat_result_close(r);
+        if (have_si)
+            rigmat_result_as_text(r, "  %-20s %s  = %.6g%s%s\n", en->key, text, q.value,
+                    dim[0] ? " " : "", dim);
+        else
+            rigmat_result_as_text(r, "  %-20s %s\n", en->key, text);
         free(text);
     }
-    if (json) {
-        cli_json_obj_close(&j);
-        st = cli_json_end(&j);
-        goto done;
-    }
-    st = RIGMAT_OK;
+    rigmat_result_close(r);
+    st = cli_emit(env, r, c, NULL);
 done:
+    rigmat_result_free(r);
     free(path);
     rigmat_node_free(root);
     rigmat_diags_release(&files);
@@ -403,6 +402,6 @@ rigmat_status cmd_parts(int argc, char **argv, struct cli_env *env)
     if (c.catalog != NULL)
         env->opt.catalog_dir = c.catalog;
     if (npos == 0)
-        return list_parts(env, fmt == 1);
-    return show_part(env, pos[0], fmt == 1);
+        return list_parts(env, &c);
+    return show_part(env, pos[0], &c);
 }

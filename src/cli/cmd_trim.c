@@ -9,74 +9,72 @@ static const char *const trim_usage[] = {
     "rigmat trim FILE [--set PATH=VALUE]... [--format text|json] [-o FILE] [--catalog DIR]",
     NULL };
 
-static void names_json(struct cli_json *j, const char *key, char **names, size_t n)
+static void names(rigmat_result *r, const char *key, char **list, size_t n, const char *lead)
 {
-    size_t i;
-    cli_json_key(j, key);
-    cli_json_arr_open(j);
+    size_t i, len = 0;
+    char text[1024];
+
+    rigmat_result_key(r, key);
+    rigmat_result_array(r);
     for (i = 0; i < n; i++)
-        cli_json_str(j, names[i]);
-    cli_json_arr_close(j);
+        rigmat_result_string(r, list[i]);
+    rigmat_result_close(r);
+    rigmat_result_export_name(r, key);
+    if (n == 0) {
+        rigmat_result_as_text(r, "%s", "");
+        return;
+    }
+    text[0] = '\0';
+    for (i = 0; i < n && len + 1 < sizeof text; i++) {
+        const int w = snprintf(text + len, sizeof text - len, "%s %s", i ? "," : "", list[i]);
+        if (w < 0)
+            break;
+        len += (size_t)w;
+        if (len >= sizeof text)
+            len = sizeof text - 1;
+    }
+    rigmat_result_as_text(r, "%s:%s\n", lead, text);
 }
 
-static void values_json(struct cli_json *j, const char *key, const double *v, size_t n)
-{
-    gsl_vector_const_view vv = gsl_vector_const_view_array(v, n ? n : 1);
-    cli_json_key(j, key);
-    cli_json_vector(j, n ? &vv.vector : NULL, n);
-}
-
-static rigmat_status trim_json(FILE *f, const rigmat_model *m, const rigmat_trim_result *r,
-        double tol)
-{
-    struct cli_json j;
-
-    cli_json_begin(&j, f);
-    cli_json_head(&j, m, "trim");
-    values_json(&j, "x", r->x, r->nx);
-    values_json(&j, "u", r->u, r->nu);
-    cli_json_key(&j, "residual");
-    cli_json_num(&j, r->residual);
-    cli_json_key(&j, "tolerance");
-    cli_json_num(&j, tol);
-    cli_json_key(&j, "iterations");
-    cli_json_int(&j, (long)r->iterations);
-    cli_json_key(&j, "converged");
-    cli_json_bool(&j, r->converged);
-    names_json(&j, "free_unknowns", r->free_unknowns, r->nfree);
-    names_json(&j, "unmet_equations", r->unmet_equations, r->nunmet);
-    return cli_json_end(&j);
-}
-
-static void trim_text(FILE *f, const rigmat_model *m, const rigmat_trim_result *r, double tol)
+/* The result, described once for every format. */
+static rigmat_result *trim_result(const rigmat_model *m, const rigmat_trim_result *t, double tol)
 {
     const rigmat_layout *L = &m->layout;
+    rigmat_result *r = rigmat_result_alloc("trim");
     size_t i;
 
-    fprintf(f, "model: %s\nsolved:", cli_model_name(m));
+    if (r == NULL)
+        return NULL;
+    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    rigmat_result_text(r, "model: %s\nsolved:", cli_model_name(m));
     for (i = 0; i < m->op_solve.count; i++)
-        fprintf(f, "%s %s", i ? "," : "", m->op_solve.names[i]);
-    fputs(m->op_solve.count ? "\n\nstates\n" : " nothing (currents follow)\n\nstates\n", f);
-    for (i = 0; i < r->nx; i++)
-        fprintf(f, "  %-24s %.10g %s\n", L->states[i].name, r->x[i], L->states[i].unit);
-    fputs("inputs\n", f);
-    for (i = 0; i < r->nu; i++)
-        fprintf(f, "  %-24s %.10g %s\n", L->inputs[i].name, r->u[i], L->inputs[i].unit);
-    fprintf(f, "\nresidual %.3g after %zu Gauss-Newton step%s (tolerance %.3g): %s\n",
-            r->residual, r->iterations, r->iterations == 1 ? "" : "s", tol,
-            r->converged ? "a steady state" : "not converged");
-    if (r->nfree > 0) {
-        fputs("not fixed by the equations (kept at their given values):", f);
-        for (i = 0; i < r->nfree; i++)
-            fprintf(f, "%s %s", i ? "," : "", r->free_unknowns[i]);
-        fputc('\n', f);
-    }
-    if (r->nunmet > 0) {
-        fputs("equations no choice of the unknowns meets:", f);
-        for (i = 0; i < r->nunmet; i++)
-            fprintf(f, "%s %s", i ? "," : "", r->unmet_equations[i]);
-        fputc('\n', f);
-    }
+        rigmat_result_text(r, "%s %s", i ? "," : "", m->op_solve.names[i]);
+    rigmat_result_text(r, "%s", m->op_solve.count ? "\n\n" : " nothing (currents follow)\n\n");
+    rigmat_result_key(r, "x");
+    rigmat_result_values(r, t->x, t->nx, L->states);
+    rigmat_result_title(r, "states");
+    rigmat_result_text_list(r);
+    rigmat_result_key(r, "u");
+    rigmat_result_values(r, t->u, t->nu, L->inputs);
+    rigmat_result_title(r, "inputs");
+    rigmat_result_text_list(r);
+    rigmat_result_key(r, "residual");
+    rigmat_result_number(r, t->residual, NULL);
+    rigmat_result_key(r, "tolerance");
+    rigmat_result_number(r, tol, NULL);
+    rigmat_result_key(r, "iterations");
+    rigmat_result_integer(r, (long)t->iterations);
+    rigmat_result_key(r, "converged");
+    rigmat_result_bool(r, t->converged);
+    rigmat_result_as_text(r, "\nresidual %.3g after %zu Gauss-Newton step%s (tolerance %.3g): %s\n",
+            t->residual, t->iterations, t->iterations == 1 ? "" : "s", tol,
+            t->converged ? "a steady state" : "not converged");
+    names(r, "free_unknowns", t->free_unknowns, t->nfree,
+            "not fixed by the equations (kept at their given values)");
+    names(r, "unmet_equations", t->unmet_equations, t->nunmet,
+            "equations no choice of the unknowns meets");
+    return r;
 }
 
 rigmat_status cmd_trim(int argc, char **argv, struct cli_env *env);
@@ -85,6 +83,7 @@ rigmat_status cmd_trim(int argc, char **argv, struct cli_env *env)
     struct cli_common c;
     const struct cli_opt opts[] = { CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
     static const char *const formats[] = { "text", "json", NULL };
+    rigmat_result *res = NULL;
     rigmat_model *m = NULL;
     rigmat_trim_result r;
     rigmat_error e;
@@ -110,11 +109,13 @@ rigmat_status cmd_trim(int argc, char **argv, struct cli_env *env)
             fprintf(env->err, "  note: cannot be met: %s\n", r.unmet_equations[i]);
         for (i = 0; i < r.nfree; i++)
             fprintf(env->err, "  note: not fixed by the equations: %s\n", r.free_unknowns[i]);
-    } else if (fmt == 1) {
-        st = trim_json(env->out, m, &r, env->opt.trim_tol);
     } else {
-        trim_text(env->out, m, &r, env->opt.trim_tol);
+        res = trim_result(m, &r, env->opt.trim_tol);
+        st = res != NULL ? cli_emit(env, res, &c, file) : RIGMAT_ENOMEM;
+        if (res == NULL)
+            fprintf(env->err, "rigmat trim: out of memory\n");
     }
+    rigmat_result_free(res);
     rigmat_trim_result_release(&r);
     rigmat_model_free(m);
     return st;

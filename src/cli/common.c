@@ -86,7 +86,9 @@ rigmat_status cli_model_command(int argc, char **argv, const struct cli_opt *opt
     }
     *file = pos[0];
     *fmt = cli_format(env, c->format, formats);
-    return *fmt < 0 ? RIGMAT_EUSAGE : RIGMAT_OK;
+    if (*fmt < 0)
+        return RIGMAT_EUSAGE;
+    return cli_export_options(env, c);
 }
 
 rigmat_status cli_linearize(struct cli_env *env, const rigmat_model *m, rigmat_lti **out)

@@ -113,6 +113,27 @@ static rigmat_status emit(struct cli_env *env, const char *data, size_t len)
     return RIGMAT_OK;
 }
 
+/* A folder format's files (mtx), all or none, into the -o folder. */
+static rigmat_status emit_folder(struct cli_env *env)
+{
+    rigmat_error e;
+    size_t i;
+
+    memset(&e, 0, sizeof e);
+    for (i = 0; i < env->files.n; i++) {
+        struct cli_file *cf = &env->files.items[i];
+        const int bad = fclose(cf->f) != 0;
+        cf->f = NULL;
+        if (bad) {
+            fprintf(stderr, "rigmat %s: out of memory while writing the result\n", env->command);
+            return RIGMAT_ENOMEM;
+        }
+    }
+    if (cli_outdir_write(env->output, &env->files, &e) != RIGMAT_OK)
+        return cli_report(env, &e);
+    return RIGMAT_OK;
+}
+
 int main(int argc, char **argv)
 {
     struct cli_env env;
@@ -163,8 +184,11 @@ int main(int argc, char **argv)
         fprintf(stderr, "rigmat %s: out of memory while writing the result\n", cmd->name);
         st = RIGMAT_ENOMEM;
     }
-    if (st == RIGMAT_OK)
+    if (st == RIGMAT_OK && env.files.folder)
+        st = emit_folder(&env);
+    else if (st == RIGMAT_OK)
         st = emit(&env, buf, len);
+    cli_files_release(&env.files);
     free(buf);
 out:
     /* A lost result must not exit 0 (a full disk, /dev/full). */

@@ -130,16 +130,32 @@ void cli_usage(FILE *f, const char *const *usage, const struct cli_opt *opts)
 
 int cli_format(struct cli_env *env, const char *fmt, const char *const *accepted)
 {
+    const rigmat_format_info *fi;
     int i;
 
     if (fmt == NULL)
         fmt = "text";
     for (i = 0; accepted[i] != NULL; i++)
         if (strcmp(fmt, accepted[i]) == 0)
-            return i;
-    fprintf(env->err, "rigmat %s: unknown format '%s'\n  hint: use one of", env->command, fmt);
+            break;
+    fi = rigmat_format_find(fmt);
+    if (accepted[i] != NULL && fi != NULL && fi->folder &&
+            (env->output == NULL || strcmp(env->output, "-") == 0)) {
+        fprintf(env->err, "rigmat %s: the %s format writes one file per matrix\n"
+                "  hint: give the folder to write them into with -o DIR\n", env->command, fmt);
+        return -1;
+    }
+    if (accepted[i] != NULL)
+        return i;
+    if (fi != NULL)
+        fprintf(env->err, "rigmat %s: the format '%s' is not offered by this command\n"
+                "  hint: 'rigmat %s' writes", env->command, fmt, env->command);
+    else
+        fprintf(env->err, "rigmat %s: unknown format '%s'\n  hint: use one of", env->command, fmt);
     for (i = 0; accepted[i] != NULL; i++)
         fprintf(env->err, "%s %s", i ? "," : "", accepted[i]);
+    if (fi != NULL)
+        fputs("; linearize and discretize write every format", env->err);
     fputc('\n', env->err);
     return -1;
 }

@@ -13,6 +13,8 @@
  *     operating point;
  *   - a sampled model has finite Ad, Bd, Gd, Cd, Dd, Ed;
  *   - Qd and Rd are finite and symmetric with a non-negative diagonal;
+ *   - the linear model renders in every format (src/emit/result.h) without
+ *     failing, whatever the names in it, and each output is not empty;
  *   - everything is freed (LeakSanitizer).
  * Built only when src/mech/linearize.h, src/sample/discretize.h and src/sample/noise.h exist;
  * before that it is the loader alone.
@@ -35,6 +37,7 @@
 #define HAVE_PIPELINE 1
 #include "discretize.h"
 #include "noise.h"
+#include "result.h"
 #endif
 #if __has_include("modes.h")
 #define HAVE_MODES 1
@@ -199,6 +202,80 @@ static void study(const rigmat_lti *s)
 }
 #endif
 
+/* A folder format's files: memory streams, freed after the run. */
+struct fuzz_sink {
+    FILE *f[32];
+    char *buf[32];
+    size_t len[32], n;
+};
+
+static FILE *fuzz_open(void *ctx, const char *name)
+{
+    struct fuzz_sink *k = ctx;
+
+    (void)name;
+    if (k->n == 32)
+        return NULL;
+    k->f[k->n] = open_memstream(&k->buf[k->n], &k->len[k->n]);
+    return k->f[k->n] != NULL ? k->f[k->n++] : NULL;
+}
+
+static void export_all(const rigmat_model *m, const rigmat_lti *s)
+{
+    const rigmat_layout *L = &m->layout;
+    rigmat_result *r = rigmat_result_alloc("continuous");
+    size_t n, i, k;
+    const rigmat_format_info *t = rigmat_format_table(&n);
+
+    if (r == NULL)
+        return;
+    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    rigmat_result_dim(r, "state", L->states, L->nx);
+    rigmat_result_dim(r, "input", L->inputs, L->nu);
+    rigmat_result_dim(r, "output", L->outputs, L->ny);
+    rigmat_result_key(r, "A");
+    rigmat_result_matrix(r, s->A, s->nx, s->nx, L->states, L->states);
+    rigmat_result_key(r, "B");
+    rigmat_result_matrix(r, s->B, s->nx, s->nu, L->states, L->inputs);
+    rigmat_result_key(r, "C");
+    rigmat_result_matrix(r, s->C, s->ny, s->nx, L->outputs, L->states);
+    rigmat_result_key(r, "D");
+    rigmat_result_matrix(r, s->D, s->ny, s->nu, L->outputs, L->inputs);
+    rigmat_result_key(r, "x0");
+    rigmat_result_vector(r, s->x0, s->nx, L->states);
+    rigmat_result_key(r, "residual");
+    rigmat_result_number(r, s->residual, NULL);
+    for (i = 0; i < n; i++) {
+        struct fuzz_sink sink;
+        rigmat_emit_sink es = { fuzz_open, &sink };
+        rigmat_emit_opts eo = { NULL, (int)(i & 1), m->file };
+        rigmat_error e;
+        char *buf = NULL;
+        size_t len = 0;
+        FILE *f = open_memstream(&buf, &len);
+        rigmat_status st;
+
+        memset(&sink, 0, sizeof sink);
+        memset(&e, 0, sizeof e);
+        if (f == NULL)
+            break;
+        st = rigmat_result_write(r, t[i].format, &eo, f, &es, &e);
+        fclose(f);
+        FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_ENOMEM ||
+                             (st == RIGMAT_ENUMERIC && t[i].format == RIGMAT_FORMAT_C),
+                     "%s export: status %d (%s)", t[i].word, (int)st, e.message);
+        FUZZ_REQUIRE(st != RIGMAT_OK || t[i].folder || len > 0, "%s export is empty",
+                     t[i].word);
+        for (k = 0; k < sink.n; k++) {
+            fclose(sink.f[k]);
+            free(sink.buf[k]);
+        }
+        free(buf);
+    }
+    rigmat_result_free(r);
+}
+
 static void linearize(const rigmat_model *m, const rigmat_options *opt)
 {
     rigmat_lti *s = NULL;
@@ -225,6 +302,7 @@ static void linearize(const rigmat_model *m, const rigmat_options *opt)
         require_finite_v(s->u0, s->nu, "u0");
         require_finite_v(s->y0, s->ny, "y0");
         require_finite_v(s->f0, s->nx, "f0");
+        export_all(m, s);
         if (s->nx > 0)
             sample(s);
 #ifdef HAVE_MODES
