@@ -107,6 +107,35 @@ static void cell_num(FILE *f, double v)
         fprintf(f, "<td>%.5g</td>", v == 0.0 ? 0.0 : v);
 }
 
+/* Below this, a real or imaginary part is rounding residue of a value at
+ * zero (the modes' own "at 0" band, stab_rtol * omega_b). */
+static double tiny(const rigmat_modes *md)
+{
+    return md->set.stab_rtol * md->omega_b;
+}
+
+static double snap(double v, double eps)
+{
+    return fabs(v) <= eps ? 0.0 : v;
+}
+
+/* A complex number as text: "-4.8", "5.1 + 2.2j", "0.97 - 0.1j". */
+static void complex_text(FILE *f, double re, double im, double eps)
+{
+    re = snap(re, eps);
+    im = snap(im, eps);
+    if (im == 0.0)
+        fprintf(f, "%.5g", re);
+    else
+        fprintf(f, "%.5g %s %.5gj", re, im < 0.0 ? "&#8722;" : "+", fabs(im));
+}
+
+/* A unit after a number: nothing for a pure number ("1"). */
+static const char *unit_after(const rigmat_signal *s)
+{
+    return strcmp(s->unit, "1") == 0 ? "" : s->unit;
+}
+
 static void sig_label(FILE *f, const rigmat_signal *s)
 {
     esc(f, s->name);
@@ -281,7 +310,7 @@ static rigmat_status choose(struct report *R, rigmat_error *err)
         dur = R->o->duration_s;
     } else {
         dur = grow > 0.0 ? 3.0 / grow : slowest != RIGMAT_NONE ? 5.0 / slow : 1.0;
-        dur = rigmat_svg_nice_number(dur, 0);
+        dur = rigmat_svg_nice_number(dur, 1);
         dur = dur < 0.05 ? 0.05 : dur > 20.0 ? 20.0 : dur;
     }
     k = ceil(dur / R->period_s / MAX_ROWS - 1e-9);
@@ -758,8 +787,11 @@ static void write_modes(FILE *f, const struct report *R, const struct sigs *S)
             f);
     for (i = 0; i < md->nx; i++) {
         const rigmat_mode *q = &md->modes[i];
-        fprintf(f, "<tr><td>%.5g%+.5gj</td><td>%.5g%+.5gj</td>", q->s_re, q->s_im, q->z_re,
-                q->z_im);
+        fputs("<tr><td>", f);
+        complex_text(f, q->s_re, q->s_im, tiny(md));
+        fputs("</td><td>", f);
+        complex_text(f, q->z_re, q->z_im, 1e-12);
+        fputs("</td>", f);
         cell_num(f, q->frequency_hz);
         cell_num(f, q->damping);
         cell_num(f, q->time_constant_s);
@@ -808,9 +840,10 @@ static void write_modes(FILE *f, const struct report *R, const struct sigs *S)
             } else {
                 for (k = 0; k < z->count; k++) {
                     const int rhp = z->re[k] > md->set.stab_rtol * md->omega_b;
-                    fprintf(f, "%s%s%.5g%+.5gj%s", k > 0 ? ", " : "",
-                            rhp ? "<span class=\"bad\">" : "", z->re[k], z->im[k],
-                            rhp ? "</span>" : "");
+                    fputs(k > 0 ? ", " : "", f);
+                    fputs(rhp ? "<span class=\"bad\">" : "", f);
+                    complex_text(f, z->re[k], z->im[k], tiny(md));
+                    fputs(rhp ? "</span>" : "", f);
                 }
                 if (z->rhp > 0)
                     fprintf(f, " <span class=\"bad\">(%zu in the right half-plane: the "
@@ -848,7 +881,7 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
     qre = zim + nx, qim = qre + md->ny * md->nu * (nx + 1);
     for (i = 0; i < nx; i++) {
         const double w = hypot(md->modes[i].s_re, md->modes[i].s_im);
-        sre[i] = md->modes[i].s_re, sim[i] = md->modes[i].s_im;
+        sre[i] = snap(md->modes[i].s_re, tiny(md)), sim[i] = snap(md->modes[i].s_im, tiny(md));
         zre[i] = md->modes[i].z_re, zim[i] = md->modes[i].z_im;
         if (w > 1e-6 * md->omega_b && w < wmin)
             wmin = w;
@@ -859,16 +892,23 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
         for (j = 0; j < md->nu_control; j++) {
             const rigmat_channel_zeros *z = &md->zeros[i * md->nu + j];
             for (k = 0; k < z->count; k++)
-                qre[nz] = z->re[k], qim[nz++] = z->im[k];
+                qre[nz] = snap(z->re[k], tiny(md)), qim[nz++] = snap(z->im[k], tiny(md));
         }
     if (wmax > 50.0 * wmin && isfinite(wmin)) {
-        /* a view that shows the slow modes: every |s| up to 20 times the slowest */
+        /* a view of the slow modes: the poles up to 5 times the slowest
+         * non-zero one, and the zeros among them (a right-half-plane zero
+         * next to an unstable pole is the point of a balancer) */
         for (i = 0; i < nx; i++) {
             const double w = hypot(sre[i], sim[i]);
-            if (w <= 20.0 * wmin && w > zoom)
+            if (w <= 5.0 * wmin && w > zoom)
                 zoom = w;
         }
-        zoom *= 1.4;
+        for (i = 0; i < nz; i++) {
+            const double w = hypot(qre[i], qim[i]);
+            if (w <= 5.0 * wmin && w > zoom)
+                zoom = w;
+        }
+        zoom *= 1.3;
         for (i = 0; i < nx; i++)
             outside += fabs(sre[i]) > zoom || fabs(sim[i]) > zoom;
     }
@@ -911,9 +951,8 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
           "is stable.",
             f);
     if (zoom > 0.0)
-        fprintf(f, " The second view shows |Re s|, |Im s| up to %.3g; %zu poles lie outside "
-                   "it.",
-                zoom, outside);
+        fprintf(f, " The second view shows |Re s|, |Im s| up to %.3g; %zu %s outside it.", zoom,
+                outside, outside == 1 ? "pole lies" : "poles lie");
     fputs("</figcaption>\n</figure>\n", f);
     free(buf);
     return st;
@@ -968,8 +1007,9 @@ static rigmat_status write_case(FILE *f, const struct report *R, size_t c, doubl
         np++;
     }
     if (q->is_input)
-        snprintf(caption, sizeof caption, "Step of %s by %.4g %s at t = 0", sig_u(m, q->index)->name,
-                q->size, sig_u(m, q->index)->unit);
+        snprintf(caption, sizeof caption, "Step of %s by %.4g%s%s at t = 0",
+                sig_u(m, q->index)->name, q->size, *unit_after(sig_u(m, q->index)) ? " " : "",
+                unit_after(sig_u(m, q->index)));
     else
         snprintf(caption, sizeof caption, "Initial offset of %s by %.4g %s",
                 sig_x(m, q->index)->name, q->size, sig_x(m, q->index)->unit);
@@ -1037,7 +1077,7 @@ static rigmat_status write_responses(FILE *f, const struct report *R, rigmat_err
         fprintf(f, "<tr><th>%s of ", q->is_input ? "step" : "offset");
         esc(f, s->name);
         fprintf(f, "</th><td>%.4g ", q->size);
-        esc(f, s->unit);
+        esc(f, unit_after(s));
         fprintf(f, "</td><td class=\"t\">%s</td><td class=\"t\"><code>%s</code></td></tr>\n",
                 q->is_input ? (R->o->nsteps > 0 ? "given or 0.1 of the SI unit"
                                                 : "0.1 of the input's SI unit")
