@@ -355,6 +355,45 @@ static rigmat_status freq_point(const gsl_matrix *A, const gsl_matrix *B, const 
     return RIGMAT_OK;
 }
 
+rigmat_status rigmat_report_transfer(const gsl_matrix *A, const gsl_matrix *B,
+        const gsl_matrix *C, const gsl_matrix *D, double s_re, double s_im, double *g_re,
+        double *g_im, rigmat_error *err)
+{
+    const size_t nx = A->size1, nu = B->size2, ny = C->size1;
+    gsl_matrix_complex *M;
+    gsl_permutation *p;
+    gsl_vector_complex *b, *x;
+    gsl_complex *g;
+    rigmat_status st = RIGMAT_OK;
+    size_t k;
+
+    if (A->size2 != nx || B->size1 != nx || C->size2 != nx
+            || (D != NULL && (D->size1 != ny || D->size2 != nu)))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "transfer: mismatched matrix sizes");
+    M = gsl_matrix_complex_alloc(nx, nx);
+    p = gsl_permutation_alloc(nx);
+    b = gsl_vector_complex_alloc(nx);
+    x = gsl_vector_complex_alloc(nx);
+    g = malloc(ny * nu * sizeof *g + 1);
+    if (M == NULL || p == NULL || b == NULL || x == NULL || g == NULL) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    } else if (freq_point(A, B, C, D, gsl_complex_rect(s_re, s_im), M, p, b, x, g) != RIGMAT_OK) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "transfer: sI - A is singular at s = %g%+gj",
+                s_re, s_im);
+    } else {
+        for (k = 0; k < ny * nu; k++) {
+            g_re[k] = GSL_REAL(g[k]);
+            g_im[k] = GSL_IMAG(g[k]);
+        }
+    }
+    gsl_matrix_complex_free(M);
+    gsl_permutation_free(p);
+    gsl_vector_complex_free(b);
+    gsl_vector_complex_free(x);
+    free(g);
+    return st;
+}
+
 /* Unwrap a phase in degrees in place: jumps over 180 degrees are wraps. */
 static void unwrap(double *ph, size_t n)
 {

@@ -79,4 +79,14 @@ rigmat_report_opts rigmat_report_opts_default(void);
 rigmat_status rigmat_report_write(FILE *f, const rigmat_model *m, const rigmat_lti *lin,
         const rigmat_report_opts *o, rigmat_error *err);
 
+/* G(s) = C (sI - A)^-1 B + D at one complex point s = s_re + j s_im (for a
+ * sampled model pass Ad, Bd, Cd, Dd and z = e^{jwT}), by GSL's complex LU,
+ * into g_re, g_im (ny x nu each, row-major: g[i * nu + j] is input j to
+ * output i).  D may be NULL (zero).  RIGMAT_ENUMERIC when sI - A is
+ * singular (s is a pole), RIGMAT_EUSAGE for mismatched sizes,
+ * RIGMAT_ENOMEM. */
+rigmat_status rigmat_report_transfer(const gsl_matrix *A, const gsl_matrix *B,
+        const gsl_matrix *C, const gsl_matrix *D, double s_re, double s_im, double *g_re,
+        double *g_im, rigmat_error *err);
+
 #endif
