@@ -310,6 +310,8 @@ static rigmat_status choose(struct report *R, rigmat_error *err)
         dur = R->o->duration_s;
     } else {
         dur = grow > 0.0 ? 3.0 / grow : slowest != RIGMAT_NONE ? 5.0 / slow : 1.0;
+        if (grow <= 0.0 && slowest != RIGMAT_NONE && md->modes[slowest].s_im != 0.0)
+            dur = fmin(dur, 5.0 * 2.0 * M_PI / fabs(md->modes[slowest].s_im)); /* 5 periods */
         dur = rigmat_svg_nice_number(dur, 1);
         dur = dur < 0.05 ? 0.05 : dur > 20.0 ? 20.0 : dur;
     }
@@ -908,7 +910,7 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
     const size_t nx = md->nx;
     double *buf = malloc((6 * nx + 4 * md->ny * md->nu * (nx + 1) + 8) * sizeof *buf);
     double *sre, *sim, *zre, *zim, *qre, *qim, wmin = HUGE_VAL, wmax = 0.0, zoom = 0.0;
-    size_t i, j, k, nz = 0, outside = 0;
+    size_t i, j, k, nz = 0, outside = 0, far_zeros = 0;
     rigmat_svg_series ser[4];
     rigmat_svg_plot p[3];
     rigmat_svg_figure fig;
@@ -968,6 +970,24 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
         p[k].frame = RIGMAT_SVG_FRAME_S;
         p[k].series = ser, p[k].nseries = nz > 0 ? 2 : 1;
     }
+    /* the whole view is framed by the poles (with the origin): a zero far
+     * beyond them would squeeze them into a point; such zeros are counted */
+    {
+        double xlo = 0.0, xhi = 0.0, ym = 0.0, span;
+        for (i = 0; i < nx; i++) {
+            xlo = fmin(xlo, sre[i]);
+            xhi = fmax(xhi, sre[i]);
+            ym = fmax(ym, fabs(sim[i]));
+        }
+        span = xhi - xlo > 0.0 ? xhi - xlo : fmax(ym, 1.0);
+        p[0].x.fixed = p[0].y.fixed = 1;
+        p[0].x.min = xlo - 0.08 * span;
+        p[0].x.max = xhi + 0.08 * span + (xhi <= 0.0 ? 0.12 * span : 0.0);
+        ym = fmax(1.1 * ym, 0.25 * span);
+        p[0].y.min = -ym, p[0].y.max = ym;
+        for (i = 0; i < nz; i++)
+            far_zeros += qre[i] < p[0].x.min || qre[i] > p[0].x.max || fabs(qim[i]) > ym;
+    }
     if (zoom > 0.0) {
         p[1].x.fixed = p[1].y.fixed = 1;
         p[1].x.min = p[1].y.min = -zoom;
@@ -989,6 +1009,10 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
           "unstable. In the z-plane, the poles of the sampled model: inside the unit circle "
           "is stable.",
             f);
+    if (far_zeros > 0)
+        fprintf(f, " %zu %s beyond the poles' range and %s not drawn in the first view (see "
+                   "the table of zeros).",
+                far_zeros, far_zeros == 1 ? "zero lies" : "zeros lie", far_zeros == 1 ? "is" : "are");
     if (zoom > 0.0)
         fprintf(f, " The second view shows |Re s|, |Im s| up to %.3g; %zu %s outside it.", zoom,
                 outside, outside == 1 ? "pole lies" : "poles lie");
@@ -1101,8 +1125,9 @@ static rigmat_status write_responses(FILE *f, const struct report *R, rigmat_err
             R->duration_s,
             R->o->duration_s > 0.0 ? "given"
                                    : "3 time constants of the fastest-growing unstable mode, "
-                                     "else 5 of the slowest stable one, rounded up to 1, 2 or "
-                                     "5 times a power of ten, within 0.05 s to 20 s");
+                                     "else 5 of the slowest stable one (at most 5 of its "
+                                     "periods), rounded to 1, 2 or 5 times a power of ten, "
+                                     "within 0.05 s to 20 s");
     fprintf(f, "<tr><th>output interval</th><td>%.4g s</td><td class=\"t\">the sample "
                "period, or a whole multiple of it for at most %.0f rows</td><td class=\"t\">"
                "</td></tr>\n",

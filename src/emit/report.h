@@ -25,7 +25,8 @@
  *             (0.1 for a duty, 0.1 V, 0.1 A, 0.1 N, 0.1 N*m ...).
  *   duration  three time constants of the fastest-growing unstable mode
  *             (growth of e^3 = 20 times), else five of the slowest stable
- *             mode, rounded up to 1, 2 or 5 times a power of ten and kept
+ *             mode but at most five of its periods when it oscillates,
+ *             rounded to the nearest 1, 2 or 5 times a power of ten and kept
  *             within [0.05 s, 20 s]; 1 s without such a mode.
  *   rows      every sample period T, or a whole multiple of it so that a
  *             run has at most 500 rows.

@@ -430,7 +430,7 @@ static void marker(FILE *f, rigmat_svg_marker mk, double x, double y, const char
     case RIGMAT_SVG_MARK_CIRCLE:
         fputs("<circle cx=\"", f);
         num(f, x), fputs("\" cy=\"", f), num(f, y);
-        fprintf(f, "\" r=\"%.1f\" stroke=\"%s\" stroke-width=\"1.5\" fill=\"#fff\"/>", r, colour);
+        fprintf(f, "\" r=\"%.1f\" stroke=\"%s\" stroke-width=\"1.5\" fill=\"none\"/>", r, colour);
         break;
     case RIGMAT_SVG_MARK_SQUARE:
         fputs("<rect x=\"", f);
