@@ -34,6 +34,7 @@
 #define STEP_SI          0.1
 #define MAX_ROWS         500.0
 #define MAX_VALIDITY     32
+#define VALIDITY_HORIZON_S 2.0
 
 /* ------------------------------------------------------------- names */
 
@@ -569,7 +570,7 @@ static const char style_sheet[] =
         "max-width:1000px;margin:1.2em auto;padding:0 1em;line-height:1.45}\n"
         "h1{font-size:1.55em;border-bottom:3px solid #0072B2;padding-bottom:.2em}\n"
         "h2{font-size:1.2em;margin-top:2em;border-bottom:1px solid #aab;padding-bottom:.15em}\n"
-        "h3{font-size:1.02em;margin:1.3em 0 .3em}\n"
+        "h3{font-size:1.02em;margin:1.3em 0 .3em;break-after:avoid}\n"
         "table{border-collapse:collapse;margin:.4em 0 1em}\n"
         "caption{text-align:left;font-weight:bold;padding:.2em 0}\n"
         "td,th{border:1px solid #cdd;padding:2px 7px;text-align:right;white-space:nowrap}\n"
@@ -1193,8 +1194,8 @@ static rigmat_status write_frequency(FILE *f, const struct report *R, rigmat_err
     section(f, "frequency", "8. Frequency responses");
     fprintf(f, "<p>Magnitude and phase of G(j&#969;) = C (j&#969;I &#8722; A)<sup>-1</sup> B + "
                "D for every input/output pair, on %zu logarithmic frequencies from a tenth of "
-               "the slowest mode to ten times the fastest; the sampled model (zero-order hold) "
-               "is drawn dashed up to the Nyquist frequency, %.4g Hz. The phase is unwrapped "
+               "the slowest mode to ten times the fastest. For the control inputs the sampled "
+               "model (zero-order hold) is drawn dashed up to the Nyquist frequency, %.4g Hz. The phase is unwrapped "
                "along the frequency axis.</p>\n",
             n, 0.5 / R->period_s);
     for (j = 0; j < l->nu; j++) {
@@ -1507,7 +1508,9 @@ rigmat_status rigmat_report_write(FILE *f, const rigmat_model *m, const rigmat_l
     if (st != RIGMAT_OK)
         goto done;
     R.vo = rigmat_validity_opts_default();
-    R.vo.horizon_s = R.duration_s;
+    /* the responses' duration, at most VALIDITY_HORIZON_S: each size tried
+     * runs the nonlinear model over it, twice per size and sign */
+    R.vo.horizon_s = fmin(R.duration_s, VALIDITY_HORIZON_S);
     if (o->validity) {
         rigmat_error e;
         memset(&e, 0, sizeof e);

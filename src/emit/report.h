@@ -30,7 +30,9 @@
  *             within [0.05 s, 20 s]; 1 s without such a mode.
  *   rows      every sample period T, or a whole multiple of it so that a
  *             run has at most 500 rows.
- * The chosen values are printed in the report.
+ * The chosen values are printed in the report.  The validity sweep uses the
+ * same duration as its horizon, at most 2 s (it runs the nonlinear model
+ * some hundred times).
  *
  * Everything taken from the model (names, units) is escaped for HTML.
  * The page has no script, no external reference (no fonts, no images):
