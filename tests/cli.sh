@@ -102,9 +102,50 @@ if "$R" --help | grep -q '^  discretize'; then
     has "$T/err" "not finite" "overflowing Rd message"
     if grep -q inf "$T/out"; then bad "inf printed"; else ok; fi
 fi
+if "$R" --help | grep -q '^  modes'; then
+    expect 0 "modes help" -- "$R" modes --help
+    has "$T/out" "--rate" "modes help lists --rate"
+    expect 0 "modes demo" -- "$R" modes "$DEMO"
+    # the text leads with the one-line summary
+    if head -1 "$T/out" | grep -q "unstable mode at .* rad/s, lives in tilt; reached by drive"; then
+        ok; else bad "modes text does not lead with the summary"; head -3 "$T/out" >&2; fi
+    has "$T/out" "right half plane" "modes names the right-half-plane zeros"
+    expect 0 "modes demo json with rate" -- "$R" modes "$DEMO" --rate 200Hz --format json
+    for k in '"kind": *"modes"' '"modes"' '"zeros"' '"dc_gain"' '"order_hash"' '"s"' '"z"' \
+            '"frequency"' '"damping"' '"time_constant"' '"stability"' '"controllable"' \
+            '"observable"' '"reached_by"' '"seen_by"' '"states"' '"share"' '"values"'; do
+        has "$T/out" "$k" "modes json key $k"
+    done
+    if /usr/bin/python3 -m json.tool "$T/out" >/dev/null 2>&1; then ok; else bad "modes json does not parse"; fi
+    expect 0 "modes json without rate" -- "$R" modes "$DEMO" --format json
+    if grep -q '"z"' "$T/out"; then bad "z without --rate"; else ok; fi
+    expect 2 "modes rate in rad/s" -- "$R" modes "$DEMO" --rate 100rad/s
+    expect 2 "modes negative rate" -- "$R" modes "$DEMO" --rate -5Hz
+    expect 2 "modes bad format" -- "$R" modes "$DEMO" --format csv
+    expect 2 "modes without a file" -- "$R" modes
+    expect 1 "modes bad model" -- "$R" modes "$T/bad.yaml"
+    if [ -s "$T/out" ]; then bad "modes bad model printed a result"; else ok; fi
+    expect 4 "modes missing file" -- "$R" modes "$T/nope.yaml"
+    if [ -w /dev/full ]; then
+        "$R" modes "$DEMO" >/dev/full 2>"$T/err"
+        if [ $? = 4 ]; then ok; else bad "modes /dev/full: want exit 4"; fi
+    fi
+    expect 0 "twin pendulums" -- "$R" modes tests/models/twin-pendulums.yaml
+    has "$T/out" "1 not controllable, 1 not observable" "twin pendulums: one pair flagged"
+    # check and linearize text end with the summary line; their JSON does not change
+    expect 0 "check summary line" -- "$R" check "$DEMO"
+    if tail -1 "$T/out" | grep -q '^modes: 1 unstable mode'; then ok; else bad "check text: no modes line at the end"; fi
+    expect 0 "linearize summary line" -- "$R" linearize "$DEMO"
+    if tail -1 "$T/out" | grep -q '^modes: 1 unstable mode'; then ok; else bad "linearize text: no modes line at the end"; fi
+    expect 0 "linearize json" -- "$R" linearize "$DEMO" --format json
+    if grep -q '"summary"\|modes:' "$T/out"; then bad "linearize json changed"; else ok; fi
+fi
 
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
+    if "$R" --help | grep -q '^  modes'; then
+        expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json
+    fi
 done
 
 echo "cli: $pass passed, $fail failed"

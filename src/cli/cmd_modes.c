@@ -20,8 +20,14 @@ static const char *const modes_usage[] = {
 
 /* ------------------------------------------------------------ text */
 
-static void text_complex(char *buf, size_t n, double re, double im)
+/* re + im j; parts below snap (in size) print as 0: text only, JSON keeps
+ * every digit */
+static void text_complex(char *buf, size_t n, double re, double im, double snap)
 {
+    if (fabs(re) < snap)
+        re = 0.0;
+    if (fabs(im) < snap)
+        im = 0.0;
     if (im == 0.0)
         snprintf(buf, n, "%.6g", re);
     else
@@ -39,7 +45,8 @@ static void text_summary(FILE *f, const rigmat_modes *md)
 static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
 {
     char s[64], z[64], tau[32], damp[32];
-    size_t k, i;
+    size_t k, i, unbalanced = 0;
+    const double snap = md->set.stab_rtol * md->omega_b;
 
     fprintf(f, "\nmodes (%zu): eigenvalues s of A", md->nx);
     if (md->period_s > 0.0)
@@ -53,7 +60,7 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
     for (k = 0; k < md->nx; k++) {
         const rigmat_mode *m = &md->modes[k];
 
-        text_complex(s, sizeof s, m->s_re, m->s_im);
+        text_complex(s, sizeof s, m->s_re, m->s_im, snap);
         if (gsl_finite(m->time_constant_s))
             snprintf(tau, sizeof tau, "%.4g", m->time_constant_s);
         else
@@ -64,7 +71,7 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
             snprintf(damp, sizeof damp, "-");
         fprintf(f, "  %3zu  %-28s", k + 1, s);
         if (md->period_s > 0.0) {
-            text_complex(z, sizeof z, m->z_re, m->z_im);
+            text_complex(z, sizeof z, m->z_re, m->z_im, 0.0);
             fprintf(f, " %-28s", z);
         }
         fprintf(f, " %11.4g %9s %11s  %-9s %-5s %-5s\n", m->frequency_hz, damp, tau,
@@ -101,21 +108,33 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
             fputs("none", f);
         fputc('\n', f);
     }
-    fprintf(f, "\nscaled units: state = scale x scaled state, scales from balancing A"
-               " (characteristic rate %.4g 1/s):\n", md->omega_b);
-    for (i = 0; i < md->nx; i++)
-        fprintf(f, "  %-28s %.4g %s\n", md->state_names[i], md->scale[i],
-                L != NULL && i < L->nx ? L->states[i].unit : "");
-    fprintf(f, "controllable/observable: PBH, smallest singular value of [A - sI, B] and"
-               " [A - sI; C]\n(scaled) above %g of their norm\n", md->set.rtol);
+    fprintf(f, "\nscaled units: each state divided by its scale, from balancing A (Osborne):\n");
+    for (i = 0; i < md->nx; i++) {
+        fprintf(f, "  %-28s %-12.4g %-8s%s\n", md->state_names[i], md->scale[i],
+                L != NULL && i < L->nx ? L->states[i].unit : "",
+                md->balanced[i] ? "" : " *");
+        if (!md->balanced[i])
+            unbalanced++;
+    }
+    if (unbalanced > 0)
+        fputs("  * nothing depends on it, or it on nothing: its size is its rate of change\n"
+              "    (or its influence) over each mode's own rate |s|\n", f);
+    fprintf(f, "controllable, observable: PBH test, the smallest singular value of [A - sI, B]\n"
+               "and of [A - sI; C] (scaled) above %g of their norm; marginal: |Re s| <= %g x\n"
+               "%.4g 1/s (the norm of scaled A)\n", md->set.rtol, md->set.stab_rtol, md->omega_b);
 }
 
 static void text_zeros(FILE *f, const rigmat_modes *md)
 {
     char v[64];
     size_t i, j, k, nrhp = 0;
+    const double snap = md->set.stab_rtol * md->omega_b;
 
     fputs("\ninvariant zeros of each channel (input -> output):\n", f);
+    if (md->nu == 0 || md->ny == 0) {
+        fputs("  (none: the model has no inputs or no outputs)\n", f);
+        return;
+    }
     for (j = 0; j < md->nu; j++)
         for (i = 0; i < md->ny; i++) {
             const rigmat_channel_zeros *z = &md->zeros[i * md->nu + j];
@@ -126,7 +145,7 @@ static void text_zeros(FILE *f, const rigmat_modes *md)
             else if (z->count == 0)
                 fputs("none", f);
             for (k = 0; k < z->count; k++) {
-                text_complex(v, sizeof v, z->re[k], z->im[k]);
+                text_complex(v, sizeof v, z->re[k], z->im[k], snap);
                 fprintf(f, "%s%s", k ? ", " : "", v);
             }
             if (z->rhp > 0) {
@@ -135,6 +154,7 @@ static void text_zeros(FILE *f, const rigmat_modes *md)
             }
             fputc('\n', f);
         }
+    fprintf(f, "  (parts below %.3g 1/s, the marginal band, print as 0)\n", snap);
     if (nrhp > 0)
         fputs("  A zero in the right half plane (Re z > 0) makes the first response of that\n"
               "  output to a step of that input go the wrong way before it turns.\n", f);
@@ -312,6 +332,11 @@ static rigmat_status modes_json(FILE *f, const rigmat_model *m, const rigmat_mod
     cli_json_arr_open(&j);
     for (i = 0; i < md->nx; i++)
         cli_json_num(&j, md->scale[i]);
+    cli_json_arr_close(&j);
+    cli_json_key(&j, "balanced");
+    cli_json_arr_open(&j);
+    for (i = 0; i < md->nx; i++)
+        cli_json_bool(&j, md->balanced[i]);
     cli_json_arr_close(&j);
     cli_json_obj_close(&j);
     cli_json_key(&j, "tolerances");

@@ -13,11 +13,15 @@
  *   rounding to powers of 2).  scale[i] carries the unit of state i, so
  *   the result does not depend on the units chosen: measuring a travel in
  *   mm instead of m multiplies its scale by 1000 and changes no share.
- *   A state whose off-diagonal row or column is empty cannot be balanced
- *   (a cyclic coordinate such as a balancer's travel, which nothing
- *   depends on); its scale is the size of its rate of change, or of its
- *   influence, divided by the characteristic rate omega_b = ||A_b||_2 of
- *   the balanced part (1/s), which keeps it dimensionally sound too.
+ *   A state whose off-diagonal row or column is empty (among the others,
+ *   repeatedly) cannot be balanced: a cyclic coordinate such as a
+ *   balancer's travel, which nothing depends on, or a disturbance's
+ *   shaping filter.  Its scale is the size of its rate of change (from its
+ *   row), else of its influence (from its column), divided by (times) the
+ *   characteristic rate omega_core = ||balanced part||_2 (1/s); for the
+ *   shares of a mode it is measured at that mode's own rate |s| instead
+ *   (when s is not 0), so a travel counts as much as the velocity moving
+ *   it.  Both keep the scaling dimensionally sound.  omega_b = ||A_b||_2.
  *   Inputs and outputs are scaled to unit column (row) 2-norm in the
  *   scaled states; D accordingly.
  *
@@ -28,29 +32,47 @@
  *   Kailath 1980, "Linear Systems", section 2.4.3): mode s is controllable
  *   when sigma_min([A_b - sI, B_c]) > rtol * ||[A_b, B_c]||_2 (B_c the
  *   scaled control columns), observable when sigma_min([A_b - sI; C_b]) >
- *   rtol * ||[A_b; C_b]||_2.  The rank form also holds for repeated
- *   eigenvalues.  Input j reaches mode s when the projection of b_j onto
- *   the left null space of A_b - sI (singular values <= rtol ||A_b||_2)
- *   exceeds rtol ||b_j|| (for a simple eigenvalue this is
- *   |w^H b_j| / (|w| |b_j|), w the left eigenvector); output i sees it
- *   when c_i projected onto the right null space exceeds rtol ||c_i||.
- *   Complex matrices are handled through their real 2n x 2n embedding
- *   [[Re, -Im], [Im, Re]], whose singular values are those of the complex
- *   matrix, each twice.
+ *   rtol * ||[A_b; C_b]||_2.  These measures are the relative distance to
+ *   an uncontrollable (unobservable) model at s; an exactly uncontrollable
+ *   mode gives rounding, about eps * cond (1e-15 .. 1e-12), and a stiff
+ *   rig's slow modes give small but real values (about 4e-8 for the
+ *   balancer's tilt, where the fast motor current sets the norm), hence
+ *   rtol = 1e-10.  The rank form also holds for repeated eigenvalues;
+ *   eigenvalues within cluster_rtol * omega_b of each other are tested at
+ *   their mean, which a Jordan block's rounding does not move (its
+ *   members scatter by about sqrt(eps)).  Input j reaches mode s when
+ *   the projection of the unit b_j onto the left null space of A_b - sI
+ *   (singular values <= null_rtol * omega_b; at least one direction)
+ *   exceeds rtol (for a simple eigenvalue this is |w^H b_j| / (|w| |b_j|),
+ *   w the left eigenvector); output i sees it when the unit c_i projected
+ *   onto the right null space exceeds rtol.  Complex matrices are handled
+ *   through their real embedding [[Re, -Im], [Im, Re]], whose singular
+ *   values are those of the complex matrix, each twice.
  *
  *   Stability.  |Re s| <= stab_rtol * omega_b is marginal (the eigenvalues
  *   of a Jordan block are only known to about sqrt(eps) of the scale),
  *   else the sign of Re s decides.  A marginal mode has no time constant.
  *
  *   Zeros.  The invariant zeros of the channel (input j, output i) are the
- *   finite generalized eigenvalues of the Rosenbrock pencil
- *   ([[A_b, b], [c, d]], [[I, 0], [0, 0]]) by QZ (gsl_eigen_gen; Moler &
- *   Stewart 1973), in scaled units (zeros do not depend on the scaling).
- *   A pair (alpha, beta) is infinite when |beta| * omega_b <= inf_rtol *
- *   |alpha| (a zero beyond omega_b / inf_rtol).  When both |alpha| and
- *   |beta| are below rtol times the norms of the pencil's matrices the
- *   pencil is singular: the channel's transfer function is identically
- *   zero (no path from the input to the output), and it has no zeros.
+ *   finite generalized eigenvalues of its Rosenbrock pencil
+ *   ([[A, b], [c, d]], [[I, 0], [0, 0]]), in scaled units (zeros do not
+ *   depend on the scaling) with time in units of 1/omega_b.  The infinite
+ *   eigenvalues are deflated first, as Emami-Naeini & Van Dooren (1982),
+ *   "Computation of zeros of linear multivariable systems", Automatica
+ *   18(4), do: while the feedthrough is zero (|d| <= inf_rtol |b| |c|), a
+ *   Householder reflection turns b into the last axis, and the pencil of
+ *   (A11, a12, c1, c2) has the same finite eigenvalues with one state
+ *   fewer.  What is left (d != 0) has exactly one infinite eigenvalue; QZ
+ *   (gsl_eigen_gen; Moler & Stewart 1973) on it, padded to a fixed size
+ *   with exactly infinite ones (P = I, Q = 0), gives beta = 0 for those
+ *   up to rounding, and the known number of pairs with the smallest
+ *   |beta| / |alpha| is dropped.  Deflating first matters: QZ alone leaves
+ *   the infinite eigenvalues of a relative degree k > 1 as finite numbers
+ *   near eps^(-1/k) omega_b (+-1e8 on the cart-pole), which no test on
+ *   beta can tell from real zeros.  A channel whose Markov parameters d,
+ *   c b, c A b, ..., c A^(n-1) b (scaled, A_b / omega_b) are all below
+ *   rtol has a transfer function that is identically zero: no path from
+ *   the input to the output, and no zeros (its pencil is singular).
  *
  *   DC gain.  -C A^-1 B + D by LU when no eigenvalue is within
  *   stab_rtol * omega_b of 0.  Otherwise per channel: with p0 eigenvalues
@@ -83,7 +105,7 @@ typedef struct rigmat_modes_settings {
     double null_rtol;    /* null space of A_b - sI: sigma <= null_rtol omega_b; default 1e-8 */
     double cluster_rtol; /* eigenvalues closer than this times omega_b are one; default 1e-7 */
     double stab_rtol;    /* marginal band and zeros "at 0", relative to omega_b; default 1e-6 */
-    double inf_rtol;     /* a zero beyond omega_b / inf_rtol is infinite; default 1e-10 */
+    double inf_rtol;     /* a feedthrough below this (scaled) is zero; default 1e-10 */
     double share_min;    /* states below this share are not listed in text/JSON; default 0.01 */
 } rigmat_modes_settings;
 
@@ -125,6 +147,8 @@ typedef struct rigmat_modes {
     rigmat_modes_settings set;
     char **state_names, **input_names, **output_names; /* owned copies */
     double *scale;              /* nx: characteristic size of each state, in its unit */
+    unsigned char *balanced;    /* nx: 1 when the scale came from balancing, 0 when from
+                                 * its row or column (then measured per mode; see above) */
     double omega_b;             /* ||A_b||_2 (1/s); 1 when A is 0 */
     rigmat_mode *modes;         /* nx, sorted by |s| ascending, pairs together */
     rigmat_channel_zeros *zeros; /* ny * nu, output-major: zeros[i * nu + j] is u_j -> y_i */
