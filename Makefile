@@ -44,8 +44,9 @@ CLI_SRC  := $(sort $(wildcard src/cli/*.c))
 TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c tests/mechtest.c
 BENCH_SRC := $(sort $(wildcard bench/*.c))
 # Installed beside rigmat.h as <rigmat/NAME.h>: units, the matrix
-# exponential, sampling and the noise model.
-PUBLIC_SUBHEADERS = src/model/units.h src/sample/expm.h src/sample/discretize.h src/sample/noise.h
+# exponential, sampling, the noise model, simulation and the validity range.
+PUBLIC_SUBHEADERS = src/model/units.h src/sample/expm.h src/sample/discretize.h src/sample/noise.h \
+    src/study/simulate.h src/study/validity.h
 
 # Three flavours share the sources: plain, sanitized (ASan+UBSan), and the
 # plain -O0 -g one valgrind wants (flavour flags come after CFLAGS, so -O0 holds).

@@ -141,6 +141,67 @@ if "$R" --help | grep -q '^  modes'; then
     if grep -q '"summary"\|modes:' "$T/out"; then bad "linearize json changed"; else ok; fi
 fi
 
+if "$R" --help | grep -q '^  simulate'; then
+    C=examples/cart.yaml
+    expect 0 "simulate help" -- "$R" simulate --help
+    has "$T/out" "step:VALUE" "simulate help lists the signals"
+    # CSV contract (DESIGN.md section 5): header, absolute values, round(duration/step)+1 rows
+    expect 0 "simulate csv" -- "$R" simulate "$C" --input push=step:1N --duration 0.1s --step 10ms
+    if [ "$(head -n 1 "$T/out")" = "time [s],track.position [m],track.velocity [m/s],push [N],position [m]" ]; then ok; else bad "simulate csv header: $(head -n 1 "$T/out")"; fi
+    if [ "$(wc -l <"$T/out")" = 12 ]; then ok; else bad "simulate csv: want 11 rows"; fi
+    if [ "$(sed -n 2p "$T/out" | cut -d, -f1,4)" = "0,1" ]; then ok; else bad "simulate csv: first row time 0, push 1 N (absolute)"; fi
+    expect 0 "simulate rounds duration/step" -- "$R" simulate "$C" --duration 0.1s --step 30ms
+    if [ "$(wc -l <"$T/out")" = 5 ]; then ok; else bad "simulate csv: round(0.1/0.03)+1 = 4 rows"; fi
+    expect 0 "simulate json" -- "$R" simulate "$C" --model linear --duration 50ms --format json
+    has "$T/out" '"simulated": *"linear"' "simulate json names the model"
+    expect 0 "simulate sampled" -- "$R" simulate "$C" --model sampled --rate 100Hz --duration 0.1s
+    if [ "$(wc -l <"$T/out")" = 12 ]; then ok; else bad "sampled: one row per period"; fi
+    expect 2 "sampled without rate" -- "$R" simulate "$C" --model sampled
+    expect 2 "sampled step not a multiple" -- "$R" simulate "$C" --model sampled --rate 100Hz --step 15ms
+    has "$T/err" "multiple of the period" "sampled step message"
+    expect 2 "unknown model" -- "$R" simulate "$C" --model quadratic
+    expect 2 "unknown input" -- "$R" simulate "$C" --input shove=step:1N
+    has "$T/err" "the inputs are push" "unknown input lists the inputs"
+    expect 2 "unknown signal" -- "$R" simulate "$C" --input push=square:1N
+    expect 2 "signal in the wrong unit" -- "$R" simulate "$C" --input push=step:1V
+    expect 2 "impulse needs an area" -- "$R" simulate "$C" --input push=impulse:1N
+    expect 2 "unknown state" -- "$R" simulate "$C" --offset track.angle=1
+    expect 2 "offset in the wrong unit" -- "$R" simulate "$C" --offset track.position=3deg
+    expect 2 "criterion without --validity" -- "$R" simulate "$C" --criterion 0.1
+    expect 2 "format text for a response" -- "$R" simulate "$C" --format text
+    expect 4 "signal file missing" -- "$R" simulate "$C" --input push=file:"$T/none.csv"
+    printf 'time,push\n0,0\n0.05,2\n0.1,0\n' >"$T/push.csv"
+    expect 0 "signal from a file" -- "$R" simulate "$C" --input push=file:"$T/push.csv" --duration 0.1s --step 25ms
+    if [ "$(sed -n 4p "$T/out" | cut -d, -f4)" = 2 ]; then ok; else bad "file signal at t = 0.05 s"; fi
+    expect 0 "simulate --plot" -- "$R" simulate "$C" --input push=sine:1N@2Hz --plot "$T/sim.svg"
+    if [ -s "$T/sim.svg" ] && [ -s "$T/out" ]; then ok; else bad "--plot wrote nothing"; fi
+    if command -v xmllint >/dev/null 2>&1; then
+        if xmllint --noout "$T/sim.svg" 2>"$T/err"; then ok; else bad "--plot SVG is not well-formed XML"; fi
+    fi
+    expect 0 "validity" -- "$R" simulate "$C" --validity --horizon 0.5s
+    has "$T/out" "within 5 %" "validity states its criterion"
+    expect 0 "validity json" -- "$R" simulate "$C" --validity --format json --criterion 0.02
+    has "$T/out" '"criterion": *0.02' "validity json criterion"
+    # Failure part-way: a bead sliding inward on a massless spinning rod
+    # reaches the axis at t = 0.1 s, where the mass matrix is singular.
+    printf '%s\n' 'rigmat: 1' 'name: bead on a massless rod' 'gravity: 0 m/s^2' 'bodies:' \
+        '  rod: {mass: 0 kg, inertia: 0 kg*m^2}' '  bead: {mass: 0.05 kg}' 'joints:' \
+        '  spin: {type: hinge, parent: ground, child: rod}' \
+        '  along: {type: slider, parent: rod, child: bead, axis: [1, 0]}' \
+        'operating_point:' '  coordinates: {along: 50 mm}' '  rates: {along: -0.5 m/s}' \
+        '  inputs: {}' '  solve: []' >"$T/bead.yaml"
+    expect 3 "failure part-way" -- "$R" simulate "$T/bead.yaml" --duration 0.2s --step 25ms --plot "$T/bead.svg"
+    if [ -e "$T/bead.svg" ]; then bad "failed simulation wrote a plot"; else ok; fi
+    has "$T/err" "fails at t = 0.1 s" "failure names the time"
+    has "$T/err" "singular" "failure names the cause"
+    if [ -s "$T/out" ]; then bad "failed simulation printed rows"; else ok; fi
+    echo keep >"$T/res.csv"
+    expect 3 "failure part-way with -o and --partial" -- "$R" simulate "$T/bead.yaml" --duration 0.2s --step 25ms -o "$T/res.csv" --partial "$T/part.csv"
+    if [ "$(cat "$T/res.csv")" = keep ]; then ok; else bad "failed simulation changed the -o file"; fi
+    if [ "$(wc -l <"$T/part.csv")" = 5 ]; then ok; else bad "--partial: header and the 4 rows before t = 0.1 s"; fi
+    has "$T/err" "rows before the failure are in" "--partial note"
+fi
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     if "$R" --help | grep -q '^  modes'; then

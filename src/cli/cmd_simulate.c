@@ -12,7 +12,8 @@
  *   simulated   "nonlinear" | "linear" | "sampled"
  *   duration, step (s), rate (Hz, sampled only), tolerance (nonlinear only)
  *   complete    true (a partial table, see below, says false)
- *   stopped_at  s: the time the run reached
+ *   stopped_at  s: the time the run reached (the end, or the last good step
+ *               before a failure)
  *   time        [t_k]
  *   x, u, y     one row per time, absolute values, in the head's order
  *
@@ -23,6 +24,10 @@
  * format (JSON then says complete: false); a file named apart from the
  * result cannot be mistaken for a complete run.
  *
+ * --plot FILE.svg: the outputs (the states, for a model without outputs)
+ * over time, one panel each, as a standalone SVG (src/emit/svg.h), written
+ * only when the run succeeds, whole or not at all.
+ *
  * --validity: per coordinate and control input, the largest offset or step
  * for which the linear response stays within --criterion of the nonlinear
  * one over --horizon (text or json; src/study/validity.h gives the
@@ -31,6 +36,7 @@
 #include "cli.h"
 #include "outfile.h"
 #include "simulate.h"
+#include "svg.h"
 #include "units.h"
 #include "validity.h"
 
@@ -331,6 +337,78 @@ static void write_partial(struct cli_env *env, const char *path, int json, const
     free(buf);
 }
 
+/* --plot: every output over time, one panel each (the states when the
+ * model has no outputs), written whole to path. */
+static rigmat_status write_plot(struct cli_env *env, const char *path, const rigmat_model *m,
+        const rigmat_sim_opts *o, const rigmat_sim_result *r)
+{
+    const rigmat_signal *xs, *us, *ys;
+    const int use_y = r->ny > 0;
+    const size_t n = use_y ? r->ny : r->nx;
+    const rigmat_signal *sig;
+    rigmat_svg_plot *plots = calloc(n, sizeof *plots);
+    rigmat_svg_series *series = calloc(n, sizeof *series);
+    double *col = malloc((n * r->nrows + 1) * sizeof *col);
+    rigmat_svg_figure fig;
+    char caption[160], *buf = NULL;
+    size_t len = 0, i, k;
+    FILE *f = NULL;
+    rigmat_error e;
+    rigmat_status st = RIGMAT_OK;
+
+    sim_signals(m, &xs, &us, &ys);
+    sig = use_y ? ys : xs;
+    memset(&e, 0, sizeof e);
+    if (plots == NULL || series == NULL || col == NULL ||
+            (f = open_memstream(&buf, &len)) == NULL) {
+        fprintf(env->err, "rigmat %s: out of memory for the plot\n", env->command);
+        st = RIGMAT_ENOMEM;
+        goto done;
+    }
+    for (i = 0; i < n; i++) {
+        for (k = 0; k < r->nrows; k++)
+            col[i * r->nrows + k] = use_y ? r->y[k * r->ny + i] : r->x[k * r->nx + i];
+        series[i].name = rigmat_sim_model_name(o->model);
+        series[i].x = r->t_s;
+        series[i].y = col + i * r->nrows;
+        series[i].n = r->nrows;
+        series[i].line = 1;
+        series[i].style = (size_t)o->model;
+        plots[i].title = sig[i].name;
+        plots[i].x.label = "time";
+        plots[i].x.unit = "s";
+        plots[i].y.label = sig[i].name;
+        plots[i].y.unit = sig[i].unit;
+        plots[i].series = &series[i];
+        plots[i].nseries = 1;
+        plots[i].zero_line = 1;
+    }
+    snprintf(caption, sizeof caption, "%s: %s model, %s over %.4g s", m->name ? m->name : "",
+            rigmat_sim_model_name(o->model), use_y ? "outputs" : "states", o->duration_s);
+    memset(&fig, 0, sizeof fig);
+    fig.plots = plots;
+    fig.nplots = n;
+    fig.columns = n > 1 ? 2 : 1;
+    fig.caption = caption;
+    fig.standalone = 1;
+    st = rigmat_svg_write(f, &fig, &e);
+    if (fclose(f) != 0 && st == RIGMAT_OK) {
+        fprintf(env->err, "rigmat %s: out of memory for the plot\n", env->command);
+        st = RIGMAT_ENOMEM;
+    } else if (st != RIGMAT_OK) {
+        cli_report(env, &e);
+    } else if ((st = rigmat_outfile_write(path, buf, len, RIGMAT_OUTFILE_NO_FAULT, &e)) !=
+            RIGMAT_OK) {
+        cli_report(env, &e);
+    }
+done:
+    free(buf);
+    free(plots);
+    free(series);
+    free(col);
+    return st;
+}
+
 /* ------------------------------------------------------------ validity */
 
 static void validity_text(FILE *f, const rigmat_model *m, const rigmat_validity_opts *o,
@@ -547,7 +625,16 @@ rigmat_status cmd_simulate(int argc, char **argv, struct cli_env *env)
           "--validity: relative error bound (default 0.05)" },
         { 0, "horizon", CLI_OPT_STRING, &a.horizon, "TIME",
           "--validity: compared time span (default 1 s)" },
-        CLI_COMMON_ROWS(&c), CLI_OPT_END_ROW };
+        /* the common rows (CLI_COMMON_ROWS), with this command's formats */
+        { 0, "set", CLI_OPT_LIST, &c.sets, "PATH=VALUE",
+          "override a model value, with units (repeatable)" },
+        { 0, "format", CLI_OPT_STRING, &c.format, "FORMAT",
+          "csv (default) or json; with --validity text (default) or json" },
+        { 'o', "output", CLI_OPT_STRING, NULL, "FILE",
+          "write the result to FILE (whole or not at all)" },
+        { 0, "catalog", CLI_OPT_STRING, &c.catalog, "DIR", "look for catalog parts in DIR first" },
+        { 'h', "help", CLI_OPT_FLAG, &c.help, NULL, "show this help" },
+        CLI_OPT_END_ROW };
     static const char *const formats[] = { "csv", "json", "text", NULL };
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;
@@ -635,6 +722,8 @@ rigmat_status cmd_simulate(int argc, char **argv, struct cli_env *env)
     st = write_result(env->out, fmt == 1, m, &o, &r);
     if (st != RIGMAT_OK)
         fprintf(env->err, "rigmat %s: error: the result is not finite\n", env->command);
+    else if (a.plot != NULL)
+        st = write_plot(env, a.plot, m, &o, &r);
 out:
     for (k = 0; k < nwaves; k++)
         rigmat_wave_release(&waves[k]);

@@ -7,8 +7,8 @@
  * breakpoint a rounding error away from a node never leaks into the wrong
  * interval; sines are evaluated analytically.
  *
- * Methods: GSL odeiv2 (msbdf: the variable-order BDF of CVODE's lineage,
- * GSL reference manual "Ordinary Differential Equations"), the matrix
+ * Methods: GSL odeiv2 (bsimp: the semi-implicit extrapolation method of
+ * G. Bader and P. Deuflhard, Numer. Math. 41:373-398, 1983), the matrix
  * exponential of Higham (2005) (expm.h) on the augmented matrix written in
  * simulate.h (the construction of C. F. Van Loan, IEEE TAC 23(3), 1978,
  * for integrals of the exponential), and ZOH (discretize.h).
@@ -379,6 +379,7 @@ double rigmat_wave_eval(const rigmat_wave *waves, size_t nwaves, size_t input, d
 struct node {
     double t;
     size_t row; /* output row, or RIGMAT_NONE for a breakpoint only */
+    int brk;    /* a breakpoint of a signal falls here: the input may jump or kink */
 };
 
 struct plan {
@@ -410,7 +411,7 @@ static rigmat_status plan_build(struct plan *p, const rigmat_sim_opts *o, size_t
         const rigmat_sim_case *c, rigmat_error *err)
 {
     const double steps = o->duration_s / o->step_s;
-    double *bp = NULL, dur;
+    double *bp = NULL;
     size_t nbp = 0, k, i, j;
 
     memset(p, 0, sizeof *p);
@@ -425,14 +426,29 @@ static rigmat_status plan_build(struct plan *p, const rigmat_sim_opts *o, size_t
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
                 "%.0f output rows are more than the limit of %zu", floor(steps + 1),
                 o->max_rows);
-    for (k = 0; k < c->nwaves; k++)
-        if (c->waves[k].input >= nu)
-            return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "a signal drives input %zu of %zu",
-                    c->waves[k].input, nu);
+    for (k = 0; k < c->nwaves; k++) {
+        const rigmat_wave *w = &c->waves[k];
+        if (w->input >= nu)
+            return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "signal %zu drives input %zu of %zu", k,
+                    w->input, nu);
+        if (!isfinite(w->value) || !(w->t0_s >= 0) || !isfinite(w->t0_s) ||
+                (w->kind == RIGMAT_WAVE_SINE &&
+                        (!(w->frequency_hz > 0) || !isfinite(w->frequency_hz))))
+            return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+                    "signal %zu: a value, start time or frequency is out of range", k);
+        if (w->kind == RIGMAT_WAVE_TABLE) {
+            if (w->ntable == 0 || w->table_t_s == NULL || w->table_v == NULL)
+                return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "signal %zu: an empty table", k);
+            for (i = 0; i < w->ntable; i++)
+                if (!isfinite(w->table_t_s[i]) || !isfinite(w->table_v[i]) ||
+                        (i > 0 && !(w->table_t_s[i] > w->table_t_s[i - 1])))
+                    return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "signal %zu: table row %zu is not "
+                            "finite or its time does not increase", k, i);
+        }
+    }
     p->nrows = (size_t)floor(steps + 0.5) + 1;
     p->step = o->step_s;
     p->snap = 1e-9 * o->step_s;
-    dur = (double)(p->nrows - 1) * o->step_s;
 
     for (k = 0; k < c->nwaves; k++)
         nbp += c->waves[k].kind == RIGMAT_WAVE_TABLE ? c->waves[k].ntable : 1;
@@ -461,17 +477,21 @@ static rigmat_status plan_build(struct plan *p, const rigmat_sim_opts *o, size_t
     j = 0;
     for (k = 0; k < p->nrows; k++) {
         const double tk = (double)k * o->step_s;
-        for (; j < nbp && bp[j] < tk - p->snap; j++) {
-            if (bp[j] <= p->snap || bp[j] >= dur)
+        for (; j < nbp && bp[j] <= tk + p->snap; j++) {
+            if (i > 0 && bp[j] - p->nodes[i - 1].t <= p->snap) {
+                p->nodes[i - 1].brk = 1;
                 continue;
-            if (i > 0 && bp[j] - p->nodes[i - 1].t <= p->snap)
-                continue;
+            }
+            if (bp[j] >= tk - p->snap || bp[j] <= p->snap)
+                continue; /* on this grid time (marked below) or at the start */
             p->nodes[i].t = bp[j];
             p->nodes[i].row = RIGMAT_NONE;
+            p->nodes[i].brk = 1;
             i++;
         }
         p->nodes[i].t = tk;
         p->nodes[i].row = k;
+        p->nodes[i].brk = j > 0 && fabs(bp[j - 1] - tk) <= p->snap;
         i++;
     }
     p->nnodes = i;
@@ -695,6 +715,10 @@ static rigmat_status nl_fail(const struct nl_ctx *c, double t, int gsl_status, d
     if (c->failed) {
         RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the nonlinear model fails at t = %.9g s: %s",
                 c->fail_t, c->fail.message);
+        if (err != NULL) {
+            err->where = c->fail.where;
+            err->within = c->fail.within;
+        }
         if (c->fail.hint[0])
             rigmat_error_hint(err, "%s", c->fail.hint);
         else
@@ -726,6 +750,8 @@ static rigmat_status sim_nonlinear(rigmat_system *sys, const rigmat_lti *lin,
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the nonlinear simulation needs the system");
     if (!(o->rtol > 0) || !(o->rtol < 1))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the tolerance %g is not in (0, 1)", o->rtol);
+    if (!(o->atol_floor > 0) || !isfinite(o->atol_floor) || o->max_steps == 0)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "atol_floor and max_steps must be positive");
     memset(&c, 0, sizeof c);
     c.sys = sys;
     c.plan = p;
@@ -754,7 +780,7 @@ static rigmat_status sim_nonlinear(rigmat_system *sys, const rigmat_lti *lin,
     ode.dimension = nx;
     ode.params = &c;
     /* |e_i| <= rtol (a_i + |x_i|): epsabs = rtol with scale_abs = a_i, a_y = 1 */
-    drv = gsl_odeiv2_driver_alloc_scaled_new(&ode, gsl_odeiv2_step_msbdf,
+    drv = gsl_odeiv2_driver_alloc_scaled_new(&ode, gsl_odeiv2_step_bsimp,
             GSL_MIN_DBL(p->step, 1e-4) * 1e-2, o->rtol, o->rtol, 1.0, 0.0, scale);
     if (drv == NULL) {
         st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory for the integrator");
@@ -767,7 +793,9 @@ static rigmat_status sim_nonlinear(rigmat_system *sys, const rigmat_lti *lin,
         if (n > 0) {
             int gs;
             plan_interval(p, p->nodes[n - 1].t, tn);
-            gsl_odeiv2_driver_reset(drv);
+            /* restart the step-size control where the input jumps or kinks */
+            if (p->nodes[n - 1].brk)
+                gsl_odeiv2_driver_reset(drv);
             t = p->nodes[n - 1].t;
             gs = gsl_odeiv2_driver_apply(drv, &t, tn, x);
             if (gs != GSL_SUCCESS || !finite_n(x, nx)) {
