@@ -820,9 +820,9 @@ static void write_modes(FILE *f, const struct report *R, const struct sigs *S)
     fprintf(f, "<p>Eigenvalues of A (s) and of the sampled model (z = e<sup>sT</sup>, T = %.6g "
                "s), slowest first. Shares come from the eigenvector in scaled units (each "
                "state divided by its characteristic size from a balancing of A), so a radian "
-               "and a metre weigh alike; shares below %.2g are left out. Controllable: "
+               "and a metre weigh alike; shares below %.3g %% are left out. Controllable: "
                "reached by the control inputs; observable: seen by the outputs (PBH test).</p>\n",
-            md->period_s, md->set.share_min);
+            md->period_s, 100.0 * md->set.share_min);
     fputs("<div class=\"wide\"><table><tr><th>s [1/s]</th><th>z</th><th>frequency [Hz]</th>"
           "<th>damping</th><th>time constant [s]</th><th>stability</th><th>lives in</th>"
           "<th>reached by</th><th>seen by</th></tr>\n",
