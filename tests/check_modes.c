@@ -368,6 +368,44 @@ START_TEST(shares_and_zeros_do_not_depend_on_the_units_of_a_state)
 }
 END_TEST
 
+START_TEST(input_and_output_units_do_not_change_reach_sight_or_zeros)
+{
+    /* the demo with its gyro read in units 1e300 times smaller and its
+     * drive in units 1e300 times larger: sums of squares would overflow
+     * or vanish; reach, sight and zeros must not move */
+    rigmat_model *model = NULL;
+    rigmat_lti *l = load_lin("../examples/balancer.yaml", &model);
+    rigmat_modes *a = analyse(l, 0.0), *b = NULL;
+    size_t k, i, j;
+
+    for (j = 0; j < l->nx; j++)
+        gsl_matrix_set(l->C, 0, j, gsl_matrix_get(l->C, 0, j) * 1e300);
+    for (i = 0; i < l->nx; i++)
+        gsl_matrix_set(l->B, i, 0, gsl_matrix_get(l->B, i, 0) * 1e-300);
+    b = analyse(l, 0.0);
+    for (k = 0; k < a->nx; k++) {
+        for (i = 0; i < a->ny; i++)
+            ck_assert_int_eq(b->modes[k].seen_by[i], a->modes[k].seen_by[i]);
+        for (j = 0; j < a->nu; j++)
+            ck_assert_int_eq(b->modes[k].reached_by[j], a->modes[k].reached_by[j]);
+        ck_assert_int_eq(b->modes[k].controllable, a->modes[k].controllable);
+    }
+    for (k = 0; k < a->nu * a->ny; k++) {
+        ck_assert_uint_eq(b->zeros[k].count, a->zeros[k].count);
+        ck_assert_int_eq(b->zeros[k].no_path, a->zeros[k].no_path);
+        for (i = 0; i < a->zeros[k].count; i++)
+            ck_assert_msg(fabs(b->zeros[k].re[i] - a->zeros[k].re[i])
+                            <= 1e-9 * (1.0 + hypot(a->zeros[k].re[i], a->zeros[k].im[i])),
+                    "channel %zu zero %zu: %g, was %g", k, i, b->zeros[k].re[i],
+                    a->zeros[k].re[i]);
+    }
+    rigmat_modes_free(a);
+    rigmat_modes_free(b);
+    rigmat_lti_free(l);
+    rigmat_model_free(model);
+}
+END_TEST
+
 START_TEST(the_demo_has_its_wrong_way_zero_from_drive_to_the_wheel)
 {
     rigmat_model *model = NULL;
@@ -458,6 +496,7 @@ Suite *modes_suite(void)
     tcase_add_test(tc, a_two_state_feedthrough_channel_keeps_both_zeros);
     tcase_add_test(tc, dc_gain_past_a_pole_at_zero_is_null_only_where_it_is_seen);
     tcase_add_test(tc, shares_and_zeros_do_not_depend_on_the_units_of_a_state);
+    tcase_add_test(tc, input_and_output_units_do_not_change_reach_sight_or_zeros);
     tcase_add_test(tc, the_demo_has_its_wrong_way_zero_from_drive_to_the_wheel);
     tcase_add_test(tc, two_unstable_modes_are_both_named_in_the_summary);
     tcase_add_test(tc, bad_arguments_are_refused);

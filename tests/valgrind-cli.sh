@@ -1,6 +1,6 @@
 #!/bin/sh
 # valgrind-cli.sh - the program under valgrind memcheck on a subset of
-# inputs: every example with check (and linearize, discretize when the
+# inputs: every example with check (and linearize, discretize, modes when the
 # program has them), and a handful of hostile files that take the loader's
 # error paths.  RIGMAT is the -O0 -g build (build/vg/rigmat); valgrind
 # cannot run a sanitizer build.  A run passes when valgrind finds no error
@@ -41,10 +41,15 @@ vg() { # vg WANT(0|fail) COMMAND ARGS...
 cmds=check
 if "$R" --help 2>/dev/null | grep -q '^  linearize'; then cmds="$cmds linearize"; fi
 if "$R" --help 2>/dev/null | grep -q '^  discretize'; then cmds="$cmds discretize"; fi
+if "$R" --help 2>/dev/null | grep -q '^  modes'; then cmds="$cmds modes"; fi
 
 for f in examples/*.yaml; do
     for c in $cmds; do
-        if [ "$c" = discretize ]; then vg 0 discretize "$f" --rate 100Hz; else vg 0 "$c" "$f"; fi
+        case "$c" in
+        discretize) vg 0 discretize "$f" --rate 100Hz ;;
+        modes) vg 0 modes "$f" --rate 100Hz --format json ;;
+        *) vg 0 "$c" "$f" ;;
+        esac
     done
 done
 for f in empty.yaml binary-garbage.bin truncated-flow-map.yaml alias-billion-laughs.yaml \

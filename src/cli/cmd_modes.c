@@ -44,7 +44,7 @@ static void text_summary(FILE *f, const rigmat_modes *md)
 
 static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
 {
-    char s[64], z[64], tau[32], damp[32];
+    char s[64], z[64], tau[32], damp[32], cm[32], om[32];
     size_t k, i, unbalanced = 0;
     const double snap = md->set.stab_rtol * md->omega_b;
 
@@ -55,7 +55,7 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
     fprintf(f, "\n  %3s  %-28s", "#", "s [1/s]");
     if (md->period_s > 0.0)
         fprintf(f, " %-28s", "z");
-    fprintf(f, " %11s %9s %11s  %-9s %-5s %-5s\n", "freq [Hz]", "damping", "tau [s]",
+    fprintf(f, " %11s %9s %11s  %-9s %-12s %-12s\n", "freq [Hz]", "damping", "tau [s]",
             "stability", "ctrb", "obsv");
     for (k = 0; k < md->nx; k++) {
         const rigmat_mode *m = &md->modes[k];
@@ -74,9 +74,10 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
             text_complex(z, sizeof z, m->z_re, m->z_im, 0.0);
             fprintf(f, " %-28s", z);
         }
-        fprintf(f, " %11.4g %9s %11s  %-9s %-5s %-5s\n", m->frequency_hz, damp, tau,
-                rigmat_stability_name(m->stability), m->controllable ? "yes" : "NO",
-                m->observable ? "yes" : "NO");
+        snprintf(cm, sizeof cm, "%s %.0e", m->controllable ? "yes" : "NO", m->ctrb_measure);
+        snprintf(om, sizeof om, "%s %.0e", m->observable ? "yes" : "NO", m->obsv_measure);
+        fprintf(f, " %11.4g %9s %11s  %-9s %-12s %-12s\n", m->frequency_hz, damp, tau,
+                rigmat_stability_name(m->stability), cm, om);
     }
     fprintf(f, "\nwhere each mode lives (shares of its eigenvector in scaled units, >= %g %%),"
                "\nwhich inputs reach it and which outputs see it:\n",
@@ -119,9 +120,10 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
     if (unbalanced > 0)
         fputs("  * nothing depends on it, or it on nothing: its size is its rate of change\n"
               "    (or its influence) over each mode's own rate |s|\n", f);
-    fprintf(f, "controllable, observable: PBH test, the smallest singular value of [A - sI, B]\n"
-               "and of [A - sI; C] (scaled) above %g of their norm; marginal: |Re s| <= %g x\n"
-               "%.4g 1/s (the norm of scaled A)\n", md->set.rtol, md->set.stab_rtol, md->omega_b);
+    fprintf(f, "ctrb, obsv: PBH test; the number is the smallest singular value of [A - sI, B]\n"
+               "(control inputs) or of [A - sI; C], scaled, over its norm: yes above %g.\n"
+               "marginal: |Re s| <= %g x %.4g 1/s (the norm of scaled A)\n", md->set.rtol,
+            md->set.stab_rtol, md->omega_b);
 }
 
 static void text_zeros(FILE *f, const rigmat_modes *md)

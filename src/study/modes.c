@@ -425,18 +425,16 @@ static void balance(const gsl_matrix *A, double *d, unsigned char *active, doubl
         double worst = 0.0;
 
         for (i = 0; i < n; i++) {
-            double c2 = 0.0, r2 = 0.0, f;
+            double cn = 0.0, rn = 0.0, f;
 
             if (!active[i])
                 continue;
             for (j = 0; j < n; j++)
                 if (j != i && active[j]) {
-                    const double aji = gsl_matrix_get(A, j, i) * d[i] / d[j];
-                    const double aij = gsl_matrix_get(A, i, j) * d[j] / d[i];
-                    c2 += aji * aji;
-                    r2 += aij * aij;
+                    cn = hypot(cn, gsl_matrix_get(A, j, i) * d[i] / d[j]);
+                    rn = hypot(rn, gsl_matrix_get(A, i, j) * d[j] / d[i]);
                 }
-            f = sqrt(sqrt(r2 / c2));
+            f = sqrt(rn / cn);
             d[i] *= f;
             if (fabs(log(f)) > worst)
                 worst = fabs(log(f));
@@ -480,22 +478,20 @@ static void balance(const gsl_matrix *A, double *d, unsigned char *active, doubl
     do {
         changed = 0;
         for (i = 0; i < n; i++) {
-            double r2 = 0.0, c2 = 0.0;
+            double rn = 0.0, cn = 0.0;
 
             if (active[i])
                 continue;
             for (j = 0; j < n; j++)
                 if (j != i && active[j]) {
-                    const double aij = gsl_matrix_get(A, i, j) * d[j];
-                    const double aji = gsl_matrix_get(A, j, i) / d[j];
-                    r2 += aij * aij;
-                    c2 += aji * aji;
+                    rn = hypot(rn, gsl_matrix_get(A, i, j) * d[j]);
+                    cn = hypot(cn, gsl_matrix_get(A, j, i) / d[j]);
                 }
-            if (r2 > 0.0) {
-                d[i] = sqrt(r2) / *omega_core;
+            if (rn > 0.0) {
+                d[i] = rn / *omega_core;
                 active[i] = SCALE_ROW;
-            } else if (c2 > 0.0) {
-                d[i] = *omega_core / sqrt(c2);
+            } else if (cn > 0.0) {
+                d[i] = *omega_core / cn;
                 active[i] = SCALE_COL;
             } else {
                 continue;
@@ -654,7 +650,9 @@ static int zero_before(double ar, double ai, double br, double bi)
 {
     const double ma = hypot(ar, ai), mb = hypot(br, bi);
 
-    if (ma != mb)
+    /* a repeated zero is only known to about sqrt(eps): magnitudes within
+     * 1e-8 tie, so conjugates stay in pairs, Im > 0 first */
+    if (fabs(ma - mb) > 1e-8 * (ma > mb ? ma : mb))
         return ma < mb;
     if (ai != bi)
         return ai > bi;
@@ -986,29 +984,29 @@ rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
         for (j = 0; j < n; j++)
             gsl_matrix_set(w.Ab, i, j,
                     gsl_matrix_get(l->A, i, j) * md->scale[j] / md->scale[i]);
+    /* norms by hypot: a gain of 1e300 or 1e-300 neither overflows nor
+     * vanishes */
     for (j = 0; j < nu; j++) {
-        double s2 = 0.0;
+        double nb = 0.0;
         for (i = 0; i < n; i++) {
             const double v = gsl_matrix_get(l->B, i, j) / md->scale[i];
             gsl_matrix_set(w.Bs, i, j, v);
-            s2 += v * v;
+            nb = hypot(nb, v);
         }
-        w.bnorm[j] = sqrt(s2);
+        w.bnorm[j] = nb;
         for (i = 0; i < n; i++)
-            gsl_matrix_set(w.Bn, i, j,
-                    s2 > 0.0 ? gsl_matrix_get(w.Bs, i, j) / w.bnorm[j] : 0.0);
+            gsl_matrix_set(w.Bn, i, j, nb > 0.0 ? gsl_matrix_get(w.Bs, i, j) / nb : 0.0);
     }
     for (i = 0; i < ny; i++) {
-        double s2 = 0.0;
+        double nc = 0.0;
         for (j = 0; j < n; j++) {
             const double v = gsl_matrix_get(l->C, i, j) * md->scale[j];
             gsl_matrix_set(w.Cs, i, j, v);
-            s2 += v * v;
+            nc = hypot(nc, v);
         }
-        w.cnorm[i] = sqrt(s2);
+        w.cnorm[i] = nc;
         for (j = 0; j < n; j++)
-            gsl_matrix_set(w.Cn, i, j,
-                    s2 > 0.0 ? gsl_matrix_get(w.Cs, i, j) / w.cnorm[i] : 0.0);
+            gsl_matrix_set(w.Cn, i, j, nc > 0.0 ? gsl_matrix_get(w.Cs, i, j) / nc : 0.0);
     }
     gs = norm2(&w, w.Ab, &md->omega_b);
     if (gs != GSL_SUCCESS)

@@ -1,5 +1,5 @@
-/* fuzz_pipeline.c - load, linearize, discretize at 100 Hz and build the
- * noise model, on the input as a model file.
+/* fuzz_pipeline.c - load, linearize, discretize at 100 Hz, build the
+ * noise model and analyse the modes, on the input as a model file.
  *
  * The input is written to model.yaml in a private folder under /tmp and
  * loaded with the default options ($RIGMAT_CATALOG for parts, as in
@@ -35,6 +35,10 @@
 #define HAVE_PIPELINE 1
 #include "discretize.h"
 #include "noise.h"
+#endif
+#if __has_include("modes.h")
+#define HAVE_MODES 1
+#include "modes.h"
 #endif
 #endif
 
@@ -145,6 +149,56 @@ done:
     rigmat_discretize_ws_free(w);
 }
 
+#ifdef HAVE_MODES
+/* The modes of a linearized model (src/study/modes.h): a documented
+ * status; finite eigenvalues, shares in [0, 1] summing to 1, finite zeros;
+ * a DC gain that is finite except where a pole sits at 0; a summary. */
+static void study(const rigmat_lti *s)
+{
+    rigmat_modes *md = NULL;
+    rigmat_error e;
+    rigmat_status st;
+    char line[512];
+    size_t k, i;
+
+    memset(&e, 0, sizeof e);
+    st = rigmat_modes_compute(s, 0.01, NULL, &md, &e);
+    FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_ENUMERIC || st == RIGMAT_ENOMEM,
+                 "modes status %d", (int)st);
+    if (st != RIGMAT_OK) {
+        FUZZ_REQUIRE(e.message[0] != '\0', "modes failed without a message");
+        return;
+    }
+    for (k = 0; k < md->nx; k++) {
+        const rigmat_mode *mo = &md->modes[k];
+        double sum = 0.0;
+
+        FUZZ_REQUIRE(isfinite(mo->s_re) && isfinite(mo->s_im), "mode %zu not finite", k);
+        FUZZ_REQUIRE(mo->stability == RIGMAT_STABLE || mo->stability == RIGMAT_MARGINAL ||
+                             mo->stability == RIGMAT_UNSTABLE,
+                     "mode %zu stability %d", k, (int)mo->stability);
+        for (i = 0; i < md->nx; i++) {
+            FUZZ_REQUIRE(mo->share[i] >= 0.0 && mo->share[i] <= 1.0, "share %g", mo->share[i]);
+            sum += mo->share[i];
+        }
+        FUZZ_REQUIRE(fabs(sum - 1.0) < 1e-9, "mode %zu shares sum to %.17g", k, sum);
+    }
+    for (k = 0; k < md->nu * md->ny; k++)
+        for (i = 0; i < md->zeros[k].count; i++)
+            FUZZ_REQUIRE(isfinite(md->zeros[k].re[i]) && isfinite(md->zeros[k].im[i]),
+                         "channel %zu zero %zu not finite", k, i);
+    if (md->dc_gain != NULL)
+        for (k = 0; k < md->ny; k++)
+            for (i = 0; i < md->nu; i++)
+                FUZZ_REQUIRE(isfinite(gsl_matrix_get(md->dc_gain, k, i)) || md->zero_poles > 0,
+                             "dc_gain[%zu][%zu] = %g without a pole at 0", k, i,
+                             gsl_matrix_get(md->dc_gain, k, i));
+    rigmat_modes_summary(md, line, sizeof line);
+    FUZZ_REQUIRE(strlen(line) < sizeof line, "summary not terminated");
+    rigmat_modes_free(md);
+}
+#endif
+
 static void linearize(const rigmat_model *m, const rigmat_options *opt)
 {
     rigmat_lti *s = NULL;
@@ -173,6 +227,9 @@ static void linearize(const rigmat_model *m, const rigmat_options *opt)
         require_finite_v(s->f0, s->nx, "f0");
         if (s->nx > 0)
             sample(s);
+#ifdef HAVE_MODES
+        study(s);
+#endif
     } else {
         FUZZ_REQUIRE(e.message[0] != '\0', "linearize failed without a message");
     }

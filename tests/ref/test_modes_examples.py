@@ -24,6 +24,16 @@ everything else is computed here, independently of the C code:
   (|G(j w)| at w = 1e-4 p at least 30 times |G| at 1e-2 p, p the smallest
   non-zero |eigenvalue|), and a number must match the Richardson limit
   2 G(e) - G(2 e), e = 1e-4 p (numpy.linalg.solve; error O(e^2)), to 1e-6;
+- the PBH flags: `controllable` and `observable` of every mode against an
+  independent computation: LAPACK's balancing (scipy.linalg.matrix_balance,
+  powers of 2, not rigmat's scaling), unit input columns and output rows,
+  and the smallest singular value of [A - sI, B_c] and [A - sI; C]
+  (numpy.linalg.svd) against 1e-10 of the matrix's 2-norm, the threshold
+  modes.h states.  The verdicts must agree; the measures themselves depend
+  on the scaling (on the stiff rigs, whose motor current is 1000 times
+  faster than the mechanics, LAPACK's scaling gives down to 9e-10 where
+  rigmat's gives 3e-8), so the script prints the smallest measure of a
+  "yes" and the largest of a "no" it saw;
 - the balancer: its drive -> enc (wheel motor angle) channel, derived by
   sympy as the roots of det([[A - sI, b], [c, d]]) (a polynomial, in exact
   rationals from the JSON's 17-digit numbers), has one real root in the
@@ -50,7 +60,7 @@ MODE_KEYS = ["s", "z", "frequency", "damping", "time_constant", "stability", "co
 RATE_HZ = 250.0
 
 failures = 0
-worst_seen = {"zeros": 0.0, "dc": 0.0, "eig": 0.0}
+worst_seen = {"zeros": 0.0, "dc": 0.0, "eig": 0.0, "pbh_yes": 1.0, "pbh_no": 0.0}
 
 
 def fail(msg):
@@ -136,6 +146,31 @@ def check_file(path):
             fail("%s: frequency != |s|/2pi" % rel)
         if abs(sv) > 0 and abs(m["damping"] - (-sv.real / abs(sv))) > 1e-12:
             fail("%s: damping != -Re s/|s|" % rel)
+
+    # PBH flags, independently
+    if nx:
+        nc = sum(1 for u in lin["inputs"] if u["role"] == "input")
+        Ab, (sc, _) = scipy.linalg.matrix_balance(A, permute=False, separate=True)
+        Bb = B / sc[:, None]
+        Cb = C * sc[None, :]
+        Bb = Bb / np.maximum(np.linalg.norm(Bb, axis=0), 1e-300)
+        Cb = Cb / np.maximum(np.linalg.norm(Cb, axis=1), 1e-300)[:, None]
+        nAB = np.linalg.norm(np.hstack([Ab, Bb[:, :nc]]), 2)
+        nAC = np.linalg.norm(np.vstack([Ab, Cb]), 2)
+        for m, sv in zip(md["modes"], s):
+            I = np.eye(nx)
+            cm = (np.linalg.svd(np.hstack([Ab - sv * I, Bb[:, :nc]]), compute_uv=False)[-1] / nAB
+                  if nc else 0.0)
+            om = np.linalg.svd(np.vstack([Ab - sv * I, Cb]), compute_uv=False)[-1] / nAC
+            for what, meas, flag in (("controllable", cm, m["controllable"]),
+                                     ("observable", om, m["observable"])):
+                if (meas > 1e-10) != flag:
+                    fail("%s: mode %s %s is %s, scipy measure %.3g"
+                         % (rel, sv, what, flag, meas))
+                if flag:
+                    worst_seen["pbh_yes"] = min(worst_seen["pbh_yes"], meas)
+                else:
+                    worst_seen["pbh_no"] = max(worst_seen["pbh_no"], meas)
 
     # zeros, channel by channel
     nA = float(np.linalg.norm(A, 2)) if nx else 0.0
@@ -256,6 +291,8 @@ def main():
     print("  worst: eigenvalues %.2g, zeros %.2g (fractions of their tolerances); "
           "DC gain vs numpy %.2g relative" % (worst_seen["eig"], worst_seen["zeros"],
                                                worst_seen["dc"]))
+    print("  PBH by scipy's scaling: smallest 'yes' measure %.2g, largest 'no' %.2g (threshold 1e-10)"
+          % (worst_seen["pbh_yes"], worst_seen["pbh_no"]))
     print("modes reference: %d failure(s)" % failures)
     return 1 if failures else 0
 
