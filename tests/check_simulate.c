@@ -109,6 +109,7 @@ START_TEST(linear_free_response_is_the_closed_form)
         worst = fmax(worst, fabs(r.x[2 * k] - want));
         ck_assert_rel(r.y[k], r.x[2 * k], 0); /* the sensor reads the position */
     }
+    fprintf(stderr, "simulate: linear free response vs closed form %.3g m\n", worst);
     /* exact stepping: the error stays at rounding level of the amplitude */
     ck_assert_msg(worst < 1e-13, "linear free response off by %.3g m", worst);
     rigmat_sim_result_release(&r);
@@ -138,6 +139,7 @@ START_TEST(linear_step_between_output_times_and_sine_are_exact)
     run(NULL, l, &o, &c, &r);
     for (k = 0; k < r.nrows; k++)
         worst = fmax(worst, fabs(r.x[2 * k] - msd_step(1.37, 0.1234, r.t_s[k])));
+    fprintf(stderr, "simulate: linear step between output times vs closed form %.3g m\n", worst);
     ck_assert_msg(worst < 1e-14, "step response off by %.3g m", worst);
     ck_assert_rel(r.u[12], 0.0, 0);   /* t = 0.12: before the step */
     ck_assert_rel(r.u[13], 1.37, 0);  /* t = 0.13: after it */
@@ -151,6 +153,7 @@ START_TEST(linear_step_between_output_times_and_sine_are_exact)
     run(NULL, l, &o, &c, &r);
     for (k = 0; k < r.nrows; k++)
         worst = fmax(worst, fabs(r.x[2 * k] - msd_sine(0.83, 2 * M_PI * 1.9, r.t_s[k])));
+    fprintf(stderr, "simulate: linear sine response vs closed form %.3g m\n", worst);
     ck_assert_msg(worst < 1e-14, "sine response off by %.3g m", worst);
     ck_assert_rel(r.u[25], 0.83 * sin(2 * M_PI * 1.9 * 0.25), 1e-14);
     rigmat_sim_result_release(&r);
@@ -201,6 +204,7 @@ START_TEST(nonlinear_agrees_with_exact_stepping_on_a_linear_rig)
         worst = fmax(worst, fabs(rn.x[2 * k] - rl.x[2 * k]));
         ck_assert_rel(rn.u[k], rl.u[k], 1e-15);
     }
+    fprintf(stderr, "simulate: nonlinear vs exact on a linear rig %.3g of %.3g m\n", worst, amp);
     ck_assert_msg(worst < 1e-7 * amp, "nonlinear vs exact: %.3g of %.3g m", worst, amp);
     rigmat_sim_result_release(&rn);
     rigmat_sim_result_release(&rl);
@@ -315,6 +319,7 @@ START_TEST(sampled_matches_linear_at_the_sample_instants)
         }
         ck_assert_rel(rs.y[k], rs.x[4 * k + 1], 0);
     }
+    fprintf(stderr, "simulate: sampled vs linear at the samples %.3g of %.3g\n", worst, amp);
     ck_assert_msg(worst < 1e-11 * amp, "sampled vs linear: %.3g of %.3g", worst, amp);
     rigmat_sim_result_release(&rs);
     rigmat_sim_result_release(&rl);
