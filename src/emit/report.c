@@ -849,7 +849,9 @@ static void write_modes(FILE *f, const struct report *R, const struct sigs *S)
             fprintf(f, " %.0f%%", 100.0 * q->share[s]);
         }
         fputs("</td><td class=\"t\">", f);
-        if (!q->controllable)
+        if (!q->controllable && sig_x(R->m, q->by_share[0])->kind == RIGMAT_SIG_SHAPING)
+            fputs("not controllable (a disturbance's own filter, as expected); ", f);
+        else if (!q->controllable)
             fputs("<span class=\"bad\">not controllable</span>; ", f);
         name_list(f, q->reached_by, md->input_names, md->nu);
         fputs("</td><td class=\"t\">", f);
