@@ -1380,7 +1380,8 @@ static void write_sampled(FILE *f, const struct report *R, const struct sigs *S)
                "Gd w[k] + process noise (covariance Qd), y[k] = Cd x[k] + Dd u[k] + Ed w[k] + "
                "measurement noise (covariance Rd); u the control inputs, w the disturbances. "
                "Qd is the exact covariance of the noise the disturbances add over one period "
-               "(Van Loan's method); Rd the sensors' noise per sample.</p>\n",
+               "(Van Loan's method); Rd the sensors' noise per sample. An entry of Qd or Rd is in "
+               "the row's unit times the column's.</p>\n",
             1.0 / R->period_s, R->period_s);
     matrix_table(f, "Ad", d->Ad, S->x, d->nx, S->x, d->nx);
     matrix_table(f, "Bd", d->Bd, S->x, d->nx, S->u, d->nu);
