@@ -14,6 +14,7 @@ PYTHON  ?= /usr/bin/python3
 DEB_PKGS = build-essential pkg-config libgsl-dev libyaml-dev check libsubunit-dev \
            libopenblas-dev python3-numpy python3-scipy python3-sympy python3-mpmath \
            time valgrind clang libclang-rt-14-dev groff-base
+DEB_PKGS += libxml2-utils chromium imagemagick # check-report: XML checks, rendering, pixel count
 # Headers / files whose presence shows each package is installed.
 DEB_PROBES = /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h /usr/include/check.h \
              /usr/lib/python3/dist-packages/scipy /usr/lib/python3/dist-packages/sympy \
@@ -87,7 +88,7 @@ $(BUILD)/suites.h: $(sort $(wildcard tests/check_*.c))
 	@mkdir -p $(@D)
 	@sed -n 's/^Suite \*\([a-z_0-9]*\)_suite(void)$$/RIGMAT_SUITE(\1)/p' $^ > $@.tmp && mv $@.tmp $@
 
-.PHONY: all deps check check-unit check-cli check-man check-ref check-san check-valgrind demo bench \
+.PHONY: all deps check check-unit check-cli check-man check-report check-ref check-san check-valgrind demo bench \
         install uninstall clean fuzz format check-install FORCE check-hostile check-fuzz check-fuzz-replay \
         check-fuzz-short check-valgrind-cli check-stages \
         check-mutants
@@ -118,10 +119,12 @@ demo: all
 	$(BUILD)/rigmat check $(DEMO) --rate 200Hz
 	$(BUILD)/rigmat linearize $(DEMO)
 	$(BUILD)/rigmat discretize $(DEMO) --rate 200Hz
+	$(BUILD)/rigmat report $(DEMO) --rate 200Hz -o $(BUILD)/demo-report.html
+	@echo "rigmat: the demo's report is $(BUILD)/demo-report.html (open it in a browser)"
 
 # check: unit suites (plain), command-line tests, reference scripts, then the
 # unit suites again under AddressSanitizer + UndefinedBehaviorSanitizer.
-check: all check-stages check-symbols check-unit check-cli check-man check-ref check-install check-san check-hostile check-fuzz
+check: all check-stages check-symbols check-unit check-cli check-man check-report check-ref check-install check-san check-hostile check-fuzz
 	@echo "rigmat: all checks passed"
 # check-stages: no include from a later stage into an earlier one, no
 # include cycle (tests/stages.sh, with a self-test that plants both).
@@ -139,6 +142,11 @@ check-cli: $(BUILD)/rigmat
 # The man page and the bash completion against the program's help.
 check-man: $(BUILD)/rigmat
 	RIGMAT=$(BUILD)/rigmat sh tests/man.sh
+# check-report: the HTML report and its figures as XML, self-contained,
+# escaped, and rendered by headless Chromium (skipped with a message where
+# xmllint or chromium is missing; `make deps` installs them).
+check-report: $(BUILD)/rigmat
+	RIGMAT=$(BUILD)/rigmat sh tests/report.sh
 check-ref: $(BUILD)/rigmat
 	@for t in tests/ref/test_*.py; do [ -e "$$t" ] || continue; \
 	    echo "reference: $$t"; RIGMAT=$(BUILD)/rigmat $(PYTHON) $$t || exit 1; done

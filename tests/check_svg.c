@@ -168,6 +168,14 @@ START_TEST(log_ticks_decades_and_halves)
     ck_assert_uint_le(t.count, 13);
     ck_assert_rel(t.value[1] / t.value[0], 1e3, 1e-12);
     ck_assert_rel(t.value[t.count - 1], t.hi, 1e-12);
+    /* at most 4 ticks over 10 decades: every 4th decade, the range to 1e12 */
+    ck_assert_int_eq(rigmat_svg_ticks_log_n(1e-10, 1.0, 4, &t), RIGMAT_OK);
+    ck_assert_uint_eq(t.count, 4);
+    ck_assert_rel(t.value[1], 1e-6, 1e-12);
+    ck_assert_rel(t.hi, 1e2, 1e-12);
+    /* [2, 30] with room for 6: decades only */
+    ck_assert_int_eq(rigmat_svg_ticks_log_n(2.0, 30.0, 6, &t), RIGMAT_OK);
+    ck_assert_uint_eq(t.count, 3);
 }
 END_TEST
 
@@ -180,7 +188,7 @@ START_TEST(labels_round_and_never_minus_zero)
     rigmat_svg_tick_label(&t, t.value[3], buf, sizeof buf);
     ck_assert_str_eq(buf, "0.06");
     rigmat_svg_tick_label(&t, -1e-18, buf, sizeof buf);
-    ck_assert_str_eq(buf, "0");
+    ck_assert_str_eq(buf, "0.00");
     ck_assert_int_eq(rigmat_svg_ticks_linear(-2.2e-5, 3.1e-5, 5, &t), RIGMAT_OK);
     /* d = nice(nice(5.3e-5, ceil) / 4 = 2.5e-5, round) = 2e-5 */
     ck_assert_rel(t.step, 2e-5, 1e-12);
@@ -190,6 +198,8 @@ START_TEST(labels_round_and_never_minus_zero)
     ck_assert_int_eq(rigmat_svg_ticks_linear(1e6, 2.6e6, 5, &t), RIGMAT_OK);
     rigmat_svg_tick_label(&t, 1.5e6, buf, sizeof buf);
     ck_assert_str_eq(buf, "1.5e+06");
+    rigmat_svg_tick_label(&t, 0.0, buf, sizeof buf);
+    ck_assert_str_eq(buf, "0");
     ck_assert_int_eq(rigmat_svg_ticks_linear(-0.3, 2.7, 5, &t), RIGMAT_OK);
     rigmat_svg_tick_label(&t, -1.0, buf, sizeof buf);
     ck_assert_str_eq(buf, "-1");

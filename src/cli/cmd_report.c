@@ -12,8 +12,9 @@
 #include <string.h>
 
 static const char *const report_usage[] = {
-    "rigmat report FILE --rate FREQ [--offset STATE=VALUE]... [--step-size INPUT=VALUE]... "
-    "[--duration TIME] [--no-validity] [--set PATH=VALUE]... [-o FILE] [--catalog DIR]",
+    "rigmat report FILE --rate FREQ [--offset STATE=VALUE]... [--step-size INPUT=VALUE]...",
+    "              [--duration TIME] [--no-validity] [--set PATH=VALUE]... [-o FILE] "
+    "[--catalog DIR]",
     NULL };
 
 struct report_args {
@@ -107,7 +108,14 @@ rigmat_status cmd_report(int argc, char **argv, struct cli_env *env)
         { 0, "duration", CLI_OPT_STRING, &a.duration, "TIME", "length of every response (2s)" },
         { 0, "no-validity", CLI_OPT_FLAG, &a.no_validity, NULL,
           "leave out the validity sweep (faster)" },
-        CLI_COMMON_ROWS(&c),
+        /* the common rows, but --format has one value here */
+        { 0, "set", CLI_OPT_LIST, &c.sets, "PATH=VALUE",
+          "override a model value, with units (repeatable)" },
+        { 0, "format", CLI_OPT_STRING, &c.format, "FORMAT", "output format: html (the only one)" },
+        { 'o', "output", CLI_OPT_STRING, NULL, "FILE",
+          "write the report to FILE (whole or not at all)" },
+        { 0, "catalog", CLI_OPT_STRING, &c.catalog, "DIR", "look for catalog parts in DIR first" },
+        { 'h', "help", CLI_OPT_FLAG, &c.help, NULL, "show this help" },
         CLI_OPT_END_ROW
     };
     static const char *const formats[] = { "html", NULL };

@@ -34,6 +34,7 @@
 #define STEP_SI          0.1
 #define MAX_ROWS         500.0
 #define MAX_VALIDITY     32
+#define VALIDITY_HORIZON_S 2.0
 
 /* ------------------------------------------------------------- names */
 
@@ -105,6 +106,35 @@ static void cell_num(FILE *f, double v)
         fputs(v > 0 ? "<td>+inf</td>" : "<td>-inf</td>", f);
     else
         fprintf(f, "<td>%.5g</td>", v == 0.0 ? 0.0 : v);
+}
+
+/* Below this, a real or imaginary part is rounding residue of a value at
+ * zero (the modes' own "at 0" band, stab_rtol * omega_b). */
+static double tiny(const rigmat_modes *md)
+{
+    return md->set.stab_rtol * md->omega_b;
+}
+
+static double snap(double v, double eps)
+{
+    return fabs(v) <= eps ? 0.0 : v;
+}
+
+/* A complex number as text: "-4.8", "5.1 + 2.2j", "0.97 - 0.1j". */
+static void complex_text(FILE *f, double re, double im, double eps)
+{
+    re = snap(re, eps);
+    im = snap(im, eps);
+    if (im == 0.0)
+        fprintf(f, "%.5g", re);
+    else
+        fprintf(f, "%.5g %s %.5gj", re, im < 0.0 ? "&#8722;" : "+", fabs(im));
+}
+
+/* A unit after a number: nothing for a pure number ("1"). */
+static const char *unit_after(const rigmat_signal *s)
+{
+    return strcmp(s->unit, "1") == 0 ? "" : s->unit;
 }
 
 static void sig_label(FILE *f, const rigmat_signal *s)
@@ -281,7 +311,9 @@ static rigmat_status choose(struct report *R, rigmat_error *err)
         dur = R->o->duration_s;
     } else {
         dur = grow > 0.0 ? 3.0 / grow : slowest != RIGMAT_NONE ? 5.0 / slow : 1.0;
-        dur = rigmat_svg_nice_number(dur, 0);
+        if (grow <= 0.0 && slowest != RIGMAT_NONE && md->modes[slowest].s_im != 0.0)
+            dur = fmin(dur, 5.0 * 2.0 * M_PI / fabs(md->modes[slowest].s_im)); /* 5 periods */
+        dur = rigmat_svg_nice_number(dur, 1);
         dur = dur < 0.05 ? 0.05 : dur > 20.0 ? 20.0 : dur;
     }
     k = ceil(dur / R->period_s / MAX_ROWS - 1e-9);
@@ -324,6 +356,45 @@ static rigmat_status freq_point(const gsl_matrix *A, const gsl_matrix *B, const 
         }
     }
     return RIGMAT_OK;
+}
+
+rigmat_status rigmat_report_transfer(const gsl_matrix *A, const gsl_matrix *B,
+        const gsl_matrix *C, const gsl_matrix *D, double s_re, double s_im, double *g_re,
+        double *g_im, rigmat_error *err)
+{
+    const size_t nx = A->size1, nu = B->size2, ny = C->size1;
+    gsl_matrix_complex *M;
+    gsl_permutation *p;
+    gsl_vector_complex *b, *x;
+    gsl_complex *g;
+    rigmat_status st = RIGMAT_OK;
+    size_t k;
+
+    if (A->size2 != nx || B->size1 != nx || C->size2 != nx
+            || (D != NULL && (D->size1 != ny || D->size2 != nu)))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "transfer: mismatched matrix sizes");
+    M = gsl_matrix_complex_alloc(nx, nx);
+    p = gsl_permutation_alloc(nx);
+    b = gsl_vector_complex_alloc(nx);
+    x = gsl_vector_complex_alloc(nx);
+    g = malloc(ny * nu * sizeof *g + 1);
+    if (M == NULL || p == NULL || b == NULL || x == NULL || g == NULL) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    } else if (freq_point(A, B, C, D, gsl_complex_rect(s_re, s_im), M, p, b, x, g) != RIGMAT_OK) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "transfer: sI - A is singular at s = %g%+gj",
+                s_re, s_im);
+    } else {
+        for (k = 0; k < ny * nu; k++) {
+            g_re[k] = GSL_REAL(g[k]);
+            g_im[k] = GSL_IMAG(g[k]);
+        }
+    }
+    gsl_matrix_complex_free(M);
+    gsl_permutation_free(p);
+    gsl_vector_complex_free(b);
+    gsl_vector_complex_free(x);
+    free(g);
+    return st;
 }
 
 /* Unwrap a phase in degrees in place: jumps over 180 degrees are wraps. */
@@ -499,7 +570,7 @@ static const char style_sheet[] =
         "max-width:1000px;margin:1.2em auto;padding:0 1em;line-height:1.45}\n"
         "h1{font-size:1.55em;border-bottom:3px solid #0072B2;padding-bottom:.2em}\n"
         "h2{font-size:1.2em;margin-top:2em;border-bottom:1px solid #aab;padding-bottom:.15em}\n"
-        "h3{font-size:1.02em;margin:1.3em 0 .3em}\n"
+        "h3{font-size:1.02em;margin:1.3em 0 .3em;break-after:avoid}\n"
         "table{border-collapse:collapse;margin:.4em 0 1em}\n"
         "caption{text-align:left;font-weight:bold;padding:.2em 0}\n"
         "td,th{border:1px solid #cdd;padding:2px 7px;text-align:right;white-space:nowrap}\n"
@@ -749,17 +820,20 @@ static void write_modes(FILE *f, const struct report *R, const struct sigs *S)
     fprintf(f, "<p>Eigenvalues of A (s) and of the sampled model (z = e<sup>sT</sup>, T = %.6g "
                "s), slowest first. Shares come from the eigenvector in scaled units (each "
                "state divided by its characteristic size from a balancing of A), so a radian "
-               "and a metre weigh alike; shares below %.2g are left out. Controllable: "
+               "and a metre weigh alike; shares below %.3g %% are left out. Controllable: "
                "reached by the control inputs; observable: seen by the outputs (PBH test).</p>\n",
-            md->period_s, md->set.share_min);
+            md->period_s, 100.0 * md->set.share_min);
     fputs("<div class=\"wide\"><table><tr><th>s [1/s]</th><th>z</th><th>frequency [Hz]</th>"
           "<th>damping</th><th>time constant [s]</th><th>stability</th><th>lives in</th>"
           "<th>reached by</th><th>seen by</th></tr>\n",
             f);
     for (i = 0; i < md->nx; i++) {
         const rigmat_mode *q = &md->modes[i];
-        fprintf(f, "<tr><td>%.5g%+.5gj</td><td>%.5g%+.5gj</td>", q->s_re, q->s_im, q->z_re,
-                q->z_im);
+        fputs("<tr><td>", f);
+        complex_text(f, q->s_re, q->s_im, tiny(md));
+        fputs("</td><td>", f);
+        complex_text(f, q->z_re, q->z_im, 1e-12);
+        fputs("</td>", f);
         cell_num(f, q->frequency_hz);
         cell_num(f, q->damping);
         cell_num(f, q->time_constant_s);
@@ -775,7 +849,9 @@ static void write_modes(FILE *f, const struct report *R, const struct sigs *S)
             fprintf(f, " %.0f%%", 100.0 * q->share[s]);
         }
         fputs("</td><td class=\"t\">", f);
-        if (!q->controllable)
+        if (!q->controllable && sig_x(R->m, q->by_share[0])->kind == RIGMAT_SIG_SHAPING)
+            fputs("not controllable (a disturbance's own filter, as expected); ", f);
+        else if (!q->controllable)
             fputs("<span class=\"bad\">not controllable</span>; ", f);
         name_list(f, q->reached_by, md->input_names, md->nu);
         fputs("</td><td class=\"t\">", f);
@@ -808,9 +884,10 @@ static void write_modes(FILE *f, const struct report *R, const struct sigs *S)
             } else {
                 for (k = 0; k < z->count; k++) {
                     const int rhp = z->re[k] > md->set.stab_rtol * md->omega_b;
-                    fprintf(f, "%s%s%.5g%+.5gj%s", k > 0 ? ", " : "",
-                            rhp ? "<span class=\"bad\">" : "", z->re[k], z->im[k],
-                            rhp ? "</span>" : "");
+                    fputs(k > 0 ? ", " : "", f);
+                    fputs(rhp ? "<span class=\"bad\">" : "", f);
+                    complex_text(f, z->re[k], z->im[k], tiny(md));
+                    fputs(rhp ? "</span>" : "", f);
                 }
                 if (z->rhp > 0)
                     fprintf(f, " <span class=\"bad\">(%zu in the right half-plane: the "
@@ -836,7 +913,7 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
     const size_t nx = md->nx;
     double *buf = malloc((6 * nx + 4 * md->ny * md->nu * (nx + 1) + 8) * sizeof *buf);
     double *sre, *sim, *zre, *zim, *qre, *qim, wmin = HUGE_VAL, wmax = 0.0, zoom = 0.0;
-    size_t i, j, k, nz = 0, outside = 0;
+    size_t i, j, k, nz = 0, outside = 0, far_zeros = 0;
     rigmat_svg_series ser[4];
     rigmat_svg_plot p[3];
     rigmat_svg_figure fig;
@@ -848,7 +925,7 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
     qre = zim + nx, qim = qre + md->ny * md->nu * (nx + 1);
     for (i = 0; i < nx; i++) {
         const double w = hypot(md->modes[i].s_re, md->modes[i].s_im);
-        sre[i] = md->modes[i].s_re, sim[i] = md->modes[i].s_im;
+        sre[i] = snap(md->modes[i].s_re, tiny(md)), sim[i] = snap(md->modes[i].s_im, tiny(md));
         zre[i] = md->modes[i].z_re, zim[i] = md->modes[i].z_im;
         if (w > 1e-6 * md->omega_b && w < wmin)
             wmin = w;
@@ -859,16 +936,23 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
         for (j = 0; j < md->nu_control; j++) {
             const rigmat_channel_zeros *z = &md->zeros[i * md->nu + j];
             for (k = 0; k < z->count; k++)
-                qre[nz] = z->re[k], qim[nz++] = z->im[k];
+                qre[nz] = snap(z->re[k], tiny(md)), qim[nz++] = snap(z->im[k], tiny(md));
         }
     if (wmax > 50.0 * wmin && isfinite(wmin)) {
-        /* a view that shows the slow modes: every |s| up to 20 times the slowest */
+        /* a view of the slow modes: the poles up to 5 times the slowest
+         * non-zero one, and the zeros among them (a right-half-plane zero
+         * next to an unstable pole is the point of a balancer) */
         for (i = 0; i < nx; i++) {
             const double w = hypot(sre[i], sim[i]);
-            if (w <= 20.0 * wmin && w > zoom)
+            if (w <= 5.0 * wmin && w > zoom)
                 zoom = w;
         }
-        zoom *= 1.4;
+        for (i = 0; i < nz; i++) {
+            const double w = hypot(qre[i], qim[i]);
+            if (w <= 5.0 * wmin && w > zoom)
+                zoom = w;
+        }
+        zoom *= 1.3;
         for (i = 0; i < nx; i++)
             outside += fabs(sre[i]) > zoom || fabs(sim[i]) > zoom;
     }
@@ -888,6 +972,24 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
         p[k].y.label = "imaginary part", p[k].y.unit = "rad/s";
         p[k].frame = RIGMAT_SVG_FRAME_S;
         p[k].series = ser, p[k].nseries = nz > 0 ? 2 : 1;
+    }
+    /* the whole view is framed by the poles (with the origin): a zero far
+     * beyond them would squeeze them into a point; such zeros are counted */
+    {
+        double xlo = 0.0, xhi = 0.0, ym = 0.0, span;
+        for (i = 0; i < nx; i++) {
+            xlo = fmin(xlo, sre[i]);
+            xhi = fmax(xhi, sre[i]);
+            ym = fmax(ym, fabs(sim[i]));
+        }
+        span = xhi - xlo > 0.0 ? xhi - xlo : fmax(ym, 1.0);
+        p[0].x.fixed = p[0].y.fixed = 1;
+        p[0].x.min = xlo - 0.08 * span;
+        p[0].x.max = xhi + 0.08 * span + (xhi <= 0.0 ? 0.12 * span : 0.0);
+        ym = fmax(1.1 * ym, 0.25 * span);
+        p[0].y.min = -ym, p[0].y.max = ym;
+        for (i = 0; i < nz; i++)
+            far_zeros += qre[i] < p[0].x.min || qre[i] > p[0].x.max || fabs(qim[i]) > ym;
     }
     if (zoom > 0.0) {
         p[1].x.fixed = p[1].y.fixed = 1;
@@ -910,10 +1012,13 @@ static rigmat_status write_poles(FILE *f, const struct report *R, rigmat_error *
           "unstable. In the z-plane, the poles of the sampled model: inside the unit circle "
           "is stable.",
             f);
+    if (far_zeros > 0)
+        fprintf(f, " %zu %s beyond the poles' range and %s not drawn in the first view (see "
+                   "the table of zeros).",
+                far_zeros, far_zeros == 1 ? "zero lies" : "zeros lie", far_zeros == 1 ? "is" : "are");
     if (zoom > 0.0)
-        fprintf(f, " The second view shows |Re s|, |Im s| up to %.3g; %zu poles lie outside "
-                   "it.",
-                zoom, outside);
+        fprintf(f, " The second view shows |Re s|, |Im s| up to %.3g; %zu %s outside it.", zoom,
+                outside, outside == 1 ? "pole lies" : "poles lie");
     fputs("</figcaption>\n</figure>\n", f);
     free(buf);
     return st;
@@ -968,8 +1073,9 @@ static rigmat_status write_case(FILE *f, const struct report *R, size_t c, doubl
         np++;
     }
     if (q->is_input)
-        snprintf(caption, sizeof caption, "Step of %s by %.4g %s at t = 0", sig_u(m, q->index)->name,
-                q->size, sig_u(m, q->index)->unit);
+        snprintf(caption, sizeof caption, "Step of %s by %.4g%s%s at t = 0",
+                sig_u(m, q->index)->name, q->size, *unit_after(sig_u(m, q->index)) ? " " : "",
+                unit_after(sig_u(m, q->index)));
     else
         snprintf(caption, sizeof caption, "Initial offset of %s by %.4g %s",
                 sig_x(m, q->index)->name, q->size, sig_x(m, q->index)->unit);
@@ -1022,8 +1128,9 @@ static rigmat_status write_responses(FILE *f, const struct report *R, rigmat_err
             R->duration_s,
             R->o->duration_s > 0.0 ? "given"
                                    : "3 time constants of the fastest-growing unstable mode, "
-                                     "else 5 of the slowest stable one, rounded up to 1, 2 or "
-                                     "5 times a power of ten, within 0.05 s to 20 s");
+                                     "else 5 of the slowest stable one (at most 5 of its "
+                                     "periods), rounded to 1, 2 or 5 times a power of ten, "
+                                     "within 0.05 s to 20 s");
     fprintf(f, "<tr><th>output interval</th><td>%.4g s</td><td class=\"t\">the sample "
                "period, or a whole multiple of it for at most %.0f rows</td><td class=\"t\">"
                "</td></tr>\n",
@@ -1037,7 +1144,7 @@ static rigmat_status write_responses(FILE *f, const struct report *R, rigmat_err
         fprintf(f, "<tr><th>%s of ", q->is_input ? "step" : "offset");
         esc(f, s->name);
         fprintf(f, "</th><td>%.4g ", q->size);
-        esc(f, s->unit);
+        esc(f, unit_after(s));
         fprintf(f, "</td><td class=\"t\">%s</td><td class=\"t\"><code>%s</code></td></tr>\n",
                 q->is_input ? (R->o->nsteps > 0 ? "given or 0.1 of the SI unit"
                                                 : "0.1 of the input's SI unit")
@@ -1089,8 +1196,8 @@ static rigmat_status write_frequency(FILE *f, const struct report *R, rigmat_err
     section(f, "frequency", "8. Frequency responses");
     fprintf(f, "<p>Magnitude and phase of G(j&#969;) = C (j&#969;I &#8722; A)<sup>-1</sup> B + "
                "D for every input/output pair, on %zu logarithmic frequencies from a tenth of "
-               "the slowest mode to ten times the fastest; the sampled model (zero-order hold) "
-               "is drawn dashed up to the Nyquist frequency, %.4g Hz. The phase is unwrapped "
+               "the slowest mode to ten times the fastest. For the control inputs the sampled "
+               "model (zero-order hold) is drawn dashed up to the Nyquist frequency, %.4g Hz. The phase is unwrapped "
                "along the frequency axis.</p>\n",
             n, 0.5 / R->period_s);
     for (j = 0; j < l->nu; j++) {
@@ -1273,7 +1380,8 @@ static void write_sampled(FILE *f, const struct report *R, const struct sigs *S)
                "Gd w[k] + process noise (covariance Qd), y[k] = Cd x[k] + Dd u[k] + Ed w[k] + "
                "measurement noise (covariance Rd); u the control inputs, w the disturbances. "
                "Qd is the exact covariance of the noise the disturbances add over one period "
-               "(Van Loan's method); Rd the sensors' noise per sample.</p>\n",
+               "(Van Loan's method); Rd the sensors' noise per sample. An entry of Qd or Rd is in "
+               "the row's unit times the column's.</p>\n",
             1.0 / R->period_s, R->period_s);
     matrix_table(f, "Ad", d->Ad, S->x, d->nx, S->x, d->nx);
     matrix_table(f, "Bd", d->Bd, S->x, d->nx, S->u, d->nu);
@@ -1403,7 +1511,9 @@ rigmat_status rigmat_report_write(FILE *f, const rigmat_model *m, const rigmat_l
     if (st != RIGMAT_OK)
         goto done;
     R.vo = rigmat_validity_opts_default();
-    R.vo.horizon_s = R.duration_s;
+    /* the responses' duration, at most VALIDITY_HORIZON_S: each size tried
+     * runs the nonlinear model over it, twice per size and sign */
+    R.vo.horizon_s = fmin(R.duration_s, VALIDITY_HORIZON_S);
     if (o->validity) {
         rigmat_error e;
         memset(&e, 0, sizeof e);

@@ -25,11 +25,14 @@
  *             (0.1 for a duty, 0.1 V, 0.1 A, 0.1 N, 0.1 N*m ...).
  *   duration  three time constants of the fastest-growing unstable mode
  *             (growth of e^3 = 20 times), else five of the slowest stable
- *             mode, rounded up to 1, 2 or 5 times a power of ten and kept
+ *             mode but at most five of its periods when it oscillates,
+ *             rounded to the nearest 1, 2 or 5 times a power of ten and kept
  *             within [0.05 s, 20 s]; 1 s without such a mode.
  *   rows      every sample period T, or a whole multiple of it so that a
  *             run has at most 500 rows.
- * The chosen values are printed in the report.
+ * The chosen values are printed in the report.  The validity sweep uses the
+ * same duration as its horizon, at most 2 s (it runs the nonlinear model
+ * some hundred times).
  *
  * Everything taken from the model (names, units) is escaped for HTML.
  * The page has no script, no external reference (no fonts, no images):
@@ -78,5 +81,15 @@ rigmat_report_opts rigmat_report_opts_default(void);
  * write it to a memory stream and keep it only on RIGMAT_OK. */
 rigmat_status rigmat_report_write(FILE *f, const rigmat_model *m, const rigmat_lti *lin,
         const rigmat_report_opts *o, rigmat_error *err);
+
+/* G(s) = C (sI - A)^-1 B + D at one complex point s = s_re + j s_im (for a
+ * sampled model pass Ad, Bd, Cd, Dd and z = e^{jwT}), by GSL's complex LU,
+ * into g_re, g_im (ny x nu each, row-major: g[i * nu + j] is input j to
+ * output i).  D may be NULL (zero).  RIGMAT_ENUMERIC when sI - A is
+ * singular (s is a pole), RIGMAT_EUSAGE for mismatched sizes,
+ * RIGMAT_ENOMEM. */
+rigmat_status rigmat_report_transfer(const gsl_matrix *A, const gsl_matrix *B,
+        const gsl_matrix *C, const gsl_matrix *D, double s_re, double s_im, double *g_re,
+        double *g_im, rigmat_error *err);
 
 #endif

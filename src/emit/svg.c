@@ -29,11 +29,11 @@ static const char *const dashes[] = { "none", "7 3",   "2 2.5",       "9 3 2 3",
 #define FONT_PX       11.0
 #define CHAR_W_PX     6.2
 #define MARGIN_LEFT   62.0
-#define MARGIN_RIGHT  14.0
+#define MARGIN_RIGHT  20.0
 #define MARGIN_TOP    22.0
 #define MARGIN_BOTTOM 40.0
 #define LEGEND_ROW_PX 15.0
-#define LEGEND_SAMPLE 26.0
+#define LEGEND_SAMPLE 22.0
 #define CAPTION_PX    22.0
 #define MAX_SERIES    64
 
@@ -105,11 +105,12 @@ rigmat_status rigmat_svg_ticks_linear(double min, double max, size_t target, rig
     return RIGMAT_OK;
 }
 
-rigmat_status rigmat_svg_ticks_log(double min, double max, rigmat_svg_ticks *t)
+rigmat_status rigmat_svg_ticks_log_n(double min, double max, size_t max_ticks,
+        rigmat_svg_ticks *t)
 {
     static const double sub[] = { 1.0, 2.0, 5.0 };
     double dlo, dhi, v;
-    long k, stride, ndec;
+    long k, stride, ndec, cap;
     size_t j, n = 0;
 
     memset(t, 0, sizeof *t);
@@ -120,6 +121,7 @@ rigmat_status rigmat_svg_ticks_log(double min, double max, rigmat_svg_ticks *t)
         min = max;
         max = v;
     }
+    cap = max_ticks < 2 ? 2 : max_ticks > 13 ? 13 : (long)max_ticks;
     dlo = floor(log10(min) + 1e-9);
     dhi = ceil(log10(max) - 1e-9);
     if (dhi <= dlo)
@@ -127,23 +129,29 @@ rigmat_status rigmat_svg_ticks_log(double min, double max, rigmat_svg_ticks *t)
     if (dlo < -300.0 || dhi > 300.0)
         return RIGMAT_EUSAGE;
     ndec = (long)(dhi - dlo);
-    stride = (ndec + 11) / 12;
-    for (k = 0; k <= ndec; k += stride) {
+    stride = (ndec + cap - 2) / (cap - 1);
+    /* decades dlo, dlo + stride, ... up to the first one at or above dhi */
+    for (k = 0;; k += stride) {
         const double decade = pow(10.0, dlo + (double)k);
         for (j = 0; j < 3; j++) {
-            if (j > 0 && (ndec > 3 || k == ndec))
+            if (j > 0 && (ndec > 3 || 3 * ndec + 1 > cap || k >= ndec))
                 break;
             t->value[n++] = sub[j] * decade;
         }
+        if (k >= ndec)
+            break;
     }
     t->count = n;
     t->lo = pow(10.0, dlo);
-    t->hi = pow(10.0, dhi);
-    if (t->value[n - 1] < t->hi * (1.0 - 1e-12)) /* stride left the top decade out */
-        t->hi = pow(10.0, dlo + (double)((ndec / stride) * stride + stride));
+    t->hi = t->value[n - 1];
     t->step = 0.0;
     t->decimals = 0;
     return RIGMAT_OK;
+}
+
+rigmat_status rigmat_svg_ticks_log(double min, double max, rigmat_svg_ticks *t)
+{
+    return rigmat_svg_ticks_log_n(min, max, 13, t);
 }
 
 void rigmat_svg_tick_label(const rigmat_svg_ticks *t, double v, char *buf, size_t cap)
@@ -154,7 +162,11 @@ void rigmat_svg_tick_label(const rigmat_svg_ticks *t, double v, char *buf, size_
     if (cap == 0)
         return;
     if (v == 0.0 || (t->step > 0.0 && a < 1e-9 * t->step)) {
-        snprintf(buf, cap, "0");
+        /* zero with the axis' decimals, and never "-0" */
+        if (t->step >= 1e-3 && t->step < 1e6)
+            snprintf(buf, cap, "%.*f", t->decimals, 0.0);
+        else
+            snprintf(buf, cap, "0");
         return;
     }
     if (t->step > 0.0 && (a < 1e-3 || a >= 1e6)) {
@@ -323,7 +335,8 @@ static rigmat_status check_figure(const rigmat_svg_figure *fig, rigmat_error *er
 }
 
 /* Ticks and range of one axis: fixed, from data, or a default. */
-static void axis_setup(const rigmat_svg_plot *p, int on_x, size_t target, struct axis_map *m)
+static void axis_setup(const rigmat_svg_plot *p, int on_x, size_t target, size_t log_max,
+        struct axis_map *m)
 {
     const rigmat_svg_axis *a = on_x ? &p->x : &p->y;
     double lo = 0.0, hi = 1.0;
@@ -350,7 +363,7 @@ static void axis_setup(const rigmat_svg_plot *p, int on_x, size_t target, struct
         }
     }
     if (m->log)
-        rigmat_svg_ticks_log(lo, hi, &m->ticks);
+        rigmat_svg_ticks_log_n(lo, hi, log_max, &m->ticks);
     else
         rigmat_svg_ticks_linear(lo, hi, target, &m->ticks);
     if (a->fixed && !m->log) {
@@ -386,7 +399,7 @@ static void tick_text(FILE *f, const struct axis_map *m, double v)
 
     if (m->log) {
         e = floor(log10(v) + 0.5);
-        if (fabs(v / pow(10.0, e) - 1.0) < 1e-9 && (e < -3.0 || e > 4.0)) {
+        if (fabs(v / pow(10.0, e) - 1.0) < 1e-9 && (e < -2.0 || e > 3.0)) {
             fprintf(f, "10<tspan dy=\"-4\" font-size=\"8\">%.0f</tspan>", e);
             return;
         }
@@ -417,7 +430,7 @@ static void marker(FILE *f, rigmat_svg_marker mk, double x, double y, const char
     case RIGMAT_SVG_MARK_CIRCLE:
         fputs("<circle cx=\"", f);
         num(f, x), fputs("\" cy=\"", f), num(f, y);
-        fprintf(f, "\" r=\"%.1f\" stroke=\"%s\" stroke-width=\"1.5\" fill=\"#fff\"/>", r, colour);
+        fprintf(f, "\" r=\"%.1f\" stroke=\"%s\" stroke-width=\"1.5\" fill=\"none\"/>", r, colour);
         break;
     case RIGMAT_SVG_MARK_SQUARE:
         fputs("<rect x=\"", f);
@@ -537,7 +550,7 @@ static size_t legend_layout(const rigmat_svg_plot *p, double x, double y, double
 
         if (name == NULL || name[0] == '\0')
             continue;
-        ew = LEGEND_SAMPLE + 6.0 + CHAR_W_PX * (double)strlen(name) + 14.0;
+        ew = LEGEND_SAMPLE + 5.0 + CHAR_W_PX * (double)strlen(name) + 10.0;
         if (rows == 0 || (cx + ew > x + w && cx > x)) {
             rows++;
             cx = x;
@@ -608,8 +621,20 @@ static void panel(FILE *f, const rigmat_svg_plot *p, double ox, double oy, doubl
     if (box[3] < box[2] + 40.0)
         box[3] = box[2] + 40.0;
 
-    axis_setup(p, 1, (size_t)fmax(3.0, (box[1] - box[0]) / 75.0), &mx);
-    axis_setup(p, 0, (size_t)fmax(3.0, (box[3] - box[2]) / 45.0), &my);
+    axis_setup(p, 1, (size_t)fmax(3.0, (box[1] - box[0]) / 75.0),
+            (size_t)fmax(2.0, (box[1] - box[0]) / 40.0), &mx);
+    axis_setup(p, 0, (size_t)fmax(3.0, (box[3] - box[2]) / 45.0),
+            (size_t)fmax(2.0, (box[3] - box[2]) / 20.0), &my);
+    if (p->frame == RIGMAT_SVG_FRAME_S && !p->y.fixed && !mx.log && !my.log) {
+        /* symmetric about the real axis, and not a sliver: at least
+         * +-15 % of the real span, so real poles do not sit on a line of
+         * rounding noise */
+        half = fmax(fmax(-my.lo, my.hi), 0.15 * (mx.hi - mx.lo));
+        rigmat_svg_ticks_linear(-half, half, (size_t)fmax(3.0, (box[3] - box[2]) / 45.0),
+                &my.ticks);
+        half = fmax(-my.ticks.lo, my.ticks.hi);
+        my.lo = -half, my.hi = half;
+    }
     if (p->frame == RIGMAT_SVG_FRAME_Z && !mx.log && !my.log) {
         /* equal scales: widen the axis that has more room per unit */
         scale = fmax((mx.hi - mx.lo) / (box[1] - box[0]), (my.hi - my.lo) / (box[3] - box[2]));

@@ -62,11 +62,15 @@ rigmat_status rigmat_svg_ticks_linear(double min, double max, size_t target, rig
  * 12 decades) and at 2 and 5 times each decade when it spans 3 decades or
  * fewer.  RIGMAT_EUSAGE for a bad range. */
 rigmat_status rigmat_svg_ticks_log(double min, double max, rigmat_svg_ticks *t);
+/* The same with at most max_ticks ticks (2..13): every k-th decade, and 2
+ * and 5 only when 3 per decade fit.  rigmat_svg_ticks_log is max_ticks 13. */
+rigmat_status rigmat_svg_ticks_log_n(double min, double max, size_t max_ticks,
+        rigmat_svg_ticks *t);
 
 /* The label of tick value v on a linear axis with t->decimals digits
  * ("0.25", "-1.5", "1500"), or in scientific form ("1e-06", "2.5e+08")
- * when |v| is below 1e-3 or at least 1e6 (a tick at 0 is always "0").
- * Never "-0".  Writes at most cap bytes including the NUL. */
+ * when |v| is below 1e-3 or at least 1e6.  Zero takes the same decimals
+ * ("0.0" beside "0.5"; "0" on an axis in scientific form).  Never "-0".  Writes at most cap bytes including the NUL. */
 void rigmat_svg_tick_label(const rigmat_svg_ticks *t, double v, char *buf, size_t cap);
 
 /* ------------------------------------------------------------------ plots */
