@@ -208,7 +208,8 @@ $(BUILD)/shim/writefail.so: tests/shim/writefail.c | deps-build
 # OpenBLAS runs its own thread pool whose hand-offs ThreadSanitizer cannot
 # see (the library is not instrumented), which would report races that are
 # OpenBLAS's own business; with one thread it uses none.
-$(BUILD)/tsan/threads: $(BUILD)/tsan/tests/threads.o $(BUILD)/tsan/librigmat.a
+$(BUILD)/tsan/threads: $(BUILD)/tsan/tests/threads.o $(BUILD)/tsan/tests/pipeline.o \
+        $(BUILD)/tsan/librigmat.a
 	$(CC) $(TSAN_FLAGS) $(LDFLAGS) -o $@ $^ $(LIBS) -lpthread
 check-tsan: $(BUILD)/tsan/threads
 	OPENBLAS_NUM_THREADS=1 TSAN_OPTIONS=halt_on_error=1:exitcode=66 \
@@ -221,10 +222,12 @@ check-tsan: $(BUILD)/tsan/threads
 OOM_WRAP = malloc calloc realloc realpath gsl_matrix_alloc gsl_matrix_calloc \
            gsl_matrix_complex_alloc gsl_vector_alloc gsl_vector_calloc gsl_vector_complex_alloc \
            gsl_permutation_alloc gsl_eigen_nonsymmv_alloc yaml_parser_initialize yaml_parser_parse
-$(BUILD)/san/oom: $(BUILD)/san/tests/oom.o $(BUILD)/san/librigmat.a
+$(BUILD)/san/oom: $(BUILD)/san/tests/oom.o $(BUILD)/san/tests/pipeline.o $(BUILD)/san/librigmat.a
 	$(CC) $(SAN_FLAGS) $(LDFLAGS) $(OOM_WRAP:%=-Wl,--wrap=%) -o $@ $^ $(LIBS)
-$(BUILD)/tsan/tests/threads.o $(BUILD)/san/tests/oom.o: | deps-test
--include $(BUILD)/tsan/tests/threads.d $(BUILD)/san/tests/oom.d
+$(BUILD)/tsan/tests/threads.o $(BUILD)/tsan/tests/pipeline.o $(BUILD)/san/tests/oom.o \
+        $(BUILD)/san/tests/pipeline.o: | deps-test
+-include $(BUILD)/tsan/tests/threads.d $(BUILD)/tsan/tests/pipeline.d $(BUILD)/san/tests/oom.d \
+        $(BUILD)/san/tests/pipeline.d
 check-oom: $(BUILD)/san/oom
 	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 $(BUILD)/san/oom catalog examples/*.yaml
 
