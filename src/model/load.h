@@ -98,7 +98,8 @@ rigmat_status rigmat_load_part_path(const char *name, const char *model_path,
         const rigmat_options *opt, char **path, rigmat_error *err);
 
 /* The folders searched for parts, in order (at most 6; each malloc'd,
- * caller frees each and sets *n).  Folders that do not exist are left out. */
+ * caller frees each and sets *n).  Folders that do not exist are left out.
+ * RIGMAT_ENOMEM leaves nothing to free (*n = 0). */
 rigmat_status rigmat_load_part_folders(const char *model_path, const rigmat_options *opt,
         char **folders, size_t max, size_t *n);
 
