@@ -325,13 +325,14 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
 {
     rigmat_system *s = NULL;
     rigmat_lti *lti = NULL;
-    const rigmat_layout *L = &m->layout, *CL;
+    const rigmat_layout *L, *CL;
     rigmat_status st;
     double residual = 0.0;
     size_t k;
 
     if (RIGMAT_NEVER(m == NULL || opt == NULL || out == NULL))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "linearize: missing argument");
+    L = &m->layout;
     *out = NULL;
     st = rigmat_system_alloc(m, &s, err);
     if (st != RIGMAT_OK)
