@@ -215,25 +215,34 @@ check-tsan: $(BUILD)/tsan/threads
 	OPENBLAS_NUM_THREADS=1 TSAN_OPTIONS=halt_on_error=1:exitcode=66 \
 	    $(BUILD)/tsan/threads catalog examples/*.yaml
 
-# check-oom: a full load + linearize + discretize + noise run in which the
-# n-th allocation fails, for every n until the run succeeds (tests/oom.c).
-# The allocation entry points are wrapped at link time (-Wl,--wrap) in this
-# test program only; LeakSanitizer checks after every run.
+# check-oom: a full load + trim + linearize + discretize + noise run in
+# which the n-th allocation fails, for every n until the run succeeds:
+# through the library (tests/oom.c) and through the program
+# (tests/oom-cli.sh: `discretize --format json -o FILE`, exit 4 each time).
+# The allocation entry points are wrapped at link time (-Wl,--wrap, see
+# tests/oomwrap.c) in these two test executables only; LeakSanitizer checks
+# every run.
 OOM_WRAP = malloc calloc realloc gsl_matrix_alloc gsl_matrix_calloc \
            gsl_matrix_complex_alloc gsl_vector_alloc gsl_vector_calloc gsl_vector_complex_alloc \
            gsl_permutation_alloc gsl_eigen_nonsymmv_alloc yaml_parser_initialize yaml_parser_parse
-$(BUILD)/san/oom: $(BUILD)/san/tests/oom.o $(BUILD)/san/tests/pipeline.o $(BUILD)/san/librigmat.a
+$(BUILD)/san/oom: $(BUILD)/san/tests/oom.o $(BUILD)/san/tests/oomwrap.o $(BUILD)/san/tests/pipeline.o \
+        $(BUILD)/san/librigmat.a
+	$(CC) $(SAN_FLAGS) $(LDFLAGS) $(OOM_WRAP:%=-Wl,--wrap=%) -o $@ $^ $(LIBS)
+$(BUILD)/san/rigmat-oom: $(san_OBJ_CLI) $(BUILD)/san/tests/oomwrap.o $(BUILD)/san/librigmat.a
 	$(CC) $(SAN_FLAGS) $(LDFLAGS) $(OOM_WRAP:%=-Wl,--wrap=%) -o $@ $^ $(LIBS)
 $(BUILD)/tsan/tests/threads.o $(BUILD)/tsan/tests/pipeline.o $(BUILD)/san/tests/oom.o \
-        $(BUILD)/san/tests/pipeline.o: | deps-test
+        $(BUILD)/san/tests/oomwrap.o $(BUILD)/san/tests/pipeline.o: | deps-test
 -include $(BUILD)/tsan/tests/threads.d $(BUILD)/tsan/tests/pipeline.d $(BUILD)/san/tests/oom.d \
-        $(BUILD)/san/tests/pipeline.d
+        $(BUILD)/san/tests/oomwrap.d $(BUILD)/san/tests/pipeline.d
 # Three examples by default (catalog parts and sensors; a datasheet motor
 # that warns; disturbances with noise), about 2000 runs;
 # OOM_MODELS='examples/*.yaml' runs them all.
 OOM_MODELS ?= examples/balancer.yaml examples/ball-beam.yaml examples/quarter-car.yaml
-check-oom: $(BUILD)/san/oom
+# The program run fails every OOM_CLI_STEP-th allocation (tests/oom-cli.sh).
+OOM_CLI_STEP ?= 7
+check-oom: $(BUILD)/san/oom $(BUILD)/san/rigmat-oom
 	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 $(BUILD)/san/oom catalog $(OOM_MODELS)
+	RIGMAT=$(BUILD)/san/rigmat-oom OOM_STEP=$(OOM_CLI_STEP) sh tests/oom-cli.sh
 
 # ------------------------------------------------------------ hostile input and fuzzing
 # check-hostile: every file of tests/hostile/ (and big ones generated into

@@ -12,125 +12,20 @@
  * leak or a crash, so each is reported once, by the run that caused it,
  * and cannot stop the others.
  *
- * The failure is injected by link-time wrapping (-Wl,--wrap=SYMBOL, see
- * OOM_WRAP in the Makefile) of malloc, calloc, realloc, GSL's allocation
- * entry points and libyaml's parser: every call from librigmat to one of
- * them goes through __wrap_SYMBOL below.  Only this test program is linked
- * that way; the library and the program are untouched.  Allocations inside
- * GSL, libyaml and the C library themselves (fopen's buffer, realpath's
- * scratch) are not counted; libyaml's are stood in for by failing the
- * parser call that would have made them, as libyaml reports a memory error.
+ * The failure is injected by link-time wrapping of the allocation entry
+ * points (tests/oomwrap.c).
  */
+#include "oomwrap.h"
 #include "pipeline.h"
 
-#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <gsl/gsl_eigen.h>
 #include <gsl/gsl_errno.h>
-#include <gsl/gsl_matrix.h>
-#include <gsl/gsl_permutation.h>
-#include <gsl/gsl_vector.h>
 #include <sanitizer/lsan_interface.h>
 #include <sys/types.h>
 #include <sys/wait.h>
 #include <unistd.h>
-#include <yaml.h>
-
-static unsigned long calls;   /* allocations counted in this run */
-static unsigned long fail_at; /* the one that fails (1-based); 0 = none */
-
-/* Count one allocation; 1 when it is the one to fail. */
-static int fail_now(void)
-{
-    return ++calls == fail_at;
-}
-
-#define WRAP_DECL(ret, name, params) ret __real_##name params; ret __wrap_##name params;
-
-WRAP_DECL(void *, malloc, (size_t n))
-WRAP_DECL(void *, calloc, (size_t n, size_t size))
-WRAP_DECL(void *, realloc, (void *p, size_t n))
-WRAP_DECL(gsl_matrix *, gsl_matrix_alloc, (size_t n1, size_t n2))
-WRAP_DECL(gsl_matrix *, gsl_matrix_calloc, (size_t n1, size_t n2))
-WRAP_DECL(gsl_matrix_complex *, gsl_matrix_complex_alloc, (size_t n1, size_t n2))
-WRAP_DECL(gsl_vector *, gsl_vector_alloc, (size_t n))
-WRAP_DECL(gsl_vector *, gsl_vector_calloc, (size_t n))
-WRAP_DECL(gsl_vector_complex *, gsl_vector_complex_alloc, (size_t n))
-WRAP_DECL(gsl_permutation *, gsl_permutation_alloc, (size_t n))
-WRAP_DECL(gsl_eigen_nonsymmv_workspace *, gsl_eigen_nonsymmv_alloc, (size_t n))
-WRAP_DECL(int, yaml_parser_initialize, (yaml_parser_t *parser))
-WRAP_DECL(int, yaml_parser_parse, (yaml_parser_t *parser, yaml_event_t *event))
-
-void *__wrap_malloc(size_t n)
-{
-    if (fail_now()) {
-        errno = ENOMEM;
-        return NULL;
-    }
-    return __real_malloc(n);
-}
-
-void *__wrap_calloc(size_t n, size_t size)
-{
-    if (fail_now()) {
-        errno = ENOMEM;
-        return NULL;
-    }
-    return __real_calloc(n, size);
-}
-
-void *__wrap_realloc(void *p, size_t n)
-{
-    if (fail_now()) {
-        errno = ENOMEM;
-        return NULL; /* p stays allocated, as realloc leaves it */
-    }
-    return __real_realloc(p, n);
-}
-
-/* GSL returns NULL (after its error handler, which is off). */
-#define WRAP_GSL2(type, name)                                                                      \
-    type *__wrap_##name(size_t n1, size_t n2)                                                      \
-    {                                                                                              \
-        return fail_now() ? NULL : __real_##name(n1, n2);                                          \
-    }
-#define WRAP_GSL1(type, name)                                                                      \
-    type *__wrap_##name(size_t n)                                                                  \
-    {                                                                                              \
-        return fail_now() ? NULL : __real_##name(n);                                               \
-    }
-WRAP_GSL2(gsl_matrix, gsl_matrix_alloc)
-WRAP_GSL2(gsl_matrix, gsl_matrix_calloc)
-WRAP_GSL2(gsl_matrix_complex, gsl_matrix_complex_alloc)
-WRAP_GSL1(gsl_vector, gsl_vector_alloc)
-WRAP_GSL1(gsl_vector, gsl_vector_calloc)
-WRAP_GSL1(gsl_vector_complex, gsl_vector_complex_alloc)
-WRAP_GSL1(gsl_permutation, gsl_permutation_alloc)
-WRAP_GSL1(gsl_eigen_nonsymmv_workspace, gsl_eigen_nonsymmv_alloc)
-
-/* libyaml: a failed initialisation leaves the parser zeroed with
- * YAML_MEMORY_ERROR; a failed parse step does the same to the event. */
-int __wrap_yaml_parser_initialize(yaml_parser_t *parser)
-{
-    if (fail_now()) {
-        memset(parser, 0, sizeof *parser);
-        parser->error = YAML_MEMORY_ERROR;
-        return 0;
-    }
-    return __real_yaml_parser_initialize(parser);
-}
-
-int __wrap_yaml_parser_parse(yaml_parser_t *parser, yaml_event_t *event)
-{
-    if (fail_now()) {
-        memset(event, 0, sizeof *event);
-        parser->error = YAML_MEMORY_ERROR;
-        return 0;
-    }
-    return __real_yaml_parser_parse(parser, event);
-}
 
 /* What a run reports to the parent. */
 struct outcome {
@@ -154,11 +49,10 @@ static void child_runs(const char *file, const char *catalog, unsigned long star
         struct outcome r;
         memset(&r, 0, sizeof r);
         r.n = n;
-        calls = 0;
-        fail_at = n;
+        oom_arm(n);
         r.st = pipe_run(file, catalog, NULL, NULL, &where);
-        fail_at = 0;
-        r.calls = calls;
+        r.calls = oom_calls();
+        oom_arm(0);
         snprintf(r.where, sizeof r.where, "%s", where);
         r.leaked = __lsan_do_recoverable_leak_check() != 0;
         if (write(fd, &r, sizeof r) != (ssize_t)sizeof r)

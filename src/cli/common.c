@@ -44,6 +44,9 @@ rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct
     d.max_errors = env->opt.max_errors;
     st = rigmat_model_load(file, c->sets.items, c->sets.count, &env->opt, out, &d);
     rigmat_diags_print(&d, env->err);
+    /* out of memory may leave nothing in d to print: say it once here */
+    if (st == RIGMAT_ENOMEM)
+        fprintf(env->err, "rigmat %s: error: out of memory\n", env->command);
     rigmat_diags_release(&d);
     return st;
 }
