@@ -17,7 +17,10 @@
  * errno = ERANGE on overflow or underflow).  A plain decimal whose digits
  * fit 2^53 and whose power of ten is at most 22 is converted exactly here
  * (one correctly rounded IEEE operation); anything else goes to strtod
- * with the thread switched to the "C" locale by uselocale for the call. */
+ * with the thread switched to the "C" locale by uselocale for the call.
+ * Should the "C" locale object be unobtainable (glibc's is static; another
+ * C library may allocate it), returns 0 with *end = s and errno = ENOMEM
+ * rather than read the number in the thread's own locale. */
 double rigmat_strtod_c(const char *s, char **end);
 
 /* The message of errnum in buf (always NUL-terminated; len > 0), from the
