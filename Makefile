@@ -179,7 +179,7 @@ check-unit: $(BUILD)/test/check_rigmat check-locale
 # install.sh runs `make install` with this PREFIX, so nothing is rebuilt
 # under the feet of the other checks running in parallel.
 check-install: all deps-test
-	PREFIX='$(PREFIX)' sh tests/install.sh
+	+PREFIX='$(PREFIX)' sh tests/install.sh
 check-cli: $(BUILD)/rigmat $(BUILD)/shim/writefail.so deps-test
 	RIGMAT=$(BUILD)/rigmat WRITE_SHIM=$(BUILD)/shim/writefail.so sh tests/cli.sh
 check-ref: $(BUILD)/rigmat deps-test
