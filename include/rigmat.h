@@ -13,8 +13,32 @@
  *   - functions return a rigmat_status and, on failure, fill a caller-owned
  *     rigmat_error (which may be NULL);
  *   - GSL's default error handler aborts the process.  Programs linking
- *     librigmat must call gsl_set_error_handler_off() once, first: rigmat
- *     checks every GSL status itself.
+ *     librigmat must call gsl_set_error_handler_off() once, first (before
+ *     starting any thread: the handler is process-wide): rigmat checks
+ *     every GSL status itself.
+ *
+ * THREAD SAFETY
+ *   Every function is reentrant for separate objects: librigmat keeps no
+ *   process-wide state, never changes the signal mask, the locale or the
+ *   GSL error handler, reads no environment variable, and reads numbers
+ *   the same in every locale (a model's "0.8 kg" is 0.8 kg under a
+ *   comma-decimal LC_NUMERIC too).  Hence:
+ *     - May be shared by threads: a rigmat_model once rigmat_model_load has
+ *       returned (read only from then on; rigmat_linearize, rigmat_trim_model
+ *       and rigmat_system_alloc take it const), a rigmat_lti, rigmat_dlti or
+ *       rigmat_noise that no thread modifies, and rigmat_options.
+ *     - One thread at a time, each: a rigmat_system (it keeps scratch
+ *       memory that every rigmat_system_eval and rigmat_system_jacobians
+ *       call rewrites), the workspaces (rigmat_discretize_ws,
+ *       rigmat_noise_ws, rigmat_expm_ws), a rigmat_diags list being
+ *       filled, a rigmat_error, a rigmat_trim_result.  Give each thread its
+ *       own, or lock around them.
+ *     - Freeing an object while another thread uses it, or anything that
+ *       borrows from it (an lti's layout points into its model), is wrong.
+ *   The C library and GSL calls rigmat makes are thread-safe as used; with
+ *   OpenBLAS as GSL's BLAS, use a build made for threaded callers (Debian's
+ *   libopenblas0-pthread is).  tests/threads.c checks all of this under
+ *   ThreadSanitizer (`make check-tsan`).
  *
  * Sampling, the noise model, the matrix exponential, units, the Riccati
  * solver and the Kalman/LQR gains have headers of their own, installed
@@ -473,7 +497,10 @@ void rigmat_layout_release(rigmat_layout *l);
 rigmat_status rigmat_model_check_equations(const rigmat_model *m, rigmat_diags *d);
 
 /* The nonlinear model x' = f(x, u), y = h(x, u) in the order of m->layout
- * (built), for extended Kalman filters and one's own simulators.  States
+ * (built), for extended Kalman filters and one's own simulators.  A system
+ * holds scratch memory that every call rewrites: one thread at a time per
+ * system (see THREAD SAFETY above); systems of the same model may run on
+ * different threads at once.  States
  * a `states` list leaves out (cyclic coordinates) are held at their
  * operating-point values.  Returns a new object owned by the caller
  * (rigmat_system_free); it borrows m, which must outlive it.

@@ -68,8 +68,17 @@ if [ -s "$T/sum.txt" ]; then ok; else bad "-o file empty"; fi
 cp "$T/sum.txt" "$T/before.txt"
 expect 1 "bad model with -o" -- "$R" check "$T/bad.yaml" -o "$T/sum.txt"
 if cmp -s "$T/sum.txt" "$T/before.txt"; then ok; else bad "failed run changed the -o file"; fi
-RIGMAT_TEST_WRITE_FAIL=10 "$R" check "$DEMO" -o "$T/sum.txt" >/dev/null 2>"$T/err"
+# The write fault comes from the LD_PRELOAD shim tests/shim/writefail.c
+# (the Makefile passes WRITE_SHIM); the program has no hook of its own.
+# verify_asan_link_order=0: under the sanitizer build the shim is loaded
+# before libasan, which is harmless here (the shim allocates nothing).
+SHIM=${WRITE_SHIM:-build/shim/writefail.so}
+if [ -f "$SHIM" ]; then ok; else bad "write-fault shim $SHIM missing (make $SHIM)"; fi
+LD_PRELOAD="$(cd "$(dirname "$SHIM")" && pwd)/$(basename "$SHIM")" RIGMAT_SHIM_WRITE_FAIL=10 \
+    ASAN_OPTIONS="${ASAN_OPTIONS:+$ASAN_OPTIONS:}verify_asan_link_order=0" \
+    "$R" check "$DEMO" -o "$T/sum.txt" >/dev/null 2>"$T/err"
 if [ $? = 4 ]; then ok; else bad "injected write fault: want exit 4"; fi
+has "$T/err" "No space left on device" "injected write fault reported"
 if cmp -s "$T/sum.txt" "$T/before.txt"; then ok; else bad "injected write fault changed the file"; fi
 if ls "$T" | grep -q 'tmp-'; then bad "temporary file left behind"; else ok; fi
 expect 4 "-o into a missing folder" -- "$R" check "$DEMO" -o "$T/no/such/dir/out.txt"

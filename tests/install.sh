@@ -2,11 +2,16 @@
 # install.sh - `make install` into a scratch DESTDIR, then build and run a
 # library user's program against it with pkg-config, and run the installed
 # program on the demo with the installed catalog.
+#
+# PREFIX must be the one the build was made with (the Makefile passes its
+# own): the catalog folder is compiled in, and another PREFIX would rebuild
+# and re-copy build/rigmat while other checks of a `make -j check` run it.
 set -eu
+PREFIX=${PREFIX:-/usr/local}
 T=$(mktemp -d)
 trap 'rm -rf "$T"' EXIT INT TERM
-make --no-print-directory install DESTDIR="$T" PREFIX=/opt/rigmat >/dev/null
-P="$T/opt/rigmat"
+make --no-print-directory install DESTDIR="$T" PREFIX="$PREFIX" >/dev/null
+P="$T$PREFIX"
 test -x "$P/bin/rigmat" && test -f "$P/include/rigmat.h" && test -f "$P/lib/librigmat.a"
 test -f "$P/share/rigmat/catalog/motors/gearmotor-24v-27.yaml"
 test -f "$P/share/man/man1/rigmat.1" && test -f "$P/share/bash-completion/completions/rigmat"

@@ -329,7 +329,7 @@ static void write_partial(struct cli_env *env, const char *path, int json, const
         fprintf(env->err, "rigmat %s: out of memory for the partial table\n", env->command);
         return;
     }
-    if (rigmat_outfile_write(path, buf, len, RIGMAT_OUTFILE_NO_FAULT, &e) != RIGMAT_OK)
+    if (cli_outfile_write(path, buf, len, &e) != RIGMAT_OK)
         cli_report(env, &e);
     else
         fprintf(env->err, "rigmat %s: note: the %zu rows before the failure are in '%s'\n",
@@ -397,7 +397,7 @@ static rigmat_status write_plot(struct cli_env *env, const char *path, const rig
         st = RIGMAT_ENOMEM;
     } else if (st != RIGMAT_OK) {
         cli_report(env, &e);
-    } else if ((st = rigmat_outfile_write(path, buf, len, RIGMAT_OUTFILE_NO_FAULT, &e)) !=
+    } else if ((st = cli_outfile_write(path, buf, len, &e)) !=
             RIGMAT_OK) {
         cli_report(env, &e);
     }

@@ -57,6 +57,9 @@ rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct
         }
     }
     rigmat_diags_print(&d, env->err);
+    /* out of memory may leave nothing in d to print: say it once here */
+    if (st == RIGMAT_ENOMEM)
+        fprintf(env->err, "rigmat %s: error: out of memory\n", env->command);
     rigmat_diags_release(&d);
     return st;
 }

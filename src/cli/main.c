@@ -7,6 +7,7 @@
  */
 #include "cli.h"
 #include "outfile.h"
+#include "reentrant.h"
 #include "share_dir.h" /* RIGMAT_SHARE_DIR, from the Makefile */
 
 #include <errno.h>
@@ -73,41 +74,23 @@ static void main_usage(FILE *f)
           "            4 input/output error, 5 internal error\n", f);
 }
 
-/* The test hook of the output writer: RIGMAT_TEST_WRITE_FAIL=N makes the
- * write fail after N bytes (tests/cli.sh uses it; root can write anywhere,
- * so permission bits cannot provoke the failure). */
-static size_t fault_after(void)
-{
-    const char *s = getenv("RIGMAT_TEST_WRITE_FAIL");
-    char *end;
-    unsigned long v;
-
-    if (s == NULL || *s == '\0')
-        return RIGMAT_OUTFILE_NO_FAULT;
-    v = strtoul(s, &end, 10);
-    return *end == '\0' ? (size_t)v : RIGMAT_OUTFILE_NO_FAULT;
-}
-
+/* Copy the result to the -o file (whole or not at all) or to standard
+ * output.  Tests provoke a failing write with the LD_PRELOAD shim
+ * tests/shim/writefail.c; the program has no test hook of its own. */
 static rigmat_status emit(struct cli_env *env, const char *data, size_t len)
 {
+    char why[RIGMAT_STRERROR_LEN];
     rigmat_error e;
-    const size_t fail = fault_after();
 
     memset(&e, 0, sizeof e);
     if (env->output != NULL && strcmp(env->output, "-") != 0) {
-        if (rigmat_outfile_write(env->output, data, len, fail, &e) != RIGMAT_OK)
+        if (cli_outfile_write(env->output, data, len, &e) != RIGMAT_OK)
             return cli_report(env, &e);
         return RIGMAT_OK;
     }
-    if (fail != RIGMAT_OUTFILE_NO_FAULT && fail < len) {
-        fwrite(data, 1, fail, stdout);
-        fprintf(env->err, "rigmat %s: error: cannot write the output: %s\n", env->command,
-                strerror(ENOSPC));
-        return RIGMAT_EIO;
-    }
     if (len > 0 && fwrite(data, 1, len, stdout) != len) {
         fprintf(env->err, "rigmat %s: error: cannot write the output: %s\n", env->command,
-                strerror(errno));
+                rigmat_strerror(errno, why, sizeof why));
         return RIGMAT_EIO;
     }
     return RIGMAT_OK;
@@ -141,6 +124,7 @@ int main(int argc, char **argv)
     char *buf = NULL, exe_dir[4096];
     size_t len = 0, i;
     rigmat_status st;
+    char why[RIGMAT_STRERROR_LEN];
 
     gsl_set_error_handler_off();
     memset(&env, 0, sizeof env);
@@ -194,7 +178,8 @@ out:
     /* A lost result must not exit 0 (a full disk, /dev/full). */
     if (fflush(stdout) != 0 || ferror(stdout) || fclose(stdout) != 0) {
         if (st == RIGMAT_OK || st == RIGMAT_EUSAGE) {
-            fprintf(stderr, "rigmat: error: writing the output failed: %s\n", strerror(errno));
+            fprintf(stderr, "rigmat: error: writing the output failed: %s\n",
+                    rigmat_strerror(errno, why, sizeof why));
             st = RIGMAT_EIO;
         }
     }

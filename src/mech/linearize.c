@@ -1,5 +1,6 @@
 /* linearize.c - the public nonlinear system in layout order and the
  * linearization at the operating point (see linearize.h). */
+#include "invariant.h"
 #include "linearize.h"
 #include "trim.h"
 #include "equations.h"
@@ -118,7 +119,7 @@ rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, ri
     for (k = 0; k < s->nx + s->nu + s->ny; k++) {
         const size_t v = k < s->nx ? s->xmap[k] :
                          k < s->nx + s->nu ? s->umap[k - s->nx] : s->ymap[k - s->nx - s->nu];
-        if (v == RIGMAT_NONE) {
+        if (RIGMAT_NEVER(v == RIGMAT_NONE)) {
             st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "the layout does not match the model");
             goto fail;
         }
@@ -163,6 +164,8 @@ rigmat_status rigmat_system_eval(rigmat_system *s, const double *x, const double
     rigmat_status st;
     size_t k;
 
+    if (RIGMAT_NEVER(s == NULL || x == NULL || (u == NULL && s->nu > 0)))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "system: missing argument");
     scatter(s, x, u);
     st = rigmat_mech_eval_real(s->mech, s->xc, s->uc, s->fc, s->yc, err);
     if (st != RIGMAT_OK)
@@ -209,6 +212,8 @@ rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const d
 {
     rigmat_status st;
 
+    if (RIGMAT_NEVER(s == NULL || x == NULL || (u == NULL && s->nu > 0)))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "system: missing argument");
     if ((st = check_size(A, s->nx, s->nx, "A", err)) != RIGMAT_OK ||
             (st = check_size(B, s->nx, s->nu, "B", err)) != RIGMAT_OK ||
             (st = check_size(C, s->ny, s->nx, "C", err)) != RIGMAT_OK ||
@@ -335,16 +340,25 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
 {
     rigmat_system *s = NULL;
     rigmat_lti *lti = NULL;
-    const rigmat_layout *L = &m->layout, *CL;
+    const rigmat_layout *L, *CL;
     rigmat_status st;
     double residual = 0.0;
     size_t k;
 
+    if (RIGMAT_NEVER(m == NULL || opt == NULL || out == NULL))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "linearize: missing argument");
+    L = &m->layout;
     *out = NULL;
     st = rigmat_system_alloc(m, &s, err);
     if (st != RIGMAT_OK)
         return st;
     CL = rigmat_mech_canonical(s->mech);
+    /* the system was built from this layout: same sizes, control first */
+    if (RIGMAT_NEVER(s->nx != L->nx || s->nu != L->nu || s->ny != L->ny ||
+                L->nu_control > L->nu || s->cnx < s->nx || s->cnu < s->nu)) {
+        st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "the layout does not match the system");
+        goto done;
+    }
     if (m->op_solve.count > 0) {
         st = rigmat_trim_run(s->mech, m, opt, s->xc, s->uc, NULL, err);
         if (st != RIGMAT_OK)

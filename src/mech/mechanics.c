@@ -16,6 +16,7 @@
  * centre moves +0.1 m along the parent's x and the wheel turns by
  * -0.1/0.061 = -1.64 rad (clockwise), as README.md ("Signs and frames") states.
  */
+#include "invariant.h"
 #include "mechanics.h"
 #include "layout.h"
 #include "kinds.h"
@@ -1201,7 +1202,7 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     if (st != RIGMAT_OK)
         goto fail;
     L = &s->canon;
-    if (m->nbodies == 0 || m->bodies[0].joint != RIGMAT_NONE) {
+    if (RIGMAT_NEVER(m->nbodies == 0 || m->bodies[0].joint != RIGMAT_NONE)) {
         st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "body 0 must be the ground");
         goto fail;
     }

@@ -31,6 +31,7 @@
 #include "load.h"
 #include "units.h"
 #include "kinds.h"
+#include "reentrant.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -235,7 +236,7 @@ static int num_node(struct ld *L, const struct ent *e, const rigmat_node *n, rig
     kind_label(what, sizeof what, kind, density);
     if (!want_scalar(L, e, n, what))
         return 0;
-    lead = strtod(n->text, &end);
+    lead = rigmat_strtod_c(n->text, &end);
     if (end != n->text && !isfinite(lead)) {
         lerr(L, e, n->loc, "write a finite number", "'%s' is not a finite number", n->text);
         return 0;

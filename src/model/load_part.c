@@ -137,6 +137,12 @@ rigmat_status rigmat_load_part_folders(const char *model_path, const rigmat_opti
     if (st == RIGMAT_OK && opt->catalog_share != NULL)
         st = add_folder(folders, max, n, join(opt->catalog_share, "/", "catalog"));
     free(dir);
+    if (st != RIGMAT_OK) {
+        /* out of memory part-way: the caller gets nothing to free (found
+         * by tests/oom.c: the folders added before were lost) */
+        while (*n > 0)
+            free(folders[--*n]);
+    }
     return st;
 }
 
@@ -334,10 +340,9 @@ static rigmat_status resolve(rigmat_node *m, size_t depth, const struct chain *u
     st = rigmat_load_yaml_file(path, opt, files, d, &tree);
     if (st == RIGMAT_OK && (tree == NULL || tree->type != RIGMAT_NODE_MAP)) {
         const rigmat_loc at = { rigmat_diags_file(files, path), 1, 1 };
-        rigmat_diags_add(d, RIGMAT_ERROR, tree ? tree->loc : at, pe->value->loc, "this part",
-                "a part file is a mapping of the entry's keys, e.g. 'mass: 0.31 kg'",
-                "a part file must be a mapping");
-        st = RIGMAT_EMODEL;
+        st = rigmat_diags_add(d, RIGMAT_ERROR, tree ? tree->loc : at, pe->value->loc,
+                "this part", "a part file is a mapping of the entry's keys, e.g. 'mass: 0.31 kg'",
+                "a part file must be a mapping") == RIGMAT_ENOMEM ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
     }
     free(path);
     if (st == RIGMAT_OK && rigmat_node_get(tree, "part") != NULL)

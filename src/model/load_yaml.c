@@ -20,6 +20,7 @@
  * Limits (rigmat_options): file size, nesting depth, node count.
  */
 #include "load.h"
+#include "reentrant.h"
 
 #include <errno.h>
 #include <stdarg.h>
@@ -640,6 +641,7 @@ rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
         rigmat_diags *files, rigmat_diags *d, rigmat_node **out)
 {
     const rigmat_loc at = { path, 0, 0 };
+    char why[RIGMAT_STRERROR_LEN];
     struct stat sb;
     FILE *f;
     char *buf;
@@ -649,7 +651,7 @@ rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
     *out = NULL;
     if (stat(path, &sb) != 0) {
         rigmat_diags_add(d, RIGMAT_ERROR, at, no_loc, NULL, NULL, "cannot read the model: %s",
-                strerror(errno));
+                rigmat_strerror(errno, why, sizeof why));
         return RIGMAT_EIO;
     }
     if (S_ISDIR(sb.st_mode)) {
@@ -660,7 +662,7 @@ rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
     f = fopen(path, "rb");
     if (f == NULL) {
         rigmat_diags_add(d, RIGMAT_ERROR, at, no_loc, NULL, NULL, "cannot read the model: %s",
-                strerror(errno));
+                rigmat_strerror(errno, why, sizeof why));
         return RIGMAT_EIO;
     }
     /* Read in chunks rather than trusting st_size: a pipe or a file that
@@ -692,7 +694,7 @@ rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
     }
     if (ferror(f)) {
         rigmat_diags_add(d, RIGMAT_ERROR, at, no_loc, NULL, NULL, "cannot read the model: %s",
-                strerror(errno));
+                rigmat_strerror(errno, why, sizeof why));
         fclose(f);
         free(buf);
         return RIGMAT_EIO;

@@ -25,6 +25,7 @@
  * definitions listed in units.h.
  */
 #include "units.h"
+#include "reentrant.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -362,6 +363,18 @@ static void set_col(rigmat_error *err, const char *text, size_t pos)
         err->where.col = col_of(text, pos);
 }
 
+/* ASCII classes, the same in every locale (<ctype.h> follows LC_CTYPE:
+ * in a Latin-1 locale tolower(0xC4) is 0xE4). */
+static int ascii_lower(unsigned char c)
+{
+    return c >= 'A' && c <= 'Z' ? c - 'A' + 'a' : c;
+}
+
+static int ascii_alpha(unsigned char c)
+{
+    return ascii_lower(c) >= 'a' && ascii_lower(c) <= 'z';
+}
+
 /* Describe the character at pos for a message: 'x', or "the end". */
 static void describe_char(const parser *p, size_t pos, char *buf, size_t len)
 {
@@ -369,7 +382,7 @@ static void describe_char(const parser *p, size_t pos, char *buf, size_t len)
 
     if (pos >= p->len)
         snprintf(buf, len, "the end");
-    else if (isprint(c))
+    else if (c >= 0x20 && c < 0x7f)
         snprintf(buf, len, "'%c'", (char)c);
     else
         snprintf(buf, len, "byte 0x%02x", (unsigned)c);
@@ -385,12 +398,12 @@ static void skip_ws(parser *p)
 
 static int is_symbol_start(unsigned char c)
 {
-    return isalpha(c) || c == '%' || c >= 0x80;
+    return ascii_alpha(c) || c == '%' || c >= 0x80;
 }
 
 static int is_symbol_char(unsigned char c)
 {
-    return isalnum(c) || c == '_' || c >= 0x80;
+    return ascii_alpha(c) || isdigit(c) || c == '_' || c >= 0x80;
 }
 
 /* Can a term start here (for a product written with a space)? */
@@ -473,7 +486,7 @@ static int same_fold(const char *a, size_t na, const char *b)
     if (strlen(b) != na)
         return 0;
     for (i = 0; i < na; i++)
-        if (tolower((unsigned char)a[i]) != tolower((unsigned char)b[i]))
+        if (ascii_lower((unsigned char)a[i]) != ascii_lower((unsigned char)b[i]))
             return 0;
     return 1;
 }
@@ -886,13 +899,14 @@ static int starts_fold(const char *s, size_t n, const char *word)
     size_t i;
 
     for (i = 0; word[i] != '\0'; i++)
-        if (i >= n || tolower((unsigned char)s[i]) != word[i])
+        if (i >= n || ascii_lower((unsigned char)s[i]) != word[i])
             return 0;
     return 1;
 }
 
 /* number := ['+'|'-'] digits ['.' digits] [('e'|'E') ['+'|'-'] digits].
- * Scanned by hand, then converted from a bounded copy, so strtod never sees
+ * Scanned by hand, then converted from a bounded copy by the locale-blind
+ * rigmat_strtod_c (reentrant.h), so the conversion never sees
  * hex, "inf" or "nan", and never reads beyond the number. */
 static rigmat_status parse_number(parser *p, double *value)
 {
@@ -939,7 +953,9 @@ static rigmat_status parse_number(parser *p, double *value)
     memcpy(buf, p->text + start, i - start);
     buf[i - start] = '\0';
     errno = 0;
-    v = strtod(buf, &end);
+    v = rigmat_strtod_c(buf, &end);
+    if (end == buf && errno == ENOMEM)
+        return RIGMAT_FAIL(p->err, RIGMAT_ENOMEM, "out of memory");
     if (!isfinite(v) || (errno == ERANGE && fabs(v) > 1.0)) {
         RIGMAT_FAIL(p->err, RIGMAT_EMODEL, "number out of range: %s", buf);
         set_col(p->err, p->text, start);

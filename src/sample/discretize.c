@@ -1,5 +1,6 @@
 /* discretize.c - ZOH, FOH, Tustin, forward and backward Euler, input delay
  * by state augmentation, and sampling-rate advice (discretize.h). */
+#include "invariant.h"
 #include "discretize.h"
 
 #include <math.h>
@@ -169,6 +170,14 @@ static rigmat_status gsl_fail(rigmat_error *err, const char *what, int gs)
                        what, gsl_strerror(gs));
 }
 
+/* A GSL call that fails only when its sizes disagree (a product, a copy, a
+ * triangular solve): the sizes are ours, so that is a broken invariant. */
+static rigmat_status gsl_bug(rigmat_error *err, const char *what, int gs)
+{
+    (void)RIGMAT_NEVER(gs != GSL_SUCCESS);
+    return gsl_fail(err, what, gs);
+}
+
 /* E = exp([[A h, B h], [0, 0]]) of size n + m (B may be NULL when m = 0). */
 static rigmat_status expm_hold(const gsl_matrix *A, const gsl_matrix *B, size_t n, size_t m,
                                double h, rigmat_discretize_ws *w, unsigned flags,
@@ -246,7 +255,7 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
             if (gs == GSL_SUCCESS && ny > 0)
                 gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, s->C, &G2.matrix, 1.0, Dm);
             if (gs != GSL_SUCCESS)
-                return gsl_fail(err, "matrix product", gs);
+                return gsl_bug(err, "matrix product", gs);
         }
         return RIGMAT_OK;
     }
@@ -307,7 +316,7 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
         if (m > 0) {
             gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, alpha, s->C, &Gam.matrix, 1.0, Dm);
             if (gs != GSL_SUCCESS)
-                return gsl_fail(err, "matrix product", gs);
+                return gsl_bug(err, "matrix product", gs);
         }
         /* Cm = C (I - alpha h A)^-1: with P M = L U, Z = Cm P^T solves Z L U = C */
         gs = gsl_blas_dtrsm(CblasRight, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, &LU.matrix,
@@ -316,7 +325,7 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
             gs = gsl_blas_dtrsm(CblasRight, CblasLower, CblasNoTrans, CblasUnit, 1.0, &LU.matrix,
                                 Cm);
         if (gs != GSL_SUCCESS)
-            return gsl_fail(err, "triangular solve", gs);
+            return gsl_bug(err, "triangular solve", gs);
         for (i = 0; i < ny; i++) {
             gsl_vector_view row = gsl_matrix_row(Cm, i);
             gsl_vector_view t = gsl_vector_subvector(w->tmp, 0, n);
@@ -326,7 +335,7 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
                                gsl_vector_get(&row.vector, j));
             gs = gsl_vector_memcpy(&row.vector, &t.vector);
             if (gs != GSL_SUCCESS)
-                return gsl_fail(err, "copy", gs);
+                return gsl_bug(err, "copy", gs);
         }
         return RIGMAT_OK;
     }
@@ -438,7 +447,7 @@ static rigmat_status delay_gammas(const rigmat_lti *s, const rigmat_discretize_o
                             &G1.matrix);
     }
     if (gs != GSL_SUCCESS)
-        return gsl_fail(err, "matrix product", gs);
+        return gsl_bug(err, "matrix product", gs);
     return RIGMAT_OK;
 }
 

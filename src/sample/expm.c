@@ -7,6 +7,7 @@
  *     V = A6 (b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I,
  * and r_13 = (V - U)^-1 (V + U).
  */
+#include "invariant.h"
 #include "expm.h"
 
 #include <math.h>
@@ -148,7 +149,7 @@ static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B
 {
     const int gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A, B, 0.0, C);
 
-    if (gs != GSL_SUCCESS)
+    if (RIGMAT_NEVER(gs != GSL_SUCCESS)) /* only for sizes that disagree */
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed: %s", gsl_strerror(gs));
     return RIGMAT_OK;
 }
@@ -217,7 +218,8 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
     /* U: T = b13 A6 + b11 A4 + b9 A2; V = A6 T + (b7 A6 + b5 A4 + b3 A2 + b1 I); U = A V */
     lincomb(T, 0.0, ui, pw, 3);
     lincomb(V, b13[1], uo, pw, 3);
-    rc = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) == GSL_SUCCESS
+    rc = !RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) !=
+                       GSL_SUCCESS)
                  ? RIGMAT_OK
                  : RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
     if (rc == RIGMAT_OK)
@@ -227,7 +229,7 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
     /* V = A6 (b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I */
     lincomb(T, 0.0, vi, pw, 3);
     lincomb(V, b13[0], vo, pw, 3);
-    if (gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) != GSL_SUCCESS)
+    if (RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) != GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
     *products += 6;
     return RIGMAT_OK;
@@ -267,13 +269,13 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
         gsl_vector_const_view src = gsl_matrix_const_row(V, gsl_permutation_get(perm, i));
         gsl_vector_view dst = gsl_matrix_row(X, i);
         gs = gsl_vector_memcpy(&dst.vector, &src.vector);
-        if (gs != GSL_SUCCESS)
+        if (RIGMAT_NEVER(gs != GSL_SUCCESS))
             return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "row copy failed: %s", gsl_strerror(gs));
     }
     gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasNoTrans, CblasUnit, 1.0, P, X);
     if (gs == GSL_SUCCESS)
         gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, P, X);
-    if (gs != GSL_SUCCESS)
+    if (RIGMAT_NEVER(gs != GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "triangular solve failed: %s", gsl_strerror(gs));
     return RIGMAT_OK;
 }
@@ -351,7 +353,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             const double nb = rigmat_expm_norm1(&T.matrix);
             if (nb < nrm) {
                 gs = gsl_matrix_memcpy(&As.matrix, &T.matrix);
-                if (gs != GSL_SUCCESS)
+                if (RIGMAT_NEVER(gs != GSL_SUCCESS))
                     return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "copy failed");
                 nrm = nb;
                 inf.balanced = 1;

@@ -1,6 +1,7 @@
 /* noise.c - Qd by Van Loan's block method with doubling, Rd from the sensor
  * figures, and the cross-covariance of a disturbance that reaches a
  * sensor directly (noise.h). */
+#include "invariant.h"
 #include "noise.h"
 
 #include <math.h>
@@ -100,6 +101,14 @@ static rigmat_status gsl_fail(rigmat_error *err, const char *what, int gs)
                        what, gsl_strerror(gs));
 }
 
+/* A GSL call that fails only when its sizes disagree (a product, a copy, a
+ * triangular solve): the sizes are ours, so that is a broken invariant. */
+static rigmat_status gsl_bug(rigmat_error *err, const char *what, int gs)
+{
+    (void)RIGMAT_NEVER(gs != GSL_SUCCESS);
+    return gsl_fail(err, what, gs);
+}
+
 rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const double *intensity,
                               double period_s, const rigmat_noise_opts *o, rigmat_noise_ws *w,
                               gsl_matrix *Qd, unsigned *doublings, rigmat_error *err)
@@ -184,7 +193,7 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
                             &Q.matrix);
     }
     if (gs != GSL_SUCCESS)
-        return gsl_fail(err, "matrix product", gs);
+        return gsl_bug(err, "matrix product", gs);
     symmetrize(&Q.matrix);
     for (it = 0; it < s; it++) {
         /* Q <- Q + Phi Q Phi^T; Phi <- Phi^2 */
@@ -199,7 +208,7 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
         if (gs == GSL_SUCCESS)
             gs = gsl_matrix_memcpy(&Phi.matrix, &T1.matrix);
         if (gs != GSL_SUCCESS)
-            return gsl_fail(err, "matrix product", gs);
+            return gsl_bug(err, "matrix product", gs);
         symmetrize(&Q.matrix);
     }
     for (i = 0; i < n; i++)

@@ -17,6 +17,7 @@
 #include "discretize.h"
 #include "expm.h"
 #include "units.h"
+#include "reentrant.h"
 
 #include <errno.h>
 #include <float.h>
@@ -145,9 +146,11 @@ static rigmat_status read_table(const char *path, rigmat_wave *w, rigmat_error *
     size_t cap = 0, lineno = 0;
     rigmat_status st = RIGMAT_OK;
 
+    char why[128];
+
     if (f == NULL)
         return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot read the signal file '%s': %s", path,
-                strerror(errno));
+                rigmat_strerror(errno, why, sizeof why));
     while (fgets(line, sizeof line, f) != NULL) {
         char *p = line, *end;
         double t, v;
@@ -161,7 +164,7 @@ static rigmat_status read_table(const char *path, rigmat_wave *w, rigmat_error *
             p++;
         if (*p == '#' || *p == '\n' || *p == '\r' || *p == '\0')
             continue;
-        t = strtod(p, &end);
+        t = rigmat_strtod_c(p, &end);
         if (end == p) {
             if (w->ntable == 0 && lineno == 1)
                 continue; /* a header */
@@ -177,7 +180,7 @@ static rigmat_status read_table(const char *path, rigmat_wave *w, rigmat_error *
             break;
         }
         p++;
-        v = strtod(p, &end);
+        v = rigmat_strtod_c(p, &end);
         if (end == p) {
             st = RIGMAT_FAIL(err, RIGMAT_EUSAGE, "%s:%zu: expected a value after the comma",
                     path, lineno);

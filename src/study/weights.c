@@ -2,6 +2,7 @@
 #include "weights.h"
 #include "gains.h"
 #include "load.h"
+#include "reentrant.h"
 #include "units.h"
 
 #include <math.h>
@@ -147,7 +148,7 @@ static int value(struct wctx *c, const rigmat_node *n, const char *name, const c
     }
     if (unit_dim(unit, &want) && !rigmat_dim_equal(q.dim, want)) {
         const rigmat_dim none = { { 0 } };
-        (void)strtod(n->text, &end);
+        (void)rigmat_strtod_c(n->text, &end);
         while (*end == ' ' || *end == '\t')
             end++;
         if (!(rigmat_dim_equal(q.dim, none) && *end == '\0')) {

@@ -143,8 +143,19 @@ rigmat_status rigmat_diags_add(rigmat_diags *d, rigmat_severity sev, rigmat_loc 
     it->within_what = dup_str(within_what);
     it->message = dup_str(buf);
     it->hint = dup_str(hint);
-    if (it->message == NULL)
+    /* Every copy must exist: a diagnostic without its file, context or
+     * hint would be a different message.  On failure nothing is kept (the
+     * out-of-memory path once leaked within_what; tests/oom.c). */
+    if (it->message == NULL || (where.file != NULL && it->where.file == NULL) ||
+            (within.file != NULL && it->within.file == NULL) ||
+            (within_what != NULL && it->within_what == NULL) ||
+            (hint != NULL && it->hint == NULL)) {
+        free(it->within_what);
+        free(it->message);
+        free(it->hint);
+        memset(it, 0, sizeof *it);
         return RIGMAT_ENOMEM;
+    }
     d->count++;
     if (sev == RIGMAT_ERROR)
         d->errors++;

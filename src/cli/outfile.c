@@ -8,10 +8,17 @@
  * device) is written directly and never renamed over.  The whole result is
  * in memory before this is called, so an error in the model found after
  * output began never reaches the file.
+ *
+ * This is program code, not library code: it blocks signals with
+ * sigprocmask, which is process-wide (and unspecified in a process with
+ * threads), so it lives in src/cli and runs in the single-threaded
+ * program only.  Tests provoke a write fault with the LD_PRELOAD shim
+ * tests/shim/writefail.c; the program itself has no test hook.
  */
 #define _XOPEN_SOURCE 700 /* realpath */
 #include "rigmat.h"
 #include "outfile.h"
+#include "reentrant.h"
 
 #include <errno.h>
 #include <fcntl.h>
@@ -21,27 +28,21 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-static rigmat_status write_all(int fd, const char *data, size_t len, size_t fail_after,
-        const char *path, rigmat_error *err)
+/* The reason of the last failure, for a message. */
+#define WHY(buf) rigmat_strerror(errno, (buf), sizeof (buf))
+
+static rigmat_status write_all(int fd, const char *data, size_t len, const char *path,
+        rigmat_error *err)
 {
+    char why[RIGMAT_STRERROR_LEN];
     size_t done = 0;
 
     while (done < len) {
-        size_t chunk = len - done;
-        ssize_t n;
-        if (fail_after != RIGMAT_OUTFILE_NO_FAULT && done + chunk > fail_after) {
-            chunk = fail_after > done ? fail_after - done : 0;
-            if (chunk == 0) {
-                errno = ENOSPC; /* the injected fault */
-                return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path,
-                        strerror(errno));
-            }
-        }
-        n = write(fd, data + done, chunk);
+        ssize_t n = write(fd, data + done, len - done);
         if (n < 0) {
             if (errno == EINTR)
                 continue;
-            return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+            return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, WHY(why));
         }
         done += (size_t)n;
     }
@@ -50,22 +51,24 @@ static rigmat_status write_all(int fd, const char *data, size_t len, size_t fail
 
 /* A terminal, pipe, device or open stream: written in place. */
 static rigmat_status write_direct(const char *path, const char *data, size_t len,
-        size_t fail_after, rigmat_error *err)
+        rigmat_error *err)
 {
+    char why[RIGMAT_STRERROR_LEN];
     rigmat_status rc;
     const int fd = open(path, O_WRONLY | O_APPEND);
 
     if (fd < 0)
-        return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot open '%s': %s", path, strerror(errno));
-    rc = write_all(fd, data, len, fail_after, path, err);
+        return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot open '%s': %s", path, WHY(why));
+    rc = write_all(fd, data, len, path, err);
     if (close(fd) != 0 && rc == RIGMAT_OK)
-        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, WHY(why));
     return rc;
 }
 
-rigmat_status rigmat_outfile_write(const char *path, const char *data, size_t len,
-        size_t fail_after, rigmat_error *err)
+rigmat_status cli_outfile_write(const char *path, const char *data, size_t len,
+        rigmat_error *err)
 {
+    char why[RIGMAT_STRERROR_LEN];
     struct stat st;
     char *tmp = NULL, *resolved = NULL;
     int fd = -1;
@@ -81,16 +84,16 @@ rigmat_status rigmat_outfile_write(const char *path, const char *data, size_t le
                 strncmp(path, "/proc/", 6) == 0 || strncmp(resolved, "/dev/", 5) == 0 ||
                 strncmp(resolved, "/proc/", 6) == 0) {
             free(resolved);
-            return write_direct(path, data, len, fail_after, err);
+            return write_direct(path, data, len, err);
         }
-        rc = rigmat_outfile_write(resolved, data, len, fail_after, err);
+        rc = cli_outfile_write(resolved, data, len, err);
         free(resolved);
         return rc;
     }
     if (stat(path, &st) == 0 && !S_ISREG(st.st_mode)) {
         if (S_ISDIR(st.st_mode))
             return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': it is a folder", path);
-        return write_direct(path, data, len, fail_after, err);
+        return write_direct(path, data, len, err);
     }
     tmp = malloc(strlen(path) + 16);
     if (tmp == NULL)
@@ -107,20 +110,20 @@ rigmat_status rigmat_outfile_write(const char *path, const char *data, size_t le
     fd = mkstemp(tmp);
     if (fd < 0) {
         rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot create a file beside '%s': %s", path,
-                strerror(errno));
+                WHY(why));
         goto done;
     }
-    rc = write_all(fd, data, len, fail_after, path, err);
+    rc = write_all(fd, data, len, path, err);
     if (rc == RIGMAT_OK && fsync(fd) != 0)
-        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, WHY(why));
     if (close(fd) != 0 && rc == RIGMAT_OK)
-        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, strerror(errno));
+        rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", path, WHY(why));
     fd = -1;
     if (rc == RIGMAT_OK) {
         if (stat(path, &st) != 0)
             st.st_mode = 0644;
         if (chmod(tmp, st.st_mode & 07777) != 0 || rename(tmp, path) != 0)
-            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot replace '%s': %s", path, strerror(errno));
+            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot replace '%s': %s", path, WHY(why));
     }
     if (rc != RIGMAT_OK)
         unlink(tmp);
