@@ -14,7 +14,9 @@
  *   Qc              white-noise intensity of each input (SI per Hz; 0 for control
  *                   inputs and for disturbances without a density)
  *   Qd              covariance of the process noise added over one period
- *   qd_exact        true for zoh (Qd is the exact covariance of the sampled system)
+ *   qd_exact        true for zoh: Qd is the exact covariance of the sampled system,
+ *                   within qd_error_bound (a Qd that cannot be bounded is refused, exit 3)
+ *   qd_error_bound  relative error bound of Qd (src/sample/noise.h; 0 without noise)
  *   Rd              covariance of the measurement noise of one sample
  *   S               (only when a disturbance reaches a sensor directly)
  *                   E[w_k v_k^T], states x outputs (src/sample/noise.h)
@@ -118,6 +120,10 @@ static void discretize_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d
                     nz->qd_exact ? "Qd (process noise per period, exact)"
                                  : "Qd (process noise per period, exact for zoh only)",
                     nz->Qd, xs, d->nx, xs, d->nx);
+    if (nz->qd_route != RIGMAT_QD_NONE)
+        fprintf(f, "Qd relative error bound %.2g (%s)\n\n", nz->qd_bound,
+                nz->qd_route == RIGMAT_QD_EIGEN ? "eigen-decomposition, residual-checked"
+                                                : "block exponential with doubling");
     cli_text_matrix(f, "Rd (measurement noise per sample)", nz->Rd, L->outputs, d->ny, L->outputs,
                     d->ny);
     if (nz->S != NULL)
@@ -176,6 +182,8 @@ static rigmat_status discretize_json(FILE *f, const rigmat_model *m, const rigma
     cli_json_matrix(&j, nz->Qd, d->nx, d->nx);
     cli_json_key(&j, "qd_exact");
     cli_json_bool(&j, nz->qd_exact);
+    cli_json_key(&j, "qd_error_bound");
+    cli_json_num(&j, nz->qd_bound);
     cli_json_key(&j, "Rd");
     cli_json_matrix(&j, nz->Rd, d->ny, d->ny);
     if (nz->S != NULL) {
