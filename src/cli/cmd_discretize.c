@@ -371,6 +371,7 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
         return st;
     }
     env->opt.rate_hz = 1.0 / o.period_s;
+    o.max_states = env->opt.max_sampled_states;
     st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;

@@ -3,6 +3,7 @@
  * figures, and the cross-covariance of a disturbance that reaches a
  * sensor directly (noise.h). */
 #include "noise.h"
+#include "sizes.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -34,7 +35,7 @@ static const double eigen_above = 1e-10;
 
 static gsl_matrix *sq(size_t n, int *bad)
 {
-    gsl_matrix *m = gsl_matrix_calloc(n, n);
+    gsl_matrix *m = rigmat_matrix_calloc(n, n);
 
     if (m == NULL)
         *bad = 1;
@@ -44,7 +45,8 @@ static gsl_matrix *sq(size_t n, int *bad)
 rigmat_noise_ws *rigmat_noise_ws_alloc(size_t nx, size_t nw)
 {
     rigmat_noise_ws *w;
-    const size_t nb = 2 * nx > nx + nw ? 2 * nx : nx + nw;
+    const size_t nb2 = rigmat_size_mul_add(nx, 2, 0), nbw = rigmat_size_mul_add(nx, 1, nw);
+    const size_t nb = nb2 > nbw ? nb2 : nbw;
     int bad = 0;
 
     if (nx == 0)
@@ -68,7 +70,7 @@ rigmat_noise_ws *rigmat_noise_ws_alloc(size_t nx, size_t nw)
     if (w->D == NULL)
         bad = 1;
     if (nw > 0)
-        w->G = gsl_matrix_calloc(nx, nw);
+        w->G = rigmat_matrix_calloc(nx, nw);
     if (nw > 0 && w->G == NULL)
         bad = 1;
     if (bad || w->expm == NULL) {
@@ -291,7 +293,7 @@ static rigmat_status eigen_route(const gsl_matrix *A, const gsl_matrix *W, doubl
 {
     const size_t n = A->size1;
     const double u = DBL_EPSILON / 2.0, gam = (double)n * u;
-    gsl_matrix *Ac = gsl_matrix_alloc(n, n);
+    gsl_matrix *Ac = rigmat_matrix_alloc(n, n);
     gsl_vector_complex *lam = gsl_vector_complex_alloc(n);
     gsl_matrix_complex *V = gsl_matrix_complex_alloc(n, n), *Vi = gsl_matrix_complex_alloc(n, n);
     gsl_matrix_complex *X = gsl_matrix_complex_alloc(n, n), *Y = gsl_matrix_complex_alloc(n, n);
@@ -305,7 +307,7 @@ static rigmat_status eigen_route(const gsl_matrix *A, const gsl_matrix *W, doubl
     int gs, sgn;
 
     *bound = HUGE_VAL;
-    if (Ac == NULL || lam == NULL || V == NULL || Vi == NULL || X == NULL || Y == NULL ||
+    if (!rigmat_size_matrix_ok(n, n, 2 * sizeof(double)) || Ac == NULL || lam == NULL || V == NULL || Vi == NULL || X == NULL || Y == NULL ||
         Z == NULL || perm == NULL || ew == NULL) {
         rc = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         goto done;
@@ -677,12 +679,12 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
     r->nw = nw;
     r->period_s = T;
     r->qd_exact = d->method == RIGMAT_METHOD_ZOH;
-    r->Qd = gsl_matrix_calloc(d->nx, d->nx);
+    r->Qd = rigmat_matrix_calloc(d->nx, d->nx);
     r->sensor = calloc(ny ? ny : 1, sizeof *r->sensor);
     r->direct_var = calloc(ny ? ny : 1, sizeof *r->direct_var);
     r->disturbance_sd = calloc(nw ? nw : 1, sizeof *r->disturbance_sd);
     if (ny > 0)
-        r->Rd = gsl_matrix_calloc(ny, ny);
+        r->Rd = rigmat_matrix_calloc(ny, ny);
     Qv = lead(w->T2, n, n);
     Qp = &Qv.matrix;
     if (nw > 0) {
@@ -729,7 +731,7 @@ rigmat_status rigmat_noise_build(const rigmat_lti *s, const rigmat_dlti *d,
         rc = gamma_g(s->A, G, T, o, w, &Gam, err);
         if (rc != RIGMAT_OK)
             goto done;
-        r->S = gsl_matrix_calloc(d->nx, ny);
+        r->S = rigmat_matrix_calloc(d->nx, ny);
         if (r->S == NULL) {
             rc = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
             goto done;
