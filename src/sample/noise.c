@@ -428,7 +428,7 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
                               gsl_matrix *Qd, unsigned *doublings, rigmat_error *err)
 {
     size_t n, nw, i, j, k;
-    unsigned s = 0;
+    unsigned s = 0, pass;
     int any = 0, gs;
     gsl_matrix_view W, Q, Ab;
     gsl_vector_view D;
@@ -481,15 +481,25 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
         gs = gsl_linalg_balance_matrix(&Ab.matrix, &D.vector);
     if (gs != GSL_SUCCESS)
         return gsl_fail(err, "balancing", gs);
-    /* W' = D^-1 G diag(Qc) G^T D^-1 */
-    for (i = 0; i < n; i++)
-        for (j = 0; j < n; j++) {
-            double v = 0.0;
-            for (k = 0; k < nw; k++)
-                v += gsl_matrix_get(G, i, k) * intensity[k] * gsl_matrix_get(G, j, k);
-            v /= gsl_vector_get(&D.vector, i) * gsl_vector_get(&D.vector, j);
-            gsl_matrix_set(&W.matrix, i, j, v);
-        }
+    /* W' = D^-1 G diag(Qc) G^T D^-1; a balancing that would push an entry of W
+     * below the normal range (losing it) is dropped: D = I */
+    for (pass = 0; pass < 2; pass++) {
+        int lost = 0;
+        for (i = 0; i < n; i++)
+            for (j = 0; j < n; j++) {
+                double v = 0.0, vs;
+                for (k = 0; k < nw; k++)
+                    v += gsl_matrix_get(G, i, k) * intensity[k] * gsl_matrix_get(G, j, k);
+                vs = v / gsl_vector_get(&D.vector, i) / gsl_vector_get(&D.vector, j);
+                if (v != 0.0 && !(fabs(vs) >= DBL_MIN))
+                    lost = 1;
+                gsl_matrix_set(&W.matrix, i, j, vs);
+            }
+        if (!lost)
+            break;
+        gsl_matrix_memcpy(&Ab.matrix, A);
+        gsl_vector_set_all(&D.vector, 1.0);
+    }
     for (i = 0; i < n; i++)
         for (j = 0; j < n; j++)
             if (!isfinite(gsl_matrix_get(&W.matrix, i, j)))
