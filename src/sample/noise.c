@@ -141,20 +141,24 @@ static double nrm(const gsl_matrix *M)
 
 /* Why the doubling alone loses a stiff, lightly damped mode.  The number of
  * doublings s is set by ||A||_1 T, and an unbalanced A (a 1e-9 kg mass on a
- * 1e18 N/m spring: the entry k/m = 1e27 next to 1) makes ||A||_1 far larger
- * than the modes: s = 81 for T = 1 ms, h = T / 2^81 = 4e-28 s.  Over h the
- * damping c/m h = 4e-19 is below the unit roundoff, so the diagonal of
- * Phi(h), 1 - (c/m) h + ..., rounds to 1: the computed Phi(h) is a rotation
- * with no decay (its determinant is 1 up to a rounding error of order u),
- * and the s squarings raise it to the power 2^s = 2.4e24, which turns that
- * error of u into a factor (1 + u)^(2^s): Qd[0][0] = 1.9e132 instead of
- * 5.0e-19.  With a 1 g mass on 1e16 N/m (s = 55, c/m h = 3e-17) the decay is
- * rounded away but no growth appears: the result is that of an undamped
- * oscillator, 61 % too large.  Balancing (A' = D^-1 A D) brings ||A'|| down to
- * the size of the modes (s = 36 and 23), so the damping per step is
- * represented again, but the error still grows like 2^s u along a mode that
- * does not decay within h; the bound below measures that growth, and the
- * eigen route takes over when it is too large. */
+ * 1e18 N/m spring with 1 N*s/m: the entry k/m = 1e27 next to 1) makes
+ * ||A||_1 far larger than the modes: s = 81 for T = 1 ms, h = T / 2^81 =
+ * 4e-28 s.  Over h the decay terms of the diagonal of Phi(h),
+ * 1 - (c/m) h - w^2 h^2 / 2 (c/m h = 4e-19, w = 3.2e13 rad/s), are below the
+ * rounding unit of 1, so the computed diagonal is exactly 1 and
+ *     Phi(t) = [[1, t], [-w^2 t, 1]],  det = 1 + w^2 t^2 > 1,
+ * a growing spiral where the true one decays (det = e^{-(c/m) t} < 1).  The
+ * doublings keep the diagonal exactly 1 until w t reaches sqrt(u), at
+ * t = 3e-22 s; a growth of about u/2 per such step, raised to the power
+ * T / t = 3e18 by the remaining doublings, is e^{170}: Qd[0][0] = 1.9e132
+ * instead of 5.0e-19.  With a 1 g mass on 1e16 N/m (s = 55, c/m h = 3e-17,
+ * w = 3.2e9 rad/s) the same loss removes the damping (variance e^{-1} per
+ * period: 316 becomes an undamped 500) and adds a growth e^{0.017}: 61 %
+ * too large.  Balancing (A' = D^-1 A D) brings ||A'|| down to the size of the
+ * modes (s = 37 and 24), so the decay per step is represented again, but an
+ * error still grows like 2^s u along a mode that does not decay within h;
+ * the bound below measures that growth, and the eigen route takes over when
+ * it is too large. */
 static rigmat_status vanloan_doubling(const gsl_matrix *A, const gsl_matrix *W, double T,
                                       const rigmat_noise_opts *o, rigmat_noise_ws *w,
                                       gsl_matrix *Q, unsigned *sout, double *bound,
