@@ -149,12 +149,13 @@ static double nrm(const gsl_matrix *M)
  *     Phi(t) = [[1, t], [-w^2 t, 1]],  det = 1 + w^2 t^2 > 1,
  * a growing spiral where the true one decays (det = e^{-(c/m) t} < 1).  The
  * doublings keep the diagonal exactly 1 until w t reaches sqrt(u), at
- * t = 3e-22 s; a growth of about u/2 per such step, raised to the power
- * T / t = 3e18 by the remaining doublings, is e^{170}: Qd[0][0] = 1.9e132
- * instead of 5.0e-19.  With a 1 g mass on 1e16 N/m (s = 55, c/m h = 3e-17,
- * w = 3.2e9 rad/s) the same loss removes the damping (variance e^{-1} per
- * period: 316 becomes an undamped 500) and adds a growth e^{0.017}: 61 %
- * too large.  Balancing (A' = D^-1 A D) brings ||A'|| down to the size of the
+ * t = 3e-22 s; an amplitude growth of about u/2 per such step, raised to
+ * the power T / t = 3e18 by the remaining doublings, is about e^{167}, e^{333}
+ * in a variance: Qd[0][0] = 1.9e132 instead of 5.0e-19 (a factor e^{347}).
+ * With a 1 g mass on 1e16 N/m (s = 55, c/m h = 3e-17, w = 3.2e9 rad/s) the
+ * same loss removes the damping (variance decay e^{-1} per period: 316
+ * becomes an undamped 500) and adds a growth of a few per cent: 61 % too
+ * large.  Balancing (A' = D^-1 A D) brings ||A'|| down to the size of the
  * modes (s = 37 and 24), so the decay per step is represented again, but an
  * error still grows like 2^s u along a mode that does not decay within h;
  * the bound below measures that growth, and the eigen route takes over when
