@@ -163,6 +163,9 @@ typedef struct rigmat_options {
     size_t trim_max_iter;    /* default 100 */
     double rank_rtol;        /* relative singular-value threshold, default 1e-9 */
     double rate_hz;          /* sample rate for noise-per-sample figures; 0 = none */
+    size_t max_sampled_states; /* states of a sampled model, plant plus input-delay
+                                * stages; a larger delay is refused; default 1024
+                                * (README.md, Limits) */
 } rigmat_options;
 
 rigmat_options rigmat_options_default(void);

@@ -163,14 +163,31 @@ START_TEST(stiff_motor_matches_mpmath)
         assert_psd(nz->Qd, "stiff Qd");
         ck_assert_uint_gt(nz->doublings, 5);
         ck_assert_int_eq(nz->qd_exact, 1);
+        /* the doubling, certified (an eigenvalue at 0: the eigen route has no bound) */
+        ck_assert_int_eq(nz->qd_route, RIGMAT_QD_VANLOAN);
+        ck_assert(nz->qd_bound > 0.0 && nz->qd_bound <= no.rtol);
+        {
+            /* the bound holds: each entry's error relative to sqrt(Qii Qjj) */
+            double worst = 0.0;
+            size_t i, j;
+            for (i = 0; i < 3; i++)
+                for (j = 0; j < 3; j++)
+                    worst = fmax(worst, fabs(gsl_matrix_get(nz->Qd, i, j) - gsl_matrix_get(Qd, i, j)) /
+                                                sqrt(gsl_matrix_get(Qd, i, i) * gsl_matrix_get(Qd, j, j)));
+            if (getenv("RIGMAT_TEST_VERBOSE") != NULL)
+                fprintf(stderr, "stiff motor T = %g s: Qd entry error %.3g, bound %.3g\n", T, worst,
+                        nz->qd_bound);
+            ck_assert_double_le(worst, nz->qd_bound);
+        }
         ck_assert_ptr_null(nz->S);
         if (getenv("RIGMAT_TEST_VERBOSE") != NULL)
             fprintf(stderr,
-                    "stiff motor T = %g s: Ad %.3g, Bd %.3g, Gd %.3g, Qd %.3g (%u doublings)\n", T,
+                    "stiff motor T = %g s: Ad %.3g, Bd %.3g, Gd %.3g, Qd %.3g (%u doublings, "
+                    "bound %.3g)\n", T,
                     rigmat_test_matrix_reldiff(d->Ad, Ad),
                     rigmat_test_matrix_reldiff(d->Bd, &g0.matrix),
                     rigmat_test_matrix_reldiff(d->Gd, &g1.matrix),
-                    rigmat_test_matrix_reldiff(nz->Qd, Qd), nz->doublings);
+                    rigmat_test_matrix_reldiff(nz->Qd, Qd), nz->doublings, nz->qd_bound);
         {
             /* the plain block form over the whole period is what the doubling
              * avoids: e^{-A T} reaches e^498 at 50 ms and the product cancels */
@@ -199,6 +216,97 @@ START_TEST(stiff_motor_matches_mpmath)
     }
     fclose(f);
     ck_assert_uint_eq(cases, 2);
+}
+END_TEST
+
+START_TEST(stiff_oscillators_right_or_refused)
+{
+    /* issue 10, item 4: tests/ref/stiff_noise_cases.txt, from
+     * tests/ref/gen_stiff_noise.py (mpmath at 50 digits: the stationary covariance
+     * P = diag(q/(2ck), q/(2cm)) and Qd = P - Ad P Ad^T, Van Loan 1978, checked
+     * against the block exponential at 120 digits).  Before, the first case gave
+     * Qd[0][0] = 1.9e132 and the second was 61 % too large, both as exact. */
+    FILE *f = fopen("ref/stiff_noise_cases.txt", "r");
+    char line[512];
+    size_t cases = 0, refused = 0, eigen = 0;
+
+    ck_assert_ptr_nonnull(f);
+    while (fgets(line, sizeof line, f) != NULL) {
+        double m, k, c, q, T, want[4];
+        gsl_matrix *A = gsl_matrix_calloc(2, 2), *G = gsl_matrix_calloc(2, 1);
+        gsl_matrix *Q = gsl_matrix_alloc(2, 2);
+        rigmat_noise_opts o = rigmat_noise_opts_default();
+        rigmat_noise_ws *w = rigmat_noise_ws_alloc(2, 1);
+        rigmat_error err;
+        rigmat_status st;
+        size_t i, j;
+
+        if (line[0] == '#') {
+            gsl_matrix_free(A);
+            gsl_matrix_free(G);
+            gsl_matrix_free(Q);
+            rigmat_noise_ws_free(w);
+            continue;
+        }
+        ck_assert_int_eq(sscanf(line, "oscillator %lf %lf %lf %lf %lf", &m, &k, &c, &q, &T), 5);
+        ck_assert_ptr_nonnull(fgets(line, sizeof line, f));
+        gsl_matrix_set(A, 0, 1, 1.0);
+        gsl_matrix_set(A, 1, 0, -k / m);
+        gsl_matrix_set(A, 1, 1, -c / m);
+        gsl_matrix_set(G, 1, 0, 1.0 / m);
+        memset(&err, 0, sizeof err);
+        st = rigmat_noise_qd(A, G, &q, T, &o, w, Q, NULL, &err);
+        if (strncmp(line, "refuse", 6) == 0) {
+            /* at 3e13 rad/s undamped, or nearly (c/m = 1e3 1/s): the doubling's
+             * bound is far above rtol, and the eigen route has none (l + conj(l) = 0)
+             * or one above rtol: refused, not printed */
+            ck_assert_int_eq(st, RIGMAT_ENUMERIC);
+            ck_assert_ptr_nonnull(strstr(err.message, "cannot be computed within"));
+            ck_assert_double_gt(w->bound_vanloan, o.rtol);
+            ck_assert_double_gt(w->bound_eigen, o.rtol);
+            ck_assert(c > 0.0 || isinf(w->bound_eigen));
+            refused++;
+        } else {
+            double worst = 0.0;
+            ck_assert_int_eq(sscanf(line, "%lf %lf %lf %lf", &want[0], &want[1], &want[2],
+                                    &want[3]), 4);
+            ck_assert_msg(st == RIGMAT_OK, "m = %g: %s", m, err.message);
+            ck_assert(w->bound > 0.0 && w->bound <= o.rtol);
+            /* each entry within the bound, relative to sqrt(Qii Qjj) (a covariance's
+             * own scale; the bound is normwise in balanced coordinates) */
+            for (i = 0; i < 2; i++)
+                for (j = 0; j < 2; j++) {
+                    const double e = fabs(gsl_matrix_get(Q, i, j) - want[2 * i + j]) /
+                                     sqrt(want[3 * i] * want[3 * j]);
+                    worst = fmax(worst, e);
+                }
+            ck_assert_msg(worst <= w->bound, "m = %g: error %.3g above its bound %.3g", m, worst,
+                          w->bound);
+            ck_assert_rel(gsl_matrix_get(Q, 0, 0), want[0], 1e-9);
+            ck_assert_rel(gsl_matrix_get(Q, 1, 1), want[3], 1e-9);
+            assert_psd(Q, "stiff oscillator Qd");
+            if (w->route == RIGMAT_QD_EIGEN) {
+                /* chosen because the doubling's own bound is worse */
+                ck_assert_double_gt(w->bound_vanloan, w->bound);
+                eigen++;
+            } else {
+                ck_assert_int_eq(w->route, RIGMAT_QD_VANLOAN);
+            }
+            if (getenv("RIGMAT_TEST_VERBOSE") != NULL)
+                fprintf(stderr, "oscillator m = %g k = %g: route %d, error %.3g, bound %.3g "
+                                "(doubling %.3g, eigen %.3g)\n",
+                        m, k, (int)w->route, worst, w->bound, w->bound_vanloan, w->bound_eigen);
+        }
+        gsl_matrix_free(A);
+        gsl_matrix_free(G);
+        gsl_matrix_free(Q);
+        rigmat_noise_ws_free(w);
+        cases++;
+    }
+    fclose(f);
+    ck_assert_uint_eq(cases, 9);
+    ck_assert_uint_eq(refused, 2);
+    ck_assert_uint_ge(eigen, 2);
 }
 END_TEST
 
@@ -372,6 +480,7 @@ Suite *noise_suite(void)
     tcase_add_test(tq, double_integrator_closed_form);
     tcase_add_test(tq, reference_two_state_value);
     tcase_add_test(tq, stiff_motor_matches_mpmath);
+    tcase_add_test(tq, stiff_oscillators_right_or_refused);
     tcase_add_test(tq, random_qd_symmetric_psd_and_doubling_exact);
     tcase_add_test(tq, bad_intensity_is_refused);
     suite_add_tcase(s, tq);

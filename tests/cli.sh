@@ -13,6 +13,18 @@ ok() { pass=$((pass + 1)); }
 bad() { fail=$((fail + 1)); echo "FAIL: $*" >&2; }
 
 # expect CODE DESCRIPTION -- command...
+# bounded COMMAND...: at most 5 s and 1 GiB of address space (as tests/hostile.sh).
+# A sanitized build reserves terabytes of shadow address space, so there the
+# address-space bound is left out and only the time bound holds.
+sanitized=0
+if ASAN_OPTIONS=help=1 "$R" --version 2>&1 | grep -q AddressSanitizer; then sanitized=1; fi
+bounded() {
+    (
+        [ "$sanitized" = 1 ] || ulimit -v 1048576 2>/dev/null
+        OPENBLAS_NUM_THREADS=1 exec timeout 5 "$@"
+    )
+}
+
 expect() {
     want=$1; what=$2; shift 3
     "$@" >"$T/out" 2>"$T/err"
@@ -115,6 +127,44 @@ expect 2 "rate in rad/s" -- "$R" discretize "$DEMO" --rate 100rad/s
 expect 3 "overflowing Rd, text" -- "$R" discretize "$DEMO" --rate 100Hz --set sensors.gyro.gain=-1e308
 has "$T/err" "not finite" "overflowing Rd message"
 if grep -q inf "$T/out"; then bad "inf printed"; else ok; fi
+
+# issue 10, item 1: a delay is bounded by the states it implies, refused
+# fast (5 s, 1 GiB of address space, as tests/hostile.sh) with exit 2
+expect 2 "delay of 1e9 samples" -- bounded "$R" discretize "$DEMO" --rate 1kHz --delay 1e9
+has "$T/err" "above the limit of 1024 states" "delay limit message"
+if [ -s "$T/out" ]; then bad "refused delay printed a result"; else ok; fi
+{
+    printf 'rigmat: 1\nbodies:\n  m: {mass: 1 kg}\n'
+    printf 'joints:\n  x: {type: slider, parent: ground, child: m, axis: [1, 0]}\nforces:\n'
+    for i in 1 2 3 4; do printf '  f%s: {on: m, at: [0, 0], direction: [1, 0]}\n' "$i"; done
+    printf 'sensors:\n  p: {measures: position, of: x}\n'
+    printf 'operating_point:\n  coordinates: {x: 0 m}\n  rates: {}\n'
+    printf '  inputs: {f1: 0 N, f2: 0 N, f3: 0 N, f4: 0 N}\n'
+} >"$T/four.yaml"
+expect 0 "four inputs, delay 2" -- bounded "$R" discretize "$T/four.yaml" --rate 1kHz --delay 2
+expect 2 "four inputs, 2^31 states" -- bounded "$R" discretize "$T/four.yaml" --rate 1kHz --delay 536870911
+has "$T/err" "needs 2147483646 states" "2^31-state delay message"
+
+# issue 10, item 4: stiff process noise is right (tests/ref/gen_stiff_noise.py:
+# Qd = diag(5.0e-19, 5.0e8) for 1e-9 kg on 1e18 N/m with 1 N*s/m) or refused
+stiff() { # stiff MASS STIFFNESS DAMPING
+    printf 'rigmat: 1\ngravity: 0 m/s^2\nbodies:\n  m: {mass: %s kg}\n' "$1"
+    printf 'joints:\n  x: {type: slider, parent: ground, child: m, axis: [1, 0]}\n'
+    printf 'springs:\n  k: {across: x, stiffness: %s N/m, rest: 0 m}\n' "$2"
+    printf 'dampers:\n  c: {across: x, coefficient: %s N*s/m}\n' "$3"
+    printf 'forces:\n  w: {on: m, at: [0, 0], direction: [1, 0], role: disturbance, '
+    printf 'density: 1 N/sqrt(Hz)}\nsensors:\n  p: {measures: position, of: x, noise: 1 mm}\n'
+    printf 'operating_point:\n  coordinates: {x: 0 m}\n  rates: {}\n  inputs: {}\n'
+}
+stiff 1e-9 1e18 1 >"$T/stiff.yaml"
+expect 0 "stiff damped oscillator" -- "$R" discretize "$T/stiff.yaml" --rate 1kHz --format json
+has "$T/out" '"qd_error_bound"' "discretize json has qd_error_bound"
+# 5.0e-19 to 12 digits (it was 1.9e132, labelled exact)
+if grep -Eq '\[(4\.99999999999|5\.00000000000)[0-9]*e-19,' "$T/out"; then ok; else bad "stiff Qd[0][0] is not 5.0e-19"; fi
+stiff 1e-9 1e18 0 >"$T/undamped.yaml"
+expect 3 "stiff undamped oscillator refused" -- "$R" discretize "$T/undamped.yaml" --rate 1kHz
+has "$T/err" "Qd cannot be computed within" "refused Qd message"
+if [ -s "$T/out" ]; then bad "refused Qd printed a result"; else ok; fi
 
 # JSON is read with Debian's python3, as the reference scripts read it.
 PY=${PYTHON:-/usr/bin/python3}

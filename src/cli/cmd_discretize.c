@@ -15,7 +15,9 @@
  *   Qc              white-noise intensity of each input (SI per Hz; 0 for control
  *                   inputs and for disturbances without a density)
  *   Qd              covariance of the process noise added over one period
- *   qd_exact        true for zoh (Qd is the exact covariance of the sampled system)
+ *   qd_exact        true for zoh: Qd is the exact covariance of the sampled system,
+ *                   within qd_error_bound (a Qd that cannot be bounded is refused, exit 3)
+ *   qd_error_bound  relative error bound of Qd (src/sample/noise.h; 0 without noise)
  *   Rd              covariance of the measurement noise of one sample
  *   S               (only when a disturbance reaches a sensor directly)
  *                   E[w_k v_k^T], states x outputs (src/sample/noise.h)
@@ -161,6 +163,14 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
                                         : "Qd (process noise per period, exact for zoh only)");
     rigmat_result_key(r, "qd_exact");
     rigmat_result_bool(r, nz->qd_exact);
+    rigmat_result_key(r, "qd_error_bound");
+    rigmat_result_number(r, nz->qd_bound, NULL);
+    if (nz->qd_route != RIGMAT_QD_NONE)
+        rigmat_result_as_text(r, "Qd relative error bound %.2g (%s)\n\n", nz->qd_bound,
+                nz->qd_route == RIGMAT_QD_EIGEN ? "eigen-decomposition, residual-checked"
+                                                : "block exponential with doubling");
+    else
+        rigmat_result_as_text(r, "%s", "");
     rigmat_result_key(r, "Rd");
     rigmat_result_matrix(r, nz->Rd, d->ny, d->ny, L->outputs, L->outputs);
     rigmat_result_title(r, "Rd (measurement noise per sample)");
@@ -370,6 +380,7 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
         return st;
     }
     env->opt.rate_hz = 1.0 / o.period_s;
+    o.max_states = env->opt.max_sampled_states;
     st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;

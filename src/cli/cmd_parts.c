@@ -14,6 +14,7 @@
  * exists (the hint lists the folders searched).
  */
 #include "cli.h"
+#include "sizes.h"
 #include "load.h"
 #include "units.h"
 
@@ -130,8 +131,8 @@ static rigmat_status walk(struct part_list *l, const char *dir, const char *pref
         if (seen(l, name))
             continue;
         if (l->n == l->cap) {
-            const size_t cap = l->cap ? 2 * l->cap : 32;
-            struct part_row *g = realloc(l->rows, cap * sizeof *g);
+            const size_t cap = l->cap ? rigmat_size_mul_add(l->cap, 2, 0) : 32;
+            struct part_row *g = realloc(l->rows, rigmat_size_mul_add(cap, sizeof *g, 0));
             if (g == NULL) {
                 st = RIGMAT_ENOMEM;
                 break;

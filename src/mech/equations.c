@@ -5,6 +5,7 @@
  * model stage never builds the mechanics (see rigmat_model_check_equations
  * in include/rigmat.h). */
 #include "equations.h"
+#include "sizes.h"
 
 #include <stdlib.h>
 #include <string.h>
@@ -22,8 +23,8 @@ static rigmat_status is_cyclic(rigmat_mech *s, size_t k, int *cyclic, rigmat_err
     *cyclic = 1;
     x = calloc(L->nx + 1, sizeof *x);
     u = calloc(L->nu + 1, sizeof *u);
-    A = calloc(L->nx * L->nx + 1, sizeof *A);
-    C = calloc(L->ny * L->nx + 1, sizeof *C);
+    A = calloc(rigmat_size_mul_add(L->nx, L->nx, 1), sizeof *A);
+    C = calloc(rigmat_size_mul_add(L->ny, L->nx, 1), sizeof *C);
     if (x == NULL || u == NULL || A == NULL || C == NULL) {
         st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         goto done;

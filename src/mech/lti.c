@@ -1,5 +1,6 @@
 /* lti.c - the continuous linear model container. */
 #include "rigmat.h"
+#include "sizes.h"
 
 #include <stdlib.h>
 #include <string.h>
@@ -10,7 +11,7 @@ static gsl_matrix *zeros(size_t r, size_t c, int *bad)
 
     if (r == 0 || c == 0)
         return NULL;
-    m = gsl_matrix_calloc(r, c);
+    m = rigmat_matrix_calloc(r, c);
     if (m == NULL)
         *bad = 1;
     return m;

@@ -1,5 +1,6 @@
 /* trim.c - steady states by Gauss-Newton with an SVD step (see trim.h). */
 #include "trim.h"
+#include "sizes.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -67,8 +68,8 @@ rigmat_status rigmat_trim_alloc(rigmat_mech *s, const rigmat_namelist *solve,
     t->u = calloc(L->nu + 1, sizeof(double));
     t->xt = calloc(L->nx + 1, sizeof(double));
     t->ut = calloc(L->nu + 1, sizeof(double));
-    t->A = calloc(L->nx * L->nx + 1, sizeof(double));
-    t->B = calloc(L->nx * L->nu + 1, sizeof(double));
+    t->A = calloc(rigmat_size_mul_add(L->nx, L->nx, 1), sizeof(double));
+    t->B = calloc(rigmat_size_mul_add(L->nx, L->nu, 1), sizeof(double));
     t->f = calloc(L->nx + 1, sizeof(double));
     if (!t->p_input || !t->p_index || !t->e_index || !t->x || !t->u || !t->xt || !t->ut ||
             !t->A || !t->B || !t->f)
@@ -103,14 +104,14 @@ rigmat_status rigmat_trim_alloc(rigmat_mech *s, const rigmat_namelist *solve,
             t->e_index[t->ne++] = k;
     big = t->ne > t->np ? t->ne : t->np;
     t->r = calloc(t->ne + 1, sizeof(double));
-    t->J = calloc(t->ne * t->np + 1, sizeof(double));
+    t->J = calloc(rigmat_size_mul_add(t->ne, t->np, 1), sizeof(double));
     t->dp = calloc(t->np + 1, sizeof(double));
     if (!t->r || !t->J || !t->dp)
         goto nomem;
     if (t->ne > 0 && t->np > 0) {
         const size_t small = t->ne < t->np ? t->ne : t->np;
-        t->W = gsl_matrix_alloc(big, small);
-        t->V = gsl_matrix_alloc(small, small);
+        t->W = rigmat_matrix_alloc(big, small);
+        t->V = rigmat_matrix_alloc(small, small);
         t->S = gsl_vector_alloc(small);
         t->work = gsl_vector_alloc(small);
         if (!t->W || !t->V || !t->S || !t->work)

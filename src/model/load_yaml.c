@@ -21,6 +21,7 @@
  */
 #include "load.h"
 #include "reentrant.h"
+#include "sizes.h"
 
 #include <errno.h>
 #include <stdarg.h>
@@ -192,15 +193,18 @@ void rigmat_node_free(rigmat_node *n)
 
 static int grow(void **p, size_t *cap, size_t need, size_t size)
 {
-    size_t c;
+    size_t c, bytes;
     void *q;
 
     if (need <= *cap)
         return 1;
-    c = *cap ? 2 * *cap : 4;
+    c = *cap ? *cap : 4;
     while (c < need)
-        c *= 2;
-    q = realloc(*p, c * size);
+        if (rigmat_size_mul(c, 2, &c) != 0)
+            return 0;
+    if (rigmat_size_mul(c, size, &bytes) != 0)
+        return 0;
+    q = realloc(*p, bytes);
     if (q == NULL)
         return 0;
     *p = q;
@@ -353,7 +357,7 @@ static void check_duplicates(struct builder *b, const rigmat_node *map)
 
     if (map->n < 2)
         return;
-    v = malloc(map->n * sizeof *v);
+    v = malloc(rigmat_size_mul_add(map->n, sizeof *v, 0));
     if (v == NULL) {
         b->nomem = 1;
         b->failed = 1;
@@ -674,7 +678,7 @@ rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
             char *g;
             if (cap > opt->max_file_bytes)
                 break;
-            g = realloc(buf, 2 * cap);
+            g = realloc(buf, rigmat_size_mul_add(cap, 2, 0));
             if (g == NULL) {
                 free(buf);
                 buf = NULL;

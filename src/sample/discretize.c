@@ -2,6 +2,7 @@
  * by state augmentation, and sampling-rate advice (discretize.h). */
 #include "invariant.h"
 #include "discretize.h"
+#include "sizes.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -47,6 +48,7 @@ rigmat_discretize_opts rigmat_discretize_opts_default(void)
     o.period_s = 1e-3;
     o.prewarp_hz = 0.0;
     o.delay_samples = 0.0;
+    o.max_states = rigmat_options_default().max_sampled_states;
     o.expm_flags = RIGMAT_EXPM_BALANCE;
     return o;
 }
@@ -79,7 +81,7 @@ static gsl_matrix *zeros(size_t r, size_t c, int *bad)
 
     if (r == 0 || c == 0)
         return NULL;
-    m = gsl_matrix_calloc(r, c);
+    m = rigmat_matrix_calloc(r, c);
     if (m == NULL)
         *bad = 1;
     return m;
@@ -88,7 +90,7 @@ static gsl_matrix *zeros(size_t r, size_t c, int *bad)
 rigmat_discretize_ws *rigmat_discretize_ws_alloc(size_t nx, size_t nu, size_t ny)
 {
     rigmat_discretize_ws *w;
-    const size_t nb = nx + 2 * nu;
+    const size_t nb = rigmat_size_mul_add(nu, 2, nx);
     int bad = 0;
 
     if (nx == 0)
@@ -388,7 +390,7 @@ static rigmat_status name_delays(const rigmat_lti *s, rigmat_dlti *d, rigmat_err
 {
     size_t j, i;
 
-    d->delay_states = calloc(d->nu * d->ndelay, sizeof *d->delay_states);
+    d->delay_states = calloc(rigmat_size_mul_add(d->nu, d->ndelay, 0), sizeof *d->delay_states);
     if (d->delay_states == NULL)
         return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
     for (j = 0; j < d->ndelay; j++)
@@ -493,6 +495,21 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
     }
     if (mc == 0)
         L = 0; /* nothing to delay */
+    {
+        /* n + mc L, refused above the limit before anything is allocated */
+        const size_t nx = rigmat_size_mul_add(mc, L, n);
+        if (nx > o->max_states) {
+            rc = RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+                             "a delay of %g samples needs %.0f states (%zu of the plant, %zu "
+                             "control inputs x %zu delay stages), above the limit of %zu states",
+                             o->delay_samples, (double)n + (double)mc * (double)L, n, mc, L,
+                             o->max_states);
+            rigmat_error_hint(err, "each delayed sample adds a state per control input; the "
+                                   "limit is max_sampled_states in rigmat_options (README.md, "
+                                   "Limits)");
+            return rc;
+        }
+    }
     d = calloc(1, sizeof *d);
     if (d == NULL)
         return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
@@ -615,7 +632,7 @@ rigmat_status rigmat_sampling_advice(const rigmat_lti *s, const rigmat_discretiz
     if (s->nx == 0)
         return RIGMAT_OK;
     n = s->nx;
-    A = gsl_matrix_alloc(n, n);
+    A = rigmat_matrix_alloc(n, n);
     ev = gsl_vector_complex_alloc(n);
     V = gsl_matrix_complex_alloc(n, n);
     ew = gsl_eigen_nonsymmv_alloc(n);

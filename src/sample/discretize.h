@@ -60,6 +60,8 @@ typedef struct rigmat_discretize_opts {
     double period_s;      /* > 0 */
     double prewarp_hz;    /* TUSTIN only; 0 = none; 0 < f < 1/(2 T) */
     double delay_samples; /* ZOH only; >= 0; d + f as above */
+    size_t max_states;    /* the largest nx_plant + nu * L accepted; default
+                           * rigmat_options_default().max_sampled_states */
     unsigned expm_flags;  /* rigmat_expm_flags; default RIGMAT_EXPM_BALANCE: the
                            * augmented matrices mix 1/s and 1/L scales (torsion.yaml
                            * FOH at 1 kHz: Bd off by 4e-13 unbalanced, 8e-15
@@ -114,7 +116,8 @@ void rigmat_discretize_ws_free(rigmat_discretize_ws *w);
 
 /* Discretize s (whose input names, when it has them, name the delay states).
  * On success *out is a new model owned by the caller (rigmat_dlti_free).
- * RIGMAT_EUSAGE for a bad period, prewarp or delay, a delay with a method
+ * RIGMAT_EUSAGE for a bad period, prewarp or delay, a delay whose states
+ * exceed o->max_states (checked before any allocation), a delay with a method
  * other than ZOH, or a model without states; RIGMAT_ENUMERIC when I - A T/2
  * or I - A T is singular or the exponential overflows; RIGMAT_ENOMEM. */
 rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opts *o,

@@ -9,6 +9,7 @@
  */
 #include "invariant.h"
 #include "expm.h"
+#include "sizes.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -65,7 +66,7 @@ double rigmat_expm_norm1(const gsl_matrix *A)
 
 static gsl_matrix *alloc_or_flag(size_t n, int *bad)
 {
-    gsl_matrix *m = gsl_matrix_alloc(n, n);
+    gsl_matrix *m = rigmat_matrix_alloc(n, n);
 
     if (m == NULL)
         *bad = 1;

@@ -15,17 +15,47 @@
  * Process noise.  For x' = A x + G w, the covariance of the state noise
  * accumulated over one period is
  *     Qd = int_0^T e^{A s} G Qc G^T e^{A^T s} ds.
- * It is computed by Van Loan's block method (C. F. Van Loan, "Computing
- * integrals involving the matrix exponential", IEEE Trans. Automatic Control
- * AC-23(3):395-404, 1978): e^{M h} with M = [[-A, G Qc G^T], [0, A^T]] has
- * blocks [[F11, F12], [0, F22]], Phi = F22^T and Q(h) = F22^T F12.  On a stiff
- * model e^{-A T} overflows, so the block form is applied only over
- * h = T / 2^s with ||A||_1 h <= step_norm, and the s doublings
- *     Q(2h) = Q(h) + Phi(h) Q(h) Phi(h)^T,   Phi(2h) = Phi(h)^2
- * (exact, from splitting the integral at h) bring it to T; Q is symmetrized
- * after every step.  Qd is the exact covariance of the sampled continuous
- * system, i.e. it belongs to the ZOH Ad; for the other methods it is the
- * same matrix, labelled approximate.
+ * It is computed in balanced coordinates (A' = D^-1 A D, G' = D^-1 G, D the
+ * power-of-two diagonal of gsl_linalg_balance_matrix, so exact; Qd = D Q' D)
+ * by one of two routes, each with a first-order error bound; the bound is
+ * normwise, ||Q'_computed - Q'||_1 / ||Q'||_1 with the norm max(||.||_1,
+ * ||.||_inf), in those balanced coordinates (where the states have
+ * comparable scales, so small variances such as a stiff position's are
+ * covered too):
+ *   1. Van Loan's block method (C. F. Van Loan, "Computing integrals
+ *      involving the matrix exponential", IEEE Trans. Automatic Control
+ *      AC-23(3):395-404, 1978): e^{M h} with M = [[-A, W], [0, A^T]],
+ *      W = G Qc G^T, has blocks [[F11, F12], [0, F22]], Phi = F22^T and
+ *      Q(h) = F22^T F12.  On a stiff model e^{-A T} overflows, so the block
+ *      form is applied only over h = T / 2^s with ||A'||_1 h <= step_norm,
+ *      and the s doublings Q(2h) = Q(h) + Phi(h) Q(h) Phi(h)^T,
+ *      Phi(2h) = Phi(h)^2 (exact, from splitting the integral at h) bring it
+ *      to T.  The bound is carried through the doublings: with e_P, e_Q the
+ *      error bounds of Phi and Q and gamma = n u (u = 2^-53),
+ *          e_P <- 2 |Phi| e_P + gamma |Phi|^2,
+ *          e_Q <- (1 + |Phi|^2) e_Q + 2 |Phi| |Q| e_P + gamma (2 |Phi|^2 + 1) |Q|,
+ *      starting from 8 n u times the norms of the block exponential (its
+ *      backward error, Higham 2005).  It grows like 2^s u: each doubling
+ *      can double an error along a mode that does not decay within h.
+ *   2. When that bound exceeds rtol: the eigen-decomposition A' = V L V^-1
+ *      (complex), in which the integral is elementwise:
+ *          Qd = V X V^H,  X_ij = Wt_ij int_0^T e^{mu_ij s} ds,
+ *          Wt = V^-1 W' V^-H,  mu_ij = l_i + conj(l_j),
+ *      the integral T (e^z - 1)/z at z = mu T by expm1 (no cancellation for
+ *      slow modes, none for fast ones).  Its bound is a posteriori, from the
+ *      exact identity (d/ds of e^{As} W e^{A^T s})
+ *          A Qd + Qd A^T = Ad W Ad^T - W,
+ *      with Ad = e^{A' T} from rigmat_expm: the residual R of the computed
+ *      Qd, plus the rounding of R itself and the disagreement of that Ad
+ *      with V e^{L T} V^-1, bounds the error through the inverse of the
+ *      Lyapunov operator, ||E|| <= kappa(V)^2 (||R|| + rounding) /
+ *      min |mu_ij|.  The operator is singular when some mu_ij = 0 (an
+ *      integrator, an undamped mode): then this route gives no bound.
+ * When neither bound is within rtol, Qd is refused (RIGMAT_ENUMERIC) rather
+ * than printed.  Why route 1 alone fails on stiff, lightly damped modes: see
+ * noise.c, above vanloan_doubling().  Qd is the exact covariance of the
+ * sampled continuous system, i.e. it belongs to the ZOH Ad; for the other
+ * methods it is the same matrix, labelled approximate.
  *
  * Measurement noise.  Rd is diagonal in the sensors' own terms plus, when a
  * disturbance with a density reaches an output directly (column j of the
@@ -48,9 +78,17 @@
 #include "expm.h"
 
 typedef struct rigmat_noise_opts {
-    double step_norm;    /* ||A||_1 h <= step_norm for the block step; default 0.5 */
+    double step_norm;    /* ||A'||_1 h <= step_norm for the block step; default 0.5 */
     unsigned expm_flags; /* rigmat_expm_flags; default 0 */
+    double rtol;         /* the largest error bound accepted (see above); default 1e-6 */
 } rigmat_noise_opts;
+
+/* How a Qd was computed. */
+typedef enum rigmat_qd_route {
+    RIGMAT_QD_NONE = 0,    /* no process noise: Qd = 0 */
+    RIGMAT_QD_VANLOAN = 1, /* block exponential with doubling */
+    RIGMAT_QD_EIGEN = 2    /* eigen-decomposition, residual-checked */
+} rigmat_qd_route;
 
 rigmat_noise_opts rigmat_noise_opts_default(void);
 
@@ -61,6 +99,13 @@ typedef struct rigmat_noise_ws {
     gsl_matrix *M, *F;                 /* 2 nx square (>= nx + nw) */
     gsl_matrix *W, *Phi, *Q, *T1, *T2; /* nx x nx */
     gsl_matrix *G;                     /* nx x nw; NULL when nw = 0 */
+    gsl_matrix *Ab, *Ad;               /* nx x nx: balanced A, its exponential */
+    gsl_vector *D;                     /* nx: the balancing diagonal */
+    /* what the last rigmat_noise_qd did */
+    rigmat_qd_route route;
+    double bound;        /* the error bound of the Qd returned (0 for none) */
+    double bound_vanloan; /* route 1's bound (inf when it overflowed) */
+    double bound_eigen;   /* route 2's bound (inf when it gives none; -1 when not tried) */
 } rigmat_noise_ws;
 
 rigmat_noise_ws *rigmat_noise_ws_alloc(size_t nx, size_t nw);
@@ -68,9 +113,12 @@ void rigmat_noise_ws_free(rigmat_noise_ws *w);
 
 /* Qd (nx x nx, caller-allocated) for x' = A x + G w with intensities
  * intensity[0..ncols(G)) (Qc diagonal, SI per Hz, >= 0) over period_s.  G
- * may be NULL (Qd = 0).  *doublings (may be NULL) receives s.  Returns
+ * may be NULL (Qd = 0).  *doublings (may be NULL) receives s; w->route,
+ * w->bound and the two routes' bounds tell how it went.  Returns
  * RIGMAT_EUSAGE for bad sizes or a negative intensity, RIGMAT_ENUMERIC when
- * the exponential fails. */
+ * the exponential fails or no route is within o->rtol (the message gives
+ * both bounds), RIGMAT_ENOMEM when the eigen route cannot get its scratch
+ * space (it allocates it per call: route 1 is the common case). */
 rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const double *intensity,
                               double period_s, const rigmat_noise_opts *o, rigmat_noise_ws *w,
                               gsl_matrix *Qd, unsigned *doublings, rigmat_error *err);
@@ -95,8 +143,10 @@ double rigmat_noise_sample_sd(double intensity, double period_s);
 typedef struct rigmat_noise {
     size_t nx, ny, nw; /* nx: states of the sampled model (with delays) */
     double period_s;
-    int qd_exact;                /* 1 when the sampled model is ZOH */
-    unsigned doublings;          /* s of the Qd computation */
+    int qd_exact;                /* 1 when the sampled model is ZOH (Qd within qd_bound) */
+    unsigned doublings;          /* s of the Qd computation (route 1) */
+    rigmat_qd_route qd_route;    /* how Qd was computed */
+    double qd_bound;             /* its relative error bound (noise.h, above; <= rtol) */
     gsl_matrix *Qd;              /* nx x nx (delay states carry no noise); NULL when nx = 0 */
     gsl_matrix *Rd;              /* ny x ny; NULL when ny = 0 */
     gsl_matrix *S;               /* nx x ny cross-covariance; NULL when none */

@@ -2,6 +2,7 @@
  * (rigmat_diags).  Reporting an error never allocates; recording a
  * diagnostic copies its strings so the list outlives the parser. */
 #include "rigmat.h"
+#include "sizes.h"
 
 #include <stdarg.h>
 #include <stdlib.h>
@@ -100,7 +101,7 @@ const char *rigmat_diags_file(rigmat_diags *d, const char *name)
     copy = dup_str(name);
     if (copy == NULL)
         return NULL;
-    grown = realloc(d->files, (d->nfiles + 1) * sizeof *grown);
+    grown = realloc(d->files, rigmat_size_mul_add(d->nfiles + 1, sizeof *grown, 0));
     if (grown == NULL) {
         free(copy);
         return NULL;
@@ -123,8 +124,8 @@ rigmat_status rigmat_diags_add(rigmat_diags *d, rigmat_severity sev, rigmat_loc 
         return RIGMAT_OK;
     }
     if (d->count == d->cap) {
-        size_t cap = d->cap ? 2 * d->cap : 16;
-        rigmat_diag *grown = realloc(d->items, cap * sizeof *grown);
+        const size_t cap = d->cap ? rigmat_size_mul_add(d->cap, 2, 0) : 16;
+        rigmat_diag *grown = realloc(d->items, rigmat_size_mul_add(cap, sizeof *grown, 0));
         if (grown == NULL)
             return RIGMAT_ENOMEM;
         d->items = grown;
