@@ -35,7 +35,7 @@ GSL_LIBS = -lgsl -lopenblas -lm
 else
 GSL_LIBS = -lgsl -lgslcblas -lm
 endif
-LIBS      = $(GSL_LIBS) -lyaml -lm
+LIBS      = $(GSL_LIBS) -lyaml -lpthread -lm
 CHECK_LIBS := $(shell pkg-config --libs check 2>/dev/null || echo -lcheck -lsubunit -lrt -lpthread -lm)
 
 LIB_SRC  := $(sort $(foreach d,$(STAGES),$(wildcard src/$(d)/*.c)))
