@@ -33,7 +33,8 @@ static const char *const sweep_usage[] = {
     "rigmat sweep FILE --vary PATH=FROM:TO:COUNT [--vary ...] [--set PATH=VALUE]...",
     "             [--rate FREQ [--method METHOD]] [--threads N] [--format FORMAT] [-o FILE|DIR]",
     "             [--catalog DIR] [--name NAME] [--ctype double|float]",
-    "FORMAT: json (default), csv, c, numpy, npy (-o DIR)", NULL
+    "FORMAT: json, csv, c, numpy, npy (-o DIR)",
+    "json unless --format says otherwise; at most 1000000 points", NULL
 };
 
 static const char *const sweep_formats[] = { "json", "csv", "c", "numpy", "npy", NULL };
