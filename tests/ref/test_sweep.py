@@ -9,6 +9,8 @@
   header length, header padded so the data starts at a multiple of 64
   bytes) and load with numpy.load.
 - Thread counts 1, 2 and 4 give byte-identical outputs (JSON and npy).
+- The numpy export holds the good points' matrices (p<i>_A, ...) equal
+  to the JSON's, the grid and the ok flags.
 - Points beyond a duty input's limit of +-1 are reported (ok false, a
   reason), skipped (NaN in the npy arrays) and counted in a warning; exit
   0 while one point succeeds, 3 when none does, 2 on a malformed --vary.
@@ -151,6 +153,17 @@ def main():
         check(good == 2 and j["failed"] == 2, "balancer: 2 good, 2 failed points")
         check(all("duty limit" in p["reason"] for p in j["points"] if not p["ok"]),
               "balancer: the reason names the duty limit")
+        # the numpy module holds the good points' matrices, the grid and ok
+        mod = {}
+        exec(run(["sweep", bal, "--vary", "drive=-1.5:1.5:4", "--format", "numpy"]).stdout, mod)
+        check(same(mod["ok"], [0, 1, 1, 0]) and mod["grid"].shape == (4, 1),
+              "numpy export: ok and grid")
+        for q in j["points"]:
+            for k in ("A", "B", "C", "D"):
+                name = "p%d_%s" % (q["index"], k)
+                check((name in mod) == q["ok"], "numpy export: %s present iff ok" % name)
+                if q["ok"]:
+                    check(same(mod[name], q[k]), "numpy export: %s equals the JSON" % name)
         p = run(["sweep", bal, "--vary", "drive=-1.5:1.5:4"])
         check(b"warning: 2 of 4 points failed" in p.stderr, "warning names the failed count")
         # exit codes
