@@ -9,6 +9,8 @@
   header length, header padded so the data starts at a multiple of 64
   bytes) and load with numpy.load.
 - Thread counts 1, 2 and 4 give byte-identical outputs (JSON and npy).
+- A point whose trim has no solution is reported, and the single run
+  of the same values fails too (exit 3).
 - The numpy export holds the good points' matrices (p<i>_A, ...) equal
   to the JSON's, the grid and the ok flags.
 - Points beyond a duty input's limit of +-1 are reported (ok false, a
@@ -56,11 +58,12 @@ def same(a, b):
     return a.size == b.size and np.array_equal(a.reshape(-1), b.reshape(-1))
 
 
-def single(model, sets, rate):
+def single(model, sets, rate, want=0):
     args = ["linearize", model] if rate is None else ["discretize", model, "--rate", rate]
     for s in sets:
         args += ["--set", s]
-    return json.loads(run(args + ["--format", "json"]).stdout)
+    out = run(args + ["--format", "json"], want).stdout
+    return json.loads(out) if want == 0 else out
 
 
 def read_npy_dir(d):
@@ -80,8 +83,10 @@ def check_npy_header(raw, name):
           name + ": header " + head.strip())
 
 
-def sweep_case(model, vary, rate, tmp):
+def sweep_case(model, vary, rate, tmp, common=()):
+    common = list(common)
     base = ["sweep", model] + sum([["--vary", v] for v in vary], [])
+    base += sum([["--set", c] for c in common], [])
     if rate is not None:
         base += ["--rate", rate]
     outs = [run(base + ["--threads", str(t)]).stdout for t in (1, 2, 4)]
@@ -117,7 +122,7 @@ def sweep_case(model, vary, rate, tmp):
             check(np.all(np.isnan(npy["A"][i])), "point %d: failed point is NaN in A.npy" % i)
             continue
         good += 1
-        ref = single(model, p["sets"], None)
+        ref = single(model, common + p["sets"], None)
         for k in cont:
             check(same(p[k], ref[k]), "point %d: %s differs from linearize" % (i, k))
             check(same(npy[k][i], ref[k]), "point %d: %s.npy differs from linearize" % (i, k))
@@ -126,7 +131,7 @@ def sweep_case(model, vary, rate, tmp):
                   "point %d: operating point %s" % (i, k))
             check(same(npy[n][i], ref["operating_point"][k]), "point %d: %s.npy" % (i, n))
         if rate is not None:
-            dref = single(model, p["sets"], rate)
+            dref = single(model, common + p["sets"], rate)
             for k, rk in disc:
                 check(same(p[k], dref[rk]), "point %d: %s differs from discretize" % (i, k))
                 check(same(npy[k][i], dref[rk]), "point %d: %s.npy differs" % (i, k))
@@ -166,6 +171,18 @@ def main():
                     check(same(mod[name], q[k]), "numpy export: %s equals the JSON" % name)
         p = run(["sweep", bal, "--vary", "drive=-1.5:1.5:4"])
         check(b"warning: 2 of 4 points failed" in p.stderr, "warning names the failed count")
+        # a trim with no solution: the held angle under a drive whose torque
+        # no angle of the arm can balance; the single run fails the same way
+        shutil.rmtree(os.path.join(tmp, "npy1"))
+        shutil.rmtree(os.path.join(tmp, "npy4"))
+        pm = os.path.join(EX, "pendulum-motor.yaml")
+        solve = ["operating_point.solve=[shoulder]"]
+        j, good = sweep_case(pm, ["drive=0V:100V:3"], None, tmp, solve)
+        check(good == 1 and j["failed"] == 2, "pendulum-motor: trim fails at 50 V and 100 V")
+        for q in j["points"]:
+            if not q["ok"]:
+                check(q["reason"].startswith("trim did not converge"), "trim failure reason")
+                single(pm, solve + q["sets"], None, 3)
         # exit codes
         run(["sweep", bal, "--vary", "drive=2:3:2"], 3)
         run(["sweep", bal, "--vary", "drive=0:1"], 2)
