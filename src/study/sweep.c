@@ -365,7 +365,7 @@ fail:
     if (reason[0] == '\0')
         snprintf(reason, reason_len, "%s", rc == RIGMAT_ENOMEM ? "out of memory" : "failed");
     for (i = 0; i < s->stride; i++)
-        slot[i] = NAN;
+        slot[i] = (double)NAN;
 out:
     rigmat_dlti_free(d);
     rigmat_lti_free(l);
