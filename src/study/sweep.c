@@ -180,7 +180,8 @@ rigmat_status rigmat_sweep_axis_parse(const char *text, const rigmat_model *base
             return RIGMAT_EUSAGE;
         }
         a->si[i] = q.value;
-        if (i == 0)
+        /* a bare number is read in the field's own SI unit, unknown here */
+        if (i == 0 && a->unit[0] != '\0')
             rigmat_units_format_dim(q.dim, a->si_unit, sizeof a->si_unit);
     }
     return RIGMAT_OK;

@@ -43,7 +43,8 @@ typedef struct rigmat_sweep_axis {
     char *arg;      /* as given: "tilt=-10deg:10deg:5" (owned) */
     char *path;     /* the --set path the values go to (owned) */
     char unit[32];  /* the unit of FROM and TO as written; "" = SI */
-    char si_unit[32]; /* the SI symbol of the values in `si` ("rad"); "1" = none */
+    char si_unit[32]; /* the SI symbol of the values in `si` ("rad"); "" when FROM
+                       * and TO are bare numbers (read in the field's SI unit) */
     double from, to; /* in unit */
     size_t count;
     double *si;     /* count values in SI (owned) */
