@@ -61,7 +61,7 @@ GSL_LIBS = $(patsubst -lgslcblas,-lopenblas,$(GSL_LIBS_PC))
 else
 GSL_LIBS = $(GSL_LIBS_PC)
 endif
-LIBS      = $(GSL_LIBS) $(YAML_LIBS)
+LIBS      = $(GSL_LIBS) $(YAML_LIBS) -lpthread
 
 LIB_SRC  := $(sort $(foreach d,$(STAGES),$(wildcard src/$(d)/*.c)))
 CLI_SRC  := $(sort $(wildcard src/cli/*.c))

@@ -3,7 +3,7 @@
 # share/bash-completion/completions/rigmat; tests/man.sh checks the lists
 # against `rigmat COMMAND --help`.
 
-_rigmat_commands="check linearize discretize trim parts"
+_rigmat_commands="check linearize discretize sweep trim parts"
 
 # The options of one command, as its --help lists them.
 _rigmat_options()
@@ -12,6 +12,7 @@ _rigmat_options()
     check) echo "--rate --set --format -o --output --catalog -h --help" ;;
     linearize) echo "--name --ctype --set --format -o --output --catalog -h --help" ;;
     discretize) echo "--rate --period --method --prewarp --delay --name --ctype --set --format -o --output --catalog -h --help" ;;
+    sweep) echo "--vary --rate --method --threads --name --ctype --set --format -o --output --catalog -h --help" ;;
     trim) echo "--set --format -o --output --catalog -h --help" ;;
     parts) echo "--format --catalog -h --help" ;;
     esac
@@ -22,6 +23,7 @@ _rigmat_formats()
 {
     case "$1" in
     linearize | discretize) echo "text json csv c numpy mtx latex" ;;
+    sweep) echo "json csv c numpy npy" ;;
     *) echo "text json" ;;
     esac
 }
@@ -53,7 +55,7 @@ _rigmat()
     -o | --output)
         COMPREPLY=($(compgen -f -- "$cur"))
         return 0 ;;
-    --rate | --period | --prewarp | --delay | --set | --name)
+    --rate | --period | --prewarp | --delay | --set | --name | --vary | --threads)
         return 0 ;;
     esac
     case "$cur" in

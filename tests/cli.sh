@@ -535,6 +535,39 @@ if ls "$T" | grep -q 'tmp-\|old-'; then bad "temporary folder left behind"; else
 expect 3 "non-finite result, csv" -- "$R" discretize "$DEMO" --rate 100Hz --format csv --set sensors.gyro.gain=-1e308
 if [ -s "$T/out" ]; then bad "non-finite csv printed"; else ok; fi
 
+# sweep (README.md, "Sweeps"): exit codes, the failed-point warning, the
+# npy folder written whole or not at all
+has "$T/help.txt" "^  sweep " "top-level help lists 'sweep'"
+expect 0 "sweep --help" -- "$R" sweep --help
+has "$T/out" "usage: rigmat sweep" "sweep help text"
+expect 2 "sweep without --vary" -- "$R" sweep "$DEMO"
+expect 2 "sweep without COUNT" -- "$R" sweep "$DEMO" --vary tilt=0deg:1deg
+expect 2 "sweep COUNT 0" -- "$R" sweep "$DEMO" --vary tilt=0deg:1deg:0
+expect 2 "sweep unknown name" -- "$R" sweep "$DEMO" --vary nosuch=0:1:2
+has "$T/err" "neither a coordinate nor an input" "sweep unknown name message"
+expect 2 "sweep mixed units" -- "$R" sweep "$DEMO" --vary tilt=0deg:1rad:2
+expect 2 "sweep too many points" -- "$R" sweep "$DEMO" --vary tilt=0deg:1deg:1000000 --vary drive=0:1:2
+has "$T/err" "more than 1000000 points" "sweep point cap message"
+expect 2 "sweep text format" -- "$R" sweep "$DEMO" --vary drive=0:1:2 --format text
+expect 2 "sweep npy without -o" -- "$R" sweep "$DEMO" --vary drive=0:1:2 --format npy
+expect 2 "sweep --threads 0" -- "$R" sweep "$DEMO" --vary drive=0:1:2 --threads 0
+expect 2 "sweep --method without --rate" -- "$R" sweep "$DEMO" --vary drive=0:1:2 --method zoh
+expect 1 "sweep bad model" -- "$R" sweep "$T/bad.yaml" --vary drive=0:1:2
+expect 0 "sweep some points failed" -- "$R" sweep "$DEMO" --vary drive=-1.5:1.5:4
+has "$T/err" "warning: 2 of 4 points failed" "sweep failed-point warning"
+has "$T/out" '"ok": false' "sweep marks failed points"
+expect 3 "sweep every point failed" -- "$R" sweep "$DEMO" --vary drive=2:3:2
+if [ -s "$T/out" ]; then bad "sweep with no good point printed a result"; else ok; fi
+expect 0 "sweep npy" -- "$R" sweep "$DEMO" --vary tilt=-5deg:5deg:3 --rate 200Hz --format npy -o "$T/npy"
+if [ -f "$T/npy/A.npy" ] && [ -f "$T/npy/Ad.npy" ] && [ -f "$T/npy/index.json" ]; then ok; else bad "npy files"; fi
+expect 0 "sweep npy folder replaced" -- "$R" sweep "$DEMO" --vary tilt=-5deg:5deg:3 --format npy -o "$T/npy"
+if [ -f "$T/npy/A.npy" ] && [ ! -e "$T/npy/Ad.npy" ]; then ok; else bad "npy folder not replaced whole"; fi
+expect 4 "sweep npy into a folder with other files" -- "$R" sweep "$DEMO" --vary drive=0:1:2 --format npy -o "$T/keep"
+if [ "$(cat "$T/keep/notes.txt")" = mine ] && [ ! -e "$T/keep/A.npy" ]; then ok; else bad "npy touched a foreign folder"; fi
+"$R" sweep "$DEMO" --vary drive=-0.5:0.5:5 --vary tilt=-5deg:5deg:3 --threads 1 >"$T/t1.json" 2>/dev/null
+"$R" sweep "$DEMO" --vary drive=-0.5:0.5:5 --vary tilt=-5deg:5deg:3 --threads 3 >"$T/t3.json" 2>/dev/null
+if [ -s "$T/t1.json" ] && cmp -s "$T/t1.json" "$T/t3.json"; then ok; else bad "sweep output depends on --threads"; fi
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

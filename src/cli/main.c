@@ -25,6 +25,7 @@ CMD(gains)
 CMD(parts)
 CMD(simulate)
 CMD(report)
+CMD(sweep)
 #undef CMD
 
 struct command {
@@ -39,6 +40,7 @@ static const struct command commands[] = {
     { "discretize", cmd_discretize, "sampled model and Kalman noise model at a rate" },
     { "modes", cmd_modes, "eigenvalues, modes, reach and sight, zeros, DC gain" },
     { "simulate", cmd_simulate, "one response: nonlinear, linear or sampled; validity range" },
+    { "sweep", cmd_sweep, "linear and sampled models over a grid of values" },
     { "gains", cmd_gains, "steady-state Kalman gain; LQR gain with --weights" },
     { "trim", cmd_trim, "solve the operating point; print it and the residual" },
     { "parts", cmd_parts, "list the catalog, or show one part" },

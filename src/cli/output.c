@@ -7,7 +7,8 @@
  * An existing target folder is first renamed aside and removed only after
  * the new one is in place; if the second rename fails it is renamed back.
  * A target that holds anything but files of the extension being written
- * is refused, so a mistyped -o never deletes someone's work.
+ * is refused, so a mistyped -o never deletes someone's work (a sweep's npy
+ * folder also holds its index.json).
  */
 #define _XOPEN_SOURCE 700 /* mkdtemp */
 #include "cli.h"
@@ -188,7 +189,8 @@ static int only_exports(const char *dir, const char *ext)
         return 0;
     while ((de = readdir(d)) != NULL)
         if (strcmp(de->d_name, ".") != 0 && strcmp(de->d_name, "..") != 0 &&
-                !has_ext(de->d_name, ext))
+                !has_ext(de->d_name, ext) &&
+                !(strcmp(ext, ".npy") == 0 && strcmp(de->d_name, "index.json") == 0))
             ok = 0;
     closedir(d);
     return ok;
