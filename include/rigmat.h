@@ -323,8 +323,9 @@ typedef struct rigmat_sensor {
     double density;        /* per sqrt(Hz); 0 = none */
     double bandwidth_hz;   /* first-order bandwidth for density; 0 = sample average */
     double resolution;     /* quantization step; 0 = none */
-    double counts_per_rev; /* MOTOR_ANGLE: decoded counts per motor turn; 0 = none */
-    int unit_counts;       /* MOTOR_ANGLE: output in counts (else rad) */
+    double counts_per_rev; /* angle readings (angle, relative_angle, a hinge's position,
+                              motor_angle): decoded counts per turn; 0 = none */
+    int unit_counts;       /* those readings: output in counts (else rad) */
 } rigmat_sensor;
 
 /* A name = value pair of the operating point. */

@@ -700,8 +700,6 @@ static double complex read_motor_angle(rigmat_mech *s, const rigmat_sensor *se)
     double complex th, rate, bias, v;
     motor_out(s, se->motor, &th, s->tj, &rate, &bias);
     v = s->msign[se->motor] * mo->gear_ratio * (th - s->mtheta0[se->motor]);
-    if (se->unit_counts)
-        v *= se->counts_per_rev / (2.0 * M_PI);
     return v;
 }
 
@@ -779,7 +777,10 @@ static const sensor_reading sensor_readings[RIGMAT_NSENSOR_KINDS] = {
 static double complex sensor_value(rigmat_mech *s, size_t k)
 {
     const rigmat_sensor *se = &s->m->sensors[k];
-    const double complex v = sensor_readings[se->kind](s, se);
+    double complex v = sensor_readings[se->kind](s, se);
+    /* an encoder read in counts: counts per radian */
+    if (se->unit_counts)
+        v *= se->counts_per_rev / (2.0 * M_PI);
     return se->gain * v + se->offset;
 }
 

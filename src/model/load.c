@@ -1657,6 +1657,15 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         if (fof == NULL && sd->from != RIGMAT_MEASURED_FIXED)
             known_unit = 0;
         read_spec_keys(L, &e, sd->keys, sd->nkeys, s);
+        /* an encoder reads an angle: a hinge's position, not a slider's */
+        if (s->counts_per_rev > 0.0 && known_unit && s->joint != RIGMAT_NONE &&
+                !rigmat_joint_kind(m->joints[s->joint].type)->rotational) {
+            lerr(L, &e, field(&e, "counts_per_rev")->key_loc, "for a linear encoder give "
+                    "'resolution' (the length of one count)", "'counts_per_rev' needs an "
+                    "angle, and joint '%s' is a %s", m->joints[s->joint].name,
+                    rigmat_joint_kind(m->joints[s->joint].type)->word);
+            continue;
+        }
         snprintf(form, sizeof form, "a '%s' sensor", sd->word);
         check_keys(L, &e, keys, nk, rigmat_sensor_all_keys, rigmat_sensor_nall_keys, form);
         if (!known_unit)
