@@ -312,6 +312,15 @@ static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti
             dens = m->forces[in->index].density;
         else if (in->kind == RIGMAT_SIG_DRIVEN)
             dens = m->joints[in->index].density;
+        else if (in->kind == RIGMAT_SIG_BIAS_NOISE) {
+            /* b' = w: a random walk N has intensity N^2; Gauss-Markov
+             * b' = -b/tau + w of steady sd S has intensity 2 S^2 / tau
+             * (R. G. Brown, P. Y. C. Hwang, Introduction to Random Signals
+             * and Applied Kalman Filtering, 4th ed. 2012, sec. 2.9 and 3.9) */
+            const rigmat_sensor *se = &m->sensors[in->index];
+            dens = se->bias_tau_s > 0.0 ? se->bias_sd * sqrt(2.0 / se->bias_tau_s) :
+                                          se->bias_walk;
+        }
         /* README.md, "Noise convention": density N means intensity Qc = N^2 */
         lti->input_intensity[k] = dens * dens;
     }

@@ -43,6 +43,7 @@ struct rigmat_mech {
     size_t *xi, *umot; /* per motor: current state (or NONE), input */
     size_t *ufor;    /* per force: input */
     size_t *xsh;     /* per input: shaping state or NONE */
+    size_t *xbias, *ubias; /* per sensor: bias state and its noise input, or NONE */
     /* motors: rotary (stator, rotor bodies) or linear (coordinate, k) */
     size_t *mstator, *mrotor, *mlin;
     double *mk;      /* linear: output rad per m of travel; 0 for rotary */
@@ -73,6 +74,7 @@ void rigmat_mech_free(rigmat_mech *s)
     free(s->coord); free(s->cjoint); free(s->order); free(s->bjoint);
     free(s->xq); free(s->xr); free(s->uq); free(s->freec);
     free(s->xi); free(s->umot); free(s->ufor); free(s->xsh);
+    free(s->xbias); free(s->ubias);
     free(s->mstator); free(s->mrotor); free(s->mlin); free(s->mk); free(s->msign);
     free(s->mtheta0);
     free(s->bp); free(s->bth); free(s->bJ); free(s->bjth); free(s->bv); free(s->bom);
@@ -774,10 +776,13 @@ static const sensor_reading sensor_readings[RIGMAT_NSENSOR_KINDS] = {
 };
 
 /* rigmat_mech_alloc has checked that every sensor's kind has a reading */
-static double complex sensor_value(rigmat_mech *s, size_t k)
+static double complex sensor_value(rigmat_mech *s, const double complex *x, size_t k)
 {
     const rigmat_sensor *se = &s->m->sensors[k];
     double complex v = sensor_readings[se->kind](s, se);
+    /* a bias is in the measured quantity's unit, before gain and counts */
+    if (s->xbias[k] != RIGMAT_NONE)
+        v += x[s->xbias[k]];
     /* an encoder read in counts: counts per radian */
     if (se->unit_counts)
         v *= se->counts_per_rev / (2.0 * M_PI);
@@ -823,12 +828,20 @@ rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const do
                 f[k] = 2.0 * M_PI * fc * (u[sg->index] - x[k]);
                 break;
             }
+            case RIGMAT_SIG_BIAS: {
+                /* b' = -b/tau + w (Gauss-Markov) or b' = w (random walk) */
+                const rigmat_sensor *se = &m->sensors[sg->index];
+                f[k] = u[s->ubias[sg->index]];
+                if (se->bias_tau_s > 0.0)
+                    f[k] -= x[k] / se->bias_tau_s;
+                break;
+            }
             default: f[k] = 0; break;
             }
         }
     if (y != NULL)
         for (k = 0; k < L->ny; k++)
-            y[k] = sensor_value(s, L->outputs[k].index);
+            y[k] = sensor_value(s, x, L->outputs[k].index);
     return RIGMAT_OK;
 }
 
@@ -1248,6 +1261,8 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     s->umot = idx_alloc(nm, &bad);
     s->ufor = idx_alloc(m->nforces, &bad);
     s->xsh = idx_alloc(L->nu, &bad);
+    s->xbias = idx_alloc(m->nsensors, &bad);
+    s->ubias = idx_alloc(m->nsensors, &bad);
     s->mstator = idx_alloc(nm, &bad);
     s->mrotor = idx_alloc(nm, &bad);
     s->mlin = idx_alloc(nm, &bad);
@@ -1287,6 +1302,8 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
             s->xi[sg->index] = k;
         else if (sg->kind == RIGMAT_SIG_SHAPING)
             s->xsh[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_BIAS)
+            s->xbias[sg->index] = k;
     }
     for (k = 0; k < L->nu; k++) {
         const rigmat_signal *sg = &L->inputs[k];
@@ -1296,6 +1313,8 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
             s->umot[sg->index] = k;
         else if (sg->kind == RIGMAT_SIG_FORCE)
             s->ufor[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_BIAS_NOISE)
+            s->ubias[sg->index] = k;
     }
     for (k = 0; k < nm; k++) {
         const rigmat_motor *mo = &m->motors[k];

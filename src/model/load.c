@@ -1591,6 +1591,86 @@ static int sensor_target(struct ld *L, const struct ent *e, const rigmat_sensor_
     return 1;
 }
 
+/* A bias random walk N: the density of the bias's rate, in the measured
+ * unit q per s per sqrt(Hz), commonly written q/sqrt(s) per s
+ * ("0.0004 deg/s/sqrt(s)" for a gyro, whose q is deg/s).  1 read, 0 error. */
+static int walk_node(struct ld *L, const struct ent *e, const rigmat_node *n, rigmat_kind q,
+        double *out)
+{
+    rigmat_quantity v;
+    rigmat_error err;
+    rigmat_dim want = rigmat_units_dim(q), want_hz;
+    char unit[64], hint[160];
+
+    if (!want_scalar(L, e, n, "a bias random walk"))
+        return 0;
+    want.half[RIGMAT_DIM_TIME] = (signed char)(want.half[RIGMAT_DIM_TIME] - 1);
+    want_hz = want;
+    want_hz.half[RIGMAT_DIM_TIME] = (signed char)(want_hz.half[RIGMAT_DIM_TIME] - 1);
+    want_hz.half[RIGMAT_DIM_CYCLE] = (signed char)(want_hz.half[RIGMAT_DIM_CYCLE] - 1);
+    memset(&err, 0, sizeof err);
+    if (rigmat_units_parse(n->text, &v, &err) != RIGMAT_OK) {
+        lerr(L, e, n->loc, err.hint[0] ? err.hint : NULL, "%s", err.message);
+        return 0;
+    }
+    if (!rigmat_dim_equal(v.dim, want) && !rigmat_dim_equal(v.dim, want_hz)) {
+        rigmat_units_format_dim(want, unit, sizeof unit);
+        snprintf(hint, sizeof hint, "a random walk is the reading's unit per second per "
+                "sqrt(Hz): write e.g. %s/s/sqrt(s)", rigmat_units_kind_symbol(q));
+        lerr(L, e, n->loc, hint, "expected a bias random walk in %s, got '%s'", unit, n->text);
+        return 0;
+    }
+    if (!isfinite(v.value)) {
+        lerr(L, e, n->loc, NULL, "'%s' is out of range", n->text);
+        return 0;
+    }
+    *out = v.value;
+    return 1;
+}
+
+/* `bias: {random_walk: N}` or `bias: {sd: S, correlation_time: TAU}`
+ * (DESIGN.md section 3), in the measured quantity's unit q. */
+static void read_bias(struct ld *L, const struct ent *e, rigmat_kind q, rigmat_sensor *s)
+{
+    static const char *const walk_keys[] = { "random_walk" };
+    static const char *const markov_keys[] = { "sd", "correlation_time" };
+    static const char *const all_keys[] = { "random_walk", "sd", "correlation_time" };
+    const char *const hint = "write bias: {random_walk: 0.0004 deg/s/sqrt(s)} or "
+                             "bias: {sd: 0.05 deg/s, correlation_time: 200 s}";
+    const rigmat_entry *f = field(e, "bias");
+    struct ent sub;
+
+    if (f == NULL)
+        return;
+    if (f->value->type != RIGMAT_NODE_MAP) {
+        lerr(L, e, f->value->loc, hint, "expected the bias as a mapping, got %s",
+                rigmat_node_type_words(f->value->type));
+        return;
+    }
+    sub = *e;
+    sub.map = f->value;
+    if (field(&sub, "random_walk") != NULL) {
+        check_keys(L, &sub, walk_keys, NW(walk_keys), all_keys, NW(all_keys),
+                "a random-walk bias");
+        if (walk_node(L, &sub, field(&sub, "random_walk")->value, q, &s->bias_walk))
+            must_positive(L, &sub, "random_walk", s->bias_walk);
+        return;
+    }
+    check_keys(L, &sub, markov_keys, NW(markov_keys), all_keys, NW(all_keys),
+            "a Gauss-Markov bias");
+    if (field(&sub, "sd") == NULL && field(&sub, "correlation_time") == NULL) {
+        lerr(L, e, f->value->loc, hint, "a bias needs 'random_walk', or 'sd' and "
+                "'correlation_time'");
+        return;
+    }
+    if (req_num(L, &sub, "sd", q, &s->bias_sd, hint))
+        must_positive(L, &sub, "sd", s->bias_sd);
+    if (req_num(L, &sub, "correlation_time", RIGMAT_Q_TIME, &s->bias_tau_s, hint))
+        must_positive(L, &sub, "correlation_time", s->bias_tau_s);
+    if (!(s->bias_sd > 0.0 && s->bias_tau_s > 0.0))
+        s->bias_sd = s->bias_tau_s = 0.0;
+}
+
 static void read_sensors(struct ld *L, const rigmat_node *root)
 {
     const rigmat_node *sec = section(L, root, "sensors");
@@ -1690,6 +1770,7 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
             must_positive(L, &e, "bandwidth", s->bandwidth_hz);
         if (opt_num(L, &e, "resolution", q, &s->resolution) == 1)
             must_positive(L, &e, "resolution", s->resolution);
+        read_bias(L, &e, q, s);
     }
 }
 
