@@ -61,8 +61,92 @@ def encoders():
         print("FAIL encoder units: %s" % units)
 
 
+def fail(msg):
+    global failures
+    failures += 1
+    print("FAIL " + msg)
+
+
+def biases():
+    """Bias states: layout, C, exact Qd entries, and a steady-state Kalman filter
+    that finds a constant gyro bias."""
+    f = model("gyro-bias.yaml")
+    deg = math.pi / 180
+    T = 0.01
+    d = run("discretize", f, "--rate", "100Hz", "--delay", "1", "--format", "json")
+    states = [x["name"] for x in d["states"]]
+    # the layout: biases last, after the mechanical states, before the delay state
+    if states != ["pivot.angle", "pivot.rate", "gyro.bias", "incl.bias"]:
+        fail("bias layout: %s" % states)
+    if [x["name"] for x in d["delay_states"]] != ["twist.delayed1"]:
+        fail("delay states after the biases: %s" % d["delay_states"])
+    qd = np.array(d["Qd"], dtype=float)
+    g, i = states.index("gyro.bias"), states.index("incl.bias")
+    # R. G. Brown, P. Y. C. Hwang, Introduction to Random Signals and Applied Kalman
+    # Filtering, 4th ed. 2012, sec. 3.9 (Wiener process): Qd = q T, q = N^2
+    q = (0.001 * deg) ** 2
+    close("random-walk bias Qd = q T", qd[g, g], q * T, 1e-12)
+    # the same, first-order Gauss-Markov: Qd = S^2 (1 - e^{-2T/tau})
+    S, tau = 0.3 * deg, 20.0
+    close("Gauss-Markov bias Qd = S^2 (1 - e^-2T/tau)", qd[i, i],
+          S * S * -math.expm1(-2 * T / tau), 1e-12)
+    if qd[g, i] != 0.0 or qd[g, 0] != 0.0:
+        fail("bias noise is independent of the plant's: Qd %s" % qd[g])
+    lin = run("linearize", f, "--format", "json")
+    c = np.array(lin["C"], dtype=float)
+    a = np.array(lin["A"], dtype=float)
+    outs = [o["name"] for o in lin["outputs"]]
+    # the bias adds to the reading times gain (2 for the gyro)
+    close("gyro bias in C (gain)", c[outs.index("gyro"), g], 2.0, 1e-15)
+    close("inclinometer bias in C", c[outs.index("incl"), i], 1.0, 1e-15)
+    close("Gauss-Markov pole -1/tau", a[i, i], -1 / tau, 1e-15)
+    if a[g, g] != 0.0:
+        fail("random-walk bias has no pole: A %g" % a[g, g])
+    check = run("check", f, "--rate", "100Hz", "--format", "json")
+    b = {x["name"]: x for x in check["biases"]}
+    # sd after t: N sqrt(t), S sqrt(1 - e^{-2t/tau}) (Brown, Hwang 2012, as above)
+    close("check: random walk sd after a minute", b["gyro"]["sd_after_minute"],
+          0.001 * deg * math.sqrt(60), 1e-14)
+    close("check: Gauss-Markov sd after a sample", b["incl"]["sd_after_sample"],
+          S * math.sqrt(-math.expm1(-2 * T / tau)), 1e-14)
+
+    # A steady-state Kalman filter (src/study/gains.h, filter form) on the sampled
+    # model: the true gyro bias is a constant 0.5 deg/s (a random walk that happened
+    # not to move); noise-free readings, so the estimation error follows the
+    # estimator poles alone: after 20 of the slowest estimator's time constants
+    # -1/ln|p| the bias error must be below 1e-6 of the bias (e^-20 = 2e-9, with
+    # room for the transient of a non-normal error matrix).
+    k = run("gains", f, "--rate", "100Hz", "--format", "json")
+    dz = run("discretize", f, "--rate", "100Hz", "--format", "json")
+    Ad = np.array(dz["Ad"], dtype=float)
+    Cd = np.array(dz["Cd"], dtype=float)
+    M = np.array(k["kalman"]["gain"], dtype=float)
+    Kp = np.array(k["kalman"]["predictor_gain"], dtype=float)
+    poles = [abs(complex(p[0], p[1])) for p in k["kalman"]["poles"]]
+    rho = max(abs(np.linalg.eigvals(Ad - Kp @ Cd)))
+    close("estimator poles reported = eig(Ad - Kp Cd)", max(poles), rho, 1e-9)
+    steps = int(math.ceil(20 / -math.log(rho)))
+    b0 = 0.5 * deg
+    x = np.zeros(len(states))
+    x[0] = 2 * deg  # the rod starts deflected; the filter does not know it
+    x[g] = b0
+    xm = np.zeros(len(states))
+    for _ in range(steps):
+        y = Cd @ x
+        e = y - Cd @ xm
+        xp = xm + M @ e
+        x = Ad @ x
+        xm = Ad @ xp + (Kp - Ad @ M) @ e
+    err = abs(xp[g] - b0) / b0
+    print("gyro bias estimate after %d steps (%.1f s): relative error %.3g; slowest "
+          "estimator pole %.6f" % (steps, steps * T, err, rho))
+    if not err < 1e-6:
+        fail("Kalman filter bias error %.3g after %d steps" % (err, steps))
+
+
 def main():
     encoders()
+    biases()
     if failures:
         print("test_sensors: %d failure(s)" % failures)
         sys.exit(1)
