@@ -330,6 +330,7 @@ typedef struct rigmat_sensor {
     double bias_walk;      /* random walk: density of w (unit per sqrt(s)); 0 = none */
     double bias_sd;        /* Gauss-Markov: steady standard deviation; 0 = none */
     double bias_tau_s;     /* Gauss-Markov: correlation time; 0 = random walk */
+    double filter_hz;      /* first-order low-pass state `<sensor>.filtered`; 0 = none */
 } rigmat_sensor;
 
 /* A sensor's bias state exists (and with it its noise input). */
@@ -360,7 +361,9 @@ typedef enum rigmat_signal_kind {
     RIGMAT_SIG_DRIVEN,     /* input: a driven joint's derivative; index = joint */
     RIGMAT_SIG_SENSOR,     /* output: index = sensor */
     RIGMAT_SIG_BIAS,       /* state: a sensor's bias; index = sensor */
-    RIGMAT_SIG_BIAS_NOISE  /* input (disturbance): the white noise driving a bias; index = sensor */
+    RIGMAT_SIG_BIAS_NOISE, /* input (disturbance): the white noise driving a bias; index = sensor */
+    RIGMAT_SIG_FILTERED,   /* state: a sensor's low-pass output; index = sensor */
+    RIGMAT_SIG_FILTER_NOISE /* input (disturbance): a filtered sensor's density; index = sensor */
 } rigmat_signal_kind;
 
 typedef struct rigmat_signal {

@@ -44,6 +44,7 @@ struct rigmat_mech {
     size_t *ufor;    /* per force: input */
     size_t *xsh;     /* per input: shaping state or NONE */
     size_t *xbias, *ubias; /* per sensor: bias state and its noise input, or NONE */
+    size_t *xfilt, *ufilt; /* per sensor: filter state and its noise input, or NONE */
     /* motors: rotary (stator, rotor bodies) or linear (coordinate, k) */
     size_t *mstator, *mrotor, *mlin;
     double *mk;      /* linear: output rad per m of travel; 0 for rotary */
@@ -74,7 +75,7 @@ void rigmat_mech_free(rigmat_mech *s)
     free(s->coord); free(s->cjoint); free(s->order); free(s->bjoint);
     free(s->xq); free(s->xr); free(s->uq); free(s->freec);
     free(s->xi); free(s->umot); free(s->ufor); free(s->xsh);
-    free(s->xbias); free(s->ubias);
+    free(s->xbias); free(s->ubias); free(s->xfilt); free(s->ufilt);
     free(s->mstator); free(s->mrotor); free(s->mlin); free(s->mk); free(s->msign);
     free(s->mtheta0);
     free(s->bp); free(s->bth); free(s->bJ); free(s->bjth); free(s->bv); free(s->bom);
@@ -779,7 +780,9 @@ static const sensor_reading sensor_readings[RIGMAT_NSENSOR_KINDS] = {
 static double complex sensor_value(rigmat_mech *s, const double complex *x, size_t k)
 {
     const rigmat_sensor *se = &s->m->sensors[k];
-    double complex v = sensor_readings[se->kind](s, se);
+    /* a filtered sensor reads its filter's state */
+    double complex v = s->xfilt[k] != RIGMAT_NONE ? x[s->xfilt[k]] :
+                                                    sensor_readings[se->kind](s, se);
     /* a bias is in the measured quantity's unit, before gain and counts */
     if (s->xbias[k] != RIGMAT_NONE)
         v += x[s->xbias[k]];
@@ -826,6 +829,16 @@ rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const do
                         m->forces[in->index].bandwidth_hz :
                         m->joints[in->index].bandwidth_hz;
                 f[k] = 2.0 * M_PI * fc * (u[sg->index] - x[k]);
+                break;
+            }
+            case RIGMAT_SIG_FILTERED: {
+                /* z' = 2 pi F (reading + w - z): first-order low-pass,
+                 * the sensor's density w entering before it */
+                const rigmat_sensor *se = &m->sensors[sg->index];
+                double complex in = sensor_readings[se->kind](s, se);
+                if (s->ufilt[sg->index] != RIGMAT_NONE)
+                    in += u[s->ufilt[sg->index]];
+                f[k] = 2.0 * M_PI * se->filter_hz * (in - x[k]);
                 break;
             }
             case RIGMAT_SIG_BIAS: {
@@ -912,7 +925,8 @@ rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const doubl
 int rigmat_mech_is_balance_row(const rigmat_mech *s, size_t k)
 {
     const rigmat_signal_kind kd = s->canon.states[k].kind;
-    return kd == RIGMAT_SIG_RATE || kd == RIGMAT_SIG_CURRENT || kd == RIGMAT_SIG_SHAPING;
+    return kd == RIGMAT_SIG_RATE || kd == RIGMAT_SIG_CURRENT || kd == RIGMAT_SIG_SHAPING ||
+            kd == RIGMAT_SIG_FILTERED;
 }
 
 /* ------------------------------------------------------- construction */
@@ -1263,6 +1277,8 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     s->xsh = idx_alloc(L->nu, &bad);
     s->xbias = idx_alloc(m->nsensors, &bad);
     s->ubias = idx_alloc(m->nsensors, &bad);
+    s->xfilt = idx_alloc(m->nsensors, &bad);
+    s->ufilt = idx_alloc(m->nsensors, &bad);
     s->mstator = idx_alloc(nm, &bad);
     s->mrotor = idx_alloc(nm, &bad);
     s->mlin = idx_alloc(nm, &bad);
@@ -1304,6 +1320,8 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
             s->xsh[sg->index] = k;
         else if (sg->kind == RIGMAT_SIG_BIAS)
             s->xbias[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_FILTERED)
+            s->xfilt[sg->index] = k;
     }
     for (k = 0; k < L->nu; k++) {
         const rigmat_signal *sg = &L->inputs[k];
@@ -1315,6 +1333,8 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
             s->ufor[sg->index] = k;
         else if (sg->kind == RIGMAT_SIG_BIAS_NOISE)
             s->ubias[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_FILTER_NOISE)
+            s->ufilt[sg->index] = k;
     }
     for (k = 0; k < nm; k++) {
         const rigmat_motor *mo = &m->motors[k];
@@ -1468,6 +1488,23 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
                 x[s->xi[k]] = s->fr[s->xi[k]] * m->motors[k].inductance_h /
                         m->motors[k].resistance_ohm;
     }
+    /* a sensor filter at rest holds the reading: with z = 0,
+     * z' = 2 pi F reading */
+    for (k = 0; k < m->nsensors; k++)
+        if (s->xfilt[k] != RIGMAT_NONE) {
+            rigmat_status st;
+            size_t j;
+            for (j = 0; j < m->nsensors; j++)
+                if (s->xfilt[j] != RIGMAT_NONE)
+                    x[s->xfilt[j]] = 0.0;
+            st = rigmat_mech_eval_real(s, x, u, s->fr, NULL, err);
+            if (st != RIGMAT_OK)
+                return st;
+            for (j = 0; j < m->nsensors; j++)
+                if (s->xfilt[j] != RIGMAT_NONE)
+                    x[s->xfilt[j]] = s->fr[s->xfilt[j]] / (2.0 * M_PI * m->sensors[j].filter_hz);
+            break;
+        }
     return RIGMAT_OK;
 }
 

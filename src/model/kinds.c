@@ -170,10 +170,11 @@ size_t rigmat_joint_words(const char **out, size_t max)
 /* ------------------------------------------------------------ sensors */
 
 const char *const rigmat_sensor_common_keys[] = { "measures", "of", "gain", "offset", "noise",
-    "density", "bandwidth", "resolution", "bias", "part" };
+    "density", "bandwidth", "resolution", "bias", "filter", "part" };
 const size_t rigmat_sensor_ncommon_keys = NW(rigmat_sensor_common_keys);
 const char *const rigmat_sensor_all_keys[] = { "measures", "of", "at", "axis", "gain", "offset",
-    "noise", "density", "bandwidth", "resolution", "counts_per_rev", "unit", "bias", "part" };
+    "noise", "density", "bandwidth", "resolution", "counts_per_rev", "unit", "bias", "filter",
+    "part" };
 const size_t rigmat_sensor_nall_keys = NW(rigmat_sensor_all_keys);
 
 static const char *const encoder_units[] = { "rad", "counts" };

@@ -84,8 +84,9 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
 {
     rigmat_status st = RIGMAT_OK;
     size_t j, k, g;
-    const size_t maxx = 2 * m->njoints + m->nmotors + m->njoints + m->nforces + m->nsensors;
-    const size_t maxu = m->njoints + m->nmotors + m->nforces + m->nsensors;
+    const size_t maxx = 2 * m->njoints + m->nmotors + m->njoints + m->nforces +
+            2 * m->nsensors;
+    const size_t maxu = m->njoints + m->nmotors + m->nforces + 2 * m->nsensors;
     char unit[sizeof l->states[0].unit];
 
     memset(l, 0, sizeof *l);
@@ -118,6 +119,12 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
         if (g == 0)
             l->nu_control = l->nu;
     }
+    /* a filtered sensor's density: white noise before its filter */
+    for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
+        if (m->sensors[k].filter_hz > 0.0 && m->sensors[k].density > 0.0)
+            st = add_sig(l->inputs, &l->nu, m->sensors[k].name, ".noise",
+                    rigmat_sensor_measured_unit(m, &m->sensors[k]), RIGMAT_SIG_FILTER_NOISE, k,
+                    RIGMAT_ROLE_DISTURBANCE, err);
     /* the white noise driving each sensor bias: a disturbance, last */
     for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
         if (RIGMAT_SENSOR_HAS_BIAS(&m->sensors[k])) {
@@ -152,7 +159,13 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
         if (shaped(m, &l->inputs[k]))
             st = add_sig(l->states, &l->nx, l->inputs[k].name, ".shaped", l->inputs[k].unit,
                     RIGMAT_SIG_SHAPING, k, RIGMAT_ROLE_DISTURBANCE, err);
-    /* sensor biases go last (before any delay states discretize adds) */
+    /* sensor filters, then sensor biases last (before any delay states
+     * discretize adds) */
+    for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
+        if (m->sensors[k].filter_hz > 0.0)
+            st = add_sig(l->states, &l->nx, m->sensors[k].name, ".filtered",
+                    rigmat_sensor_measured_unit(m, &m->sensors[k]), RIGMAT_SIG_FILTERED, k,
+                    RIGMAT_ROLE_INPUT, err);
     for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
         if (RIGMAT_SENSOR_HAS_BIAS(&m->sensors[k]))
             st = add_sig(l->states, &l->nx, m->sensors[k].name, ".bias",

@@ -1759,18 +1759,30 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         /* the offset is in the reading's unit: a plain number for counts */
         opt_num(L, &e, "offset", sd->output_unit != NULL && sd->output_unit(s) != NULL
                 ? RIGMAT_Q_NUMBER : q, &s->offset);
-        if (field(&e, "noise") != NULL && field(&e, "density") != NULL)
+        /* behind a `filter` the density enters before it and the noise
+         * after it, so both may be given */
+        if (field(&e, "noise") != NULL && field(&e, "density") != NULL &&
+                field(&e, "filter") == NULL)
             lerr(L, &e, field(&e, "density")->key_loc, "give 'noise' (per sample) or "
                     "'density' (per sqrt(Hz)), not both", "'noise' and 'density' together");
-        else if (opt_num(L, &e, "noise", q, &s->noise) == 1)
-            must_nonneg(L, &e, "noise", s->noise);
-        else if (opt_density(L, &e, "density", q, &s->density) == 1)
-            must_nonneg(L, &e, "density", s->density);
+        else {
+            if (opt_num(L, &e, "noise", q, &s->noise) == 1)
+                must_nonneg(L, &e, "noise", s->noise);
+            if (opt_density(L, &e, "density", q, &s->density) == 1)
+                must_nonneg(L, &e, "density", s->density);
+        }
         if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &s->bandwidth_hz) == 1)
             must_positive(L, &e, "bandwidth", s->bandwidth_hz);
         if (opt_num(L, &e, "resolution", q, &s->resolution) == 1)
             must_positive(L, &e, "resolution", s->resolution);
         read_bias(L, &e, q, s);
+        if (opt_num(L, &e, "filter", RIGMAT_Q_FREQUENCY, &s->filter_hz) == 1) {
+            must_positive(L, &e, "filter", s->filter_hz);
+            if (s->bandwidth_hz > 0.0)
+                lerr(L, &e, field(&e, "filter")->key_loc, "with 'filter' the density passes "
+                        "the filter itself: drop 'bandwidth'", "'filter' and 'bandwidth' "
+                        "together");
+        }
     }
 }
 

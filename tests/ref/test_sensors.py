@@ -144,9 +144,54 @@ def biases():
         fail("Kalman filter bias error %.3g after %d steps" % (err, steps))
 
 
+def filters():
+    """A first-order sensor filter: the filtered accelerometer's response from the
+    force equals the raw one's times 1/(1 + s/(2 pi F)) (the definition of a
+    first-order low-pass, common practice), both computed with numpy from
+    linearize's A, B, C, D; its density is process noise of the filter state
+    and only its `noise` stays in Rd."""
+    f = model("filtered-accelerometer.yaml")
+    F = 20.0
+    lin = run("linearize", f, "--format", "json")
+    A = np.array(lin["A"], dtype=float)
+    B = np.array(lin["B"], dtype=float)
+    C = np.array(lin["C"], dtype=float)
+    D = np.array(lin["D"], dtype=float)
+    outs = [o["name"] for o in lin["outputs"]]
+    ins = [x["name"] for x in lin["inputs"]]
+    r, fl, u = outs.index("raw"), outs.index("filt"), ins.index("push")
+    n = A.shape[0]
+    got, want = [], []
+    for hz in (0.01, 0.3, 1.0, 1.6, 5.0, 20.0, 80.0, 400.0):
+        s = 2j * math.pi * hz
+        G = C @ np.linalg.solve(s * np.eye(n) - A, B) + D
+        got.append(G[fl, u])
+        want.append(G[r, u] / (1 + s / (2 * math.pi * F)))
+    # relative to the largest response of the sweep: an accelerometer's response
+    # vanishes toward DC (1e-9 at 0.01 Hz), where only cancellation remains
+    peak = max(abs(w) for w in want)
+    worst = max(abs(g - w) for g, w in zip(got, want)) / peak
+    print("filtered accelerometer: worst error of H_filt against H_raw/(1 + s/(2 pi F)) "
+          "over 0.01..400 Hz, relative to the peak response: %.3g" % worst)
+    if not worst < 1e-12:
+        fail("filtered response: relative error %.3g" % worst)
+    if abs(D[fl, u]) != 0.0:
+        fail("a filtered reading has no direct feedthrough: D %g" % D[fl, u])
+    d = run("discretize", f, "--rate", "100Hz", "--format", "json")
+    rd = np.array(d["Rd"], dtype=float)
+    qc = d["Qc"]
+    N, T = 0.002, 0.01
+    # README "Noise convention": a density N averaged over T gives N^2 / T in Rd
+    close("raw accelerometer Rd = N^2/T", rd[r, r], N * N / T, 1e-14)
+    close("filtered accelerometer Rd = noise^2 only", rd[fl, fl], 0.01 ** 2, 1e-14)
+    close("filtered accelerometer density as process noise Qc = N^2",
+          qc[[x["name"] for x in d["inputs"]].index("filt.noise")], N * N, 1e-14)
+
+
 def main():
     encoders()
     biases()
+    filters()
     if failures:
         print("test_sensors: %d failure(s)" % failures)
         sys.exit(1)
