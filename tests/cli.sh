@@ -476,6 +476,16 @@ if ls "$T" | grep -q 'tmp-\|old-'; then bad "temporary folder left behind"; else
 expect 3 "non-finite result, csv" -- "$R" discretize "$DEMO" --rate 100Hz --format csv --set sensors.gyro.gain=-1e308
 if [ -s "$T/out" ]; then bad "non-finite csv printed"; else ok; fi
 
+# sensor filter and bias (issue 15): a 20 Hz filter is fast at 10 Hz (lambda T =
+# 12.6 > 5) and earns the suggestion; at 100 Hz (1.26) it does not
+FA=tests/models/filtered-accelerometer.yaml
+expect 0 "filtered sensor, slow rate" -- "$R" discretize "$FA" --rate 10Hz
+has "$T/err" "sensor 'filt': its filter's time constant (7.96 ms)" "fast filter suggestion"
+expect 0 "filtered sensor, fast rate" -- "$R" discretize "$FA" --rate 100Hz
+if grep -q "filter's time constant" "$T/err"; then bad "filter suggestion at 100 Hz"; else ok; fi
+expect 0 "bias check" -- "$R" check tests/models/gyro-bias.yaml --rate 100Hz
+has "$T/out" "gyro         random walk, sd 1.74533e-06 rad/s after one sample" "bias sd per sample"
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

@@ -1592,8 +1592,8 @@ static int sensor_target(struct ld *L, const struct ent *e, const rigmat_sensor_
 }
 
 /* A bias random walk N: the density of the bias's rate, in the measured
- * unit q per s per sqrt(Hz), commonly written q/sqrt(s) per s
- * ("0.0004 deg/s/sqrt(s)" for a gyro, whose q is deg/s).  1 read, 0 error. */
+ * unit q per s per sqrt(Hz) = q per sqrt(s) ("0.0004 deg/s/sqrt(s)" for a
+ * gyro, whose q is deg/s).  1 read, 0 error. */
 static int walk_node(struct ld *L, const struct ent *e, const rigmat_node *n, rigmat_kind q,
         double *out)
 {
@@ -1605,8 +1605,7 @@ static int walk_node(struct ld *L, const struct ent *e, const rigmat_node *n, ri
     if (!want_scalar(L, e, n, "a bias random walk"))
         return 0;
     want.half[RIGMAT_DIM_TIME] = (signed char)(want.half[RIGMAT_DIM_TIME] - 1);
-    want_hz = want;
-    want_hz.half[RIGMAT_DIM_TIME] = (signed char)(want_hz.half[RIGMAT_DIM_TIME] - 1);
+    want_hz = want; /* q/s/sqrt(Hz) = q s^-1/2 cycle^-1/2 */
     want_hz.half[RIGMAT_DIM_CYCLE] = (signed char)(want_hz.half[RIGMAT_DIM_CYCLE] - 1);
     memset(&err, 0, sizeof err);
     if (rigmat_units_parse(n->text, &v, &err) != RIGMAT_OK) {
@@ -1615,8 +1614,8 @@ static int walk_node(struct ld *L, const struct ent *e, const rigmat_node *n, ri
     }
     if (!rigmat_dim_equal(v.dim, want) && !rigmat_dim_equal(v.dim, want_hz)) {
         rigmat_units_format_dim(want, unit, sizeof unit);
-        snprintf(hint, sizeof hint, "a random walk is the reading's unit per second per "
-                "sqrt(Hz): write e.g. %s/s/sqrt(s)", rigmat_units_kind_symbol(q));
+        snprintf(hint, sizeof hint, "a random walk is the reading's unit per sqrt(s): "
+                "write e.g. %s/sqrt(s)", rigmat_units_kind_symbol(q));
         lerr(L, e, n->loc, hint, "expected a bias random walk in %s, got '%s'", unit, n->text);
         return 0;
     }
