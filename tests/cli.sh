@@ -486,6 +486,11 @@ if grep -q "filter's time constant" "$T/err"; then bad "filter suggestion at 100
 expect 0 "bias check" -- "$R" check tests/models/gyro-bias.yaml --rate 100Hz
 has "$T/out" "gyro         random walk, sd 1.74533e-06 rad/s after one sample" "bias sd per sample"
 
+# the refusal of 'com' with a rod names the rod recipe (issue 15)
+expect 1 "com with a rod" -- "$R" check tests/bad/rod_com.yaml
+has "$T/err" "A rod hinged at its end" "com refusal names the recipe"
+has README.md "### A rod hinged at its end" "the recipe is in the README"
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

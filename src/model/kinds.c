@@ -450,8 +450,9 @@ const rigmat_shape_desc rigmat_shape_kinds[RIGMAT_NSHAPES] = {
     [RIGMAT_SHAPE_POINT] = { "point", RIGMAT_SHAPE_POINT, "a point", NULL, 0, point_inertia,
         NULL, NULL, point_describe },
     [RIGMAT_SHAPE_ROD] = { "rod", RIGMAT_SHAPE_ROD, "a rod", rod_keys, NW(rod_keys),
-        rod_inertia, rod_centre, "a rod's centre of mass is its middle; for another centre "
-        "give 'inertia' and 'com'", rod_describe },
+        rod_inertia, rod_centre, "a rod's centre of mass is its middle, and its origin one "
+        "end: hinge it there and hang the next joint 'at: end' (README.md, \"A rod hinged at "
+        "its end\"); for another centre give 'inertia' and 'com'", rod_describe },
     [RIGMAT_SHAPE_DISC] = { "disc", RIGMAT_SHAPE_DISC, "this shape", round_keys,
         NW(round_keys), disc_inertia, NULL, NULL, round_describe },
     [RIGMAT_SHAPE_RING] = { "ring", RIGMAT_SHAPE_RING, "this shape", round_keys,

@@ -901,7 +901,20 @@ static void read_joints(struct ld *L, const rigmat_node *root)
                 j->child = RIGMAT_NONE;
             }
         }
-        opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, j->at_m);
+        f = field(&e, "at");
+        if (f != NULL && f->value->type == RIGMAT_NODE_SCALAR &&
+                strcmp(f->value->text, "end") == 0) {
+            /* the far end of a rod parent (README.md, "A rod hinged at its end") */
+            if (j->parent != RIGMAT_NONE && m->bodies[j->parent].shape == RIGMAT_SHAPE_ROD) {
+                const rigmat_body *pb = &m->bodies[j->parent];
+                j->at_m[0] = pb->length_m * cos(pb->direction_rad);
+                j->at_m[1] = pb->length_m * sin(pb->direction_rad);
+            } else if (j->parent != RIGMAT_NONE)
+                lerr(L, &e, f->value->loc, "give the parent a shape {rod: {length, "
+                        "direction}}, or write the point: at: [x, y]", "'at: end' needs a rod "
+                        "parent, and '%s' is not a rod", m->bodies[j->parent].name);
+        } else
+            opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, j->at_m);
         opt_num(L, &e, "angle", RIGMAT_Q_ANGLE, &j->angle_rad);
         read_spec_keys(L, &e, jd->keys, jd->nkeys, j);
         if (jd->drivable) {

@@ -188,10 +188,32 @@ def filters():
           qc[[x["name"] for x in d["inputs"]].index("filt.noise")], N * N, 1e-14)
 
 
+def rods():
+    """Two uniform rods, each hinged at its end, the lower 'at: end' of the upper:
+    the compound double pendulum.  Small oscillations about hanging, in absolute
+    angles (Lagrange's equations, common practice; e.g. J. L. Meriam, L. G. Kraige,
+    Engineering Mechanics: Dynamics, rigid-body kinetics):
+      M = [[(m1/3 + m2) L1^2, m2 L1 L2 / 2], [m2 L1 L2 / 2, m2 L2^2 / 3]],
+      K = g [[(m1/2 + m2) L1, 0], [0, m2 L2 / 2]],  omega^2 = eig(M^-1 K)."""
+    m1, m2, L1, L2, g = 0.5, 0.3, 0.4, 0.3, 9.80665
+    M = np.array([[(m1 / 3 + m2) * L1 ** 2, m2 * L1 * L2 / 2], [m2 * L1 * L2 / 2, m2 * L2 ** 2 / 3]])
+    K = g * np.array([[(m1 / 2 + m2) * L1, 0], [0, m2 * L2 / 2]])
+    want = sorted(np.sqrt(np.linalg.eigvals(np.linalg.solve(M, K)).real))
+    lin = run("linearize", model("rod-chain.yaml"), "--format", "json")
+    ev = np.linalg.eigvals(np.array(lin["A"], dtype=float))
+    got = sorted(abs(e.imag) for e in ev if e.imag > 0)
+    if len(got) != 2:
+        fail("rod chain: eigenvalues %s" % ev)
+        return
+    for k in range(2):
+        close("rod chain (at: end) frequency %d" % k, got[k], want[k], 1e-10)
+
+
 def main():
     encoders()
     biases()
     filters()
+    rods()
     if failures:
         print("test_sensors: %d failure(s)" % failures)
         sys.exit(1)
