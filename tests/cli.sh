@@ -483,6 +483,11 @@ expect 0 "filtered sensor, slow rate" -- "$R" discretize "$FA" --rate 10Hz
 has "$T/err" "sensor 'filt': its filter's time constant (7.96 ms)" "fast filter suggestion"
 expect 0 "filtered sensor, fast rate" -- "$R" discretize "$FA" --rate 100Hz
 if grep -q "filter's time constant" "$T/err"; then bad "filter suggestion at 100 Hz"; else ok; fi
+# behind the filter only the 0.01 m/s^2 noise is per sample; the raw twin's
+# density 0.002 m/s^2/sqrt(Hz) averaged over 10 ms is 0.02 m/s^2
+expect 0 "filtered sensor check" -- "$R" check "$FA" --rate 100Hz
+has "$T/out" "filt         sensor, sd 0.01 m/s^2" "filtered sensor noise per sample"
+has "$T/out" "raw          sensor, sd 0.02 m/s^2" "raw sensor noise per sample"
 expect 0 "bias check" -- "$R" check tests/models/gyro-bias.yaml --rate 100Hz
 has "$T/out" "gyro         random walk, sd 1.74533e-06 rad/s after one sample" "bias sd per sample"
 

@@ -48,12 +48,16 @@ static double sensor_resolution(const rigmat_sensor *s)
     return resolution;
 }
 
-/* The sd per sample of a sensor in its measured unit; -1 needs a rate. */
+/* The sd per sample of a sensor in its measured unit; -1 needs a rate.
+ * Behind a `filter` the density is process noise of the filter state, not
+ * noise per sample. */
 static double sensor_sd(const rigmat_sensor *s, double rate_hz)
 {
-    if (s->density > 0.0 && s->bandwidth_hz <= 0.0 && rate_hz <= 0.0)
+    const double density = s->filter_hz > 0.0 ? 0.0 : s->density;
+
+    if (density > 0.0 && s->bandwidth_hz <= 0.0 && rate_hz <= 0.0)
         return -1.0;
-    return sqrt(rigmat_noise_sensor(s->noise, s->density, s->bandwidth_hz, sensor_resolution(s),
+    return sqrt(rigmat_noise_sensor(s->noise, density, s->bandwidth_hz, sensor_resolution(s),
             rate_hz > 0.0 ? 1.0 / rate_hz : 1.0).total_var);
 }
 

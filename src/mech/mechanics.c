@@ -1426,7 +1426,7 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
 {
     const rigmat_model *m = s->m;
     const rigmat_layout *L = &s->canon;
-    size_t k;
+    size_t k, nfilt;
 
     for (k = 0; k < L->nx; k++)
         x[k] = 0.0;
@@ -1489,22 +1489,21 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
                         m->motors[k].resistance_ohm;
     }
     /* a sensor filter at rest holds the reading: with z = 0,
-     * z' = 2 pi F reading */
+     * z' = 2 pi F reading (the reading does not depend on z) */
+    nfilt = 0;
     for (k = 0; k < m->nsensors; k++)
         if (s->xfilt[k] != RIGMAT_NONE) {
-            rigmat_status st;
-            size_t j;
-            for (j = 0; j < m->nsensors; j++)
-                if (s->xfilt[j] != RIGMAT_NONE)
-                    x[s->xfilt[j]] = 0.0;
-            st = rigmat_mech_eval_real(s, x, u, s->fr, NULL, err);
-            if (st != RIGMAT_OK)
-                return st;
-            for (j = 0; j < m->nsensors; j++)
-                if (s->xfilt[j] != RIGMAT_NONE)
-                    x[s->xfilt[j]] = s->fr[s->xfilt[j]] / (2.0 * M_PI * m->sensors[j].filter_hz);
-            break;
+            x[s->xfilt[k]] = 0.0;
+            nfilt++;
         }
+    if (nfilt > 0) {
+        const rigmat_status st = rigmat_mech_eval_real(s, x, u, s->fr, NULL, err);
+        if (st != RIGMAT_OK)
+            return st;
+        for (k = 0; k < m->nsensors; k++)
+            if (s->xfilt[k] != RIGMAT_NONE)
+                x[s->xfilt[k]] = s->fr[s->xfilt[k]] / (2.0 * M_PI * m->sensors[k].filter_hz);
+    }
     return RIGMAT_OK;
 }
 
