@@ -478,7 +478,7 @@ if [ -s "$T/out" ]; then bad "non-finite csv printed"; else ok; fi
 
 # sensor filter and bias (issue 15): a 20 Hz filter is fast at 10 Hz (lambda T =
 # 12.6 > 5) and earns the suggestion; at 100 Hz (1.26) it does not
-FA=tests/models/filtered-accelerometer.yaml
+FA=tests/sensors/filtered-accelerometer.yaml
 expect 0 "filtered sensor, slow rate" -- "$R" discretize "$FA" --rate 10Hz
 has "$T/err" "sensor 'filt': its filter's time constant (7.96 ms)" "fast filter suggestion"
 expect 0 "filtered sensor, fast rate" -- "$R" discretize "$FA" --rate 100Hz

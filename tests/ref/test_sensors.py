@@ -150,7 +150,10 @@ def filters():
     first-order low-pass, common practice), both computed with numpy from
     linearize's A, B, C, D; its density is process noise of the filter state
     and only its `noise` stays in Rd."""
-    f = model("filtered-accelerometer.yaml")
+    # kept out of tests/models: an accelerometer's response has a multiple zero at
+    # the origin (s^2 and more), which the channel-zero comparison of
+    # test_modes_examples.py cannot resolve in double precision
+    f = os.path.join(ROOT, "tests", "sensors", "filtered-accelerometer.yaml")
     F = 20.0
     lin = run("linearize", f, "--format", "json")
     A = np.array(lin["A"], dtype=float)
