@@ -350,9 +350,18 @@ typedef struct rigmat_sensor {
     double density;        /* per sqrt(Hz); 0 = none */
     double bandwidth_hz;   /* first-order bandwidth for density; 0 = sample average */
     double resolution;     /* quantization step; 0 = none */
-    double counts_per_rev; /* MOTOR_ANGLE: decoded counts per motor turn; 0 = none */
-    int unit_counts;       /* MOTOR_ANGLE: output in counts (else rad) */
+    double counts_per_rev; /* angle readings (angle, relative_angle, a hinge's position,
+                              motor_angle): decoded counts per turn; 0 = none */
+    int unit_counts;       /* those readings: output in counts (else rad) */
+    /* bias state `<sensor>.bias` (measured unit, before gain): b' = -b/tau + w */
+    double bias_walk;      /* random walk: density of w (unit per sqrt(s)); 0 = none */
+    double bias_sd;        /* Gauss-Markov: steady standard deviation; 0 = none */
+    double bias_tau_s;     /* Gauss-Markov: correlation time; 0 = random walk */
+    double filter_hz;      /* first-order low-pass state `<sensor>.filtered`; 0 = none */
 } rigmat_sensor;
+
+/* A sensor's bias state exists (and with it its noise input). */
+#define RIGMAT_SENSOR_HAS_BIAS(se) ((se)->bias_walk > 0.0 || (se)->bias_sd > 0.0)
 
 /* A name = value pair of the operating point. */
 typedef struct rigmat_setting {
@@ -377,7 +386,11 @@ typedef enum rigmat_signal_kind {
     RIGMAT_SIG_MOTOR,      /* input: a motor's drive; index = motor */
     RIGMAT_SIG_FORCE,      /* input: a force or torque; index = force */
     RIGMAT_SIG_DRIVEN,     /* input: a driven joint's derivative; index = joint */
-    RIGMAT_SIG_SENSOR      /* output: index = sensor */
+    RIGMAT_SIG_SENSOR,     /* output: index = sensor */
+    RIGMAT_SIG_BIAS,       /* state: a sensor's bias; index = sensor */
+    RIGMAT_SIG_BIAS_NOISE, /* input (disturbance): the white noise driving a bias; index = sensor */
+    RIGMAT_SIG_FILTERED,   /* state: a sensor's low-pass output; index = sensor */
+    RIGMAT_SIG_FILTER_NOISE /* input (disturbance): a filtered sensor's density; index = sensor */
 } rigmat_signal_kind;
 
 typedef struct rigmat_signal {

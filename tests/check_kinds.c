@@ -142,6 +142,19 @@ START_TEST(encoder_noise_rule)
     s.resolution = 0.01;
     rigmat_sensor_noise_rule(&s, &scale, &res);
     ck_assert(res == 0.01);
+    /* every angle reading takes an encoder alike (DESIGN.md section 3) */
+    {
+        const rigmat_sensor_kind angles[] = { RIGMAT_SENSE_ANGLE, RIGMAT_SENSE_RELATIVE_ANGLE,
+            RIGMAT_SENSE_JOINT_POSITION };
+        size_t i;
+        for (i = 0; i < sizeof angles / sizeof angles[0]; i++) {
+            s.kind = angles[i];
+            s.resolution = 0.0;
+            rigmat_sensor_noise_rule(&s, &scale, &res);
+            ck_assert_rel(res, 2.0 * M_PI / 2048.0, 1e-15);
+            ck_assert_rel(scale, 2048.0 / (2.0 * M_PI), 1e-15);
+        }
+    }
     /* any other kind: its own resolution, scale 1 */
     s.kind = RIGMAT_SENSE_RATE;
     s.resolution = 0.002;

@@ -567,6 +567,25 @@ if [ "$(cat "$T/keep/notes.txt")" = mine ] && [ ! -e "$T/keep/A.npy" ]; then ok;
 "$R" sweep "$DEMO" --vary drive=-0.5:0.5:5 --vary tilt=-5deg:5deg:3 --threads 1 >"$T/t1.json" 2>/dev/null
 "$R" sweep "$DEMO" --vary drive=-0.5:0.5:5 --vary tilt=-5deg:5deg:3 --threads 3 >"$T/t3.json" 2>/dev/null
 if [ -s "$T/t1.json" ] && cmp -s "$T/t1.json" "$T/t3.json"; then ok; else bad "sweep output depends on --threads"; fi
+# sensor filter and bias (issue 15): a 20 Hz filter is fast at 10 Hz (lambda T =
+# 12.6 > 5) and earns the suggestion; at 100 Hz (1.26) it does not
+FA=tests/sensors/filtered-accelerometer.yaml
+expect 0 "filtered sensor, slow rate" -- "$R" discretize "$FA" --rate 10Hz
+has "$T/err" "sensor 'filt': its filter's time constant (7.96 ms)" "fast filter suggestion"
+expect 0 "filtered sensor, fast rate" -- "$R" discretize "$FA" --rate 100Hz
+if grep -q "filter's time constant" "$T/err"; then bad "filter suggestion at 100 Hz"; else ok; fi
+# behind the filter only the 0.01 m/s^2 noise is per sample; the raw twin's
+# density 0.002 m/s^2/sqrt(Hz) averaged over 10 ms is 0.02 m/s^2
+expect 0 "filtered sensor check" -- "$R" check "$FA" --rate 100Hz
+has "$T/out" "filt         sensor, sd 0.01 m/s^2" "filtered sensor noise per sample"
+has "$T/out" "raw          sensor, sd 0.02 m/s^2" "raw sensor noise per sample"
+expect 0 "bias check" -- "$R" check tests/models/gyro-bias.yaml --rate 100Hz
+has "$T/out" "gyro         random walk, sd 1.74533e-06 rad/s after one sample" "bias sd per sample"
+
+# the refusal of 'com' with a rod names the rod recipe (issue 15)
+expect 1 "com with a rod" -- "$R" check tests/bad/rod_com.yaml
+has "$T/err" "A rod hinged at its end" "com refusal names the recipe"
+has README.md "### A rod hinged at its end" "the recipe is in the README"
 
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"

@@ -48,12 +48,16 @@ static double sensor_resolution(const rigmat_sensor *s)
     return resolution;
 }
 
-/* The sd per sample of a sensor in its measured unit; -1 needs a rate. */
+/* The sd per sample of a sensor in its measured unit; -1 needs a rate.
+ * Behind a `filter` the density is process noise of the filter state, not
+ * noise per sample. */
 static double sensor_sd(const rigmat_sensor *s, double rate_hz)
 {
-    if (s->density > 0.0 && s->bandwidth_hz <= 0.0 && rate_hz <= 0.0)
+    const double density = s->filter_hz > 0.0 ? 0.0 : s->density;
+
+    if (density > 0.0 && s->bandwidth_hz <= 0.0 && rate_hz <= 0.0)
         return -1.0;
-    return sqrt(rigmat_noise_sensor(s->noise, s->density, s->bandwidth_hz, sensor_resolution(s),
+    return sqrt(rigmat_noise_sensor(s->noise, density, s->bandwidth_hz, sensor_resolution(s),
             rate_hz > 0.0 ? 1.0 / rate_hz : 1.0).total_var);
 }
 
@@ -173,6 +177,51 @@ static void noise_entry(rigmat_result *r, const char *name, const char *kind, do
         rigmat_result_number(r, sd, unit);
     rigmat_result_key(r, "unit");
     rigmat_result_string(r, unit);
+    rigmat_result_close(r);
+}
+
+/* "biases": each sensor bias's standard deviation one sample (with --rate)
+ * and one minute after it was known exactly, in the measured unit. */
+static void bias_entries(rigmat_result *r, const rigmat_model *m, double rate_hz)
+{
+    size_t i;
+    int any = 0;
+
+    rigmat_result_key(r, "biases");
+    rigmat_result_array(r);
+    for (i = 0; i < m->nsensors; i++) {
+        const rigmat_sensor *s = &m->sensors[i];
+        const char *u = rigmat_sensor_measured_unit(m, s);
+        const double minute = rigmat_noise_bias_sd(s->bias_walk, s->bias_sd, s->bias_tau_s,
+                60.0);
+        if (!RIGMAT_SENSOR_HAS_BIAS(s))
+            continue;
+        const char *head = any ? "" : "sensor biases (sd from a known start)\n";
+        any = 1;
+        rigmat_result_object(r);
+        rigmat_result_key(r, "name");
+        rigmat_result_string(r, s->name);
+        rigmat_result_key(r, "model");
+        rigmat_result_string(r, s->bias_tau_s > 0.0 ? "gauss_markov" : "random_walk");
+        rigmat_result_key(r, "sd_after_sample");
+        if (rate_hz > 0.0) {
+            const double one = rigmat_noise_bias_sd(s->bias_walk, s->bias_sd, s->bias_tau_s,
+                    1.0 / rate_hz);
+            rigmat_result_number(r, one, u);
+            rigmat_result_as_text(r, "%s  %-12s %s, sd %.6g %s after one sample, ", head, s->name,
+                    s->bias_tau_s > 0.0 ? "Gauss-Markov" : "random walk", one, u);
+        } else {
+            rigmat_result_null(r);
+            rigmat_result_as_text(r, "%s  %-12s %s, (give --rate for one sample), ", head, s->name,
+                    s->bias_tau_s > 0.0 ? "Gauss-Markov" : "random walk");
+        }
+        rigmat_result_key(r, "sd_after_minute");
+        rigmat_result_number(r, minute, u);
+        rigmat_result_as_text(r, "%.6g %s after one minute\n", minute, u);
+        rigmat_result_key(r, "unit");
+        rigmat_result_string(r, u);
+        rigmat_result_close(r);
+    }
     rigmat_result_close(r);
 }
 
@@ -414,6 +463,7 @@ static void check_result(struct cli_env *env, rigmat_result *r, const rigmat_mod
         else
             rigmat_result_text(r, "  %-12s driven joint, sd %.6g (SI)\n", j->name, sd);
     }
+    bias_entries(r, m, rate_hz);
     rigmat_result_key(r, "operating_point");
     rigmat_result_object(r);
     settings(r, "coordinates", m->op_coordinates, m->nop_coordinates);

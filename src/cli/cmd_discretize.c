@@ -251,6 +251,13 @@ static void print_advice(struct cli_env *env, const rigmat_model *m, const rigma
                     "`inductance: neglect` would drop the state '%s'\n",
                     motor_of(st, buf, sizeof buf), 1e3 / mag, st);
             break;
+        case RIGMAT_ADVICE_FAST_FILTER:
+            fprintf(env->err,
+                    "rigmat discretize: suggestion: sensor '%s': its filter's time constant "
+                    "(%.3g ms) is far below the period; zoh samples it exactly, and without "
+                    "`filter` the state '%s' would go (its density then stays in Rd)\n",
+                    motor_of(st, buf, sizeof buf), 1e3 / mag, st);
+            break;
         case RIGMAT_ADVICE_QD_NOT_EXACT:
             fprintf(env->err,
                     "rigmat discretize: note: Qd is the exact covariance of the sampled "

@@ -317,6 +317,16 @@ static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti
             dens = m->forces[in->index].density;
         else if (in->kind == RIGMAT_SIG_DRIVEN)
             dens = m->joints[in->index].density;
+        else if (in->kind == RIGMAT_SIG_BIAS_NOISE) {
+            /* b' = w: a random walk N has intensity N^2; Gauss-Markov
+             * b' = -b/tau + w of steady sd S has intensity 2 S^2 / tau
+             * (R. G. Brown, P. Y. C. Hwang, Introduction to Random Signals
+             * and Applied Kalman Filtering, 4th ed. 2012, sec. 2.9 and 3.9) */
+            const rigmat_sensor *se = &m->sensors[in->index];
+            dens = se->bias_tau_s > 0.0 ? se->bias_sd * sqrt(2.0 / se->bias_tau_s) :
+                                          se->bias_walk;
+        } else if (in->kind == RIGMAT_SIG_FILTER_NOISE)
+            dens = m->sensors[in->index].density; /* before the filter (DESIGN.md sec. 3) */
         /* README.md, "Noise convention": density N means intensity Qc = N^2 */
         lti->input_intensity[k] = dens * dens;
     }
@@ -329,7 +339,8 @@ static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti
         if (kind_scale != 1.0)
             scale *= kind_scale;
         lti->output_noise_sd[k] = se->noise * scale;
-        lti->output_density[k] = se->density * scale;
+        /* a filtered sensor's density is process noise of its filter state */
+        lti->output_density[k] = se->filter_hz > 0.0 ? 0.0 : se->density * scale;
         lti->output_bandwidth_hz[k] = se->bandwidth_hz;
         lti->output_resolution[k] = res * scale;
     }

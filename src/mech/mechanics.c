@@ -44,6 +44,8 @@ struct rigmat_mech {
     size_t *xi, *umot; /* per motor: current state (or NONE), input */
     size_t *ufor;    /* per force: input */
     size_t *xsh;     /* per input: shaping state or NONE */
+    size_t *xbias, *ubias; /* per sensor: bias state and its noise input, or NONE */
+    size_t *xfilt, *ufilt; /* per sensor: filter state and its noise input, or NONE */
     /* motors: rotary (stator, rotor bodies) or linear (coordinate, k) */
     size_t *mstator, *mrotor, *mlin;
     double *mk;      /* linear: output rad per m of travel; 0 for rotary */
@@ -74,6 +76,7 @@ void rigmat_mech_free(rigmat_mech *s)
     free(s->coord); free(s->cjoint); free(s->order); free(s->bjoint);
     free(s->xq); free(s->xr); free(s->uq); free(s->freec);
     free(s->xi); free(s->umot); free(s->ufor); free(s->xsh);
+    free(s->xbias); free(s->ubias); free(s->xfilt); free(s->ufilt);
     free(s->mstator); free(s->mrotor); free(s->mlin); free(s->mk); free(s->msign);
     free(s->mtheta0);
     free(s->bp); free(s->bth); free(s->bJ); free(s->bjth); free(s->bv); free(s->bom);
@@ -701,8 +704,6 @@ static double complex read_motor_angle(rigmat_mech *s, const rigmat_sensor *se)
     double complex th, rate, bias, v;
     motor_out(s, se->motor, &th, s->tj, &rate, &bias);
     v = s->msign[se->motor] * mo->gear_ratio * (th - s->mtheta0[se->motor]);
-    if (se->unit_counts)
-        v *= se->counts_per_rev / (2.0 * M_PI);
     return v;
 }
 
@@ -777,10 +778,18 @@ static const sensor_reading sensor_readings[RIGMAT_NSENSOR_KINDS] = {
 };
 
 /* rigmat_mech_alloc has checked that every sensor's kind has a reading */
-static double complex sensor_value(rigmat_mech *s, size_t k)
+static double complex sensor_value(rigmat_mech *s, const double complex *x, size_t k)
 {
     const rigmat_sensor *se = &s->m->sensors[k];
-    const double complex v = sensor_readings[se->kind](s, se);
+    /* a filtered sensor reads its filter's state */
+    double complex v = s->xfilt[k] != RIGMAT_NONE ? x[s->xfilt[k]] :
+                                                    sensor_readings[se->kind](s, se);
+    /* a bias is in the measured quantity's unit, before gain and counts */
+    if (s->xbias[k] != RIGMAT_NONE)
+        v += x[s->xbias[k]];
+    /* an encoder read in counts: counts per radian */
+    if (se->unit_counts)
+        v *= se->counts_per_rev / (2.0 * M_PI);
     return se->gain * v + se->offset;
 }
 
@@ -823,12 +832,30 @@ rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const do
                 f[k] = 2.0 * M_PI * fc * (u[sg->index] - x[k]);
                 break;
             }
+            case RIGMAT_SIG_FILTERED: {
+                /* z' = 2 pi F (reading + w - z): first-order low-pass,
+                 * the sensor's density w entering before it */
+                const rigmat_sensor *se = &m->sensors[sg->index];
+                double complex in = sensor_readings[se->kind](s, se);
+                if (s->ufilt[sg->index] != RIGMAT_NONE)
+                    in += u[s->ufilt[sg->index]];
+                f[k] = 2.0 * M_PI * se->filter_hz * (in - x[k]);
+                break;
+            }
+            case RIGMAT_SIG_BIAS: {
+                /* b' = -b/tau + w (Gauss-Markov) or b' = w (random walk) */
+                const rigmat_sensor *se = &m->sensors[sg->index];
+                f[k] = u[s->ubias[sg->index]];
+                if (se->bias_tau_s > 0.0)
+                    f[k] -= x[k] / se->bias_tau_s;
+                break;
+            }
             default: f[k] = 0; break;
             }
         }
     if (y != NULL)
         for (k = 0; k < L->ny; k++)
-            y[k] = sensor_value(s, L->outputs[k].index);
+            y[k] = sensor_value(s, x, L->outputs[k].index);
     return RIGMAT_OK;
 }
 
@@ -899,7 +926,8 @@ rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const doubl
 int rigmat_mech_is_balance_row(const rigmat_mech *s, size_t k)
 {
     const rigmat_signal_kind kd = s->canon.states[k].kind;
-    return kd == RIGMAT_SIG_RATE || kd == RIGMAT_SIG_CURRENT || kd == RIGMAT_SIG_SHAPING;
+    return kd == RIGMAT_SIG_RATE || kd == RIGMAT_SIG_CURRENT || kd == RIGMAT_SIG_SHAPING ||
+            kd == RIGMAT_SIG_FILTERED;
 }
 
 /* ------------------------------------------------------- construction */
@@ -1248,6 +1276,10 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     s->umot = idx_alloc(nm, &bad);
     s->ufor = idx_alloc(m->nforces, &bad);
     s->xsh = idx_alloc(L->nu, &bad);
+    s->xbias = idx_alloc(m->nsensors, &bad);
+    s->ubias = idx_alloc(m->nsensors, &bad);
+    s->xfilt = idx_alloc(m->nsensors, &bad);
+    s->ufilt = idx_alloc(m->nsensors, &bad);
     s->mstator = idx_alloc(nm, &bad);
     s->mrotor = idx_alloc(nm, &bad);
     s->mlin = idx_alloc(nm, &bad);
@@ -1287,6 +1319,10 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
             s->xi[sg->index] = k;
         else if (sg->kind == RIGMAT_SIG_SHAPING)
             s->xsh[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_BIAS)
+            s->xbias[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_FILTERED)
+            s->xfilt[sg->index] = k;
     }
     for (k = 0; k < L->nu; k++) {
         const rigmat_signal *sg = &L->inputs[k];
@@ -1296,6 +1332,10 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
             s->umot[sg->index] = k;
         else if (sg->kind == RIGMAT_SIG_FORCE)
             s->ufor[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_BIAS_NOISE)
+            s->ubias[sg->index] = k;
+        else if (sg->kind == RIGMAT_SIG_FILTER_NOISE)
+            s->ufilt[sg->index] = k;
     }
     for (k = 0; k < nm; k++) {
         const rigmat_motor *mo = &m->motors[k];
@@ -1387,7 +1427,7 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
 {
     const rigmat_model *m = s->m;
     const rigmat_layout *L = &s->canon;
-    size_t k;
+    size_t k, nfilt;
 
     for (k = 0; k < L->nx; k++)
         x[k] = 0.0;
@@ -1448,6 +1488,22 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
             if (s->xi[k] != RIGMAT_NONE)
                 x[s->xi[k]] = s->fr[s->xi[k]] * m->motors[k].inductance_h /
                         m->motors[k].resistance_ohm;
+    }
+    /* a sensor filter at rest holds the reading: with z = 0,
+     * z' = 2 pi F reading (the reading does not depend on z) */
+    nfilt = 0;
+    for (k = 0; k < m->nsensors; k++)
+        if (s->xfilt[k] != RIGMAT_NONE) {
+            x[s->xfilt[k]] = 0.0;
+            nfilt++;
+        }
+    if (nfilt > 0) {
+        const rigmat_status st = rigmat_mech_eval_real(s, x, u, s->fr, NULL, err);
+        if (st != RIGMAT_OK)
+            return st;
+        for (k = 0; k < m->nsensors; k++)
+            if (s->xfilt[k] != RIGMAT_NONE)
+                x[s->xfilt[k]] = s->fr[s->xfilt[k]] / (2.0 * M_PI * m->sensors[k].filter_hz);
     }
     return RIGMAT_OK;
 }

@@ -94,7 +94,8 @@ rigmat_status rigmat_trim_alloc(rigmat_mech *s, const rigmat_namelist *solve,
     }
     /* motor currents and shaping states always follow */
     for (k = 0; k < L->nx; k++)
-        if ((L->states[k].kind == RIGMAT_SIG_CURRENT || L->states[k].kind == RIGMAT_SIG_SHAPING) &&
+        if ((L->states[k].kind == RIGMAT_SIG_CURRENT || L->states[k].kind == RIGMAT_SIG_SHAPING ||
+                    L->states[k].kind == RIGMAT_SIG_FILTERED) &&
                 !has_unknown(t, 0, k)) {
             t->p_input[t->np] = 0;
             t->p_index[t->np++] = k;

@@ -170,10 +170,11 @@ size_t rigmat_joint_words(const char **out, size_t max)
 /* ------------------------------------------------------------ sensors */
 
 const char *const rigmat_sensor_common_keys[] = { "measures", "of", "gain", "offset", "noise",
-    "density", "bandwidth", "resolution", "part" };
+    "density", "bandwidth", "resolution", "bias", "filter", "part" };
 const size_t rigmat_sensor_ncommon_keys = NW(rigmat_sensor_common_keys);
 const char *const rigmat_sensor_all_keys[] = { "measures", "of", "at", "axis", "gain", "offset",
-    "noise", "density", "bandwidth", "resolution", "counts_per_rev", "unit", "part" };
+    "noise", "density", "bandwidth", "resolution", "counts_per_rev", "unit", "bias", "filter",
+    "part" };
 const size_t rigmat_sensor_nall_keys = NW(rigmat_sensor_all_keys);
 
 static const char *const encoder_units[] = { "rad", "counts" };
@@ -226,18 +227,20 @@ static const char *const pair_hint = "write of: [A, B]; the sensor reads B minus
 const rigmat_sensor_desc rigmat_sensor_kinds[RIGMAT_NSENSOR_KINDS] = {
     [RIGMAT_SENSE_JOINT_POSITION] = { "position", RIGMAT_SENSE_JOINT_POSITION, RIGMAT_OF_JOINT,
         NULL, 0, RIGMAT_MEASURED_COORD, RIGMAT_Q_NUMBER, RIGMAT_NEED_MOVING, fixed_joint_hint,
-        NULL, 0, NULL, NULL },
+        encoder_keys, NW(encoder_keys), encoder_output_unit, encoder_noise },
     [RIGMAT_SENSE_JOINT_VELOCITY] = { "velocity", RIGMAT_SENSE_JOINT_VELOCITY, RIGMAT_OF_JOINT,
         NULL, 0, RIGMAT_MEASURED_RATE, RIGMAT_Q_NUMBER, RIGMAT_NEED_MOVING, fixed_joint_hint,
         NULL, 0, NULL, NULL },
     [RIGMAT_SENSE_ANGLE] = { "angle", RIGMAT_SENSE_ANGLE, RIGMAT_OF_BODY, NULL, 0,
-        RIGMAT_MEASURED_FIXED, RIGMAT_Q_ANGLE, RIGMAT_NEED_ANY, NULL, NULL, 0, NULL, NULL },
+        RIGMAT_MEASURED_FIXED, RIGMAT_Q_ANGLE, RIGMAT_NEED_ANY, NULL, encoder_keys,
+        NW(encoder_keys), encoder_output_unit, encoder_noise },
     [RIGMAT_SENSE_RATE] = { "rate", RIGMAT_SENSE_RATE, RIGMAT_OF_BODY, NULL, 0,
         RIGMAT_MEASURED_FIXED, RIGMAT_Q_ANGULAR_RATE, RIGMAT_NEED_ANY, NULL, NULL, 0, NULL,
         NULL },
     [RIGMAT_SENSE_RELATIVE_ANGLE] = { "relative_angle", RIGMAT_SENSE_RELATIVE_ANGLE,
         RIGMAT_OF_BODY_PAIR, pair_hint, 0, RIGMAT_MEASURED_FIXED, RIGMAT_Q_ANGLE,
-        RIGMAT_NEED_ANY, NULL, NULL, 0, NULL, NULL },
+        RIGMAT_NEED_ANY, NULL, encoder_keys, NW(encoder_keys), encoder_output_unit,
+        encoder_noise },
     [RIGMAT_SENSE_RELATIVE_RATE] = { "relative_rate", RIGMAT_SENSE_RELATIVE_RATE,
         RIGMAT_OF_BODY_PAIR, pair_hint, 0, RIGMAT_MEASURED_FIXED, RIGMAT_Q_ANGULAR_RATE,
         RIGMAT_NEED_ANY, NULL, NULL, 0, NULL, NULL },
@@ -447,8 +450,9 @@ const rigmat_shape_desc rigmat_shape_kinds[RIGMAT_NSHAPES] = {
     [RIGMAT_SHAPE_POINT] = { "point", RIGMAT_SHAPE_POINT, "a point", NULL, 0, point_inertia,
         NULL, NULL, point_describe },
     [RIGMAT_SHAPE_ROD] = { "rod", RIGMAT_SHAPE_ROD, "a rod", rod_keys, NW(rod_keys),
-        rod_inertia, rod_centre, "a rod's centre of mass is its middle; for another centre "
-        "give 'inertia' and 'com'", rod_describe },
+        rod_inertia, rod_centre, "a rod's centre of mass is its middle, and its origin one "
+        "end: hinge it there and hang the next joint 'at: end' (README.md, \"A rod hinged at "
+        "its end\"); for another centre give 'inertia' and 'com'", rod_describe },
     [RIGMAT_SHAPE_DISC] = { "disc", RIGMAT_SHAPE_DISC, "this shape", round_keys,
         NW(round_keys), disc_inertia, NULL, NULL, round_describe },
     [RIGMAT_SHAPE_RING] = { "ring", RIGMAT_SHAPE_RING, "this shape", round_keys,

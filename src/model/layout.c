@@ -84,8 +84,10 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
 {
     rigmat_status st = RIGMAT_OK;
     size_t j, k, g;
-    const size_t maxx = 2 * m->njoints + m->nmotors + m->njoints + m->nforces;
-    const size_t maxu = m->njoints + m->nmotors + m->nforces;
+    const size_t maxx = 2 * m->njoints + m->nmotors + m->njoints + m->nforces +
+            2 * m->nsensors;
+    const size_t maxu = m->njoints + m->nmotors + m->nforces + 2 * m->nsensors;
+    char unit[sizeof l->states[0].unit];
 
     memset(l, 0, sizeof *l);
     l->states = calloc(maxx ? maxx : 1, sizeof *l->states);
@@ -117,6 +119,21 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
         if (g == 0)
             l->nu_control = l->nu;
     }
+    /* a filtered sensor's density: white noise before its filter */
+    for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
+        if (m->sensors[k].filter_hz > 0.0 && m->sensors[k].density > 0.0)
+            st = add_sig(l->inputs, &l->nu, m->sensors[k].name, ".noise",
+                    rigmat_sensor_measured_unit(m, &m->sensors[k]), RIGMAT_SIG_FILTER_NOISE, k,
+                    RIGMAT_ROLE_DISTURBANCE, err);
+    /* the white noise driving each sensor bias: a disturbance, last */
+    for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
+        if (RIGMAT_SENSOR_HAS_BIAS(&m->sensors[k])) {
+            rigmat_dim d = rigmat_units_dim(rigmat_sensor_measured_kind(m, &m->sensors[k]));
+            d.half[RIGMAT_DIM_TIME] = (signed char)(d.half[RIGMAT_DIM_TIME] - 2);
+            rigmat_units_format_dim(d, unit, sizeof unit);
+            st = add_sig(l->inputs, &l->nu, m->sensors[k].name, ".bias_noise", unit,
+                    RIGMAT_SIG_BIAS_NOISE, k, RIGMAT_ROLE_DISTURBANCE, err);
+        }
     /* states */
     for (j = 0; j < m->njoints && st == RIGMAT_OK; j++) {
         const rigmat_joint *jt = &m->joints[j];
@@ -142,6 +159,18 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
         if (shaped(m, &l->inputs[k]))
             st = add_sig(l->states, &l->nx, l->inputs[k].name, ".shaped", l->inputs[k].unit,
                     RIGMAT_SIG_SHAPING, k, RIGMAT_ROLE_DISTURBANCE, err);
+    /* sensor filters, then sensor biases last (before any delay states
+     * discretize adds) */
+    for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
+        if (m->sensors[k].filter_hz > 0.0)
+            st = add_sig(l->states, &l->nx, m->sensors[k].name, ".filtered",
+                    rigmat_sensor_measured_unit(m, &m->sensors[k]), RIGMAT_SIG_FILTERED, k,
+                    RIGMAT_ROLE_INPUT, err);
+    for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
+        if (RIGMAT_SENSOR_HAS_BIAS(&m->sensors[k]))
+            st = add_sig(l->states, &l->nx, m->sensors[k].name, ".bias",
+                    rigmat_sensor_measured_unit(m, &m->sensors[k]), RIGMAT_SIG_BIAS, k,
+                    RIGMAT_ROLE_DISTURBANCE, err);
     for (k = 0; k < m->nsensors && st == RIGMAT_OK; k++)
         st = add_sig(l->outputs, &l->ny, m->sensors[k].name, NULL,
                 rigmat_sensor_output_unit(m, &m->sensors[k]), RIGMAT_SIG_SENSOR, k,

@@ -902,7 +902,20 @@ static void read_joints(struct ld *L, const rigmat_node *root)
                 j->child = RIGMAT_NONE;
             }
         }
-        opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, j->at_m);
+        f = field(&e, "at");
+        if (f != NULL && f->value->type == RIGMAT_NODE_SCALAR &&
+                strcmp(f->value->text, "end") == 0) {
+            /* the far end of a rod parent (README.md, "A rod hinged at its end") */
+            if (j->parent != RIGMAT_NONE && m->bodies[j->parent].shape == RIGMAT_SHAPE_ROD) {
+                const rigmat_body *pb = &m->bodies[j->parent];
+                j->at_m[0] = pb->length_m * cos(pb->direction_rad);
+                j->at_m[1] = pb->length_m * sin(pb->direction_rad);
+            } else if (j->parent != RIGMAT_NONE)
+                lerr(L, &e, f->value->loc, "give the parent a shape {rod: {length, "
+                        "direction}}, or write the point: at: [x, y]", "'at: end' needs a rod "
+                        "parent, and '%s' is not a rod", m->bodies[j->parent].name);
+        } else
+            opt_vec2(L, &e, "at", RIGMAT_Q_LENGTH, j->at_m);
         opt_num(L, &e, "angle", RIGMAT_Q_ANGLE, &j->angle_rad);
         read_spec_keys(L, &e, jd->keys, jd->nkeys, j);
         if (jd->drivable) {
@@ -1592,6 +1605,85 @@ static int sensor_target(struct ld *L, const struct ent *e, const rigmat_sensor_
     return 1;
 }
 
+/* A bias random walk N: the density of the bias's rate, in the measured
+ * unit q per s per sqrt(Hz) = q per sqrt(s) ("0.0004 deg/s/sqrt(s)" for a
+ * gyro, whose q is deg/s).  1 read, 0 error. */
+static int walk_node(struct ld *L, const struct ent *e, const rigmat_node *n, rigmat_kind q,
+        double *out)
+{
+    rigmat_quantity v;
+    rigmat_error err;
+    rigmat_dim want = rigmat_units_dim(q), want_hz;
+    char unit[64], hint[160];
+
+    if (!want_scalar(L, e, n, "a bias random walk"))
+        return 0;
+    want.half[RIGMAT_DIM_TIME] = (signed char)(want.half[RIGMAT_DIM_TIME] - 1);
+    want_hz = want; /* q/s/sqrt(Hz) = q s^-1/2 cycle^-1/2 */
+    want_hz.half[RIGMAT_DIM_CYCLE] = (signed char)(want_hz.half[RIGMAT_DIM_CYCLE] - 1);
+    memset(&err, 0, sizeof err);
+    if (rigmat_units_parse(n->text, &v, &err) != RIGMAT_OK) {
+        lerr(L, e, n->loc, err.hint[0] ? err.hint : NULL, "%s", err.message);
+        return 0;
+    }
+    if (!rigmat_dim_equal(v.dim, want) && !rigmat_dim_equal(v.dim, want_hz)) {
+        rigmat_units_format_dim(want, unit, sizeof unit);
+        snprintf(hint, sizeof hint, "a random walk is the reading's unit per sqrt(s): "
+                "write e.g. %s/sqrt(s)", rigmat_units_kind_symbol(q));
+        lerr(L, e, n->loc, hint, "expected a bias random walk in %s, got '%s'", unit, n->text);
+        return 0;
+    }
+    if (!isfinite(v.value)) {
+        lerr(L, e, n->loc, NULL, "'%s' is out of range", n->text);
+        return 0;
+    }
+    *out = v.value;
+    return 1;
+}
+
+/* `bias: {random_walk: N}` or `bias: {sd: S, correlation_time: TAU}`
+ * (DESIGN.md section 3), in the measured quantity's unit q. */
+static void read_bias(struct ld *L, const struct ent *e, rigmat_kind q, rigmat_sensor *s)
+{
+    static const char *const walk_keys[] = { "random_walk" };
+    static const char *const markov_keys[] = { "sd", "correlation_time" };
+    static const char *const all_keys[] = { "random_walk", "sd", "correlation_time" };
+    const char *const hint = "write bias: {random_walk: 0.0004 deg/s/sqrt(s)} or "
+                             "bias: {sd: 0.05 deg/s, correlation_time: 200 s}";
+    const rigmat_entry *f = field(e, "bias");
+    struct ent sub;
+
+    if (f == NULL)
+        return;
+    if (f->value->type != RIGMAT_NODE_MAP) {
+        lerr(L, e, f->value->loc, hint, "expected the bias as a mapping, got %s",
+                rigmat_node_type_words(f->value->type));
+        return;
+    }
+    sub = *e;
+    sub.map = f->value;
+    if (field(&sub, "random_walk") != NULL) {
+        check_keys(L, &sub, walk_keys, NW(walk_keys), all_keys, NW(all_keys),
+                "a random-walk bias");
+        if (walk_node(L, &sub, field(&sub, "random_walk")->value, q, &s->bias_walk))
+            must_positive(L, &sub, "random_walk", s->bias_walk);
+        return;
+    }
+    check_keys(L, &sub, markov_keys, NW(markov_keys), all_keys, NW(all_keys),
+            "a Gauss-Markov bias");
+    if (field(&sub, "sd") == NULL && field(&sub, "correlation_time") == NULL) {
+        lerr(L, e, f->value->loc, hint, "a bias needs 'random_walk', or 'sd' and "
+                "'correlation_time'");
+        return;
+    }
+    if (req_num(L, &sub, "sd", q, &s->bias_sd, hint))
+        must_positive(L, &sub, "sd", s->bias_sd);
+    if (req_num(L, &sub, "correlation_time", RIGMAT_Q_TIME, &s->bias_tau_s, hint))
+        must_positive(L, &sub, "correlation_time", s->bias_tau_s);
+    if (!(s->bias_sd > 0.0 && s->bias_tau_s > 0.0))
+        s->bias_sd = s->bias_tau_s = 0.0;
+}
+
 static void read_sensors(struct ld *L, const rigmat_node *root)
 {
     const rigmat_node *sec = section(L, root, "sensors");
@@ -1658,6 +1750,15 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         if (fof == NULL && sd->from != RIGMAT_MEASURED_FIXED)
             known_unit = 0;
         read_spec_keys(L, &e, sd->keys, sd->nkeys, s);
+        /* an encoder reads an angle: a hinge's position, not a slider's */
+        if (s->counts_per_rev > 0.0 && known_unit && s->joint != RIGMAT_NONE &&
+                !rigmat_joint_kind(m->joints[s->joint].type)->rotational) {
+            lerr(L, &e, field(&e, "counts_per_rev")->key_loc, "for a linear encoder give "
+                    "'resolution' (the length of one count)", "'counts_per_rev' needs an "
+                    "angle, and joint '%s' is a %s", m->joints[s->joint].name,
+                    rigmat_joint_kind(m->joints[s->joint].type)->word);
+            continue;
+        }
         snprintf(form, sizeof form, "a '%s' sensor", sd->word);
         check_keys(L, &e, keys, nk, rigmat_sensor_all_keys, rigmat_sensor_nall_keys, form);
         if (!known_unit)
@@ -1671,17 +1772,30 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         /* the offset is in the reading's unit: a plain number for counts */
         opt_num(L, &e, "offset", sd->output_unit != NULL && sd->output_unit(s) != NULL
                 ? RIGMAT_Q_NUMBER : q, &s->offset);
-        if (field(&e, "noise") != NULL && field(&e, "density") != NULL)
+        /* behind a `filter` the density enters before it and the noise
+         * after it, so both may be given */
+        if (field(&e, "noise") != NULL && field(&e, "density") != NULL &&
+                field(&e, "filter") == NULL)
             lerr(L, &e, field(&e, "density")->key_loc, "give 'noise' (per sample) or "
                     "'density' (per sqrt(Hz)), not both", "'noise' and 'density' together");
-        else if (opt_num(L, &e, "noise", q, &s->noise) == 1)
-            must_nonneg(L, &e, "noise", s->noise);
-        else if (opt_density(L, &e, "density", q, &s->density) == 1)
-            must_nonneg(L, &e, "density", s->density);
+        else {
+            if (opt_num(L, &e, "noise", q, &s->noise) == 1)
+                must_nonneg(L, &e, "noise", s->noise);
+            if (opt_density(L, &e, "density", q, &s->density) == 1)
+                must_nonneg(L, &e, "density", s->density);
+        }
         if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &s->bandwidth_hz) == 1)
             must_positive(L, &e, "bandwidth", s->bandwidth_hz);
         if (opt_num(L, &e, "resolution", q, &s->resolution) == 1)
             must_positive(L, &e, "resolution", s->resolution);
+        read_bias(L, &e, q, s);
+        if (opt_num(L, &e, "filter", RIGMAT_Q_FREQUENCY, &s->filter_hz) == 1) {
+            must_positive(L, &e, "filter", s->filter_hz);
+            if (s->bandwidth_hz > 0.0)
+                lerr(L, &e, field(&e, "filter")->key_loc, "with 'filter' the density passes "
+                        "the filter itself: drop 'bandwidth'", "'filter' and 'bandwidth' "
+                        "together");
+        }
     }
 }
 

@@ -674,6 +674,9 @@ rigmat_status rigmat_sampling_advice(const rigmat_lti *s, const rigmat_discretiz
         if (is_real && re < 0.0 && mag * T > lim->fast_pole_lambda_t && where != RIGMAT_NONE &&
             s->states != NULL && s->states[where].kind == RIGMAT_SIG_CURRENT)
             add_item(items, cap, count, RIGMAT_ADVICE_NEGLECT_L, re, im, where);
+        if (is_real && re < 0.0 && mag * T > lim->fast_pole_lambda_t && where != RIGMAT_NONE &&
+            s->states != NULL && s->states[where].kind == RIGMAT_SIG_FILTERED)
+            add_item(items, cap, count, RIGMAT_ADVICE_FAST_FILTER, re, im, where);
     }
     if (o->method != RIGMAT_METHOD_ZOH) {
         for (i = s->nu_control; i < s->nu; i++)

@@ -140,7 +140,9 @@ typedef enum rigmat_advice_kind {
     RIGMAT_ADVICE_UNSTABLE,    /* an unstable mode fast for this period */
     RIGMAT_ADVICE_EULER,       /* forward Euler turns a stable mode unstable */
     RIGMAT_ADVICE_NEGLECT_L,   /* a fast stable pole in a motor current: inductance: neglect */
-    RIGMAT_ADVICE_QD_NOT_EXACT /* Qd is the exact sampled covariance only for ZOH */
+    RIGMAT_ADVICE_QD_NOT_EXACT, /* Qd is the exact sampled covariance only for ZOH */
+    RIGMAT_ADVICE_FAST_FILTER  /* a sensor filter's pole fast for this period: the state adds
+                                * nothing a sample sees */
 } rigmat_advice_kind;
 
 typedef struct rigmat_advice {

@@ -590,6 +590,18 @@ double rigmat_noise_sample_sd(double intensity, double period_s)
     return sqrt(intensity / period_s);
 }
 
+/* The variance of b' = -b/tau + w (intensity 2 sd^2/tau) from b(0) = 0 is
+ * sd^2 (1 - e^{-2t/tau}); with b' = w (intensity walk^2) it is walk^2 t
+ * (R. G. Brown, P. Y. C. Hwang, Introduction to Random Signals and Applied
+ * Kalman Filtering, 4th ed. 2012, sec. 2.9 (Wiener process) and 3.9
+ * (first-order Gauss-Markov)). */
+double rigmat_noise_bias_sd(double walk, double sd, double tau_s, double t_s)
+{
+    if (tau_s > 0.0)
+        return sd * sqrt(-expm1(-2.0 * t_s / tau_s));
+    return walk * sqrt(t_s);
+}
+
 void rigmat_noise_free(rigmat_noise *n)
 {
     if (n == NULL)

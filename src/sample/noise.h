@@ -139,6 +139,12 @@ rigmat_sensor_noise rigmat_noise_sensor(double sd, double density, double bandwi
  * over one period: sqrt(Qc / T). */
 double rigmat_noise_sample_sd(double intensity, double period_s);
 
+/* The standard deviation of a sensor bias t seconds after it was known
+ * exactly (b(0) = 0): a random walk of density walk (b' = w) grows as
+ * walk sqrt(t); a Gauss-Markov bias of steady sd and correlation time tau
+ * as sd sqrt(1 - e^{-2t/tau}) (tau > 0 selects it). */
+double rigmat_noise_bias_sd(double walk, double sd, double tau_s, double t_s);
+
 /* The noise model of a sampled model. */
 typedef struct rigmat_noise {
     size_t nx, ny, nw; /* nx: states of the sampled model (with delays) */
