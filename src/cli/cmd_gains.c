@@ -276,6 +276,7 @@ static rigmat_status load_weights(struct cli_env *env, const char *path, const r
 
     rigmat_diags_init(&d);
     d.max_errors = env->opt.max_errors;
+    cli_note_input(env, path);
     st = rigmat_weights_load(path, l, &env->opt, out, &d);
     rigmat_diags_print(&d, env->err);
     rigmat_diags_release(&d);

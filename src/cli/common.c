@@ -56,6 +56,8 @@ rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct
             *out = NULL;
         }
     }
+    if (st == RIGMAT_OK)
+        cli_note_model_inputs(env, *out);
     rigmat_diags_print(&d, env->err);
     rigmat_diags_release(&d);
     return st;
