@@ -47,6 +47,11 @@ struct cli_env {
     int inputs_lost; /* more inputs than fit: every regular output is refused */
 };
 
+/* Print text from the input with control characters shown as '?'. */
+void cli_put_clean(FILE *f, const char *s);
+/* Warn (once) when --catalog or $RIGMAT_CATALOG is not a folder: it is
+ * then not searched. */
+void cli_catalog_warn(struct cli_env *env);
 /* Record a file that was read (src/cli/guard.c); names that are not files
  * ("--set") are skipped. */
 void cli_note_input(struct cli_env *env, const char *path);

@@ -117,7 +117,9 @@ static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d, con
     double mag, tau;
     size_t at;
 
-    fprintf(f, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
+    fputs("model: ", f);
+    cli_put_clean(f, cli_model_name(m));
+    fprintf(f, "\norder hash: %s\n", L->order_hash);
     fprintf(f,
             "sampled at %.6g Hz (period %.6g ms), method %s; gains act on deviations from "
             "the operating point\n\n",

@@ -401,6 +401,7 @@ rigmat_status cmd_parts(int argc, char **argv, struct cli_env *env)
         return RIGMAT_EUSAGE;
     if (c.catalog != NULL)
         env->opt.catalog_dir = c.catalog;
+    cli_catalog_warn(env);
     if (npos == 0)
         return list_parts(env, &c);
     return show_part(env, pos[0], &c);

@@ -61,3 +61,26 @@ rigmat_status cli_output_guard(struct cli_env *env, const char *path)
           "weights file\n", env->err);
     return RIGMAT_EUSAGE;
 }
+
+static void warn_folder(struct cli_env *env, const char *what, const char *path)
+{
+    struct stat st;
+
+    if (path == NULL || path[0] == '\0' || (stat(path, &st) == 0 && S_ISDIR(st.st_mode)))
+        return;
+    fprintf(env->err, "rigmat %s: warning: %s '", env->command, what);
+    cli_put_clean(env->err, path);
+    fprintf(env->err, "' is %s, so it is not searched for parts\n",
+            stat(path, &st) != 0 ? "not there" : "not a folder");
+}
+
+void cli_catalog_warn(struct cli_env *env)
+{
+    static int done;
+
+    if (done)
+        return;
+    done = 1;
+    warn_folder(env, "--catalog", env->opt.catalog_dir);
+    warn_folder(env, "RIGMAT_CATALOG", env->opt.catalog_env);
+}
