@@ -255,7 +255,25 @@ static int num_node(struct ld *L, const struct ent *e, const rigmat_node *n, rig
         lerr(L, e, n->loc, NULL, "'%s' is out of range", n->text);
         return 0;
     }
+    if (density && !isfinite(*out * *out)) {
+        /* the intensity is the density squared (DESIGN.md, noise) */
+        lerr(L, e, n->loc, "a noise density is at most about 1e154 in SI units",
+                "'%s' is out of range: its noise intensity (the square) overflows", n->text);
+        return 0;
+    }
     return 1;
+}
+
+/* A per-sample noise or resolution enters as its square (a variance):
+ * refuse one whose square overflows, as a model error. */
+static void must_square_finite(struct ld *L, const struct ent *e, const char *key, double v)
+{
+    const rigmat_entry *f = field(e, key);
+
+    if (f != NULL && isfinite(v) && !isfinite(v * v))
+        lerr(L, e, f->value->loc, "a noise is at most about 1e154 in SI units",
+                "'%s' is out of range: its variance (the square) overflows", f->value->text != NULL ?
+                f->value->text : key);
 }
 
 /* Optional number: 1 read, 0 absent, -1 error. */
@@ -1673,14 +1691,18 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
         if (field(&e, "noise") != NULL && field(&e, "density") != NULL)
             lerr(L, &e, field(&e, "density")->key_loc, "give 'noise' (per sample) or "
                     "'density' (per sqrt(Hz)), not both", "'noise' and 'density' together");
-        else if (opt_num(L, &e, "noise", q, &s->noise) == 1)
+        else if (opt_num(L, &e, "noise", q, &s->noise) == 1) {
             must_nonneg(L, &e, "noise", s->noise);
+            must_square_finite(L, &e, "noise", s->noise);
+        }
         else if (opt_density(L, &e, "density", q, &s->density) == 1)
             must_nonneg(L, &e, "density", s->density);
         if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &s->bandwidth_hz) == 1)
             must_positive(L, &e, "bandwidth", s->bandwidth_hz);
-        if (opt_num(L, &e, "resolution", q, &s->resolution) == 1)
+        if (opt_num(L, &e, "resolution", q, &s->resolution) == 1) {
             must_positive(L, &e, "resolution", s->resolution);
+            must_square_finite(L, &e, "resolution", s->resolution);
+        }
     }
 }
 
