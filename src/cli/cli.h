@@ -47,6 +47,10 @@ struct cli_env {
     int inputs_lost; /* more inputs than fit: every regular output is refused */
 };
 
+/* A stream that discards what is written (a finite check by rendering the
+ * JSON of a result that is then printed as text); NULL when none opens. */
+FILE *cli_scratch_open(void);
+void cli_scratch_close(FILE *f);
 /* Print text from the input with control characters shown as '?'. */
 void cli_put_clean(FILE *f, const char *s);
 /* Warn (once) when --catalog or $RIGMAT_CATALOG is not a folder: it is

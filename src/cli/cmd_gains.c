@@ -395,12 +395,20 @@ rigmat_status cmd_gains(int argc, char **argv, struct cli_env *env)
             goto report;
         }
     }
-    if (fmt == 1) {
-        st = gains_json(env->out, m, lti, d, kf, lq, wt);
-        if (st != RIGMAT_OK)
+    {
+        /* one finite check for every format: the JSON writer refuses a
+         * non-finite number, so the text is printed only when the JSON of
+         * the same result would be */
+        FILE *sink = fmt == 1 ? env->out : cli_scratch_open();
+        st = sink == NULL ? RIGMAT_EIO : gains_json(sink, m, lti, d, kf, lq, wt);
+        if (fmt != 1)
+            cli_scratch_close(sink);
+        if (sink == NULL)
+            fprintf(env->err, "rigmat gains: error: cannot open /dev/null\n");
+        else if (st != RIGMAT_OK)
             fprintf(env->err, "rigmat gains: error: the result is not finite\n");
-    } else {
-        gains_text(env->out, m, d, kf, lq);
+        else if (fmt != 1)
+            gains_text(env->out, m, d, kf, lq);
     }
     goto done;
 report:

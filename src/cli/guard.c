@@ -84,3 +84,14 @@ void cli_catalog_warn(struct cli_env *env)
     warn_folder(env, "--catalog", env->opt.catalog_dir);
     warn_folder(env, "RIGMAT_CATALOG", env->opt.catalog_env);
 }
+
+FILE *cli_scratch_open(void)
+{
+    return fopen("/dev/null", "w");
+}
+
+void cli_scratch_close(FILE *f)
+{
+    if (f != NULL)
+        fclose(f);
+}
