@@ -288,6 +288,13 @@ printf 'rigmat: 1\r\nbodies:\r\n  b: {mass: 3 m}\r\n' >"$T/crlf.yaml"
 expect "CRLF line" 1 "crlf.yaml:3:13: error" "$R" check "$T/crlf.yaml"
 printf 'rigmat: 1\rbodies:\r  b: {mass: 3 m}\r' >"$T/cr.yaml"
 expect "CR line" 1 "cr.yaml:3:13: error" "$R" check "$T/cr.yaml"
+# 12: cost limit: 48 hinged links are accepted and fast, 49 are refused
+chain='print "rigmat: 1\nbodies:"; for (i = 0; i < N; i++) printf "  l%d: {mass: 1 kg, inertia: 0.01 kg*m^2, com: [0.25 m, 0]}\n", i; print "joints:"; p = "ground"; for (i = 0; i < N; i++) { printf "  j%d: {type: hinge, parent: %s, child: l%d, at: %s}\n", i, p, i, i ? "[0.5 m, 0]" : "[0, 0]"; p = "l" i }'
+gen chain-48.yaml "N = 48; $chain"
+gen chain-49.yaml "N = 49; $chain"
+expect "48-link chain, linearize" 0 "" "$R" linearize "$G/chain-48.yaml"
+expect "48-link chain, check" 0 "" "$R" check "$G/chain-48.yaml"
+expect "49-link chain" 1 "more than 48 joints" "$R" linearize "$G/chain-49.yaml"
 echo "hostile: $ne expected-outcome cases"
 
 echo "hostile: $n inputs, commands: $cmds"

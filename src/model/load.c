@@ -626,6 +626,14 @@ static const rigmat_node *section(struct ld *L, const rigmat_node *root, const c
                 "more than %zu entries in '%s'", L->opt->max_entries, key);
         return NULL;
     }
+    if (strcmp(key, "joints") == 0 && s->value->n > L->opt->max_joints) {
+        lerr(L, NULL, s->value->entries[L->opt->max_joints].key_loc,
+                "the cost of linearizing grows steeply with the joint count; a model this "
+                "large would take minutes, so it is refused (README.md, limits)",
+                "more than %zu joints: at most %zu, so that every command finishes within a "
+                "few seconds", L->opt->max_joints, L->opt->max_joints);
+        return NULL;
+    }
     return s->value;
 }
 
