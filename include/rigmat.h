@@ -155,6 +155,7 @@ typedef struct rigmat_options {
     size_t max_entries;     /* entries per section (bodies, joints, ...), default 256 */
     size_t max_errors;      /* diagnostics reported before giving up, default 50 */
     size_t max_part_depth;  /* catalog parts may not nest deeper, default 4 */
+    size_t max_joints;      /* joints per model, default 48: the cost limit (README.md) */
     const char *catalog_dir;    /* --catalog, or NULL */
     const char *catalog_env;    /* $RIGMAT_CATALOG, or NULL */
     const char *catalog_share;  /* installed share folder, or NULL */

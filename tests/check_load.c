@@ -573,6 +573,14 @@ static const struct {
     { "bodies.chassis.mas=4.5 kg", 16, "unknown key 'mas'" },
     { "bodies.chassis.inertia_x[0]=1", 16, "does not exist" },
     { "bodies.chassis.mass=[1", 23, "not valid YAML" },
+    /* issue 10: parts are not set from the command line; keys are compared
+     * whole; a non-ASCII character is shown whole */
+    { "motors.drive.part=motors/gearmotor-12v-4", 14, "'part' cannot be set" },
+    { "bodies.chassis.part=../../../etc/passwd", 16, "'part' cannot be set" },
+    { "bodies.cccccccccccccccccccccccccccccccccccccccccccccccccccccccccccccccc"
+      "cccccccccccccccccccccccccccccccccccccccccccccccccccccccccccccccc.mass=1kg", 8,
+      "unknown key: a path key of 128 characters" },
+    { "bodies\xc3\xa9=1", 7, "unexpected '\xc3\xa9' in the path" },
 };
 
 START_TEST(set_errors_point_at_the_command_line)

@@ -640,6 +640,12 @@ START_TEST(nan_inf_and_overflow_are_errors)
     fails("-1e999 kg", -1, 0, 1, "out of range", NULL);
     fails("1e300 km^12", -1, 0, 0, "out of range", NULL);
     fails("1e-300 (nm^12)^12", -1, 0, 0, "out of range", NULL);
+    /* underflow is out of range too (issue 10): to zero, or to a
+     * subnormal (below DBL_MIN = 2.2e-308, C99 5.2.4.2.2) */
+    fails("1e-400", -1, 0, 1, "out of range", NULL);
+    fails("1e-400 kg", RIGMAT_Q_MASS, 0, 1, "out of range", NULL);
+    fails("4e-320 kg", RIGMAT_Q_MASS, 0, 1, "out of range", NULL);
+    fails("1e-300 ug", RIGMAT_Q_MASS, 0, 0, "out of range once converted to SI", NULL);
 }
 END_TEST
 

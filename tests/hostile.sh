@@ -140,7 +140,7 @@ cmds="check linearize discretize modes gains-weights"
 n=0
 for f in "$H"/* "$G"/* /dev/zero /dev/null; do
     case $f in
-    "$H/catalog" | *.tmp) continue ;;
+    "$H/catalog" | "$H/expect" | *.tmp) continue ;;
     esac
     [ -e "$f" ] || [ -L "$f" ] || continue
     n=$((n + 1))
@@ -157,6 +157,145 @@ done
 # A path through a file as if it were a folder.
 n=$((n + 1))
 run "$H/empty.yaml/" check "$H/empty.yaml/"
+
+# ------------------------------------------------------------ expected
+# Round 2 (issue 10): inputs inside the limits that must end a set way.
+# expect WHAT CODE FRAGMENT COMMAND [ARGS...]: the run, bounded by
+# EXPECT_TIMEOUT seconds (default 5) and the same memory, exits CODE and
+# its standard error holds FRAGMENT (none when FRAGMENT is empty); its
+# standard output holds no raw control character but newline and tab,
+# and no diagnostic ends in an empty "note: in ".  COMMAND is "$R" or
+# `env VAR=VALUE "$R"`.
+EXPECT_S=${EXPECT_TIMEOUT:-5}
+ne=0
+expect() {
+    what=$1 code=$2 frag=$3
+    shift 3
+    ne=$((ne + 1))
+    save=$TIME_S
+    TIME_S=$EXPECT_S
+    bounded "$@" >"$T/out" 2>"$T/err" </dev/null
+    rc=$?
+    TIME_S=$save
+    why=
+    if [ "$rc" = 137 ]; then
+        why="killed: over ${EXPECT_S}s or out of memory"
+    elif [ "$rc" != "$code" ]; then
+        why="exit $rc, expected $code"
+    elif [ -n "$frag" ] && ! grep -qF -- "$frag" "$T/err"; then
+        why="no '$frag' on stderr"
+    elif [ "$(LC_ALL=C tr -d '\t\n\040-\176\200-\377' <"$T/out" | wc -c)" -ne 0 ]; then
+        why="raw control characters on stdout"
+    elif grep -q 'note: in $' "$T/err"; then
+        why="an empty 'note: in' line"
+    fi
+    if [ -n "$why" ]; then
+        bad "expect $what: $why"
+        head -c 600 "$T/err" | LC_ALL=C tr -c '\n\040-\176' '?' | head -n 4 | sed 's/^/  | /' >&2
+    else
+        pass=$((pass + 1))
+    fi
+}
+E=$H/expect
+M=examples/cart.yaml
+B=examples/balancer.yaml
+# 11: clean messages and output
+expect "model name with escapes, text" 0 "" "$R" check "$E/escape-name.yaml"
+expect "model name with escapes, linearize" 0 "" "$R" linearize "$E/escape-name.yaml"
+expect "unknown top-level key" 1 "unknown key 'surprise'" "$R" check "$E/unknown-top-key.yaml"
+expect "unknown top-level key from --set" 1 "unknown key 'zz'" "$R" check "$M" --set zz=1
+expect "non-ASCII --set key" 1 "unexpected 'é' in the path" "$R" check "$M" --set 'bodiesé=1'
+expect "--catalog not there" 0 "warning: --catalog '/nonexistent' is not there" \
+    "$R" check "$M" --catalog /nonexistent
+expect "RIGMAT_CATALOG a file" 0 "warning: RIGMAT_CATALOG '$M' is not a folder" \
+    env RIGMAT_CATALOG="$M" "$R" check "$M"
+long=$(awk 'BEGIN { for (i = 0; i < 250; i++) printf "o" }')
+expect "-o with a 250-character name" 0 "" "$R" linearize "$M" -o "$T/$long"
+[ -s "$T/$long" ] || bad "expect -o with a 250-character name: nothing written"
+rm -f "$T/$long"
+expect "--prewarp 0" 2 "--prewarp must be a positive frequency" \
+    "$R" discretize "$M" --rate 100Hz --method tustin --prewarp 0
+# 10: exit codes
+expect "infinite noise intensity" 1 "its noise intensity (the square) overflows" \
+    "$R" discretize "$B" --rate 100Hz --set 'forces.shove.density=1e200N/sqrt(Hz)'
+expect "noise variance overflows" 1 "its variance (the square) overflows" \
+    "$R" check "$M" --set sensors.position.noise=1e200m
+expect "mass underflows" 1 "number out of range: 1e-400" \
+    "$R" check "$M" --set bodies.carriage.mass=1e-400kg
+expect "mass subnormal in SI" 1 "out of range once converted to SI" \
+    "$R" check "$M" --set bodies.carriage.mass=1e-300ug
+expect "check without inertia" 3 "has no inertia" "$R" check "$E/no-inertia.yaml"
+expect "linearize without inertia" 3 "has no inertia" "$R" linearize "$E/no-inertia.yaml"
+expect "gear ratio 1e300" 3 "a reflected inertia" \
+    "$R" check examples/pendulum-motor.yaml --set motors.drive.gear_ratio=1e300
+# 8: no non-finite number printed, in any format
+for f in text json; do
+    expect "modes --rate 1e-300Hz ($f)" 3 "not finite" \
+        "$R" modes "$B" --rate 1e-300Hz --format "$f"
+done
+expect "check --rate 1e300Hz" 0 "" "$R" check "$B" --rate 1e300Hz
+grep -qiw 'inf\|nan' "$T/out" && bad "expect check --rate 1e300Hz: inf or nan printed"
+expect "--period 1e-320s" 2 "out of range" "$R" discretize "$B" --period 1e-320s
+expect "--rate 1e-310Hz" 2 "out of range" "$R" check "$B" --rate 1e-310Hz
+# 5: the input is never the output (model, link to it, part)
+mkdir -p "$T/m/catalog/motors"
+cp "$B" "$T/m/model.yaml"
+cp catalog/motors/gearmotor-24v-27.yaml "$T/m/catalog/motors/"
+ln -s model.yaml "$T/m/link.yaml"
+sum=$(cksum <"$T/m/model.yaml")
+psum=$(cksum <"$T/m/catalog/motors/gearmotor-24v-27.yaml")
+expect "-o the model" 2 "is one of the input files" "$R" linearize "$T/m/model.yaml" -o "$T/m/model.yaml"
+expect "-o a link to the model" 2 "is one of the input files" \
+    "$R" linearize "$T/m/model.yaml" -o "$T/m/link.yaml"
+expect "-o a part" 2 "is one of the input files" \
+    "$R" linearize "$T/m/model.yaml" -o "$T/m/catalog/motors/gearmotor-24v-27.yaml"
+[ "$(cksum <"$T/m/model.yaml")" = "$sum" ] || bad "expect -o the model: the model changed"
+[ "$(cksum <"$T/m/catalog/motors/gearmotor-24v-27.yaml")" = "$psum" ] ||
+    bad "expect -o a part: the part changed"
+# 6: the umask is honoured
+(umask 077 && "$R" linearize "$M" -o "$T/m/private.txt")
+case $(ls -l "$T/m/private.txt" 2>/dev/null) in
+-rw-------*) pass=$((pass + 1)) ;;
+*) bad "expect umask 077: $(ls -l "$T/m/private.txt" 2>&1)" ;;
+esac
+ne=$((ne + 1))
+# 7: --set on part, and long keys
+expect "--set a body's part" 1 "'part' cannot be set" \
+    "$R" check "$M" --set 'bodies.carriage.part=../../../etc/passwd'
+expect "--set a motor's part" 1 "'part' cannot be set" \
+    "$R" check "$B" --set 'motors.drive.part=motors/gearmotor-12v-4'
+key=$(awk 'BEGIN { printf "carriage"; for (i = 0; i < 150; i++) printf "x" }')
+expect "--set a 158-character key" 1 "unknown key: a path key of 158 characters" \
+    "$R" check "$M" --set "bodies.$key.mass=1kg"
+# 9: the catalog listing stays inside the catalog; an empty one lists nothing
+mkdir -p "$T/cat/sub" "$T/empty" "$T/iso/bin"
+printf '# outside the catalog\nx: 1\n' >"$T/secret.yaml"
+ln -s ../secret.yaml "$T/cat/leak.yaml"
+ln -s / "$T/cat/root"
+expect "parts with links out" 0 "" "$R" parts --catalog "$T/cat"
+grep -q 'outside the catalog\|leak\|root/' "$T/out" && bad "expect parts: a link out of the catalog listed"
+cp "$R" "$T/iso/bin/rigmat"
+for f in text json; do
+    # from a folder without catalog/, by a program with none beside it
+    expect "empty catalog ($f)" 0 "" env -C "$T/empty" "$T/iso/bin/rigmat" parts \
+        --catalog "$T/empty" --format "$f"
+    grep -q 'motors/' "$T/out" && bad "expect empty catalog ($f): parts listed"
+done
+# 3: CR-only line endings: linear time, and the right line
+gen cr-only-3mb.yaml 'printf "rigmat: 1\rbodies:\r"; for (i = 0; i < 140000; i++) printf "  b%d: {mass: 1 kg}\r", i'
+expect "CR-only 3 MB" 1 "cr-only-3mb.yaml:50001:" "$R" check "$G/cr-only-3mb.yaml"
+printf 'rigmat: 1\r\nbodies:\r\n  b: {mass: 3 m}\r\n' >"$T/crlf.yaml"
+expect "CRLF line" 1 "crlf.yaml:3:13: error" "$R" check "$T/crlf.yaml"
+printf 'rigmat: 1\rbodies:\r  b: {mass: 3 m}\r' >"$T/cr.yaml"
+expect "CR line" 1 "cr.yaml:3:13: error" "$R" check "$T/cr.yaml"
+# 12: cost limit: 48 hinged links are accepted and fast, 49 are refused
+chain='print "rigmat: 1\nbodies:"; for (i = 0; i < N; i++) printf "  l%d: {mass: 1 kg, inertia: 0.01 kg*m^2, com: [0.25 m, 0]}\n", i; print "joints:"; p = "ground"; for (i = 0; i < N; i++) { printf "  j%d: {type: hinge, parent: %s, child: l%d, at: %s}\n", i, p, i, i ? "[0.5 m, 0]" : "[0, 0]"; p = "l" i }'
+gen chain-48.yaml "N = 48; $chain"
+gen chain-49.yaml "N = 49; $chain"
+expect "48-link chain, linearize" 0 "" "$R" linearize "$G/chain-48.yaml"
+expect "48-link chain, check" 0 "" "$R" check "$G/chain-48.yaml"
+expect "49-link chain" 1 "more than 48 joints" "$R" linearize "$G/chain-49.yaml"
+echo "hostile: $ne expected-outcome cases"
 
 echo "hostile: $n inputs, commands: $cmds"
 if [ -n "$TIMER" ]; then

@@ -38,7 +38,31 @@ struct cli_env {
     rigmat_options opt;     /* defaults, adjusted by common options */
     const char *output;     /* -o FILE, or NULL for standard output */
     struct cli_files files; /* a folder format's files, or none */
+    /* the files read (model, parts, weights), by device and inode, so an
+     * output that is one of them is refused (src/cli/guard.c) */
+    struct cli_input {
+        unsigned long long dev, ino;
+    } inputs[64];
+    size_t ninputs;
+    int inputs_lost; /* more inputs than fit: every regular output is refused */
 };
+
+/* A stream that discards what is written (a finite check by rendering the
+ * JSON of a result that is then printed as text); NULL when none opens. */
+FILE *cli_scratch_open(void);
+void cli_scratch_close(FILE *f);
+/* Print text from the input with control characters shown as '?'. */
+void cli_put_clean(FILE *f, const char *s);
+/* Warn (once) when --catalog or $RIGMAT_CATALOG is not a folder: it is
+ * then not searched. */
+void cli_catalog_warn(struct cli_env *env);
+/* Record a file that was read (src/cli/guard.c); names that are not files
+ * ("--set") are skipped. */
+void cli_note_input(struct cli_env *env, const char *path);
+/* Record the files a loaded model came from: the model and its parts. */
+void cli_note_model_inputs(struct cli_env *env, const rigmat_model *m);
+/* RIGMAT_EUSAGE, with a message, when path (-o, --plot) is one of the inputs. */
+rigmat_status cli_output_guard(struct cli_env *env, const char *path);
 
 enum cli_opt_type {
     CLI_OPT_END = 0,

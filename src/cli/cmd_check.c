@@ -501,6 +501,7 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
     static const char *const formats[] = { "text", "json", NULL };
     rigmat_result *res = NULL;
     rigmat_model *m = NULL;
+    rigmat_lti *lti = NULL;
     const char *file = NULL;
     int done = 0;
     double rate_hz = 0.0;
@@ -524,6 +525,13 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
     st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;
+    /* check fails wherever linearize would: a model with no inertia on a
+     * coordinate, or one that overflows, is no model to accept */
+    st = cli_linearize(env, m, &lti);
+    if (st != RIGMAT_OK) {
+        rigmat_model_free(m);
+        return st;
+    }
     res = rigmat_result_alloc("check");
     if (res == NULL) {
         fprintf(env->err, "rigmat check: out of memory\n");
@@ -533,9 +541,10 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
         st = cli_emit(env, res, &c, file);
         /* the text ends with the one-line modes summary */
         if (st == RIGMAT_OK && (c.format == NULL || strcmp(c.format, "text") == 0))
-            cli_modes_summary(env, m, NULL);
+            cli_modes_summary(env, m, lti);
     }
     rigmat_result_free(res);
+    rigmat_lti_free(lti);
     rigmat_model_free(m);
     return st;
 }

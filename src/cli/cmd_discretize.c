@@ -328,6 +328,11 @@ static rigmat_status parse_args(struct cli_env *env, const struct discretize_arg
         st = cli_quantity(env, "prewarp", a->prewarp, RIGMAT_Q_FREQUENCY, &o->prewarp_hz);
         if (st != RIGMAT_OK)
             return st;
+        if (!(o->prewarp_hz > 0) || !isfinite(o->prewarp_hz)) {
+            fprintf(env->err, "rigmat discretize: --prewarp must be a positive frequency\n"
+                    "  hint: leave --prewarp out for plain Tustin\n");
+            return RIGMAT_EUSAGE;
+        }
     }
     if (a->delay != NULL) {
         st = cli_quantity(env, "delay", a->delay, RIGMAT_Q_NUMBER, &o->delay_samples);

@@ -117,7 +117,9 @@ static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d, con
     double mag, tau;
     size_t at;
 
-    fprintf(f, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
+    fputs("model: ", f);
+    cli_put_clean(f, cli_model_name(m));
+    fprintf(f, "\norder hash: %s\n", L->order_hash);
     fprintf(f,
             "sampled at %.6g Hz (period %.6g ms), method %s; gains act on deviations from "
             "the operating point\n\n",
@@ -276,6 +278,7 @@ static rigmat_status load_weights(struct cli_env *env, const char *path, const r
 
     rigmat_diags_init(&d);
     d.max_errors = env->opt.max_errors;
+    cli_note_input(env, path);
     st = rigmat_weights_load(path, l, &env->opt, out, &d);
     rigmat_diags_print(&d, env->err);
     rigmat_diags_release(&d);
@@ -392,12 +395,20 @@ rigmat_status cmd_gains(int argc, char **argv, struct cli_env *env)
             goto report;
         }
     }
-    if (fmt == 1) {
-        st = gains_json(env->out, m, lti, d, kf, lq, wt);
-        if (st != RIGMAT_OK)
+    {
+        /* one finite check for every format: the JSON writer refuses a
+         * non-finite number, so the text is printed only when the JSON of
+         * the same result would be */
+        FILE *sink = fmt == 1 ? env->out : cli_scratch_open();
+        st = sink == NULL ? RIGMAT_EIO : gains_json(sink, m, lti, d, kf, lq, wt);
+        if (fmt != 1)
+            cli_scratch_close(sink);
+        if (sink == NULL)
+            fprintf(env->err, "rigmat gains: error: cannot open /dev/null\n");
+        else if (st != RIGMAT_OK)
             fprintf(env->err, "rigmat gains: error: the result is not finite\n");
-    } else {
-        gains_text(env->out, m, d, kf, lq);
+        else if (fmt != 1)
+            gains_text(env->out, m, d, kf, lq);
     }
     goto done;
 report:

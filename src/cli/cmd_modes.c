@@ -434,11 +434,19 @@ rigmat_status cmd_modes(int argc, char **argv, struct cli_env *env)
         cli_report(env, &e);
         goto done;
     }
-    if (fmt == 1) {
-        st = modes_json(env->out, m, md);
-        if (st != RIGMAT_OK)
+    {
+        /* one finite check for every format: the text is printed only when
+         * the JSON of the same result would be (it refuses inf and nan) */
+        FILE *sink = fmt == 1 ? env->out : cli_scratch_open();
+        st = sink == NULL ? RIGMAT_EIO : modes_json(sink, m, md);
+        if (fmt != 1)
+            cli_scratch_close(sink);
+        if (sink == NULL)
+            fprintf(env->err, "rigmat modes: error: cannot open /dev/null\n");
+        else if (st != RIGMAT_OK)
             fprintf(env->err, "rigmat modes: error: the result is not finite\n");
-    } else {
+    }
+    if (st == RIGMAT_OK && fmt != 1) {
         text_summary(env->out, md);
         text_modes(env->out, md, &m->layout);
         text_zeros(env->out, md);

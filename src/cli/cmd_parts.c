@@ -13,6 +13,7 @@
  * a part name; 4 the part is in no catalog folder, or no catalog folder
  * exists (the hint lists the folders searched).
  */
+#define _XOPEN_SOURCE 700 /* realpath */
 #include "cli.h"
 #include "sizes.h"
 #include "load.h"
@@ -100,7 +101,24 @@ static int seen(const struct part_list *l, const char *name)
     return 0;
 }
 
-static rigmat_status walk(struct part_list *l, const char *dir, const char *prefix, int depth)
+/* Whether the real path of path lies inside the folder whose real path is
+ * root: a symbolic link out of the catalog (to /etc, or `root -> /`) is not
+ * followed. */
+static int inside(const char *root, const char *path)
+{
+    char *real = realpath(path, NULL);
+    const size_t n = strlen(root);
+    int ok;
+
+    if (real == NULL)
+        return 0;
+    ok = strncmp(real, root, n) == 0 && (real[n] == '/' || (n == 1 && root[0] == '/'));
+    free(real);
+    return ok;
+}
+
+static rigmat_status walk(struct part_list *l, const char *root, const char *dir,
+        const char *prefix, int depth)
 {
     DIR *d;
     struct dirent *de;
@@ -117,12 +135,12 @@ static rigmat_status walk(struct part_list *l, const char *dir, const char *pref
             continue;
         if ((size_t)snprintf(path, sizeof path, "%s/%s", dir, nm) >= sizeof path ||
                 (size_t)snprintf(name, sizeof name, "%s%s", prefix, nm) >= sizeof name ||
-                stat(path, &sb) != 0)
+                stat(path, &sb) != 0 || !inside(root, path))
             continue;
         if (S_ISDIR(sb.st_mode)) {
             char sub[1024];
             if ((size_t)snprintf(sub, sizeof sub, "%s/", name) < sizeof sub)
-                st = walk(l, path, sub, depth + 1);
+                st = walk(l, root, path, sub, depth + 1);
             continue;
         }
         if (!S_ISREG(sb.st_mode) || len <= 5 || strcmp(nm + len - 5, ".yaml") != 0)
@@ -170,8 +188,12 @@ static rigmat_status list_parts(struct cli_env *env, const struct cli_common *c)
     struct part_list l = { NULL, 0, 0 };
     rigmat_status st = rigmat_load_part_folders(NULL, &env->opt, folders, 8, &nf);
 
-    for (i = 0; st == RIGMAT_OK && i < nf; i++)
-        st = walk(&l, folders[i], "", 0);
+    for (i = 0; st == RIGMAT_OK && i < nf; i++) {
+        char *root = realpath(folders[i], NULL);
+        if (root != NULL)
+            st = walk(&l, root, folders[i], "", 0);
+        free(root);
+    }
     if (st == RIGMAT_OK && nf == 0) {
         char where[512];
         rigmat_load_part_candidates(NULL, &env->opt, where, sizeof where);
@@ -179,7 +201,8 @@ static rigmat_status list_parts(struct cli_env *env, const struct cli_common *c)
                 "  hint: looked for %s; give one with --catalog DIR or $RIGMAT_CATALOG\n", where);
         st = RIGMAT_EIO;
     } else if (st == RIGMAT_OK) {
-        qsort(l.rows, l.n, sizeof *l.rows, cmp_row);
+        if (l.n > 1) /* an empty catalog has no rows: qsort(NULL, 0) is undefined */
+            qsort(l.rows, l.n, sizeof *l.rows, cmp_row);
         if ((r = rigmat_result_alloc("parts")) == NULL) {
             fprintf(env->err, "rigmat parts: out of memory\n");
             st = RIGMAT_ENOMEM;
@@ -402,6 +425,7 @@ rigmat_status cmd_parts(int argc, char **argv, struct cli_env *env)
         return RIGMAT_EUSAGE;
     if (c.catalog != NULL)
         env->opt.catalog_dir = c.catalog;
+    cli_catalog_warn(env);
     if (npos == 0)
         return list_parts(env, &c);
     return show_part(env, pos[0], &c);

@@ -712,7 +712,7 @@ rigmat_status cmd_simulate(int argc, char **argv, struct cli_env *env)
     st = rigmat_simulate(sys, lti, &o, &cs, &r, &e);
     if (st != RIGMAT_OK) {
         cli_report(env, &e);
-        if (a.partial != NULL && r.nrows > 0)
+        if (a.partial != NULL && r.nrows > 0 && cli_output_guard(env, a.partial) == RIGMAT_OK)
             write_partial(env, a.partial, fmt == 1, m, &o, &r);
         else if (st == RIGMAT_ENUMERIC && r.nrows > 0)
             fprintf(env->err, "  note: %zu rows were computed before it; --partial FILE "
@@ -722,7 +722,7 @@ rigmat_status cmd_simulate(int argc, char **argv, struct cli_env *env)
     st = write_result(env->out, fmt == 1, m, &o, &r);
     if (st != RIGMAT_OK)
         fprintf(env->err, "rigmat %s: error: the result is not finite\n", env->command);
-    else if (a.plot != NULL)
+    else if (a.plot != NULL && (st = cli_output_guard(env, a.plot)) == RIGMAT_OK)
         st = write_plot(env, a.plot, m, &o, &r);
 out:
     for (k = 0; k < nwaves; k++)

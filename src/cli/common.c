@@ -4,7 +4,7 @@
 
 #include <string.h>
 
-static void put_clean(FILE *f, const char *s)
+void cli_put_clean(FILE *f, const char *s)
 {
     for (; s != NULL && *s; s++) {
         unsigned char c = (unsigned char)*s;
@@ -20,18 +20,18 @@ const char *cli_model_name(const rigmat_model *m)
 rigmat_status cli_report(struct cli_env *env, const rigmat_error *err)
 {
     if (err->where.file != NULL) {
-        put_clean(env->err, err->where.file);
+        cli_put_clean(env->err, err->where.file);
         if (err->where.line > 0)
             fprintf(env->err, ":%lu:%lu", err->where.line, err->where.col);
         fputs(": error: ", env->err);
     } else {
         fprintf(env->err, "rigmat %s: error: ", env->command);
     }
-    put_clean(env->err, err->message);
+    cli_put_clean(env->err, err->message);
     fputc('\n', env->err);
     if (err->hint[0] != '\0') {
         fputs("  hint: ", env->err);
-        put_clean(env->err, err->hint);
+        cli_put_clean(env->err, err->hint);
         fputc('\n', env->err);
     }
     return err->status != RIGMAT_OK ? err->status : RIGMAT_EINTERNAL;
@@ -45,6 +45,7 @@ rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct
 
     if (c->catalog != NULL)
         env->opt.catalog_dir = c->catalog;
+    cli_catalog_warn(env);
     rigmat_diags_init(&d);
     d.max_errors = env->opt.max_errors;
     st = rigmat_model_load(file, c->sets.items, c->sets.count, &env->opt, out, &d);
@@ -56,6 +57,8 @@ rigmat_status cli_load_model(struct cli_env *env, const char *file, const struct
             *out = NULL;
         }
     }
+    if (st == RIGMAT_OK)
+        cli_note_model_inputs(env, *out);
     rigmat_diags_print(&d, env->err);
     /* out of memory may leave nothing in d to print: say it once here */
     if (st == RIGMAT_ENOMEM)

@@ -170,6 +170,8 @@ int main(int argc, char **argv)
         fprintf(stderr, "rigmat %s: out of memory while writing the result\n", cmd->name);
         st = RIGMAT_ENOMEM;
     }
+    if (st == RIGMAT_OK)
+        st = cli_output_guard(&env, env.output);
     if (st == RIGMAT_OK && env.files.folder)
         st = emit_folder(&env);
     else if (st == RIGMAT_OK)

@@ -19,6 +19,7 @@
 #include "rigmat.h"
 #include "outfile.h"
 #include "reentrant.h"
+#include "outmode.h"
 
 #include <errno.h>
 #include <fcntl.h>
@@ -95,11 +96,9 @@ rigmat_status cli_outfile_write(const char *path, const char *data, size_t len,
             return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': it is a folder", path);
         return write_direct(path, data, len, err);
     }
-    tmp = malloc(strlen(path) + 16);
+    tmp = rigmat_outmode_temp(path);
     if (tmp == NULL)
         return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
-    strcpy(tmp, path);
-    strcat(tmp, ".tmp-XXXXXX");
     /* A signal between mkstemp and rename must not leave the temporary
      * behind: hold the usual terminating signals until we are done. */
     sigemptyset(&block);
@@ -121,7 +120,7 @@ rigmat_status cli_outfile_write(const char *path, const char *data, size_t len,
     fd = -1;
     if (rc == RIGMAT_OK) {
         if (stat(path, &st) != 0)
-            st.st_mode = 0644;
+            st.st_mode = (mode_t)rigmat_outmode_file();
         if (chmod(tmp, st.st_mode & 07777) != 0 || rename(tmp, path) != 0)
             rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot replace '%s': %s", path, WHY(why));
     }

@@ -12,6 +12,7 @@
  */
 #define _XOPEN_SOURCE 700 /* mkdtemp */
 #include "cli.h"
+#include "outmode.h"
 
 #include <dirent.h>
 #include <errno.h>
@@ -203,7 +204,7 @@ static rigmat_status write_one(const char *dir, const struct cli_file *cf, rigma
     int fd;
 
     snprintf(path, sizeof path, "%s/%s", dir, cf->name);
-    fd = open(path, O_WRONLY | O_CREAT | O_EXCL, 0644);
+    fd = open(path, O_WRONLY | O_CREAT | O_EXCL, 0666); /* less the umask */
     if (fd < 0)
         return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot create '%s': %s", path, strerror(errno));
     while (done < cf->len) {
@@ -266,7 +267,7 @@ rigmat_status cli_outdir_write(const char *path, struct cli_files *files, rigmat
     }
     for (i = 0; i < files->n && rc == RIGMAT_OK; i++)
         rc = write_one(tmp, &files->items[i], err);
-    if (rc == RIGMAT_OK && chmod(tmp, 0755) != 0)
+    if (rc == RIGMAT_OK && chmod(tmp, (mode_t)rigmat_outmode_folder()) != 0)
         rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", tmp, strerror(errno));
     if (rc != RIGMAT_OK) {
         remove_folder(tmp);

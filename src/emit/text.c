@@ -5,12 +5,63 @@
 
 #include <string.h>
 
+/* Text from the model (its name, file and signal names) may hold any
+ * byte.  Control characters (C0, DEL, and C1 written as UTF-8) become '?'
+ * so the output cannot drive a terminal; newline and tab stay, as the
+ * writers' own layout uses them.  JSON escapes instead (json.c). */
+static size_t clean_at(const unsigned char *p)
+{
+    if (p[0] == '\n' || p[0] == '\t')
+        return 0;
+    if (p[0] < 0x20 || p[0] == 0x7f)
+        return 1;
+    if (p[0] == 0xc2 && p[1] >= 0x80 && p[1] <= 0x9f)
+        return 2;
+    return 0;
+}
+
+static void put_text(FILE *f, const char *s)
+{
+    const unsigned char *p = (const unsigned char *)s;
+
+    while (*p != '\0') {
+        const size_t bad = clean_at(p);
+        if (bad > 0) {
+            fputc('?', f);
+            p += bad;
+        } else {
+            fputc(*p++, f);
+        }
+    }
+}
+
+/* The same cleaning in place, for a label that is measured before printing. */
+static void clean_buf(char *buf)
+{
+    unsigned char *p = (unsigned char *)buf, *q = p;
+
+    while (*p != '\0') {
+        const size_t bad = clean_at(p);
+        if (bad > 0) {
+            *q++ = '?';
+            p += bad;
+        } else {
+            *q++ = *p++;
+        }
+    }
+    *q = '\0';
+    for (q = (unsigned char *)buf; *q != '\0'; q++)
+        if (*q == '\n' || *q == '\t')
+            *q = ' ';
+}
+
 static void label(char *buf, size_t len, const rigmat_signal *s, size_t i)
 {
     if (s != NULL)
         snprintf(buf, len, "%s [%s]", s[i].name, s[i].unit);
     else
         snprintf(buf, len, "%zu", i + 1);
+    clean_buf(buf);
 }
 
 void rigmat_text_matrix(FILE *f, const char *title, const double *data, size_t ld,
@@ -90,12 +141,12 @@ static void node(FILE *f, const rigmat_result *r, size_t i)
     if (!(n->show & RIGMAT_SHOW_TEXT))
         return;
     if (n->text != NULL) {
-        fputs(n->text, f);
+        put_text(f, n->text);
         return;
     }
     switch (n->type) {
     case RIGMAT_R_TEXT:
-        fputs(n->str != NULL ? n->str : "", f);
+        put_text(f, n->str != NULL ? n->str : "");
         break;
     case RIGMAT_R_MATRIX:
         rigmat_text_matrix(f, title, n->data, n->cols, n->row_names, n->rows, n->col_names,
@@ -104,9 +155,14 @@ static void node(FILE *f, const rigmat_result *r, size_t i)
     case RIGMAT_R_VECTOR:
         if (n->text_list) {
             fprintf(f, "%s\n", title);
-            for (c = 0; c < n->rows; c++)
-                fprintf(f, "  %-24s %.10g %s\n", n->row_names ? n->row_names[c].name : "",
-                        n->data[c], n->row_names ? n->row_names[c].unit : "");
+            for (c = 0; c < n->rows; c++) {
+                char name[96];
+                snprintf(name, sizeof name, "%s", n->row_names ? n->row_names[c].name : "");
+                clean_buf(name);
+                fprintf(f, "  %-24s %.10g ", name, n->data[c]);
+                put_text(f, n->row_names ? n->row_names[c].unit : "");
+                fputc('\n', f);
+            }
         } else {
             text_vector(f, title, n->data, n->row_names, n->rows);
         }

@@ -572,6 +572,19 @@ static rigmat_status solve(rigmat_mech *s, rigmat_error *err)
         s->perm[a] = a;
     }
     for (a = 0; a < nf; a++)
+        if (!isfinite(creal(s->LU[a * nf + a]))) {
+            const size_t c = s->freec[a];
+            (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                    "the inertia seen by joint '%s' overflows (%g): a reflected inertia, a "
+                    "rotor's inertia times its gear ratio squared, or a mass or inertia "
+                    "beyond double range", coord_state_name(s, c), creal(s->LU[a * nf + a]));
+            rigmat_error_hint(err, "check the gear ratios, radii, leads and rotor inertias "
+                                   "of the motors on this joint");
+            if (err != NULL)
+                err->where = s->m->joints[s->cjoint[c]].loc;
+            return RIGMAT_ENUMERIC;
+        }
+    for (a = 0; a < nf; a++)
         if (!(creal(s->LU[a * nf + a]) > RIGMAT_MECH_PIVOT_RTOL * dmax)) {
             const size_t c = s->freec[a];
             (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC,

@@ -256,7 +256,25 @@ static int num_node(struct ld *L, const struct ent *e, const rigmat_node *n, rig
         lerr(L, e, n->loc, NULL, "'%s' is out of range", n->text);
         return 0;
     }
+    if (density && !isfinite(*out * *out)) {
+        /* the intensity is the density squared (DESIGN.md, noise) */
+        lerr(L, e, n->loc, "a noise density is at most about 1e154 in SI units",
+                "'%s' is out of range: its noise intensity (the square) overflows", n->text);
+        return 0;
+    }
     return 1;
+}
+
+/* A per-sample noise or resolution enters as its square (a variance):
+ * refuse one whose square overflows, as a model error. */
+static void must_square_finite(struct ld *L, const struct ent *e, const char *key, double v)
+{
+    const rigmat_entry *f = field(e, key);
+
+    if (f != NULL && isfinite(v) && !isfinite(v * v))
+        lerr(L, e, f->value->loc, "a noise is at most about 1e154 in SI units",
+                "'%s' is out of range: its variance (the square) overflows", f->value->text != NULL ?
+                f->value->text : key);
 }
 
 /* Optional number: 1 read, 0 absent, -1 error. */
@@ -607,6 +625,14 @@ static const rigmat_node *section(struct ld *L, const rigmat_node *root, const c
     if (s->value->n > L->opt->max_entries) {
         lerr(L, NULL, s->value->entries[L->opt->max_entries].key_loc, NULL,
                 "more than %zu entries in '%s'", L->opt->max_entries, key);
+        return NULL;
+    }
+    if (strcmp(key, "joints") == 0 && s->value->n > L->opt->max_joints) {
+        lerr(L, NULL, s->value->entries[L->opt->max_joints].key_loc,
+                "the cost of linearizing grows steeply with the joint count; a model this "
+                "large would take minutes, so it is refused (README.md, limits)",
+                "more than %zu joints: at most %zu, so that every command finishes within a "
+                "few seconds", L->opt->max_joints, L->opt->max_joints);
         return NULL;
     }
     return s->value;
@@ -1779,15 +1805,19 @@ static void read_sensors(struct ld *L, const rigmat_node *root)
             lerr(L, &e, field(&e, "density")->key_loc, "give 'noise' (per sample) or "
                     "'density' (per sqrt(Hz)), not both", "'noise' and 'density' together");
         else {
-            if (opt_num(L, &e, "noise", q, &s->noise) == 1)
+            if (opt_num(L, &e, "noise", q, &s->noise) == 1) {
                 must_nonneg(L, &e, "noise", s->noise);
+                must_square_finite(L, &e, "noise", s->noise);
+            }
             if (opt_density(L, &e, "density", q, &s->density) == 1)
                 must_nonneg(L, &e, "density", s->density);
         }
         if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &s->bandwidth_hz) == 1)
             must_positive(L, &e, "bandwidth", s->bandwidth_hz);
-        if (opt_num(L, &e, "resolution", q, &s->resolution) == 1)
+        if (opt_num(L, &e, "resolution", q, &s->resolution) == 1) {
             must_positive(L, &e, "resolution", s->resolution);
+            must_square_finite(L, &e, "resolution", s->resolution);
+        }
         read_bias(L, &e, q, s);
         if (opt_num(L, &e, "filter", RIGMAT_Q_FREQUENCY, &s->filter_hz) == 1) {
             must_positive(L, &e, "filter", s->filter_hz);

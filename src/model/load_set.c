@@ -31,6 +31,22 @@ static int key_char(char c)
             c == '_' || c == '-';
 }
 
+/* The bytes of the character at s: a whole UTF-8 sequence when it is one,
+ * else the single byte, so a message never shows half a character. */
+static size_t char_len(const char *s)
+{
+    const unsigned char c = (unsigned char)s[0];
+    size_t n, i;
+
+    if (c < 0xc2 || c > 0xf4)
+        return 1;
+    n = c < 0xe0 ? 2 : c < 0xf0 ? 3 : 4;
+    for (i = 1; i < n; i++)
+        if (((unsigned char)s[i] & 0xc0) != 0x80)
+            return 1;
+    return n;
+}
+
 struct setctx {
     rigmat_diags *d;
     const char *file; /* interned "--set" */
@@ -106,6 +122,21 @@ static rigmat_status apply_path(rigmat_node *root, const struct setctx *c,
             pos++;
         }
         key[klen] = '\0';
+        if (pos - start >= sizeof key) {
+            /* compared whole: a cut key could name another entry */
+            rigmat_node_free(value);
+            return set_error(c, start, "no key in a model is that long; check the path",
+                    "unknown key: a path key of %zu characters (at most %zu)", pos - start,
+                    sizeof key - 1);
+        }
+        if (strcmp(key, "part") == 0) {
+            /* parts are merged before overrides run, so a new part would
+             * be ignored; and a part name gets its checks in the file */
+            rigmat_node_free(value);
+            return set_error(c, start, "name the part in the model file, or override the "
+                    "part's own keys (motors.drive.resistance=2.5ohm)",
+                    "'part' cannot be set from the command line");
+        }
         if (klen == 0) {
             rigmat_node_free(value);
             return set_error(c, start, "a path is keys joined by '.', with [i] for a list "
@@ -181,7 +212,8 @@ static rigmat_status apply_path(rigmat_node *root, const struct setctx *c,
         if (arg[pos] != '.') {
             rigmat_node_free(value);
             return set_error(c, pos, "a path is keys joined by '.', with [i] for a list "
-                    "element: bodies.chassis.com[1]", "unexpected '%.1s' in the path", arg + pos);
+                    "element: bodies.chassis.com[1]; keys are ASCII letters, digits, '_' and "
+                    "'-'", "unexpected '%.*s' in the path", (int)char_len(arg + pos), arg + pos);
         }
         pos++;
         if (arg + pos == eq) {

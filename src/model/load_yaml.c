@@ -40,6 +40,7 @@ struct frame {
 struct builder {
     const char *text;
     size_t len;
+    int one_line;     /* no line end (CR or LF) in text: a --set value */
     const char *file; /* interned */
     unsigned long line0, col0;
     const rigmat_options *opt;
@@ -73,7 +74,7 @@ static rigmat_loc mark_loc(const struct builder *b, yaml_mark_t mk)
     rigmat_loc l;
 
     l.file = b->file;
-    if (mk.line > 0 && memchr(b->text, '\n', b->len) == NULL) {
+    if (mk.line > 0 && b->one_line) {
         /* one line (a --set value): libyaml puts the end of input on a
          * line of its own; the end of the argument is the place */
         l.line = b->line0;
@@ -86,7 +87,8 @@ static rigmat_loc mark_loc(const struct builder *b, yaml_mark_t mk)
 }
 
 /* The place of a byte offset (a reader error carries only the offset):
- * count lines and UTF-8 lead bytes up to it. */
+ * count lines and UTF-8 lead bytes up to it.  CR, LF and CRLF each end a
+ * line, as they do for libyaml (YAML 1.1, section 5.4, line breaks). */
 static rigmat_loc offset_loc(const struct builder *b, size_t off)
 {
     rigmat_loc l;
@@ -99,9 +101,11 @@ static rigmat_loc offset_loc(const struct builder *b, size_t off)
         off = b->len;
     for (i = 0; i < off; i++) {
         const unsigned char c = (unsigned char)b->text[i];
-        if (c == '\n') {
+        if (c == '\n' || (c == '\r' && (i + 1 >= b->len || b->text[i + 1] != '\n'))) {
             l.line++;
             l.col = 1;
+        } else if (c == '\r') {
+            /* the CR of a CRLF: the LF ends the line */
         } else if ((c & 0xC0) != 0x80) {
             l.col++;
         }
@@ -569,6 +573,9 @@ rigmat_status rigmat_load_yaml_text(const char *text, size_t len, const char *fi
     memset(&b, 0, sizeof b);
     b.text = text;
     b.len = len;
+    /* once, not per mark: a scan per scalar is quadratic in the file size */
+    b.one_line = len == 0 ||
+            (memchr(text, '\n', len) == NULL && memchr(text, '\r', len) == NULL);
     b.file = rigmat_diags_file(files, file);
     b.line0 = first_line;
     b.col0 = first_col;

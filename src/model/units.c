@@ -29,6 +29,7 @@
 
 #include <ctype.h>
 #include <errno.h>
+#include <float.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -956,7 +957,9 @@ static rigmat_status parse_number(parser *p, double *value)
     v = rigmat_strtod_c(buf, &end);
     if (end == buf && errno == ENOMEM)
         return RIGMAT_FAIL(p->err, RIGMAT_ENOMEM, "out of memory");
-    if (!isfinite(v) || (errno == ERANGE && fabs(v) > 1.0)) {
+    /* overflow, and underflow to zero or a subnormal (1e-400 kg would be a
+     * massless body), are both out of range */
+    if (!isfinite(v) || errno == ERANGE || (v != 0.0 && fabs(v) < DBL_MIN)) {
         RIGMAT_FAIL(p->err, RIGMAT_EMODEL, "number out of range: %s", buf);
         set_col(p->err, p->text, start);
         return RIGMAT_EMODEL;
@@ -1034,7 +1037,7 @@ static rigmat_status parse_all(parser *p, qty *q, int *has_unit, size_t *unit_po
         }
     }
     q->v *= num;
-    if (!isfinite(q->v)) {
+    if (!isfinite(q->v) || (num != 0.0 && fabs(q->v) < DBL_MIN)) {
         RIGMAT_FAIL(p->err, RIGMAT_EMODEL, "value out of range once converted to SI");
         set_col(p->err, p->text, 0);
         return RIGMAT_EMODEL;

@@ -199,7 +199,8 @@ void rigmat_diags_print(const rigmat_diags *d, FILE *out)
         fprintf(out, "%s: ", words[it->severity]);
         put_clean(out, it->message);
         fputc('\n', out);
-        if (it->within_what != NULL && it->within.file != NULL) {
+        if (it->within_what != NULL && it->within_what[0] != '\0' &&
+                it->within.file != NULL) {
             put_loc(out, it->within);
             fputs("note: in ", out);
             put_clean(out, it->within_what);

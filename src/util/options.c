@@ -11,6 +11,10 @@ rigmat_options rigmat_options_default(void)
     o.max_entries = 256;
     o.max_errors = 50;
     o.max_part_depth = 4;
+    /* Cost limit until the O(N) dynamics land (issue 10, item 12): on a
+     * hinge chain, linearize took 1.3 s at 48 joints and 16-20 s at 64 on
+     * the shared 2-core build machine; check and modes grow alike. */
+    o.max_joints = 48;
     o.catalog_dir = NULL;
     o.catalog_env = NULL;
     o.catalog_share = NULL;
