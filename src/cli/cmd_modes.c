@@ -51,12 +51,13 @@ static void text_modes(rigmat_result *r, const rigmat_modes *md, const rigmat_la
 
     rigmat_result_text(r, "\nmodes (%zu): eigenvalues s of A", md->nx);
     if (md->period_s > 0.0)
-        rigmat_result_text(r, ", and z = exp(s T) at T = %.6g s (%.6g Hz)", md->period_s, 1.0 / md->period_s);
+        rigmat_result_text(r, ", and z = exp(s T) at T = %.6g s (%.6g Hz)", md->period_s,
+                1.0 / md->period_s);
     rigmat_result_text(r, "\n  %3s  %-28s", "#", "s [1/s]");
     if (md->period_s > 0.0)
         rigmat_result_text(r, " %-28s", "z");
-    rigmat_result_text(r, " %11s %9s %11s  %-9s %-12s %-12s\n", "freq [Hz]", "damping", "tau [s]", "stability",
-            "ctrb", "obsv");
+    rigmat_result_text(r, " %11s %9s %11s  %-9s %-12s %-12s\n", "freq [Hz]", "damping", "tau [s]",
+            "stability", "ctrb", "obsv");
     for (k = 0; k < md->nx; k++) {
         const rigmat_mode *m = &md->modes[k];
 
@@ -92,7 +93,8 @@ static void text_modes(rigmat_result *r, const rigmat_modes *md, const rigmat_la
             const size_t si = m->by_share[i];
             if (m->share[si] < md->set.share_min && i > 0)
                 break;
-            rigmat_result_text(r, "%s%s %.0f%%", i ? ", " : "", md->state_names[si], 100.0 * m->share[si]);
+            rigmat_result_text(r, "%s%s %.0f%%", i ? ", " : "", md->state_names[si],
+                    100.0 * m->share[si]);
         }
         rigmat_result_text(r, "\n       reached by: ");
         for (i = 0; i < md->nu; i++)
@@ -110,7 +112,8 @@ static void text_modes(rigmat_result *r, const rigmat_modes *md, const rigmat_la
             rigmat_result_text(r, "%s", "none");
         rigmat_result_text(r, "\n");
     }
-    rigmat_result_text(r, "\nscaled units: each state divided by its scale, from balancing A (Osborne):\n");
+    rigmat_result_text(r,
+            "\nscaled units: each state divided by its scale, from balancing A (Osborne):\n");
     for (i = 0; i < md->nx; i++) {
         rigmat_result_text(r, "  %-28s %-12.4g %-8s%s\n", md->state_names[i], md->scale[i],
                 L != NULL && i < L->nx ? L->states[i].unit : "", md->balanced[i] ? "" : " *");
@@ -118,8 +121,9 @@ static void text_modes(rigmat_result *r, const rigmat_modes *md, const rigmat_la
             unbalanced++;
     }
     if (unbalanced > 0)
-        rigmat_result_text(r, "%s", "  * nothing depends on it, or it on nothing: its size is its rate of change\n"
-              "    (or its influence) over each mode's own rate |s|\n");
+        rigmat_result_text(r, "%s",
+                "  * nothing depends on it, or it on nothing: its size is its rate of change\n"
+                "    (or its influence) over each mode's own rate |s|\n");
     rigmat_result_text(r,
             "ctrb, obsv: PBH test; the number is the smallest singular value of [A - sI, B]\n"
             "(control inputs) or of [A - sI; C], scaled, over its norm: yes above %g.\n"
@@ -159,16 +163,18 @@ static void text_zeros(rigmat_result *r, const rigmat_modes *md)
         }
     rigmat_result_text(r, "  (parts below %.3g 1/s, the marginal band, print as 0)\n", snap);
     if (nrhp > 0)
-        rigmat_result_text(r, "%s", "  A zero in the right half plane (Re z > 0) makes the first response of that\n"
-              "  output to a step of that input go the wrong way before it turns.\n");
+        rigmat_result_text(r, "%s",
+                "  A zero in the right half plane (Re z > 0) makes the first response of that\n"
+                "  output to a step of that input go the wrong way before it turns.\n");
 }
 
 static void text_dc_gain(rigmat_result *r, const rigmat_modes *md, const rigmat_layout *L)
 {
     size_t i, j;
 
-    rigmat_result_text(r, "%s", "\nDC gain (steady output per unit of input, -C A^-1 B + D; 'unbounded' where a\n"
-          "pole at 0 makes the output grow without end):\n");
+    rigmat_result_text(r, "%s",
+            "\nDC gain (steady output per unit of input, -C A^-1 B + D; 'unbounded' where a\n"
+            "pole at 0 makes the output grow without end):\n");
     if (md->dc_gain == NULL) {
         rigmat_result_text(r, "%s", "  (empty)\n");
         return;
