@@ -1,9 +1,9 @@
 # rigmat.bash - bash completion for rigmat: commands, each command's
-# options, and the values of --format, --method and --ctype.  Installed as
+# options, and the values of --format, --method, --ctype and --model.  Installed as
 # share/bash-completion/completions/rigmat; tests/man.sh checks the lists
 # against `rigmat COMMAND --help`.
 
-_rigmat_commands="check linearize discretize sweep trim parts"
+_rigmat_commands="check linearize discretize modes simulate gains sweep trim parts report"
 
 # The options of one command, as its --help lists them.
 _rigmat_options()
@@ -12,6 +12,10 @@ _rigmat_options()
     check) echo "--rate --set --format -o --output --catalog -h --help" ;;
     linearize) echo "--name --ctype --set --format -o --output --catalog -h --help" ;;
     discretize) echo "--rate --period --method --prewarp --delay --name --ctype --set --format -o --output --catalog -h --help" ;;
+    modes) echo "--rate --set --format -o --output --catalog -h --help" ;;
+    simulate) echo "--model --offset --input --duration --step --rate --tolerance --partial --plot --validity --criterion --horizon --set --format -o --output --catalog -h --help" ;;
+    gains) echo "--rate --period --weights --method --name --ctype --set --format -o --output --catalog -h --help" ;;
+    report) echo "--rate --offset --step-size --duration --no-validity --set --format -o --output --catalog -h --help" ;;
     sweep) echo "--vary --rate --method --threads --name --ctype --set --format -o --output --catalog -h --help" ;;
     trim) echo "--set --format -o --output --catalog -h --help" ;;
     parts) echo "--format --catalog -h --help" ;;
@@ -22,7 +26,9 @@ _rigmat_options()
 _rigmat_formats()
 {
     case "$1" in
-    linearize | discretize) echo "text json csv c numpy mtx latex" ;;
+    linearize | discretize | gains) echo "text json csv c numpy mtx latex" ;;
+    simulate) echo "csv json text" ;;
+    report) echo "" ;;
     sweep) echo "json csv c numpy npy" ;;
     *) echo "text json" ;;
     esac
@@ -49,13 +55,25 @@ _rigmat()
     --ctype)
         COMPREPLY=($(compgen -W "double float" -- "$cur"))
         return 0 ;;
+    --model)
+        if [ "$cmd" = simulate ]; then
+            COMPREPLY=($(compgen -W "nonlinear linear sampled" -- "$cur"))
+        fi
+        return 0 ;;
+    --weights | --partial)
+        COMPREPLY=($(compgen -f -- "$cur"))
+        return 0 ;;
+    --plot)
+        COMPREPLY=($(compgen -f -X '!*.svg' -- "$cur") $(compgen -d -- "$cur"))
+        return 0 ;;
     --catalog)
         COMPREPLY=($(compgen -d -- "$cur"))
         return 0 ;;
     -o | --output)
         COMPREPLY=($(compgen -f -- "$cur"))
         return 0 ;;
-    --rate | --period | --prewarp | --delay | --set | --name | --vary | --threads)
+    --rate | --period | --prewarp | --delay | --set | --name | --vary | --threads | --offset | \
+        --input | --duration | --step | --tolerance | --criterion | --horizon | --step-size)
         return 0 ;;
     esac
     case "$cur" in

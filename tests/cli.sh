@@ -454,6 +454,15 @@ if "$R" --help | grep -q '^  gains'; then
     expect 0 "gains with euler, by period" -- "$R" gains "$DEMO" --period 5ms --method euler
     has "$T/out" "method euler" "gains text names the method"
     expect 4 "gains weights file missing" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/nope.yaml"
+    # the export formats carry the gains (tests/ref/test_exports.py reads them back)
+    expect 0 "gains csv" -- "$R" gains "$DEMO" --rate 200Hz --weights "$G/balancer.yaml" --format csv
+    has "$T/out" "^kalman_gain," "gains csv has the filter gain"
+    has "$T/out" "^lqr_gain," "gains csv has the regulator gain"
+    rm -rf "$T/gmtx"
+    expect 0 "gains mtx" -- "$R" gains "$DEMO" --rate 200Hz --format mtx -o "$T/gmtx"
+    if [ -f "$T/gmtx/kalman_prior_covariance.mtx" ] && [ ! -e "$T/gmtx/lqr_gain.mtx" ]; then ok; else
+        bad "gains mtx: want kalman_prior_covariance.mtx and, without --weights, no lqr_gain.mtx"; fi
+    expect 2 "gains bad format" -- "$R" gains "$DEMO" --rate 200Hz --format html
     # undetectable and unstabilizable modes: exit 3, the mode named
     expect 3 "gains undetectable mode" -- "$R" gains "$G/unlinked.yaml" --rate 200Hz
     has "$T/err" "z = 1.027.*mostly 'pivot.*not detectable" "undetectable mode named"

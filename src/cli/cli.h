@@ -181,41 +181,6 @@ rigmat_status cli_report(struct cli_env *env, const rigmat_error *err);
 rigmat_status cli_quantity(struct cli_env *env, const char *option, const char *text, int kind,
         double *value_si);
 
-/* ------------------------------------------------------------ writers */
-
-/* The JSON emitter of the emit stage (src/emit/result.h) under its older
- * names, for commands not yet describing their result as a rigmat_result:
- * numbers with 17 significant digits, strings escaped, non-finite numbers
- * refused (cli_json_end returns RIGMAT_ENUMERIC). */
-#define cli_json rigmat_json
-#define cli_json_begin rigmat_json_begin   /* opens the top object */
-#define cli_json_end rigmat_json_end       /* closes it, newline */
-#define cli_json_key rigmat_json_key       /* inside an object */
-#define cli_json_obj_open rigmat_json_obj_open
-#define cli_json_obj_close rigmat_json_obj_close
-#define cli_json_arr_open rigmat_json_arr_open
-#define cli_json_arr_close rigmat_json_arr_close
-#define cli_json_str rigmat_json_str
-#define cli_json_num rigmat_json_num
-#define cli_json_int rigmat_json_int
-#define cli_json_bool rigmat_json_bool
-#define cli_json_null rigmat_json_null
-/* A matrix as a list of rows; NULL or empty gives [] rows of the given
- * shape (rows x 0 gives rows empty lists). */
-void cli_json_matrix(struct cli_json *j, const gsl_matrix *m, size_t rows, size_t cols);
-void cli_json_vector(struct cli_json *j, const gsl_vector *v, size_t n);
-/* [{name, unit[, role]}...] for a signal list. */
-#define cli_json_signals rigmat_json_signals
-/* "operating_point": {x, u, y} of a linear model. */
-void cli_json_operating_point(struct cli_json *j, const rigmat_lti *l);
-/* The common head: rigmat, model, kind, order_hash, states, inputs, outputs. */
-void cli_json_head(struct cli_json *j, const rigmat_model *m, const char *kind);
-
-/* Text: a labelled matrix, aligned, rows and columns named "name [unit]".
- * m may be NULL when a dimension is 0 (prints "(empty)"). */
-void cli_text_matrix(FILE *f, const char *title, const gsl_matrix *m, const rigmat_signal *rows,
-        size_t nrows, const rigmat_signal *cols, size_t ncols);
-
 /* ------------------------------------------------------- sign table */
 
 /* The sign table of README.md ("Signs and frames") for `rigmat check`

@@ -3,7 +3,7 @@
  * (Qd, Rd, S), and with a weights file the LQR (src/study/gains.h,
  * src/study/riccati.h, src/study/weights.h).
  *
- * JSON (DESIGN.md section 5): the common head (cli_json_head, kind
+ * JSON (DESIGN.md section 5): the common head (rigmat_result_head, kind
  * "gains"), then
  *   period, method
  *   kalman   {gain, predictor_gain, prior_covariance, posterior_covariance,
@@ -17,6 +17,12 @@
  *            over the control inputs; weights: each state's and input's
  *            largest acceptable value (null for a state without one)
  *   operating_point {x, u, y}: the gains act on deviations from it
+ *
+ * The result is described once (gains_result) and rendered by the one
+ * writer of each format (cli_emit): text, JSON, and the export formats,
+ * which carry the gain and covariance matrices, the innovation standard
+ * deviations and the operating point (the poles and weights are JSON
+ * lists of records).
  */
 #include "cli.h"
 #include "discretize.h"
@@ -32,7 +38,9 @@
 
 static const char *const gains_usage[] = {
     "rigmat gains FILE (--rate FREQ | --period TIME) [--weights W.yaml] [--method zoh|euler]",
-    "             [--set PATH=VALUE]... [--format text|json] [-o FILE] [--catalog DIR]", NULL
+    "             [--set PATH=VALUE]... [--format FORMAT] [-o FILE|DIR] [--catalog DIR]",
+    "             [--name NAME] [--ctype double|float]",
+    "FORMAT: text, json, csv, c, numpy, mtx (-o DIR), latex", NULL
 };
 
 struct gains_args {
@@ -89,184 +97,185 @@ static void slowest(const gsl_vector_complex *z, double T, double *mag, double *
     *tau_s = *mag > 0.0 ? -T / log(*mag) : 0.0;
 }
 
-static void text_poles(FILE *f, const char *title, const gsl_vector_complex *z, double T)
+static void text_poles(rigmat_result *r, const char *title, const gsl_vector_complex *z, double T)
 {
     size_t i;
 
-    fprintf(f, "%s (z; time constant -T/ln|z|)\n", title);
+    rigmat_result_text(r, "%s (z; time constant -T/ln|z|)\n", title);
     for (i = 0; i < z->size; i++) {
         const gsl_complex c = gsl_vector_complex_get(z, i);
         const double mag = gsl_complex_abs(c);
         if (GSL_IMAG(c) == 0.0)
-            fprintf(f, "  %-28.10g", GSL_REAL(c));
+            rigmat_result_text(r, "  %-28.10g", GSL_REAL(c));
         else
-            fprintf(f, "  %.10g %+.10gi%*s", GSL_REAL(c), GSL_IMAG(c), 2, "");
+            rigmat_result_text(r, "  %.10g %+.10gi%*s", GSL_REAL(c), GSL_IMAG(c), 2, "");
         if (mag > 0.0)
-            fprintf(f, "  |z| %.6g, %.4g ms\n", mag, -T / log(mag) * 1e3);
+            rigmat_result_text(r, "  |z| %.6g, %.4g ms\n", mag, -T / log(mag) * 1e3);
         else
-            fputs("  |z| 0 (deadbeat)\n", f);
+            rigmat_result_text(r, "  |z| 0 (deadbeat)\n");
     }
-    fputc('\n', f);
+    rigmat_result_text(r, "\n");
 }
 
-static void gains_text(FILE *f, const rigmat_model *m, const rigmat_dlti *d, const rigmat_kalman *k,
-                       const rigmat_lqr *q)
+/* Poles as [re, im] pairs, each on one line (JSON only). */
+static void json_poles(rigmat_result *r, const gsl_vector_complex *z)
+{
+    size_t i;
+
+    rigmat_result_array(r);
+    for (i = 0; i < z->size; i++) {
+        const gsl_complex c = gsl_vector_complex_get(z, i);
+        rigmat_result_array(r);
+        rigmat_result_number(r, GSL_REAL(c), NULL);
+        rigmat_result_number(r, GSL_IMAG(c), NULL);
+        rigmat_result_close(r);
+        rigmat_result_compact(r);
+    }
+    rigmat_result_close(r);
+}
+
+/* Largest acceptable values, null where none is given (JSON only). */
+static void json_vec_or_null(rigmat_result *r, const double *v, size_t n)
+{
+    size_t i;
+
+    rigmat_result_array(r);
+    for (i = 0; i < n; i++) {
+        if (v[i] > 0.0)
+            rigmat_result_number(r, v[i], NULL);
+        else
+            rigmat_result_null(r);
+    }
+    rigmat_result_close(r);
+    rigmat_result_compact(r);
+}
+
+/* The result, described once.  The gains and covariances are matrices
+ * (text tables, JSON, and the export formats); the poles, the weights and
+ * the Riccati counts are JSON values with lines of their own in the text. */
+static rigmat_result *gains_result(const rigmat_model *m, const rigmat_lti *l,
+        const rigmat_dlti *d, const rigmat_kalman *k, const rigmat_lqr *q,
+        const rigmat_weights *w)
 {
     const rigmat_layout *L = &m->layout;
     const double T = d->period_s;
+    rigmat_result *r = rigmat_result_alloc("gains");
     double mag, tau;
-    size_t at;
+    size_t at, i;
 
-    fputs("model: ", f);
-    cli_put_clean(f, cli_model_name(m));
-    fprintf(f, "\norder hash: %s\n", L->order_hash);
-    fprintf(f,
+    if (r == NULL)
+        return NULL;
+    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    rigmat_result_dim(r, "state", L->states, L->nx);
+    rigmat_result_dim(r, "input", L->inputs, L->nu);
+    rigmat_result_dim(r, "output", L->outputs, L->ny);
+    rigmat_result_text(r, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
+    rigmat_result_text(r,
             "sampled at %.6g Hz (period %.6g ms), method %s; gains act on deviations from "
             "the operating point\n\n",
             1.0 / T, T * 1e3, rigmat_method_name(d->method));
+    rigmat_result_key(r, "period");
+    rigmat_result_number(r, T, "s");
+    rigmat_result_key(r, "method");
+    rigmat_result_string(r, rigmat_method_name(d->method));
     if (k != NULL) {
-        fputs("steady-state Kalman filter (noise model Qd, Rd of the sampled model)\n"
-              "  update:  x+ = x- + M (y - y-),  y- = Cd x- + Dd u\n"
-              "  predict: x-[k+1] = Ad x+ + Bd u + (Kp - Ad M)(y - y-)  (the last term is zero "
-              "without a cross-covariance S)\n\n",
-              f);
-        cli_text_matrix(f, "M (filter gain)", k->gain, L->states, d->nx, L->outputs, d->ny);
-        cli_text_matrix(f, "Kp (predictor gain)", k->predictor_gain, L->states, d->nx, L->outputs,
-                        d->ny);
-        cli_text_matrix(f, "P- (prior covariance)", k->prior, L->states, d->nx, L->states, d->nx);
-        cli_text_matrix(f, "P+ (posterior covariance)", k->posterior, L->states, d->nx, L->states,
-                        d->nx);
-        cli_text_matrix(f, "innovation covariance Cd P- Cd^T + Rd", k->innovation, L->outputs,
-                        d->ny, L->outputs, d->ny);
-        {
-            size_t i;
-            fputs("predicted standard deviation of each innovation y - y-\n", f);
-            for (i = 0; i < d->ny; i++)
-                fprintf(f, "  %s [%s]: %.4g\n", L->outputs[i].name, L->outputs[i].unit,
-                        gsl_vector_get(k->output_sd, i));
-            fputc('\n', f);
-        }
-        text_poles(f, "estimator poles, eig(Ad - Kp Cd)", k->poles, T);
+        rigmat_result_text(r, "%s",
+                "steady-state Kalman filter (noise model Qd, Rd of the sampled model)\n"
+                "  update:  x+ = x- + M (y - y-),  y- = Cd x- + Dd u\n"
+                "  predict: x-[k+1] = Ad x+ + Bd u + (Kp - Ad M)(y - y-)  (the last term is "
+                "zero without a cross-covariance S)\n\n");
+        rigmat_result_key(r, "kalman");
+        rigmat_result_object(r);
+        rigmat_result_key(r, "gain");
+        rigmat_result_matrix(r, k->gain, d->nx, d->ny, L->states, L->outputs);
+        rigmat_result_title(r, "M (filter gain)");
+        rigmat_result_key(r, "predictor_gain");
+        rigmat_result_matrix(r, k->predictor_gain, d->nx, d->ny, L->states, L->outputs);
+        rigmat_result_title(r, "Kp (predictor gain)");
+        rigmat_result_key(r, "prior_covariance");
+        rigmat_result_matrix(r, k->prior, d->nx, d->nx, L->states, L->states);
+        rigmat_result_title(r, "P- (prior covariance)");
+        rigmat_result_key(r, "posterior_covariance");
+        rigmat_result_matrix(r, k->posterior, d->nx, d->nx, L->states, L->states);
+        rigmat_result_title(r, "P+ (posterior covariance)");
+        rigmat_result_key(r, "poles");
+        json_poles(r, k->poles);
+        rigmat_result_key(r, "innovation_covariance");
+        rigmat_result_matrix(r, k->innovation, d->ny, d->ny, L->outputs, L->outputs);
+        rigmat_result_title(r, "innovation covariance Cd P- Cd^T + Rd");
+        rigmat_result_text(r, "predicted standard deviation of each innovation y - y-\n");
+        for (i = 0; i < d->ny; i++)
+            rigmat_result_text(r, "  %s [%s]: %.4g\n", L->outputs[i].name, L->outputs[i].unit,
+                    gsl_vector_get(k->output_sd, i));
+        rigmat_result_text(r, "\n");
+        rigmat_result_key(r, "output_sd");
+        rigmat_result_vector(r, k->output_sd, d->ny, L->outputs);
+        rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+        rigmat_result_key(r, "residual");
+        rigmat_result_number(r, k->info.residual, NULL);
+        rigmat_result_key(r, "iterations");
+        rigmat_result_integer(r, (long)k->info.iterations);
+        text_poles(r, "estimator poles, eig(Ad - Kp Cd)", k->poles, T);
         slowest(k->poles, T, &mag, &tau, &at);
-        fprintf(f,
+        rigmat_result_text(r,
                 "slowest estimator pole: |z| = %.6g, time constant %.4g ms; Riccati residual "
                 "%.2g (%zu doubling steps)\n\n",
                 mag, tau * 1e3, k->info.residual, k->info.iterations);
+        rigmat_result_close(r);
     } else {
-        fputs("no sensors: no Kalman filter\n\n", f);
+        rigmat_result_text(r, "no sensors: no Kalman filter\n\n");
+        rigmat_result_key(r, "kalman");
+        rigmat_result_null(r);
     }
     if (q != NULL) {
-        fputs("LQR (Bryson's rule weights): u = -K x\n\n", f);
-        cli_text_matrix(f, "K (regulator gain)", q->gain, L->inputs, q->nu, L->states, d->nx);
-        cli_text_matrix(f, "X (cost-to-go)", q->cost_to_go, L->states, d->nx, L->states, d->nx);
-        text_poles(f, "closed-loop poles, eig(Ad - Bd K)", q->poles, T);
+        rigmat_result_text(r, "LQR (Bryson's rule weights): u = -K x\n\n");
+        rigmat_result_key(r, "lqr");
+        rigmat_result_object(r);
+        rigmat_result_key(r, "gain");
+        rigmat_result_matrix(r, q->gain, q->nu, d->nx, L->inputs, L->states);
+        rigmat_result_title(r, "K (regulator gain)");
+        rigmat_result_key(r, "cost_to_go");
+        rigmat_result_matrix(r, q->cost_to_go, d->nx, d->nx, L->states, L->states);
+        rigmat_result_title(r, "X (cost-to-go)");
+        rigmat_result_key(r, "closed_loop_poles");
+        json_poles(r, q->poles);
+        rigmat_result_key(r, "residual");
+        rigmat_result_number(r, q->info.residual, NULL);
+        rigmat_result_key(r, "iterations");
+        rigmat_result_integer(r, (long)q->info.iterations);
+        rigmat_result_key(r, "weights");
+        rigmat_result_object(r);
+        rigmat_result_key(r, "states");
+        json_vec_or_null(r, w->x_max, w->nx);
+        rigmat_result_key(r, "inputs");
+        json_vec_or_null(r, w->u_max, w->nu);
+        rigmat_result_close(r);
+        text_poles(r, "closed-loop poles, eig(Ad - Bd K)", q->poles, T);
         slowest(q->poles, T, &mag, &tau, &at);
-        fprintf(f,
+        rigmat_result_text(r,
                 "slowest closed-loop pole: |z| = %.6g, time constant %.4g ms; Riccati "
                 "residual %.2g (%zu doubling steps)\n\n",
                 mag, tau * 1e3, q->info.residual, q->info.iterations);
+        rigmat_result_close(r);
     }
-    fputs("caution: test every gain on the real machine with current limits set in the drive "
-          "and an emergency stop within reach\n",
-          f);
-}
-
-static void json_poles(struct cli_json *j, const gsl_vector_complex *z)
-{
-    const int pretty = j->pretty;
-    size_t i;
-
-    cli_json_arr_open(j);
-    for (i = 0; i < z->size; i++) {
-        const gsl_complex c = gsl_vector_complex_get(z, i);
-        cli_json_arr_open(j);
-        j->pretty = 0;
-        cli_json_num(j, GSL_REAL(c));
-        cli_json_num(j, GSL_IMAG(c));
-        cli_json_arr_close(j);
-        j->pretty = pretty;
-    }
-    cli_json_arr_close(j);
-}
-
-static void json_vec_or_null(struct cli_json *j, const double *v, size_t n)
-{
-    const int pretty = j->pretty;
-    size_t i;
-
-    cli_json_arr_open(j);
-    j->pretty = 0;
-    for (i = 0; i < n; i++) {
-        if (v[i] > 0.0)
-            cli_json_num(j, v[i]);
-        else
-            cli_json_null(j);
-    }
-    cli_json_arr_close(j);
-    j->pretty = pretty;
-}
-
-static rigmat_status gains_json(FILE *f, const rigmat_model *m, const rigmat_lti *l,
-                                const rigmat_dlti *d, const rigmat_kalman *k, const rigmat_lqr *q,
-                                const rigmat_weights *w)
-{
-    struct cli_json j;
-
-    cli_json_begin(&j, f);
-    cli_json_head(&j, m, "gains");
-    cli_json_key(&j, "period");
-    cli_json_num(&j, d->period_s);
-    cli_json_key(&j, "method");
-    cli_json_str(&j, rigmat_method_name(d->method));
-    cli_json_key(&j, "kalman");
-    if (k != NULL) {
-        cli_json_obj_open(&j);
-        cli_json_key(&j, "gain");
-        cli_json_matrix(&j, k->gain, d->nx, d->ny);
-        cli_json_key(&j, "predictor_gain");
-        cli_json_matrix(&j, k->predictor_gain, d->nx, d->ny);
-        cli_json_key(&j, "prior_covariance");
-        cli_json_matrix(&j, k->prior, d->nx, d->nx);
-        cli_json_key(&j, "posterior_covariance");
-        cli_json_matrix(&j, k->posterior, d->nx, d->nx);
-        cli_json_key(&j, "poles");
-        json_poles(&j, k->poles);
-        cli_json_key(&j, "innovation_covariance");
-        cli_json_matrix(&j, k->innovation, d->ny, d->ny);
-        cli_json_key(&j, "output_sd");
-        cli_json_vector(&j, k->output_sd, d->ny);
-        cli_json_key(&j, "residual");
-        cli_json_num(&j, k->info.residual);
-        cli_json_key(&j, "iterations");
-        cli_json_int(&j, (long)k->info.iterations);
-        cli_json_obj_close(&j);
-    } else {
-        cli_json_null(&j);
-    }
-    if (q != NULL) {
-        cli_json_key(&j, "lqr");
-        cli_json_obj_open(&j);
-        cli_json_key(&j, "gain");
-        cli_json_matrix(&j, q->gain, q->nu, d->nx);
-        cli_json_key(&j, "cost_to_go");
-        cli_json_matrix(&j, q->cost_to_go, d->nx, d->nx);
-        cli_json_key(&j, "closed_loop_poles");
-        json_poles(&j, q->poles);
-        cli_json_key(&j, "residual");
-        cli_json_num(&j, q->info.residual);
-        cli_json_key(&j, "iterations");
-        cli_json_int(&j, (long)q->info.iterations);
-        cli_json_key(&j, "weights");
-        cli_json_obj_open(&j);
-        cli_json_key(&j, "states");
-        json_vec_or_null(&j, w->x_max, w->nx);
-        cli_json_key(&j, "inputs");
-        json_vec_or_null(&j, w->u_max, w->nu);
-        cli_json_obj_close(&j);
-        cli_json_obj_close(&j);
-    }
-    cli_json_operating_point(&j, l);
-    return cli_json_end(&j);
+    rigmat_result_key(r, "operating_point");
+    rigmat_result_object(r);
+    rigmat_result_key(r, "x");
+    rigmat_result_vector(r, l->x0, l->nx, L->states);
+    rigmat_result_export_name(r, "x0");
+    rigmat_result_key(r, "u");
+    rigmat_result_vector(r, l->u0, l->nu, L->inputs);
+    rigmat_result_export_name(r, "u0");
+    rigmat_result_key(r, "y");
+    rigmat_result_vector(r, l->y0, l->ny, L->outputs);
+    rigmat_result_export_name(r, "y0");
+    rigmat_result_close(r);
+    rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+    rigmat_result_text(r, "%s",
+            "caution: test every gain on the real machine with current limits set in the drive "
+            "and an emergency stop within reach\n");
+    return r;
 }
 
 /* Load the weights file against the linear model; diagnostics printed. */
@@ -296,10 +305,10 @@ rigmat_status cmd_gains(int argc, char **argv, struct cli_env *env)
         { 0, "weights", CLI_OPT_STRING, &a.weights, "W.yaml",
           "LQR weights by Bryson's rule (largest acceptable values)" },
         { 0, "method", CLI_OPT_STRING, &a.method, "METHOD", "zoh (default) or euler" },
+        CLI_EXPORT_ROWS(&c),
         CLI_COMMON_ROWS(&c),
         CLI_OPT_END_ROW
     };
-    static const char *const formats[] = { "text", "json", NULL };
     rigmat_discretize_opts o = rigmat_discretize_opts_default();
     const rigmat_noise_opts no = rigmat_noise_opts_default();
     const rigmat_riccati_opts ro = rigmat_riccati_opts_default();
@@ -314,6 +323,7 @@ rigmat_status cmd_gains(int argc, char **argv, struct cli_env *env)
     rigmat_weights *wt = NULL;
     rigmat_kalman *kf = NULL;
     rigmat_lqr *lq = NULL;
+    rigmat_result *r = NULL;
     rigmat_riccati_info info;
     rigmat_error e;
     const char *file = NULL;
@@ -323,7 +333,8 @@ rigmat_status cmd_gains(int argc, char **argv, struct cli_env *env)
     memset(&c, 0, sizeof c);
     memset(&a, 0, sizeof a);
     memset(&e, 0, sizeof e);
-    st = cli_model_command(argc, argv, opts, gains_usage, formats, env, &c, &file, &fmt, &done);
+    st = cli_model_command(argc, argv, opts, gains_usage, cli_all_formats, env, &c, &file, &fmt,
+            &done);
     if (st != RIGMAT_OK || done)
         return st;
     st = parse_args(env, &a, &o);
@@ -395,25 +406,18 @@ rigmat_status cmd_gains(int argc, char **argv, struct cli_env *env)
             goto report;
         }
     }
-    {
-        /* one finite check for every format: the JSON writer refuses a
-         * non-finite number, so the text is printed only when the JSON of
-         * the same result would be */
-        FILE *sink = fmt == 1 ? env->out : cli_scratch_open();
-        st = sink == NULL ? RIGMAT_EIO : gains_json(sink, m, lti, d, kf, lq, wt);
-        if (fmt != 1)
-            cli_scratch_close(sink);
-        if (sink == NULL)
-            fprintf(env->err, "rigmat gains: error: cannot open /dev/null\n");
-        else if (st != RIGMAT_OK)
-            fprintf(env->err, "rigmat gains: error: the result is not finite\n");
-        else if (fmt != 1)
-            gains_text(env->out, m, d, kf, lq);
+    r = gains_result(m, lti, d, kf, lq, wt);
+    if (r == NULL) {
+        fprintf(env->err, "rigmat gains: out of memory\n");
+        st = RIGMAT_ENOMEM;
+    } else {
+        st = cli_emit(env, r, &c, file);
     }
     goto done;
 report:
     st = cli_report(env, &e);
 done:
+    rigmat_result_free(r);
     rigmat_lqr_free(lq);
     rigmat_kalman_free(kf);
     rigmat_weights_free(wt);

@@ -35,28 +35,29 @@ static void text_complex(char *buf, size_t n, double re, double im, double snap)
         snprintf(buf, n, "%.6g %c %.6gj", re, im < 0.0 ? '-' : '+', fabs(im));
 }
 
-static void text_summary(FILE *f, const rigmat_modes *md)
+static void text_summary(rigmat_result *r, const rigmat_modes *md)
 {
     char line[1024];
 
     rigmat_modes_summary(md, line, sizeof line);
-    fprintf(f, "%s\n", line);
+    rigmat_result_text(r, "%s\n", line);
 }
 
-static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
+static void text_modes(rigmat_result *r, const rigmat_modes *md, const rigmat_layout *L)
 {
     char s[64], z[64], tau[32], damp[32], cm[32], om[32];
     size_t k, i, unbalanced = 0;
     const double snap = md->set.stab_rtol * md->omega_b;
 
-    fprintf(f, "\nmodes (%zu): eigenvalues s of A", md->nx);
+    rigmat_result_text(r, "\nmodes (%zu): eigenvalues s of A", md->nx);
     if (md->period_s > 0.0)
-        fprintf(f, ", and z = exp(s T) at T = %.6g s (%.6g Hz)", md->period_s, 1.0 / md->period_s);
-    fprintf(f, "\n  %3s  %-28s", "#", "s [1/s]");
+        rigmat_result_text(r, ", and z = exp(s T) at T = %.6g s (%.6g Hz)", md->period_s,
+                1.0 / md->period_s);
+    rigmat_result_text(r, "\n  %3s  %-28s", "#", "s [1/s]");
     if (md->period_s > 0.0)
-        fprintf(f, " %-28s", "z");
-    fprintf(f, " %11s %9s %11s  %-9s %-12s %-12s\n", "freq [Hz]", "damping", "tau [s]", "stability",
-            "ctrb", "obsv");
+        rigmat_result_text(r, " %-28s", "z");
+    rigmat_result_text(r, " %11s %9s %11s  %-9s %-12s %-12s\n", "freq [Hz]", "damping", "tau [s]",
+            "stability", "ctrb", "obsv");
     for (k = 0; k < md->nx; k++) {
         const rigmat_mode *m = &md->modes[k];
 
@@ -69,17 +70,17 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
             snprintf(damp, sizeof damp, "%.4g", m->damping);
         else
             snprintf(damp, sizeof damp, "-");
-        fprintf(f, "  %3zu  %-28s", k + 1, s);
+        rigmat_result_text(r, "  %3zu  %-28s", k + 1, s);
         if (md->period_s > 0.0) {
             text_complex(z, sizeof z, m->z_re, m->z_im, 0.0);
-            fprintf(f, " %-28s", z);
+            rigmat_result_text(r, " %-28s", z);
         }
         snprintf(cm, sizeof cm, "%s %.0e", m->controllable ? "yes" : "NO", m->ctrb_measure);
         snprintf(om, sizeof om, "%s %.0e", m->observable ? "yes" : "NO", m->obsv_measure);
-        fprintf(f, " %11.4g %9s %11s  %-9s %-12s %-12s\n", m->frequency_hz, damp, tau,
+        rigmat_result_text(r, " %11.4g %9s %11s  %-9s %-12s %-12s\n", m->frequency_hz, damp, tau,
                 rigmat_stability_name(m->stability), cm, om);
     }
-    fprintf(f,
+    rigmat_result_text(r,
             "\nwhere each mode lives (shares of its eigenvector in scaled units, >= %g %%),"
             "\nwhich inputs reach it and which outputs see it:\n",
             md->set.share_min * 100.0);
@@ -87,273 +88,287 @@ static void text_modes(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
         const rigmat_mode *m = &md->modes[k];
         size_t c = 0;
 
-        fprintf(f, "  %3zu  ", k + 1);
+        rigmat_result_text(r, "  %3zu  ", k + 1);
         for (i = 0; i < md->nx; i++) {
             const size_t si = m->by_share[i];
             if (m->share[si] < md->set.share_min && i > 0)
                 break;
-            fprintf(f, "%s%s %.0f%%", i ? ", " : "", md->state_names[si], 100.0 * m->share[si]);
+            rigmat_result_text(r, "%s%s %.0f%%", i ? ", " : "", md->state_names[si],
+                    100.0 * m->share[si]);
         }
-        fprintf(f, "\n       reached by: ");
+        rigmat_result_text(r, "\n       reached by: ");
         for (i = 0; i < md->nu; i++)
             if (m->reached_by[i])
-                fprintf(f, "%s%s%s", c++ ? ", " : "", md->input_names[i],
+                rigmat_result_text(r, "%s%s%s", c++ ? ", " : "", md->input_names[i],
                         i >= md->nu_control ? " (disturbance)" : "");
         if (c == 0)
-            fputs("none", f);
-        fputs("; seen by: ", f);
+            rigmat_result_text(r, "%s", "none");
+        rigmat_result_text(r, "%s", "; seen by: ");
         c = 0;
         for (i = 0; i < md->ny; i++)
             if (m->seen_by[i])
-                fprintf(f, "%s%s", c++ ? ", " : "", md->output_names[i]);
+                rigmat_result_text(r, "%s%s", c++ ? ", " : "", md->output_names[i]);
         if (c == 0)
-            fputs("none", f);
-        fputc('\n', f);
+            rigmat_result_text(r, "%s", "none");
+        rigmat_result_text(r, "\n");
     }
-    fprintf(f, "\nscaled units: each state divided by its scale, from balancing A (Osborne):\n");
+    rigmat_result_text(r,
+            "\nscaled units: each state divided by its scale, from balancing A (Osborne):\n");
     for (i = 0; i < md->nx; i++) {
-        fprintf(f, "  %-28s %-12.4g %-8s%s\n", md->state_names[i], md->scale[i],
+        rigmat_result_text(r, "  %-28s %-12.4g %-8s%s\n", md->state_names[i], md->scale[i],
                 L != NULL && i < L->nx ? L->states[i].unit : "", md->balanced[i] ? "" : " *");
         if (!md->balanced[i])
             unbalanced++;
     }
     if (unbalanced > 0)
-        fputs("  * nothing depends on it, or it on nothing: its size is its rate of change\n"
-              "    (or its influence) over each mode's own rate |s|\n",
-              f);
-    fprintf(f,
+        rigmat_result_text(r, "%s",
+                "  * nothing depends on it, or it on nothing: its size is its rate of change\n"
+                "    (or its influence) over each mode's own rate |s|\n");
+    rigmat_result_text(r,
             "ctrb, obsv: PBH test; the number is the smallest singular value of [A - sI, B]\n"
             "(control inputs) or of [A - sI; C], scaled, over its norm: yes above %g.\n"
             "marginal: |Re s| <= %g x %.4g 1/s (the norm of scaled A)\n",
             md->set.rtol, md->set.stab_rtol, md->omega_b);
 }
 
-static void text_zeros(FILE *f, const rigmat_modes *md)
+static void text_zeros(rigmat_result *r, const rigmat_modes *md)
 {
     char v[64];
     size_t i, j, k, nrhp = 0;
     const double snap = md->set.stab_rtol * md->omega_b;
 
-    fputs("\ninvariant zeros of each channel (input -> output):\n", f);
+    rigmat_result_text(r, "%s", "\ninvariant zeros of each channel (input -> output):\n");
     if (md->nu == 0 || md->ny == 0) {
-        fputs("  (none: the model has no inputs or no outputs)\n", f);
+        rigmat_result_text(r, "%s", "  (none: the model has no inputs or no outputs)\n");
         return;
     }
     for (j = 0; j < md->nu; j++)
         for (i = 0; i < md->ny; i++) {
             const rigmat_channel_zeros *z = &md->zeros[i * md->nu + j];
 
-            fprintf(f, "  %s -> %s: ", md->input_names[j], md->output_names[i]);
+            rigmat_result_text(r, "  %s -> %s: ", md->input_names[j], md->output_names[i]);
             if (z->no_path)
-                fputs("no path (the input does not reach the output)", f);
+                rigmat_result_text(r, "%s", "no path (the input does not reach the output)");
             else if (z->count == 0)
-                fputs("none", f);
+                rigmat_result_text(r, "%s", "none");
             for (k = 0; k < z->count; k++) {
                 text_complex(v, sizeof v, z->re[k], z->im[k], snap);
-                fprintf(f, "%s%s", k ? ", " : "", v);
+                rigmat_result_text(r, "%s%s", k ? ", " : "", v);
             }
             if (z->rhp > 0) {
-                fprintf(f, "  [%zu in the right half plane]", z->rhp);
+                rigmat_result_text(r, "  [%zu in the right half plane]", z->rhp);
                 nrhp++;
             }
-            fputc('\n', f);
+            rigmat_result_text(r, "\n");
         }
-    fprintf(f, "  (parts below %.3g 1/s, the marginal band, print as 0)\n", snap);
+    rigmat_result_text(r, "  (parts below %.3g 1/s, the marginal band, print as 0)\n", snap);
     if (nrhp > 0)
-        fputs("  A zero in the right half plane (Re z > 0) makes the first response of that\n"
-              "  output to a step of that input go the wrong way before it turns.\n",
-              f);
+        rigmat_result_text(r, "%s",
+                "  A zero in the right half plane (Re z > 0) makes the first response of that\n"
+                "  output to a step of that input go the wrong way before it turns.\n");
 }
 
-static void text_dc_gain(FILE *f, const rigmat_modes *md, const rigmat_layout *L)
+static void text_dc_gain(rigmat_result *r, const rigmat_modes *md, const rigmat_layout *L)
 {
     size_t i, j;
 
-    fputs("\nDC gain (steady output per unit of input, -C A^-1 B + D; 'unbounded' where a\n"
-          "pole at 0 makes the output grow without end):\n",
-          f);
+    rigmat_result_text(r, "%s",
+            "\nDC gain (steady output per unit of input, -C A^-1 B + D; 'unbounded' where a\n"
+            "pole at 0 makes the output grow without end):\n");
     if (md->dc_gain == NULL) {
-        fputs("  (empty)\n", f);
+        rigmat_result_text(r, "%s", "  (empty)\n");
         return;
     }
-    fprintf(f, "  %-24s", "");
+    rigmat_result_text(r, "  %-24s", "");
     for (j = 0; j < md->nu; j++)
-        fprintf(f, " %14.14s", md->input_names[j]);
-    fputc('\n', f);
+        rigmat_result_text(r, " %14.14s", md->input_names[j]);
+    rigmat_result_text(r, "\n");
     for (i = 0; i < md->ny; i++) {
         char lab[64];
 
         snprintf(lab, sizeof lab, "%s [%s]", md->output_names[i],
                  L != NULL && i < L->ny ? L->outputs[i].unit : "");
-        fprintf(f, "  %-24s", lab);
+        rigmat_result_text(r, "  %-24s", lab);
         for (j = 0; j < md->nu; j++) {
             const double g = gsl_matrix_get(md->dc_gain, i, j);
             if (!gsl_finite(g))
-                fprintf(f, " %14s", "unbounded");
+                rigmat_result_text(r, " %14s", "unbounded");
             else if (g == 0.0)
-                fprintf(f, " %14s", "0");
+                rigmat_result_text(r, " %14s", "0");
             else
-                fprintf(f, " %14.6g", g);
+                rigmat_result_text(r, " %14.6g", g);
         }
-        fputc('\n', f);
+        rigmat_result_text(r, "\n");
     }
 }
 
 /* ------------------------------------------------------------ JSON */
 
-static void json_complex(struct cli_json *j, double re, double im)
+static void json_complex(rigmat_result *r, double re, double im)
 {
-    cli_json_arr_open(j);
-    cli_json_num(j, re);
-    cli_json_num(j, im);
-    cli_json_arr_close(j);
+    rigmat_result_array(r);
+    rigmat_result_number(r, re, NULL);
+    rigmat_result_number(r, im, NULL);
+    rigmat_result_close(r);
 }
 
-static void json_num_or_null(struct cli_json *j, double v)
+static void json_num_or_null(rigmat_result *r, double v)
 {
     if (gsl_finite(v))
-        cli_json_num(j, v);
+        rigmat_result_number(r, v, NULL);
     else
-        cli_json_null(j);
+        rigmat_result_null(r);
 }
 
-static void json_names(struct cli_json *j, char *const *names, const unsigned char *flags, size_t n)
+static void json_names(rigmat_result *r, char *const *names, const unsigned char *flags, size_t n)
 {
     size_t i;
 
-    cli_json_arr_open(j);
+    rigmat_result_array(r);
     for (i = 0; i < n; i++)
         if (flags[i])
-            cli_json_str(j, names[i]);
-    cli_json_arr_close(j);
+            rigmat_result_string(r, names[i]);
+    rigmat_result_close(r);
 }
 
-static rigmat_status modes_json(FILE *f, const rigmat_model *m, const rigmat_modes *md)
+/* The result, described once: the text layout first (lines of its own),
+ * then the JSON tree, which the text does not show (its numbers are
+ * plain scalars and arrays).  The DC gain may hold an unbounded entry
+ * (null in JSON), so it is an array of rows, not a matrix: the export
+ * formats, which need finite matrices, are not offered. */
+static rigmat_result *modes_result(const rigmat_model *m, const rigmat_modes *md)
 {
-    struct cli_json j;
+    const rigmat_layout *L = &m->layout;
+    rigmat_result *r = rigmat_result_alloc("modes");
     char line[1024];
     size_t k, i, jj;
 
-    cli_json_begin(&j, f);
-    cli_json_head(&j, m, "modes");
+    if (r == NULL)
+        return NULL;
+    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    text_summary(r, md);
+    text_modes(r, md, L);
+    text_zeros(r, md);
+    text_dc_gain(r, md, L);
     rigmat_modes_summary(md, line, sizeof line);
-    cli_json_key(&j, "summary");
-    cli_json_str(&j, line);
+    rigmat_result_key(r, "summary");
+    rigmat_result_string(r, line);
     if (md->period_s > 0.0) {
-        cli_json_key(&j, "period");
-        cli_json_num(&j, md->period_s);
+        rigmat_result_key(r, "period");
+        rigmat_result_number(r, md->period_s, NULL);
     }
-    cli_json_key(&j, "modes");
-    cli_json_arr_open(&j);
+    rigmat_result_key(r, "modes");
+    rigmat_result_array(r);
     for (k = 0; k < md->nx; k++) {
         const rigmat_mode *mo = &md->modes[k];
 
-        cli_json_obj_open(&j);
-        cli_json_key(&j, "s");
-        json_complex(&j, mo->s_re, mo->s_im);
+        rigmat_result_object(r);
+        rigmat_result_key(r, "s");
+        json_complex(r, mo->s_re, mo->s_im);
         if (md->period_s > 0.0) {
-            cli_json_key(&j, "z");
-            json_complex(&j, mo->z_re, mo->z_im);
+            rigmat_result_key(r, "z");
+            json_complex(r, mo->z_re, mo->z_im);
         }
-        cli_json_key(&j, "frequency");
-        cli_json_num(&j, mo->frequency_hz);
-        cli_json_key(&j, "damping");
-        json_num_or_null(&j, mo->damping);
-        cli_json_key(&j, "time_constant");
-        json_num_or_null(&j, mo->time_constant_s);
-        cli_json_key(&j, "stability");
-        cli_json_str(&j, rigmat_stability_name(mo->stability));
-        cli_json_key(&j, "controllable");
-        cli_json_bool(&j, mo->controllable);
-        cli_json_key(&j, "observable");
-        cli_json_bool(&j, mo->observable);
-        cli_json_key(&j, "reached_by");
-        json_names(&j, md->input_names, mo->reached_by, md->nu);
-        cli_json_key(&j, "seen_by");
-        json_names(&j, md->output_names, mo->seen_by, md->ny);
-        cli_json_key(&j, "states");
-        cli_json_arr_open(&j);
+        rigmat_result_key(r, "frequency");
+        rigmat_result_number(r, mo->frequency_hz, NULL);
+        rigmat_result_key(r, "damping");
+        json_num_or_null(r, mo->damping);
+        rigmat_result_key(r, "time_constant");
+        json_num_or_null(r, mo->time_constant_s);
+        rigmat_result_key(r, "stability");
+        rigmat_result_string(r, rigmat_stability_name(mo->stability));
+        rigmat_result_key(r, "controllable");
+        rigmat_result_bool(r, mo->controllable);
+        rigmat_result_key(r, "observable");
+        rigmat_result_bool(r, mo->observable);
+        rigmat_result_key(r, "reached_by");
+        json_names(r, md->input_names, mo->reached_by, md->nu);
+        rigmat_result_key(r, "seen_by");
+        json_names(r, md->output_names, mo->seen_by, md->ny);
+        rigmat_result_key(r, "states");
+        rigmat_result_array(r);
         for (i = 0; i < md->nx; i++) {
             const size_t si = mo->by_share[i];
             if (mo->share[si] < md->set.share_min && i > 0)
                 break;
-            cli_json_obj_open(&j);
-            cli_json_key(&j, "name");
-            cli_json_str(&j, md->state_names[si]);
-            cli_json_key(&j, "share");
-            cli_json_num(&j, mo->share[si]);
-            cli_json_obj_close(&j);
+            rigmat_result_object(r);
+            rigmat_result_key(r, "name");
+            rigmat_result_string(r, md->state_names[si]);
+            rigmat_result_key(r, "share");
+            rigmat_result_number(r, mo->share[si], NULL);
+            rigmat_result_close(r);
         }
-        cli_json_arr_close(&j);
-        cli_json_obj_close(&j);
+        rigmat_result_close(r);
+        rigmat_result_close(r);
     }
-    cli_json_arr_close(&j);
+    rigmat_result_close(r);
 
-    cli_json_key(&j, "zeros");
-    cli_json_arr_open(&j);
+    rigmat_result_key(r, "zeros");
+    rigmat_result_array(r);
     for (jj = 0; jj < md->nu; jj++)
         for (i = 0; i < md->ny; i++) {
             const rigmat_channel_zeros *z = &md->zeros[i * md->nu + jj];
 
-            cli_json_obj_open(&j);
-            cli_json_key(&j, "input");
-            cli_json_str(&j, md->input_names[jj]);
-            cli_json_key(&j, "output");
-            cli_json_str(&j, md->output_names[i]);
-            cli_json_key(&j, "values");
-            cli_json_arr_open(&j);
+            rigmat_result_object(r);
+            rigmat_result_key(r, "input");
+            rigmat_result_string(r, md->input_names[jj]);
+            rigmat_result_key(r, "output");
+            rigmat_result_string(r, md->output_names[i]);
+            rigmat_result_key(r, "values");
+            rigmat_result_array(r);
             for (k = 0; k < z->count; k++)
-                json_complex(&j, z->re[k], z->im[k]);
-            cli_json_arr_close(&j);
-            cli_json_key(&j, "right_half_plane");
-            cli_json_arr_open(&j);
+                json_complex(r, z->re[k], z->im[k]);
+            rigmat_result_close(r);
+            rigmat_result_key(r, "right_half_plane");
+            rigmat_result_array(r);
             for (k = 0; k < z->count; k++)
                 if (z->re[k] > md->set.stab_rtol * md->omega_b)
-                    json_complex(&j, z->re[k], z->im[k]);
-            cli_json_arr_close(&j);
-            cli_json_key(&j, "no_path");
-            cli_json_bool(&j, z->no_path);
-            cli_json_obj_close(&j);
+                    json_complex(r, z->re[k], z->im[k]);
+            rigmat_result_close(r);
+            rigmat_result_key(r, "no_path");
+            rigmat_result_bool(r, z->no_path);
+            rigmat_result_close(r);
         }
-    cli_json_arr_close(&j);
+    rigmat_result_close(r);
 
-    cli_json_key(&j, "dc_gain");
-    cli_json_arr_open(&j);
+    rigmat_result_key(r, "dc_gain");
+    rigmat_result_array(r);
     for (i = 0; i < md->ny; i++) {
-        cli_json_arr_open(&j);
+        rigmat_result_array(r);
         for (jj = 0; jj < md->nu; jj++)
-            json_num_or_null(&j, gsl_matrix_get(md->dc_gain, i, jj));
-        cli_json_arr_close(&j);
+            json_num_or_null(r, gsl_matrix_get(md->dc_gain, i, jj));
+        rigmat_result_close(r);
     }
-    cli_json_arr_close(&j);
+    rigmat_result_close(r);
 
-    cli_json_key(&j, "scaling");
-    cli_json_obj_open(&j);
-    cli_json_key(&j, "method");
-    cli_json_str(&j, "balanced");
-    cli_json_key(&j, "rate");
-    cli_json_num(&j, md->omega_b);
-    cli_json_key(&j, "scales");
-    cli_json_arr_open(&j);
+    rigmat_result_key(r, "scaling");
+    rigmat_result_object(r);
+    rigmat_result_key(r, "method");
+    rigmat_result_string(r, "balanced");
+    rigmat_result_key(r, "rate");
+    rigmat_result_number(r, md->omega_b, NULL);
+    rigmat_result_key(r, "scales");
+    rigmat_result_array(r);
     for (i = 0; i < md->nx; i++)
-        cli_json_num(&j, md->scale[i]);
-    cli_json_arr_close(&j);
-    cli_json_key(&j, "balanced");
-    cli_json_arr_open(&j);
+        rigmat_result_number(r, md->scale[i], NULL);
+    rigmat_result_close(r);
+    rigmat_result_key(r, "balanced");
+    rigmat_result_array(r);
     for (i = 0; i < md->nx; i++)
-        cli_json_bool(&j, md->balanced[i]);
-    cli_json_arr_close(&j);
-    cli_json_obj_close(&j);
-    cli_json_key(&j, "tolerances");
-    cli_json_obj_open(&j);
-    cli_json_key(&j, "pbh");
-    cli_json_num(&j, md->set.rtol);
-    cli_json_key(&j, "marginal");
-    cli_json_num(&j, md->set.stab_rtol);
-    cli_json_key(&j, "infinite_zero");
-    cli_json_num(&j, md->set.inf_rtol);
-    cli_json_obj_close(&j);
-    return cli_json_end(&j);
+        rigmat_result_bool(r, md->balanced[i]);
+    rigmat_result_close(r);
+    rigmat_result_close(r);
+    rigmat_result_key(r, "tolerances");
+    rigmat_result_object(r);
+    rigmat_result_key(r, "pbh");
+    rigmat_result_number(r, md->set.rtol, NULL);
+    rigmat_result_key(r, "marginal");
+    rigmat_result_number(r, md->set.stab_rtol, NULL);
+    rigmat_result_key(r, "infinite_zero");
+    rigmat_result_number(r, md->set.inf_rtol, NULL);
+    rigmat_result_close(r);
+    return r;
 }
 
 /* ------------------------------------------------------------ summary */
@@ -400,6 +415,7 @@ rigmat_status cmd_modes(int argc, char **argv, struct cli_env *env)
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;
     rigmat_modes *md = NULL;
+    rigmat_result *r = NULL;
     rigmat_error e;
     const char *file = NULL;
     double rate_hz = 0.0;
@@ -434,25 +450,15 @@ rigmat_status cmd_modes(int argc, char **argv, struct cli_env *env)
         cli_report(env, &e);
         goto done;
     }
-    {
-        /* one finite check for every format: the text is printed only when
-         * the JSON of the same result would be (it refuses inf and nan) */
-        FILE *sink = fmt == 1 ? env->out : cli_scratch_open();
-        st = sink == NULL ? RIGMAT_EIO : modes_json(sink, m, md);
-        if (fmt != 1)
-            cli_scratch_close(sink);
-        if (sink == NULL)
-            fprintf(env->err, "rigmat modes: error: cannot open /dev/null\n");
-        else if (st != RIGMAT_OK)
-            fprintf(env->err, "rigmat modes: error: the result is not finite\n");
-    }
-    if (st == RIGMAT_OK && fmt != 1) {
-        text_summary(env->out, md);
-        text_modes(env->out, md, &m->layout);
-        text_zeros(env->out, md);
-        text_dc_gain(env->out, md, &m->layout);
+    r = modes_result(m, md);
+    if (r == NULL) {
+        fprintf(env->err, "rigmat modes: out of memory\n");
+        st = RIGMAT_ENOMEM;
+    } else {
+        st = cli_emit(env, r, &c, file);
     }
 done:
+    rigmat_result_free(r);
     rigmat_modes_free(md);
     rigmat_lti_free(lti);
     rigmat_model_free(m);

@@ -8,7 +8,7 @@
  * k*step, k = 0 .. round(duration/step); numbers in the fewest of 15, 16
  * or 17 significant digits that read back exactly; a field with a comma or a quote is quoted (RFC 4180).
  *
- * JSON: the common head (cli_json_head, kind "simulation"), then
+ * JSON: the common head (rigmat_result_head, kind "simulation"), then
  *   simulated   "nonlinear" | "linear" | "sampled"
  *   duration, step (s), rate (Hz, sampled only), tolerance (nonlinear only)
  *   complete    true (a partial table, see below, says false)
@@ -246,67 +246,88 @@ static void write_csv(FILE *f, const rigmat_model *m, const rigmat_sim_result *r
     }
 }
 
-static void json_rows(struct cli_json *j, const double *a, size_t rows, size_t cols)
+/* One row per time, each value on a line of its own (the layout the JSON
+ * of a response has always had; a matrix node would put a row on one
+ * line). */
+static void json_rows(rigmat_result *res, const double *a, size_t rows, size_t cols)
 {
     size_t k, i;
 
-    cli_json_arr_open(j);
+    rigmat_result_array(res);
     for (k = 0; k < rows; k++) {
-        cli_json_arr_open(j);
+        rigmat_result_array(res);
         for (i = 0; i < cols; i++)
-            cli_json_num(j, a[k * cols + i]);
-        cli_json_arr_close(j);
+            rigmat_result_number(res, a[k * cols + i], NULL);
+        rigmat_result_close(res);
     }
-    cli_json_arr_close(j);
+    rigmat_result_close(res);
 }
 
-static rigmat_status write_json(FILE *f, const rigmat_model *m, const rigmat_sim_opts *o,
+/* A response, described once for the JSON writer.  The CSV of a response
+ * is not rendered from it: the writer's CSV gives one labelled table per
+ * matrix, while a response is one table over time of every state, input
+ * and output side by side, in the fewest digits that read back exactly
+ * (write_csv), so that one path stays here. */
+static rigmat_result *sim_result(const rigmat_model *m, const rigmat_sim_opts *o,
         const rigmat_sim_result *r)
 {
-    struct cli_json j;
+    const rigmat_layout *L = &m->layout;
+    rigmat_result *res = rigmat_result_alloc("simulation");
     size_t k;
 
-    cli_json_begin(&j, f);
-    cli_json_head(&j, m, "simulation");
-    cli_json_key(&j, "simulated");
-    cli_json_str(&j, rigmat_sim_model_name(o->model));
-    cli_json_key(&j, "duration");
-    cli_json_num(&j, o->duration_s);
-    cli_json_key(&j, "step");
-    cli_json_num(&j, o->step_s);
+    if (res == NULL)
+        return NULL;
+    rigmat_result_head(res, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    rigmat_result_key(res, "simulated");
+    rigmat_result_string(res, rigmat_sim_model_name(o->model));
+    rigmat_result_key(res, "duration");
+    rigmat_result_number(res, o->duration_s, "s");
+    rigmat_result_key(res, "step");
+    rigmat_result_number(res, o->step_s, "s");
     if (o->model == RIGMAT_SIM_SAMPLED) {
-        cli_json_key(&j, "rate");
-        cli_json_num(&j, o->rate_hz);
+        rigmat_result_key(res, "rate");
+        rigmat_result_number(res, o->rate_hz, "Hz");
     }
     if (o->model == RIGMAT_SIM_NONLINEAR) {
-        cli_json_key(&j, "tolerance");
-        cli_json_num(&j, o->rtol);
+        rigmat_result_key(res, "tolerance");
+        rigmat_result_number(res, o->rtol, NULL);
     }
-    cli_json_key(&j, "complete");
-    cli_json_bool(&j, r->complete);
-    cli_json_key(&j, "stopped_at");
-    cli_json_num(&j, r->stop_time_s);
-    cli_json_key(&j, "time");
-    cli_json_arr_open(&j);
+    rigmat_result_key(res, "complete");
+    rigmat_result_bool(res, r->complete);
+    rigmat_result_key(res, "stopped_at");
+    rigmat_result_number(res, r->stop_time_s, "s");
+    rigmat_result_key(res, "time");
+    rigmat_result_array(res);
     for (k = 0; k < r->nrows; k++)
-        cli_json_num(&j, r->t_s[k]);
-    cli_json_arr_close(&j);
-    cli_json_key(&j, "x");
-    json_rows(&j, r->x, r->nrows, r->nx);
-    cli_json_key(&j, "u");
-    json_rows(&j, r->u, r->nrows, r->nu);
-    cli_json_key(&j, "y");
-    json_rows(&j, r->y, r->nrows, r->ny);
-    return cli_json_end(&j);
+        rigmat_result_number(res, r->t_s[k], NULL);
+    rigmat_result_close(res);
+    rigmat_result_key(res, "x");
+    json_rows(res, r->x, r->nrows, r->nx);
+    rigmat_result_key(res, "u");
+    json_rows(res, r->u, r->nrows, r->nu);
+    rigmat_result_key(res, "y");
+    json_rows(res, r->y, r->nrows, r->ny);
+    return res;
 }
 
+/* The response to f: CSV by write_csv, JSON by the one JSON writer. */
 static rigmat_status write_result(FILE *f, int json, const rigmat_model *m,
-        const rigmat_sim_opts *o, const rigmat_sim_result *r)
+        const rigmat_sim_opts *o, const rigmat_sim_result *r, rigmat_error *e)
 {
-    if (json)
-        return write_json(f, m, o, r);
-    write_csv(f, m, r);
-    return RIGMAT_OK;
+    rigmat_result *res;
+    rigmat_status st;
+
+    if (!json) {
+        write_csv(f, m, r);
+        return RIGMAT_OK;
+    }
+    res = sim_result(m, o, r);
+    if (res == NULL)
+        return RIGMAT_FAIL(e, RIGMAT_ENOMEM, "out of memory");
+    st = rigmat_result_write(res, RIGMAT_FORMAT_JSON, NULL, f, NULL, e);
+    rigmat_result_free(res);
+    return st;
 }
 
 /* The rows before a failure, to the --partial file (whole or not at all). */
@@ -323,7 +344,12 @@ static void write_partial(struct cli_env *env, const char *path, int json, const
         fprintf(env->err, "rigmat %s: out of memory for the partial table\n", env->command);
         return;
     }
-    write_result(f, json, m, o, r);
+    if (write_result(f, json, m, o, r, &e) != RIGMAT_OK) {
+        fclose(f);
+        free(buf);
+        cli_report(env, &e);
+        return;
+    }
     if (fclose(f) != 0) {
         free(buf);
         fprintf(env->err, "rigmat %s: out of memory for the partial table\n", env->command);
@@ -411,91 +437,90 @@ done:
 
 /* ------------------------------------------------------------ validity */
 
-static void validity_text(FILE *f, const rigmat_model *m, const rigmat_validity_opts *o,
+/* The validity table, described once: lines of the text layout, then the
+ * JSON records (which the text does not show). */
+static rigmat_result *validity_result(const rigmat_model *m, const rigmat_validity_opts *o,
         const rigmat_validity_item *it, size_t n)
 {
+    const rigmat_layout *L = &m->layout;
     const rigmat_signal *xs, *us, *ys;
-    size_t k;
+    rigmat_result *r = rigmat_result_alloc("validity");
+    size_t k, i;
 
+    if (r == NULL)
+        return NULL;
     sim_signals(m, &xs, &us, &ys);
-    fprintf(f, "validity of the linear model: the largest offset (coordinates) or step "
-               "(control inputs)\nfor which the linear response stays within %.3g %% of the "
-               "nonlinear one over %.4g s\n(error: max over time and outputs of |y_lin - y_nl| "
-               "/ max over time |y_nl - y0|, per output)\n\n",
+    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    rigmat_result_text(r, "validity of the linear model: the largest offset (coordinates) or "
+            "step (control inputs)\nfor which the linear response stays within %.3g %% of the "
+            "nonlinear one over %.4g s\n(error: max over time and outputs of |y_lin - y_nl| "
+            "/ max over time |y_nl - y0|, per output)\n\n",
             100.0 * o->criterion, o->horizon_s);
     for (k = 0; k < n; k++) {
         const rigmat_signal *s = it[k].is_input ? &us[it[k].index] : &xs[it[k].index];
         char name[96];
         snprintf(name, sizeof name, "%s %s [%s]", it[k].is_input ? "step of" : "offset of",
                 s->name, s->unit);
-        fprintf(f, "  %-36s ", name);
+        rigmat_result_text(r, "  %-36s ", name);
         if (!it[k].bounded)
-            fprintf(f, "valid up to at least %.3g both ways (the largest size tried)\n",
-                    it[k].size);
+            rigmat_result_text(r, "valid up to at least %.3g both ways (the largest size "
+                    "tried)\n", it[k].size);
         else if (it[k].size == 0)
-            fprintf(f, "not within the criterion even at %.3g\n",
+            rigmat_result_text(r, "not within the criterion even at %.3g\n",
                     o->start / 1048576.0);
         else
-            fprintf(f, "%.3g (+%.3g / -%.3g)%s\n", it[k].size, it[k].size_pos, it[k].size_neg,
+            rigmat_result_text(r, "%.3g (+%.3g / -%.3g)%s\n", it[k].size, it[k].size_pos,
+                    it[k].size_neg,
                     it[k].nonlinear_failed ? "; the nonlinear model fails beyond" : "");
     }
     if (n == 0)
-        fputs("  (no coordinates or control inputs)\n", f);
-    fputs("\ncaution: a linear model holds only near its operating point; check a controller "
-          "against the nonlinear model.\n", f);
-}
-
-static rigmat_status validity_json(FILE *f, const rigmat_model *m, const rigmat_validity_opts *o,
-        const rigmat_validity_item *it, size_t n)
-{
-    const rigmat_signal *xs, *us, *ys;
-    struct cli_json j;
-    size_t k, i;
-
-    sim_signals(m, &xs, &us, &ys);
-    cli_json_begin(&j, f);
-    cli_json_head(&j, m, "validity");
-    cli_json_key(&j, "criterion");
-    cli_json_num(&j, o->criterion);
-    cli_json_key(&j, "horizon");
-    cli_json_num(&j, o->horizon_s);
-    cli_json_key(&j, "validity");
-    cli_json_arr_open(&j);
+        rigmat_result_text(r, "  (no coordinates or control inputs)\n");
+    rigmat_result_text(r, "\ncaution: a linear model holds only near its operating point; "
+            "check a controller against the nonlinear model.\n");
+    rigmat_result_key(r, "criterion");
+    rigmat_result_number(r, o->criterion, NULL);
+    rigmat_result_key(r, "horizon");
+    rigmat_result_number(r, o->horizon_s, "s");
+    rigmat_result_key(r, "validity");
+    rigmat_result_array(r);
     for (k = 0; k < n; k++) {
-        cli_json_obj_open(&j);
-        cli_json_key(&j, it[k].is_input ? "input" : "state");
-        cli_json_str(&j, it[k].is_input ? us[it[k].index].name : xs[it[k].index].name);
-        cli_json_key(&j, "size");
-        cli_json_num(&j, it[k].size);
-        cli_json_key(&j, "positive");
-        cli_json_num(&j, it[k].size_pos);
-        cli_json_key(&j, "negative");
-        cli_json_num(&j, it[k].size_neg);
-        cli_json_key(&j, "bounded");
-        cli_json_bool(&j, it[k].bounded);
-        cli_json_key(&j, "nonlinear_failed");
-        cli_json_bool(&j, it[k].nonlinear_failed);
-        cli_json_key(&j, "samples");
-        cli_json_arr_open(&j);
+        rigmat_result_object(r);
+        rigmat_result_key(r, it[k].is_input ? "input" : "state");
+        rigmat_result_string(r, it[k].is_input ? us[it[k].index].name : xs[it[k].index].name);
+        rigmat_result_key(r, "size");
+        rigmat_result_number(r, it[k].size, NULL);
+        rigmat_result_key(r, "positive");
+        rigmat_result_number(r, it[k].size_pos, NULL);
+        rigmat_result_key(r, "negative");
+        rigmat_result_number(r, it[k].size_neg, NULL);
+        rigmat_result_key(r, "bounded");
+        rigmat_result_bool(r, it[k].bounded);
+        rigmat_result_key(r, "nonlinear_failed");
+        rigmat_result_bool(r, it[k].nonlinear_failed);
+        rigmat_result_key(r, "samples");
+        rigmat_result_array(r);
         for (i = 0; i < it[k].nsamples; i++) {
-            cli_json_arr_open(&j);
-            cli_json_num(&j, it[k].sample_size[i]);
+            rigmat_result_array(r);
+            rigmat_result_number(r, it[k].sample_size[i], NULL);
             if (isfinite(it[k].sample_error[i]))
-                cli_json_num(&j, it[k].sample_error[i]);
+                rigmat_result_number(r, it[k].sample_error[i], NULL);
             else
-                cli_json_null(&j);
-            cli_json_arr_close(&j);
+                rigmat_result_null(r);
+            rigmat_result_close(r);
         }
-        cli_json_arr_close(&j);
-        cli_json_obj_close(&j);
+        rigmat_result_close(r);
+        rigmat_result_close(r);
     }
-    cli_json_arr_close(&j);
-    return cli_json_end(&j);
+    rigmat_result_close(r);
+    return r;
 }
 
 static rigmat_status run_validity(struct cli_env *env, const struct simulate_args *a,
-        const rigmat_model *m, rigmat_system *sys, const rigmat_lti *lin, int json)
+        const struct cli_common *c, const char *file, const rigmat_model *m,
+        rigmat_system *sys, const rigmat_lti *lin)
 {
+    rigmat_result *r = NULL;
     rigmat_validity_opts o = rigmat_validity_opts_default();
     rigmat_validity_item *items;
     const size_t cap = m->layout.nx + m->layout.nu + 1;
@@ -534,12 +559,15 @@ static rigmat_status run_validity(struct cli_env *env, const struct simulate_arg
     }
     memset(&e, 0, sizeof e);
     st = rigmat_validity_all(sys, lin, &m->layout, &o, items, cap, &n, &e);
-    if (st != RIGMAT_OK)
+    if (st != RIGMAT_OK) {
         cli_report(env, &e);
-    else if (json)
-        st = validity_json(env->out, m, &o, items, n);
-    else
-        validity_text(env->out, m, &o, items, n);
+    } else {
+        r = validity_result(m, &o, items, n);
+        st = r != NULL ? cli_emit(env, r, c, file) : RIGMAT_ENOMEM;
+        if (r == NULL)
+            fprintf(env->err, "rigmat %s: out of memory\n", env->command);
+    }
+    rigmat_result_free(r);
     free(items);
     return st;
 }
@@ -693,7 +721,7 @@ rigmat_status cmd_simulate(int argc, char **argv, struct cli_env *env)
         }
     }
     if (a.validity) {
-        st = run_validity(env, &a, m, sys, lti, fmt == 1);
+        st = run_validity(env, &a, &c, file, m, sys, lti);
         goto out;
     }
     offset = calloc(m->layout.nx + 1, sizeof *offset);
@@ -719,10 +747,17 @@ rigmat_status cmd_simulate(int argc, char **argv, struct cli_env *env)
                     "keeps them\n", r.nrows);
         goto out;
     }
-    st = write_result(env->out, fmt == 1, m, &o, &r);
-    if (st != RIGMAT_OK)
-        fprintf(env->err, "rigmat %s: error: the result is not finite\n", env->command);
-    else if (a.plot != NULL && (st = cli_output_guard(env, a.plot)) == RIGMAT_OK)
+    if (fmt == 1) {
+        rigmat_result *res = sim_result(m, &o, &r);
+        st = res != NULL ? cli_emit(env, res, &c, file) : RIGMAT_ENOMEM;
+        if (res == NULL)
+            fprintf(env->err, "rigmat %s: out of memory\n", env->command);
+        rigmat_result_free(res);
+    } else {
+        write_csv(env->out, m, &r);
+        st = RIGMAT_OK;
+    }
+    if (st == RIGMAT_OK && a.plot != NULL && (st = cli_output_guard(env, a.plot)) == RIGMAT_OK)
         st = write_plot(env, a.plot, m, &o, &r);
 out:
     for (k = 0; k < nwaves; k++)

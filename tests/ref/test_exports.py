@@ -1,7 +1,8 @@
 """Every export format round-trips against the JSON, for every example.
 
 For each example, `rigmat linearize` and `rigmat discretize --rate 200Hz`
-(plus, on the demo, an input delay and Tustin) are run once with
+(plus, on the demo, an input delay and Tustin), and `rigmat gains --rate
+200Hz --weights` where the filter exists, are run once with
 --format json and once per export format.  Each export is read back by a
 reader outside rigmat and compared with the JSON with zero difference:
 
@@ -71,6 +72,20 @@ def expected_arrays(j):
             out[k] = m.reshape(rows, cols)
     if "Qc" in j:
         out["Qc"] = np.array(j["Qc"], dtype=np.float64)
+    # gains: the matrices of the Kalman filter and the LQR, named by their
+    # JSON path (kalman.gain -> kalman_gain)
+    for group, keys in (("kalman", ("gain", "predictor_gain", "prior_covariance",
+                                    "posterior_covariance", "innovation_covariance",
+                                    "output_sd")),
+                        ("lqr", ("gain", "cost_to_go"))):
+        if j.get(group) is None:
+            continue
+        for k in keys:
+            m = np.array(j[group][k], dtype=np.float64)
+            if k != "output_sd":  # a vector; the others are matrices
+                rows = len(j[group][k])
+                m = m.reshape(rows, len(j[group][k][0]) if rows else 0)
+            out[group + "_" + k] = m
     op = j["operating_point"]
     out["x0"] = np.array(op["x"], dtype=np.float64)
     out["u0"] = np.array(op["u"], dtype=np.float64)
@@ -87,6 +102,9 @@ def expected_scalars(j):
             s[k] = j[k]
     if "equilibrium" in j:
         s["residual"] = j["equilibrium"]["residual"]
+    for group in ("kalman", "lqr"):
+        if j.get(group) is not None:
+            s[group + "_residual"] = j[group]["residual"]
     return s
 
 
@@ -149,7 +167,8 @@ def check_csv(tag, j, text):
             vals = vals.reshape(v.shape[0], 0)
         if not same(vals, v):
             fail("%s csv: %s differs" % (tag, k))
-    a = tables.get("A") or tables.get("Ad")
+    a = tables.get("A") or tables.get("Ad") or tables.get("kalman_prior_covariance") or \
+        tables.get("lqr_cost_to_go")
     labels = ["%s [%s]" % (s["name"], s["unit"]) for s in j["states"]]
     if a[0][1:1 + len(labels)] != labels or [r[0] for r in a[1:1 + len(labels)]] != labels:
         fail("%s csv: state labels of A differ" % tag)
@@ -172,7 +191,8 @@ def check_mtx(tag, j, folder):
             fail("%s mtx: %s differs" % (tag, k))
         with open(path) as f:
             head = f.read()
-        first = j["states"][0] if k in ("A", "Ad", "Qd", "x0") else None
+        first = j["states"][0] if k in ("A", "Ad", "Qd", "x0", "kalman_prior_covariance",
+                                        "lqr_cost_to_go") else None
         if "% row 1: " not in head or (first is not None and
                                       "%% row 1: %s [%s]\n" % (first["name"], first["unit"])
                                       not in head):
@@ -340,6 +360,14 @@ def main():
         cases.append((name + " linearize", ["linearize", path]))
         cases.append((name + " discretize", ["discretize", path, "--rate", "200Hz"]))
     demo = os.path.join(ROOT, "examples", "balancer.yaml")
+    # gains: the examples whose filter exists (the others have a cyclic
+    # coordinate without process noise and stop with exit 3), with their
+    # weights file for the LQR, and the demo without one
+    for name in ("balancer", "ball-beam", "pendulum-motor", "quarter-car"):
+        cases.append((name + " gains", ["gains", os.path.join(ROOT, "examples", name + ".yaml"),
+                                        "--rate", "200Hz", "--weights",
+                                        os.path.join(ROOT, "tests", "gains", name + ".yaml")]))
+    cases.append(("balancer gains, no weights", ["gains", demo, "--rate", "200Hz"]))
     cases.append(("balancer delay", ["discretize", demo, "--rate", "200Hz", "--delay", "1.5"]))
     cases.append(("balancer tustin", ["discretize", demo, "--rate", "1kHz", "--method", "tustin",
                                       "--prewarp", "3Hz"]))
