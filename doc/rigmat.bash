@@ -12,7 +12,7 @@ _rigmat_options()
     check) echo "--rate --set --format -o --output --catalog -h --help" ;;
     linearize) echo "--name --ctype --set --format -o --output --catalog -h --help" ;;
     discretize) echo "--rate --period --method --prewarp --delay --name --ctype --set --format -o --output --catalog -h --help" ;;
-    modes) echo "--rate --set --format -o --output --catalog -h --help" ;;
+    modes) echo "--rate --validity --set --format -o --output --catalog -h --help" ;;
     simulate) echo "--model --offset --input --duration --step --rate --tolerance --partial --plot --validity --criterion --horizon --set --format -o --output --catalog -h --help" ;;
     gains) echo "--rate --period --weights --method --name --ctype --set --format -o --output --catalog -h --help" ;;
     report) echo "--rate --offset --step-size --duration --no-validity --set --format -o --output --catalog -h --help" ;;

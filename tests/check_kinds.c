@@ -142,7 +142,7 @@ START_TEST(encoder_noise_rule)
     s.resolution = 0.01;
     rigmat_sensor_noise_rule(&s, &scale, &res);
     ck_assert(res == 0.01);
-    /* every angle reading takes an encoder alike (DESIGN.md section 3) */
+    /* every angle reading takes an encoder alike (README.md, "The model file") */
     {
         const rigmat_sensor_kind angles[] = { RIGMAT_SENSE_ANGLE, RIGMAT_SENSE_RELATIVE_ANGLE,
             RIGMAT_SENSE_JOINT_POSITION };

@@ -13,7 +13,7 @@
 #include <string.h>
 #include <gsl/gsl_math.h>
 
-/* the default of DESIGN.md section 2 */
+/* the default of README.md, "Rules worth knowing" */
 #define G0 9.80665
 
 /* Load and linearize; *model must outlive the lti (its layout is borrowed). */

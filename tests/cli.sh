@@ -367,6 +367,14 @@ if has_cmd modes; then
         "$R" modes "$DEMO" >/dev/full 2>"$T/err"
         if [ $? = 4 ]; then ok; else bad "modes /dev/full: want exit 4"; fi
     fi
+    # --validity: the table of simulate --validity after the modes (text) and
+    # the same members in JSON
+    expect 0 "modes --validity" -- "$R" modes "$DEMO" --validity
+    has "$T/out" "^validity of the linear model" "modes text prints the validity range"
+    has "$T/out" "offset of tilt.angle \\[rad\\]" "modes validity names the tilt"
+    expect 0 "modes --validity json" -- "$R" modes "$DEMO" --validity --format json
+    has "$T/out" '"validity"' "modes json has validity"
+    has "$T/out" '"criterion"' "modes json has the criterion"
     expect 0 "twin pendulums" -- "$R" modes tests/models/twin-pendulums.yaml
     has "$T/out" "1 not controllable, 1 not observable" "twin pendulums: one pair flagged"
     # check and linearize text end with the summary line; their JSON does not change
@@ -382,7 +390,7 @@ if has_cmd simulate; then
     C=examples/cart.yaml
     expect 0 "simulate help" -- "$R" simulate --help
     has "$T/out" "step:VALUE" "simulate help lists the signals"
-    # CSV contract (DESIGN.md section 5): header, absolute values, round(duration/step)+1 rows
+    # CSV contract (README.md, "Simulation"): header, absolute values, round(duration/step)+1 rows
     expect 0 "simulate csv" -- "$R" simulate "$C" --input push=step:1N --duration 0.1s --step 10ms
     if [ "$(head -n 1 "$T/out")" = "time [s],track.position [m],track.velocity [m/s],push [N],position [m]" ]; then ok; else bad "simulate csv header: $(head -n 1 "$T/out")"; fi
     if [ "$(wc -l <"$T/out")" = 12 ]; then ok; else bad "simulate csv: want 11 rows"; fi

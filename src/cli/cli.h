@@ -200,4 +200,14 @@ void check_sign_table(struct cli_env *env, const rigmat_model *m, rigmat_result 
  * When the analysis fails it says so on that line (src/cli/cmd_modes.c). */
 void cli_modes_summary(struct cli_env *env, const rigmat_model *m, const rigmat_lti *l);
 
+/* ---------------------------------------------------- validity range */
+
+struct rigmat_validity_opts;
+struct rigmat_validity_item;
+/* Append the validity table of the linear model (src/study/validity.h)
+ * to r: its text lines and the JSON members "criterion", "horizon" and
+ * "validity" (src/cli/validity.c). */
+void cli_validity_describe(rigmat_result *r, const rigmat_model *m,
+        const struct rigmat_validity_opts *o, const struct rigmat_validity_item *it, size_t n);
+
 #endif /* RIGMAT_CLI_H */

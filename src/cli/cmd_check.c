@@ -6,7 +6,7 @@
  * the standard deviation per sample of every noise source at --rate, and
  * the operating point.  Text or JSON (the same content).
  *
- * Noise per sample (DESIGN.md "Noise, one convention"): a density N
+ * Noise per sample (README.md, "Noise convention"): a density N
  * averaged over a sample T has sd N/sqrt(T); through a first-order
  * bandwidth f_c its variance is N^2 pi f_c; `noise` is already per
  * sample; a quantization step q adds q^2/12 (uniform rounding error,

@@ -3,7 +3,7 @@
  * (Qd, Rd, S), and with a weights file the LQR (src/study/gains.h,
  * src/study/riccati.h, src/study/weights.h).
  *
- * JSON (DESIGN.md section 5): the common head (rigmat_result_head, kind
+ * JSON (README.md, "JSON output"): the common head (rigmat_result_head, kind
  * "gains"), then
  *   period, method
  *   kalman   {gain, predictor_gain, prior_covariance, posterior_covariance,

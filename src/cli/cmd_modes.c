@@ -3,19 +3,21 @@
  * frequency, damping, time constant, stability, the states each mode lives
  * in, controllability and observability per mode, the invariant zeros of
  * every channel and the DC gain.  Text leads with a one-line summary; JSON
- * follows DESIGN.md section 5.  Also the summary line `check` and
+ * follows README.md, "JSON output".  Also the summary line `check` and
  * `linearize` print at the end of their text (cli_modes_summary). */
 #include "cli.h"
+#include "validity.h"
 #include "modes.h"
 #include "units.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 #include <gsl/gsl_math.h>
 
 static const char *const modes_usage[] = {
-    "rigmat modes FILE [--rate FREQ] [--set PATH=VALUE]... [--format text|json] [-o FILE]"
-    " [--catalog DIR]",
+    "rigmat modes FILE [--rate FREQ] [--validity] [--set PATH=VALUE]... [--format text|json]"
+    " [-o FILE] [--catalog DIR]",
     NULL
 };
 
@@ -405,9 +407,12 @@ rigmat_status cmd_modes(int argc, char **argv, struct cli_env *env)
 {
     struct cli_common c;
     const char *rate = NULL;
+    int validity = 0;
     const struct cli_opt opts[] = {
         { 0, "rate", CLI_OPT_STRING, &rate, "FREQ",
           "also the discrete eigenvalues z = exp(s T) at this sample rate" },
+        { 0, "validity", CLI_OPT_FLAG, &validity, NULL,
+          "also the validity range of the linear model (slower: nonlinear runs)" },
         CLI_COMMON_ROWS(&c),
         CLI_OPT_END_ROW
     };
@@ -416,6 +421,8 @@ rigmat_status cmd_modes(int argc, char **argv, struct cli_env *env)
     rigmat_lti *lti = NULL;
     rigmat_modes *md = NULL;
     rigmat_result *r = NULL;
+    rigmat_system *sys = NULL;
+    rigmat_validity_item *items = NULL;
     rigmat_error e;
     const char *file = NULL;
     double rate_hz = 0.0;
@@ -454,10 +461,35 @@ rigmat_status cmd_modes(int argc, char **argv, struct cli_env *env)
     if (r == NULL) {
         fprintf(env->err, "rigmat modes: out of memory\n");
         st = RIGMAT_ENOMEM;
-    } else {
-        st = cli_emit(env, r, &c, file);
+        goto done;
     }
+    if (validity) {
+        /* how far the linear model holds (src/study/validity.h), with the
+         * documented defaults of `simulate --validity` */
+        const rigmat_validity_opts vo = rigmat_validity_opts_default();
+        const size_t cap = m->layout.nx + m->layout.nu + 1;
+        size_t n = 0;
+
+        items = calloc(cap, sizeof *items);
+        if (items == NULL) {
+            fprintf(env->err, "rigmat modes: out of memory\n");
+            st = RIGMAT_ENOMEM;
+            goto done;
+        }
+        st = rigmat_system_alloc(m, &sys, &e);
+        if (st == RIGMAT_OK)
+            st = rigmat_validity_all(sys, lti, &m->layout, &vo, items, cap, &n, &e);
+        if (st != RIGMAT_OK) {
+            cli_report(env, &e);
+            goto done;
+        }
+        rigmat_result_text(r, "\n");
+        cli_validity_describe(r, m, &vo, items, n);
+    }
+    st = cli_emit(env, r, &c, file);
 done:
+    free(items);
+    rigmat_system_free(sys);
     rigmat_result_free(r);
     rigmat_modes_free(md);
     rigmat_lti_free(lti);

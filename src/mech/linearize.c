@@ -326,7 +326,7 @@ static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti
             dens = se->bias_tau_s > 0.0 ? se->bias_sd * sqrt(2.0 / se->bias_tau_s) :
                                           se->bias_walk;
         } else if (in->kind == RIGMAT_SIG_FILTER_NOISE)
-            dens = m->sensors[in->index].density; /* before the filter (DESIGN.md sec. 3) */
+            dens = m->sensors[in->index].density; /* before the filter (README.md, "Sensor bias and filter") */
         /* README.md, "Noise convention": density N means intensity Qc = N^2 */
         lti->input_intensity[k] = dens * dens;
     }

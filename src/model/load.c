@@ -257,7 +257,7 @@ static int num_node(struct ld *L, const struct ent *e, const rigmat_node *n, rig
         return 0;
     }
     if (density && !isfinite(*out * *out)) {
-        /* the intensity is the density squared (DESIGN.md, noise) */
+        /* the intensity is the density squared (README.md, "Noise convention") */
         lerr(L, e, n->loc, "a noise density is at most about 1e154 in SI units",
                 "'%s' is out of range: its noise intensity (the square) overflows", n->text);
         return 0;
@@ -1668,7 +1668,7 @@ static int walk_node(struct ld *L, const struct ent *e, const rigmat_node *n, ri
 }
 
 /* `bias: {random_walk: N}` or `bias: {sd: S, correlation_time: TAU}`
- * (DESIGN.md section 3), in the measured quantity's unit q. */
+ * (README.md, "Sensor bias and filter"), in the measured quantity's unit q. */
 static void read_bias(struct ld *L, const struct ent *e, rigmat_kind q, rigmat_sensor *s)
 {
     static const char *const walk_keys[] = { "random_walk" };

@@ -50,8 +50,8 @@
  *     X falls below newton_rtol (default 1e-13), or rises again once below
  *     1e-6 (round-off reached; far from the solution the change may rise).
  *
- * Refusals, found before the iteration (the PBH test, shared REFERENCES.md
- * "PBH test": rank[A - zI, B] = n; T. Kailath, "Linear Systems", 1980,
+ * Refusals, found before the iteration (the PBH test,
+ * rank[A - zI, B] = n; T. Kailath, "Linear Systems", 1980,
  * section 2.4.3, from memory):
  *   - R not positive definite (its Cholesky factorization breaks down at a
  *     column, returned in info->index);

@@ -3,10 +3,10 @@
  * same initial deviation, on the same output times.
  *
  * Time grid.  Rows are at t_k = k * step_s, k = 0 .. round(duration_s /
- * step_s) (DESIGN.md section 5).  Every value is absolute (not a
+ * step_s) (README.md, "Simulation").  Every value is absolute (not a
  * deviation): x = x0 + dx, u = u0 + du, y = h(x, u) or y0 + C dx + D du.
  *
- * Signals (added to the operating-point input u0; DESIGN.md section 5):
+ * Signals (added to the operating-point input u0; README.md, "Simulation"):
  *   step     du = value            for t >= t0
  *   impulse  an impulse of the given area at t0 (see each model below)
  *   ramp     du = slope (t - t0)   for t >= t0

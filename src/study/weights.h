@@ -5,8 +5,8 @@
  * Control of Dynamic Systems", section 7.6, from memory): weigh each state
  * and input by the inverse square of its largest acceptable value,
  *     Q_ii = 1 / x_max_i^2,   R_jj = 1 / u_max_j^2,
- * so that each term of the cost is 1 at its limit.  The file (DESIGN.md
- * section 5):
+ * so that each term of the cost is 1 at its limit.  The file (README.md,
+ * "Gains: the Kalman filter and the LQR"):
  *
  *     states:  {tilt.angle: 3 deg, travel.position: 0.25 m}
  *     inputs:  {drive: 0.6}

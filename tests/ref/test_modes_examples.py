@@ -3,7 +3,7 @@
 The matrices come from `rigmat linearize --format json` of the same file;
 everything else is computed here, independently of the C code:
 
-- the JSON members are DESIGN.md section 5's (`modes` entries with s, z,
+- the JSON members are those of README.md, "JSON output" (`modes` entries with s, z,
   frequency, damping, time_constant, stability, controllable, observable,
   reached_by, seen_by, states; `zeros` [{input, output, values}]; `dc_gain`);
 - the eigenvalues against numpy.linalg.eigvals(A), and z = exp(s T);
