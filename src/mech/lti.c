@@ -57,6 +57,7 @@ rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control)
     s->y0 = zvec(ny, &bad);
     s->f0 = zvec(nx, &bad);
     s->input_intensity = zarr(nu, &bad);
+    s->input_current = zarr(nu, &bad);
     s->output_noise_sd = zarr(ny, &bad);
     s->output_density = zarr(ny, &bad);
     s->output_bandwidth_hz = zarr(ny, &bad);
@@ -145,6 +146,7 @@ void rigmat_lti_free(rigmat_lti *s)
     if (s->y0) gsl_vector_free(s->y0);
     if (s->f0) gsl_vector_free(s->f0);
     free(s->input_intensity);
+    free(s->input_current);
     free(s->output_noise_sd);
     free(s->output_density);
     free(s->output_bandwidth_hz);

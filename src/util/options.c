@@ -19,5 +19,6 @@ rigmat_options rigmat_options_default(void)
     o.trim_max_iter = 100;
     o.rank_rtol = 1e-9;
     o.rate_hz = 0.0;
+    o.limits_refuse = 1;
     return o;
 }
