@@ -480,7 +480,8 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
     fill_noise(m, L, lti);
     st = input_currents(s, lti->input_current, err);
     if (st == RIGMAT_OK && opt->limits_refuse)
-        st = rigmat_limits_check(m, L->inputs, L->nu, lti->u0->data, lti->input_current, err);
+        st = rigmat_limits_check(m, L->inputs, L->nu, lti->u0 != NULL ? lti->u0->data : NULL,
+                lti->input_current, err);
     if (st != RIGMAT_OK)
         goto done;
     if (!isfinite(residual) || !all_finite(lti->A) || !all_finite(lti->B) ||
