@@ -512,6 +512,15 @@ expect 0 "c header carries limits" -- "$R" linearize "$ARM" --set motors.sh.curr
 has "$T/out" "input_limit\[ARM_HELD_AT_25_DEG_BY_A_DUTY_DRIVE_N_INPUTS\]\[2\]" "c header limit array"
 has "$T/out" "input_current_limit" "c header current limit"
 
+# the sampled affine term (tests/ref/test_fd.py checks its values)
+expect 0 "fd at a point that is not a steady state" -- "$R" discretize examples/cart.yaml --rate 50Hz --set operating_point.inputs.push=2N
+has "$T/err" "warning: the operating point is not a steady state: the largest component of f0 is d(track.velocity)/dt = 1.48148 m/s per s" "not-steady warning"
+has "$T/out" "fd (sampled affine term: the point is not a steady state)" "fd in the text"
+expect 0 "steady motion warns of the drift" -- "$R" linearize examples/cart.yaml --set operating_point.rates.track=0.5m/s --set operating_point.inputs.push=1.35N
+has "$T/err" "a steady motion, not a rest point: the largest component of f0 is d(track.position)/dt = 0.5 m per s" "steady-motion warning"
+expect 0 "no warning at rest" -- "$R" discretize examples/cart.yaml --rate 50Hz
+if grep -q "steady" "$T/err"; then bad "warning at a rest point"; else ok; fi
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

@@ -23,6 +23,7 @@
  * Numbers carry 17 significant digits.
  */
 #include "cli.h"
+#include "affine.h"
 #include "discretize.h"
 #include "noise.h"
 #include "units.h"
@@ -99,7 +100,8 @@ static void noise_lines(rigmat_result *r, const rigmat_layout *L, const rigmat_n
 
 /* The result, described once for every format. */
 static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti *l,
-        const rigmat_dlti *d, const rigmat_noise *nz, const rigmat_signal *xs)
+        const rigmat_dlti *d, const rigmat_noise *nz, const rigmat_signal *xs,
+        const gsl_vector *fd)
 {
     const rigmat_layout *L = &m->layout;
     const rigmat_signal *w = L->inputs + L->nu_control;
@@ -123,8 +125,8 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     if (d->delay_samples > 0)
         rigmat_result_text(r, ", input delay %.6g samples (%.6g ms)", d->delay_samples,
                 d->delay_samples * d->period_s * 1e3);
-    rigmat_result_text(r, "\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + noise (Qd);  y[k] = Cd x[k] "
-            "+ Dd u[k] + Ed w[k] + noise (Rd)\n\n");
+    rigmat_result_text(r, "\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + fd + noise (Qd);  y[k] = "
+            "Cd x[k] + Dd u[k] + Ed w[k] + noise (Rd)\n\n");
     rigmat_result_key(r, "period");
     rigmat_result_number(r, d->period_s, "s");
     rigmat_result_key(r, "method");
@@ -152,6 +154,12 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     rigmat_result_key(r, "Ed");
     rigmat_result_matrix(r, d->Ed, d->ny, d->nw, L->outputs, w);
     rigmat_result_title(r, "Ed (disturbance feedthrough)");
+    /* the sampled affine term (src/sample/affine.h): zero at a steady state */
+    rigmat_result_key(r, "fd");
+    rigmat_result_vector(r, fd, d->nx, xs);
+    rigmat_result_title(r, l->is_steady ? "fd (sampled affine term; zero: a steady state)"
+                                        : "fd (sampled affine term: the point is not a steady "
+                                          "state)");
     rigmat_result_key(r, "Qc");
     rigmat_result_values(r, l->input_intensity, l->nu, L->inputs);
     rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
@@ -349,6 +357,7 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
     rigmat_discretize_ws *dw = NULL;
     rigmat_noise_ws *nw = NULL;
     rigmat_signal *xs = NULL;
+    gsl_vector *fd = NULL;
     rigmat_advice advice[32];
     size_t nadvice = 0;
     rigmat_error e;
@@ -405,7 +414,15 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
                  &o);
     if (nz->S != NULL)
         print_direct(env, m, lti);
-    r = discretize_result(m, lti, d, nz, xs);
+    fd = gsl_vector_calloc(d->nx);
+    if (fd == NULL) {
+        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
+        goto report;
+    }
+    st = rigmat_discretize_affine(lti, &o, d, fd, &e);
+    if (st != RIGMAT_OK)
+        goto report;
+    r = discretize_result(m, lti, d, nz, xs, fd);
     if (r == NULL) {
         st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
         goto report;
@@ -417,6 +434,8 @@ report:
 done:
     rigmat_result_free(r);
     free(xs);
+    if (fd != NULL)
+        gsl_vector_free(fd);
     rigmat_noise_free(nz);
     rigmat_dlti_free(d);
     rigmat_noise_ws_free(nw);
