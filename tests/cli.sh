@@ -521,6 +521,13 @@ has "$T/err" "a steady motion, not a rest point: the largest component of f0 is 
 expect 0 "no warning at rest" -- "$R" discretize examples/cart.yaml --rate 50Hz
 if grep -q "steady" "$T/err"; then bad "warning at a rest point"; else ok; fi
 
+# Qd not declared: a warning with a one-line `forces:` entry that works
+expect 0 "Qd zero warned" -- "$R" discretize examples/cart.yaml --rate 50Hz
+has "$T/err" "warning: Qd is zero: the model declares no disturbance with a \`density\`, and a Kalman filter needs process noise" "Qd zero warning"
+has "$T/err" "load: {torque_on: carriage, role: disturbance, density: 0.01 N\*m/sqrt(Hz)}" "Qd zero hint"
+expect 0 "the hint's entry silences it" -- "$R" discretize examples/cart.yaml --rate 50Hz --set 'forces.load={torque_on: carriage, role: disturbance, density: 0.01 N*m/sqrt(Hz)}'
+if grep -q "Qd is zero" "$T/err"; then bad "Qd warning with a density"; else ok; fi
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

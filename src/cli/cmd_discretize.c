@@ -24,6 +24,7 @@
  */
 #include "cli.h"
 #include "affine.h"
+#include "linearize.h"
 #include "discretize.h"
 #include "noise.h"
 #include "units.h"
@@ -259,6 +260,20 @@ static void print_advice(struct cli_env *env, const rigmat_model *m, const rigma
     }
 }
 
+/* Qd is zero without a disturbance density: say so, with a one-line
+ * `forces:` entry on the model's first body as the example. */
+static void print_no_process_noise(struct cli_env *env, const rigmat_model *m,
+        const rigmat_lti *l)
+{
+    if (rigmat_lti_has_process_noise(l))
+        return;
+    fprintf(env->err, "rigmat discretize: warning: Qd is zero: the model declares no "
+            "disturbance with a `density`, and a Kalman filter needs process noise\n");
+    fprintf(env->err, "  hint: add a disturbance, e.g. under `forces:`  load: {torque_on: %s, "
+            "role: disturbance, density: 0.01 N*m/sqrt(Hz)}\n",
+            m->nbodies > 1 ? m->bodies[1].name : "BODY");
+}
+
 static void print_direct(struct cli_env *env, const rigmat_model *m, const rigmat_lti *l)
 {
     const rigmat_layout *L = &m->layout;
@@ -414,6 +429,7 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
                  &o);
     if (nz->S != NULL)
         print_direct(env, m, lti);
+    print_no_process_noise(env, m, lti);
     fd = gsl_vector_calloc(d->nx);
     if (fd == NULL) {
         st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");

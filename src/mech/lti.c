@@ -1,5 +1,6 @@
 /* lti.c - the continuous linear model container. */
 #include "rigmat.h"
+#include "linearize.h"
 
 #include <stdlib.h>
 #include <string.h>
@@ -152,4 +153,14 @@ void rigmat_lti_free(rigmat_lti *s)
     free(s->output_bandwidth_hz);
     free(s->output_resolution);
     free(s);
+}
+
+int rigmat_lti_has_process_noise(const rigmat_lti *l)
+{
+    size_t k;
+
+    for (k = l->nu_control; k < l->nu && l->input_intensity != NULL; k++)
+        if (l->input_intensity[k] > 0.0)
+            return 1;
+    return 0;
 }
