@@ -528,6 +528,24 @@ has "$T/err" "load: {torque_on: carriage, role: disturbance, density: 0.01 N\*m/
 expect 0 "the hint's entry silences it" -- "$R" discretize examples/cart.yaml --rate 50Hz --set 'forces.load={torque_on: carriage, role: disturbance, density: 0.01 N*m/sqrt(Hz)}'
 if grep -q "Qd is zero" "$T/err"; then bad "Qd warning with a density"; else ok; fi
 
+# discretize JSON without glue: states are Ad's rows (delay stages with their
+# kind), Qc matches Gd's columns, an empty Gd reads as n x 0 in numpy
+expect 0 "discretize json with a delay" -- "$R" discretize "$DEMO" --rate 200Hz --delay 1 --format json -o "$T/glue.json"
+if /usr/bin/python3 -c '
+import json, sys, numpy as np
+j = json.load(open(sys.argv[1]))
+ad = np.array(j["Ad"]); gd = np.array(j["Gd"])
+assert len(j["states"]) == ad.shape[0], "states vs Ad"
+assert j["states"][-1]["kind"] == "delay" and j["states"][0]["kind"] == "coordinate"
+assert len(j["Qc"]) == gd.shape[1], "Qc vs Gd columns"
+' "$T/glue.json" 2>"$T/err"; then ok; else bad "discretize json glue"; sed 's/^/  | /' "$T/err" >&2; fi
+expect 0 "discretize json without disturbances" -- "$R" discretize examples/cart.yaml --rate 50Hz --format json -o "$T/cart.json"
+if /usr/bin/python3 -c '
+import json, sys, numpy as np
+j = json.load(open(sys.argv[1]))
+assert np.array(j["Gd"]).shape == (2, 0) and np.array(j["Qc"]).shape == (0,)
+' "$T/cart.json" 2>"$T/err"; then ok; else bad "empty Gd shape"; sed 's/^/  | /' "$T/err" >&2; fi
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

@@ -112,8 +112,10 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
 
     if (r == NULL)
         return NULL;
-    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
-            L->outputs, L->ny);
+    /* states: every state of Ad, the delay stages included (each with its
+     * kind); the order hash stays the continuous layout's */
+    rigmat_result_head(r, m->name, L->order_hash, xs, d->nx, L->inputs, L->nu, L->outputs,
+            L->ny);
     rigmat_result_dim(r, "state", xs, d->nx);
     rigmat_result_dim(r, "input", L->inputs, d->nu);
     rigmat_result_dim(r, "disturbance", w, d->nw);
@@ -161,8 +163,9 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     rigmat_result_title(r, l->is_steady ? "fd (sampled affine term; zero: a steady state)"
                                         : "fd (sampled affine term: the point is not a steady "
                                           "state)");
+    /* the white intensity of the disturbances only: Gd's columns */
     rigmat_result_key(r, "Qc");
-    rigmat_result_values(r, l->input_intensity, l->nu, L->inputs);
+    rigmat_result_values(r, l->input_intensity + l->nu_control, d->nw, w);
     rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
     rigmat_result_key(r, "Qd");
     rigmat_result_matrix(r, nz->Qd, d->nx, d->nx, xs, xs);

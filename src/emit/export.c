@@ -603,7 +603,7 @@ rigmat_status rigmat_emit_numpy(const rigmat_result *r, const rigmat_emit_opts *
             py_list(f, n->row_names, n->rows, 0);
             fprintf(f, "%s_units = ", name);
             py_list(f, n->row_names, n->rows, 1);
-            if (n->with_role) {
+            if (n->with_role == 1) {
                 fprintf(f, "%s_roles = ", name);
                 py_list(f, n->row_names, n->rows, 2);
             }

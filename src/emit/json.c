@@ -194,7 +194,14 @@ void rigmat_json_signals(rigmat_json *j, const rigmat_signal *s, size_t n, int w
         rigmat_json_str(j, s[i].name);
         rigmat_json_key(j, "unit");
         rigmat_json_str(j, s[i].unit);
-        if (with_role) {
+        if (with_role == 2) {
+            static const char *const kinds[] = { "coordinate", "rate", "current", "shaping",
+                "delay" };
+            rigmat_json_key(j, "kind");
+            rigmat_json_str(j, (size_t)s[i].kind < sizeof kinds / sizeof kinds[0]
+                            ? kinds[s[i].kind] : "state");
+        }
+        if (with_role == 1) {
             rigmat_json_key(j, "role");
             rigmat_json_str(j, s[i].role == RIGMAT_ROLE_DISTURBANCE ? "disturbance" : "input");
             /* DESIGN.md section 3, Limits: [low, high] or null; a motor's

@@ -119,7 +119,8 @@ def check_numpy(tag, j, text, tmp):
     if mod.order_hash != j["order_hash"] or mod.model != j["model"]:
         fail("%s numpy: order hash or model name differ" % tag)
     if "Ad" in j:
-        names = [s["name"] for s in j["states"]] + [s["name"] for s in j["delay_states"]]
+        # `states` lists every row of Ad, the delay stages included
+        names = [s["name"] for s in j["states"]]
         if mod.state_names != names:
             fail("%s numpy: state_names are not the rows of Ad" % tag)
 
@@ -202,7 +203,7 @@ def check_latex(tag, j, text):
             fail("%s latex: no block %s" % (tag, k))
             continue
         r, c, body = found[k]
-        want = v.reshape(v.shape[0], -1) if v.ndim == 1 else v
+        want = v.reshape(v.shape[0], 1) if v.ndim == 1 else v
         if (r, c) != want.shape:
             fail("%s latex: %s is %dx%d" % (tag, k, r, c))
             continue
