@@ -546,6 +546,18 @@ j = json.load(open(sys.argv[1]))
 assert np.array(j["Gd"]).shape == (2, 0) and np.array(j["Qc"]).shape == (0,)
 ' "$T/cart.json" 2>"$T/err"; then ok; else bad "empty Gd shape"; sed 's/^/  | /' "$T/err" >&2; fi
 
+# state basis: physical for zoh and the Euler forms, transformed (with the
+# map in the text and no Qd) for foh and tustin (tests/ref/test_state_basis.py
+# checks the maps against the zoh state)
+expect 0 "tustin states its basis" -- "$R" discretize "$DEMO" --rate 200Hz --method tustin
+has "$T/out" "state basis: transformed (tustin): the state is xi = (I - A T/2) x - (T/2) (B u + G w + f0)" "tustin map"
+has "$T/out" "Qd and S are not given for a transformed state" "tustin Qd rule"
+expect 0 "foh states its basis" -- "$R" discretize "$DEMO" --rate 200Hz --method foh --format json
+has "$T/out" '"state_basis": "transformed"' "foh state_basis"
+has "$T/out" '"Qd": null' "foh Qd null"
+expect 0 "zoh states its basis" -- "$R" discretize "$DEMO" --rate 200Hz --delay 1 --format json
+has "$T/out" '"state_basis": "physical"' "zoh state_basis"
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

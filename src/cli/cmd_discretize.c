@@ -107,6 +107,7 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     const rigmat_layout *L = &m->layout;
     const rigmat_signal *w = L->inputs + L->nu_control;
     const double rate_hz = 1.0 / d->period_s;
+    const int transformed = d->method == RIGMAT_METHOD_FOH || d->method == RIGMAT_METHOD_TUSTIN;
     rigmat_result *r = rigmat_result_alloc("discrete");
     char line[160];
 
@@ -140,6 +141,25 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     }
     rigmat_result_key(r, "delay");
     rigmat_result_number(r, d->delay_samples, "samples");
+    /* the state basis (README.md, "State basis"): zoh and the Euler forms
+     * sample the physical state; foh and tustin realize another one */
+    rigmat_result_key(r, "state_basis");
+    rigmat_result_string(r, transformed ? "transformed" : "physical");
+    if (d->method == RIGMAT_METHOD_FOH)
+        rigmat_result_text(r, "state basis: transformed (foh): the state is xi = x - G2 [u; w], "
+                "so x = xi + G2 [u; w], with G2 the top right block of exp([[A T, [B G] T, 0], "
+                "[0, 0, I], [0, 0, 0]]); weights and initial states written for x need this map\n");
+    else if (d->method == RIGMAT_METHOD_TUSTIN)
+        rigmat_result_text(r, "state basis: transformed (tustin): the state is xi = (I - A T/2) "
+                "x - (T/2) (B u + G w + f0), so x = (I - A T/2)^-1 (xi + (T/2) (B u + G w + "
+                "f0))%s; weights and initial states written for x need this map\n", d->prewarp_hz > 0 ? " (T prewarped: "
+                "T_w = 2 tan(w1 T/2)/w1)" : "");
+    else
+        rigmat_result_text(r, "state basis: physical (the sampled state is x itself)\n");
+    if (transformed)
+        rigmat_result_text(r, "Qd and S are not given for a transformed state (they would "
+                "belong to x): use --method zoh for a Kalman filter\n");
+    rigmat_result_text(r, "\n");
     rigmat_result_key(r, "delay_states");
     rigmat_result_signals(r, d->delay_states, d->nx - d->nx_plant, 0);
     rigmat_result_key(r, "Ad");
@@ -167,16 +187,24 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     rigmat_result_key(r, "Qc");
     rigmat_result_values(r, l->input_intensity + l->nu_control, d->nw, w);
     rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+    /* one rule for a transformed state: no Qd (nor S), never a covariance
+     * that belongs to another state */
     rigmat_result_key(r, "Qd");
-    rigmat_result_matrix(r, nz->Qd, d->nx, d->nx, xs, xs);
-    rigmat_result_title(r, nz->qd_exact ? "Qd (process noise per period, exact)"
-                                        : "Qd (process noise per period, exact for zoh only)");
+    if (transformed) {
+        rigmat_result_null(r);
+        rigmat_result_show(r, RIGMAT_SHOW_JSON);
+    } else {
+        rigmat_result_matrix(r, nz->Qd, d->nx, d->nx, xs, xs);
+        rigmat_result_title(r, nz->qd_exact ? "Qd (process noise per period, exact)"
+                                            : "Qd (process noise per period, exact for zoh "
+                                              "only)");
+    }
     rigmat_result_key(r, "qd_exact");
     rigmat_result_bool(r, nz->qd_exact);
     rigmat_result_key(r, "Rd");
     rigmat_result_matrix(r, nz->Rd, d->ny, d->ny, L->outputs, L->outputs);
     rigmat_result_title(r, "Rd (measurement noise per sample)");
-    if (nz->S != NULL) {
+    if (nz->S != NULL && !transformed) {
         rigmat_result_key(r, "S");
         rigmat_result_matrix(r, nz->S, d->nx, d->ny, xs, L->outputs);
         rigmat_result_title(r, "S = E[w_k v_k^T] (process-measurement cross-covariance)");

@@ -64,7 +64,7 @@ def expected_arrays(j):
     """The matrices and vectors the exports must hold, by export name."""
     out = {}
     for k in ("A", "B", "C", "D", "Ad", "Bd", "Cd", "Dd", "Gd", "Ed", "Qd", "Rd", "S"):
-        if k in j:
+        if k in j and j[k] is not None:  # Qd is null for a transformed state
             m = np.array(j[k], dtype=np.float64)
             rows = len(j[k])
             cols = len(j[k][0]) if rows else 0
