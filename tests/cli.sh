@@ -196,6 +196,10 @@ expect 3 "trim with no steady state" -- "$R" trim "$T/push.yaml"
 has "$T/err" "did not converge" "trim failure message"
 has "$T/err" "cannot be met: d(rail.velocity)/dt" "trim names the unmet equation"
 if [ -s "$T/out" ]; then bad "failed trim printed a result"; else ok; fi
+# with --format json the failed trim still writes its result, and exits 3
+expect 3 "failed trim json" -- "$R" trim "$T/push.yaml" --format json
+got=$(json_val "$T/out" 'str(d["converged"]) + " " + " ".join(d["unmet_equations"])')
+[ "$got" = "False d(rail.velocity)/dt" ] && ok || bad "failed trim json: '$got'"
 expect 2 "trim without a model" -- "$R" trim
 expect 1 "trim bad model" -- "$R" trim "$T/bad.yaml"
 expect 4 "trim missing file" -- "$R" trim "$T/nope.yaml"

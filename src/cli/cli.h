@@ -38,6 +38,8 @@ struct cli_env {
     rigmat_options opt;     /* defaults, adjusted by common options */
     const char *output;     /* -o FILE, or NULL for standard output */
     struct cli_files files; /* a folder format's files, or none */
+    int keep_on_failure;    /* the command's result is written even though it returns
+                             * RIGMAT_ENUMERIC (a trim that did not converge, JSON) */
 };
 
 enum cli_opt_type {
