@@ -188,6 +188,10 @@ cp "$T/out" "$T/free.json"
 got=$(json_val "$T/free.json" '" ".join(d["free_unknowns"])')
 [ "$got" = "rail.position" ] && ok || bad "free unknowns: '$got', want 'rail.position'"
 below "$(json_val "$T/free.json" 'repr(d["u"][0])')" 1e-12 "a free cart's steady push"
+expect 0 "linearize warns of a free name in solve" -- "$R" linearize "$T/free.yaml"
+has "$T/err" "free.yaml:[0-9]*:[0-9]*: warning: 'rail.position' in solve is not fixed by the equations" "linearize free-unknown warning"
+expect 0 "discretize warns of a free name in solve" -- "$R" discretize "$T/free.yaml" --rate 100Hz
+has "$T/err" "warning: 'rail.position' in solve is not fixed by the equations" "discretize free-unknown warning"
 expect 0 "trim text with a free coordinate" -- "$R" trim "$T/free.yaml"
 has "$T/out" "not fixed by the equations.*rail.position" "trim text names the free coordinate"
 # no steady state exists: exit 3, the unmet equation named, nothing on stdout

@@ -442,7 +442,31 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
         return st;
     CL = rigmat_mech_canonical(s->mech);
     if (m->op_solve.count > 0) {
-        st = rigmat_trim_run(s->mech, m, opt, s->xc, s->uc, NULL, err);
+        /* names in solve that the equations leave free keep their given
+         * values: say so, as trim does */
+        rigmat_trim_result tr;
+        memset(&tr, 0, sizeof tr);
+        st = rigmat_trim_run(s->mech, m, opt, s->xc, s->uc, &tr, err);
+        for (k = 0; st == RIGMAT_OK && warnings != NULL && k < tr.nfree; k++) {
+            const rigmat_loc none = { NULL, 0, 0 };
+            size_t i;
+            rigmat_loc at = none;
+            for (i = 0; i < m->op_solve.count; i++) {
+                const size_t len = strlen(m->op_solve.names[i]);
+                const char next = tr.free_unknowns[k][len < strlen(tr.free_unknowns[k]) ?
+                                                        len : strlen(tr.free_unknowns[k])];
+                if (strncmp(tr.free_unknowns[k], m->op_solve.names[i], len) == 0 &&
+                        (next == '\0' || next == '.'))
+                    at = m->op_solve.locs[i];
+            }
+            if (rigmat_diags_add(warnings, RIGMAT_WARNING, at, none, NULL,
+                        "remove it from solve, or give it the value you want (it stays at "
+                        "its given value)", "'%s' in solve is not fixed by the equations "
+                        "(a cyclic or unreachable coordinate)", tr.free_unknowns[k]) !=
+                    RIGMAT_OK)
+                st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        }
+        rigmat_trim_result_release(&tr);
         if (st != RIGMAT_OK)
             goto done;
     }
