@@ -167,6 +167,9 @@ typedef struct rigmat_options {
     size_t max_sampled_states; /* states of a sampled model, plant plus input-delay
                                 * stages; a larger delay is refused; default 1024
                                 * (README.md, Limits) */
+    int limits_refuse;       /* 1 (default): an operating point beyond an input's limit or
+                              * a motor's current_limit is RIGMAT_ENUMERIC in linearize and
+                              * trim; 0: the lti carries it for a report (check) */
 } rigmat_options;
 
 rigmat_options rigmat_options_default(void);
@@ -241,6 +244,8 @@ typedef struct rigmat_joint {
     rigmat_role role;      /* driven joints only */
     double density;        /* driven, disturbance: SI unit of the driven derivative per sqrt(Hz); 0 = none */
     double bandwidth_hz;   /* driven, disturbance: first-order colouring; 0 = white */
+    int has_limit;         /* driven: `limit` given (DESIGN.md section 3, Limits) */
+    double limit[2];       /* driven: [low, high] of the driven input, SI */
 } rigmat_joint;
 
 /* Where a spring or damper acts. */
@@ -301,6 +306,10 @@ typedef struct rigmat_motor {
     size_t stator, rotor;         /* bodies (filled for both forms when rotary) */
     unsigned count;               /* identical motors in parallel, >= 1 */
     int polarity;                 /* +1 or -1 */
+    /* limits (DESIGN.md section 3, Limits) */
+    int has_limit;                /* always 1 for a duty drive */
+    double limit[2];              /* [low, high] of the drive input (V, A or duty) */
+    double current_limit_a;       /* winding current per motor the drive allows; 0 = none */
 } rigmat_motor;
 
 typedef enum rigmat_force_kind {
@@ -322,6 +331,8 @@ typedef struct rigmat_force {
     rigmat_role role;
     double density;       /* N/sqrt(Hz) or N*m/sqrt(Hz); 0 = none */
     double bandwidth_hz;  /* 0 = white */
+    int has_limit;        /* `limit` given */
+    double limit[2];      /* [low, high], N or N*m */
 } rigmat_force;
 
 typedef enum rigmat_sensor_kind {
@@ -400,6 +411,10 @@ typedef struct rigmat_signal {
     rigmat_signal_kind kind;
     size_t index;
     rigmat_role role;    /* inputs */
+    /* inputs: the limits of the model entry (DESIGN.md section 3, Limits) */
+    int has_limit;
+    double limit[2];     /* [low, high] in the input's SI unit */
+    double current_limit; /* motor inputs: A per motor; 0 = none */
 } rigmat_signal;
 
 /* The vectors of the state-space model, in their final order. */
@@ -463,6 +478,9 @@ typedef struct rigmat_lti {
     /* noise, per input: white-noise intensity Qc = density^2 (SI, per Hz);
      * 0 for control inputs and for disturbances without a density */
     double *input_intensity;   /* length nu */
+    /* per input: a motor input's winding current (A, per motor) at the
+     * operating point; 0 for the other inputs (DESIGN.md section 3, Limits) */
+    double *input_current;     /* length nu */
     /* noise, per output, already scaled by |gain| into the output's unit */
     double *output_noise_sd;   /* standard deviation per sample; 0 = none */
     double *output_density;    /* per sqrt(Hz); 0 = none */
@@ -545,6 +563,14 @@ rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const d
  * not converge or a result is not finite; RIGMAT_EMODEL as for the system. */
 rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt, rigmat_lti **out,
         rigmat_diags *warnings, rigmat_error *err);
+
+/* The limits at an operating point (DESIGN.md section 3, Limits): u (layout
+ * order, nu inputs described by inputs) within each input's limit and each
+ * motor input's winding current cur (A per motor, 0 for other inputs) within
+ * its current_limit.  RIGMAT_ENUMERIC with a message naming the input, the
+ * value it needs and the limit, and a hint; RIGMAT_OK when all hold. */
+rigmat_status rigmat_limits_check(const rigmat_model *m, const rigmat_signal *inputs, size_t nu,
+        const double *u, const double *cur, rigmat_error *err);
 
 /* Trim: a steady state over the names in operating_point.solve, by
  * Gauss-Newton with the exact Jacobian and an SVD step (src/mech/trim.h). */

@@ -2,6 +2,7 @@
  * forms, check values computed with mpmath and scipy (named beside each), and an
  * integration of a delayed system. */
 #include "discretize.h"
+#include "affine.h"
 #include "testutil.h"
 
 #include <math.h>
@@ -613,6 +614,46 @@ START_TEST(advice_fires_only_where_it_matters)
 }
 END_TEST
 
+
+/* The affine term of a first-order lag x' = a x + f0 (a = -2 1/s, f0 =
+ * 3 per s, T = 0.1 s), scalar closed forms worked by hand:
+ * zoh and foh (e^{aT} - 1)/a f0; euler T f0; backward Euler T f0/(1 - a T);
+ * Tustin T f0/(1 - a T/2).  Zero f0 gives exactly zero. */
+START_TEST(affine_term_of_a_lag_matches_closed_forms)
+{
+    const double a = -2.0, f = 3.0, T = 0.1;
+    const rigmat_method methods[] = { RIGMAT_METHOD_ZOH, RIGMAT_METHOD_FOH, RIGMAT_METHOD_EULER,
+        RIGMAT_METHOD_BACKWARD_EULER, RIGMAT_METHOD_TUSTIN };
+    const double want[] = { (exp(a * T) - 1.0) / a * f, (exp(a * T) - 1.0) / a * f, T * f,
+        T * f / (1.0 - a * T), T * f / (1.0 - a * T / 2.0) };
+    rigmat_lti *l = rigmat_lti_alloc(1, 1, 0, 1);
+    rigmat_discretize_opts o = rigmat_discretize_opts_default();
+    gsl_vector *fd = gsl_vector_alloc(1);
+    rigmat_error e;
+    double big;
+    size_t i;
+
+    memset(&e, 0, sizeof e);
+    gsl_matrix_set(l->A, 0, 0, a);
+    gsl_matrix_set(l->B, 0, 0, 1.0);
+    gsl_vector_set(l->f0, 0, f);
+    o.period_s = T;
+    for (i = 0; i < sizeof methods / sizeof methods[0]; i++) {
+        o.method = methods[i];
+        ck_assert_int_eq(rigmat_discretize_affine(l, &o, NULL, fd, &e), RIGMAT_OK);
+        ck_assert_rel(gsl_vector_get(fd, 0), want[i], 1e-14);
+    }
+    ck_assert_int_eq((int)rigmat_affine_largest(l->f0, &big), 0);
+    ck_assert_rel(big, f, 0);
+    gsl_vector_set(l->f0, 0, 0.0);
+    o.method = RIGMAT_METHOD_ZOH;
+    ck_assert_int_eq(rigmat_discretize_affine(l, &o, NULL, fd, &e), RIGMAT_OK);
+    ck_assert(gsl_vector_get(fd, 0) == 0.0);
+    gsl_vector_free(fd);
+    rigmat_lti_free(l);
+}
+END_TEST
+
 Suite *discretize_suite(void);
 Suite *discretize_suite(void)
 {
@@ -627,6 +668,7 @@ Suite *discretize_suite(void)
     tcase_add_test(tc, double_integrator_zoh_closed_form);
     tcase_add_test(tc, every_method_matches_scipy);
     tcase_add_test(tc, misuse_is_reported);
+    tcase_add_test(tc, affine_term_of_a_lag_matches_closed_forms);
     suite_add_tcase(s, tc);
     tcase_add_test(td, delay_gammas_of_the_lag);
     tcase_add_test(td, delayed_recursion_matches_integration);

@@ -28,7 +28,9 @@ static rigmat_result *small_result(const char *model, double bad_entry)
 
     x[0] = sig("cart.position", "m");
     x[1] = sig("cart.velocity", "m/s");
+    x[1].kind = RIGMAT_SIG_RATE;
     u[0] = sig("push", "N");
+    u[0].kind = RIGMAT_SIG_FORCE;
     u[0].role = RIGMAT_ROLE_INPUT;
     ck_assert_ptr_nonnull(r);
     gsl_matrix_set(A, 0, 1, 1.0);
@@ -80,11 +82,14 @@ START_TEST(json_layout_is_exact)
                        "  \"kind\": \"continuous\",\n"
                        "  \"order_hash\": \"0123456789abcdef\",\n"
                        "  \"states\": [\n"
-                       "    {\"name\": \"cart.position\",\"unit\": \"m\"},\n"
-                       "    {\"name\": \"cart.velocity\",\"unit\": \"m/s\"}\n"
+                       "    {\"name\": \"cart.position\",\"unit\": \"m\","
+                       "\"kind\": \"coordinate\"},\n"
+                       "    {\"name\": \"cart.velocity\",\"unit\": \"m/s\","
+                       "\"kind\": \"rate\"}\n"
                        "  ],\n"
                        "  \"inputs\": [\n"
-                       "    {\"name\": \"push\",\"unit\": \"N\",\"role\": \"input\"}\n"
+                       "    {\"name\": \"push\",\"unit\": \"N\",\"role\": \"input\","
+                       "\"limit\": null}\n"
                        "  ],\n"
                        "  \"outputs\": [],\n"
                        "  \"A\": [\n"

@@ -1,10 +1,13 @@
 /* check_gains.c - the steady-state Kalman filter and LQR (src/study/gains.c)
  * against scalar closed forms. */
 #include "gains.h"
+#include "weights.h"
 #include "testutil.h"
 
 #include <math.h>
 #include <string.h>
+#include <stdio.h>
+#include <stdlib.h>
 #include <gsl/gsl_complex_math.h>
 
 /* A random walk x[k+1] = x[k] + w, y = x + v, E[w^2] = q, E[v^2] = r,
@@ -116,6 +119,58 @@ START_TEST(double_integrator_lqr_is_stabilizing_and_consistent)
 }
 END_TEST
 
+
+/* An input without a weight takes the room to its nearer limit from the
+ * operating point (Bryson's rule on the deviation, DESIGN.md section 5):
+ * u0 = 0.3 in [-1, 1] leaves 0.7, so R = 1/0.7^2. */
+START_TEST(input_without_a_weight_takes_the_room_to_its_limit)
+{
+    rigmat_lti *l = rigmat_lti_alloc(2, 1, 0, 1);
+    rigmat_signal st[2], in[1];
+    char n0[] = "x.position", n1[] = "x.rate", n2[] = "push";
+    rigmat_options opt = rigmat_options_default();
+    rigmat_weights *w = NULL;
+    rigmat_diags d;
+    char path[] = "/tmp/rigmat-weights-XXXXXX";
+    const int fd = mkstemp(path);
+    FILE *f = fd >= 0 ? fdopen(fd, "w") : NULL;
+
+    ck_assert_ptr_nonnull(l);
+    ck_assert_ptr_nonnull(f);
+    fputs("states: {x.position: 0.1 m}\n", f);
+    ck_assert_int_eq(fclose(f), 0);
+    memset(st, 0, sizeof st);
+    memset(in, 0, sizeof in);
+    st[0].name = n0;
+    snprintf(st[0].unit, sizeof st[0].unit, "m");
+    st[1].name = n1;
+    snprintf(st[1].unit, sizeof st[1].unit, "m/s");
+    in[0].name = n2;
+    snprintf(in[0].unit, sizeof in[0].unit, "1");
+    in[0].kind = RIGMAT_SIG_MOTOR;
+    in[0].has_limit = 1;
+    in[0].limit[0] = -1.0;
+    in[0].limit[1] = 1.0;
+    ck_assert_int_eq(rigmat_lti_set_signals(l, st, in, NULL), RIGMAT_OK);
+    gsl_vector_set(l->u0, 0, 0.3);
+    rigmat_diags_init(&d);
+    ck_assert_int_eq(rigmat_weights_load(path, l, &opt, &w, &d), RIGMAT_OK);
+    ck_assert_rel(w->u_max[0], 0.7, 1e-15);
+    ck_assert_rel(gsl_matrix_get(w->R, 0, 0), 1.0 / (0.7 * 0.7), 1e-14);
+    ck_assert_int_eq(w->u_from_limit[0], 1);
+    rigmat_weights_free(w);
+    /* without a limit the weight is missing: an error naming the input */
+    l->inputs[0].has_limit = 0;
+    rigmat_diags_release(&d);
+    rigmat_diags_init(&d);
+    ck_assert_int_eq(rigmat_weights_load(path, l, &opt, &w, &d), RIGMAT_EMODEL);
+    ck_assert(d.count > 0 && strstr(d.items[0].message, "'push' has no weight") != NULL);
+    rigmat_diags_release(&d);
+    remove(path);
+    rigmat_lti_free(l);
+}
+END_TEST
+
 Suite *gains_suite(void);
 Suite *gains_suite(void)
 {
@@ -125,6 +180,7 @@ Suite *gains_suite(void)
     tcase_add_test(t, random_walk_filter_matches_closed_form);
     tcase_add_test(t, random_walk_with_cross_covariance_matches_closed_form);
     tcase_add_test(t, double_integrator_lqr_is_stabilizing_and_consistent);
+    tcase_add_test(t, input_without_a_weight_takes_the_room_to_its_limit);
     suite_add_tcase(s, t);
     return s;
 }

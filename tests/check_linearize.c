@@ -382,6 +382,22 @@ START_TEST(every_example_has_jacobians_that_agree_with_central_differences)
 }
 END_TEST
 
+
+/* Qd can be non-zero only through a disturbance with a density: a control
+ * input's intensity does not count (the discretize warning "Qd is zero"). */
+START_TEST(process_noise_needs_a_disturbance_density)
+{
+    rigmat_lti *l = rigmat_lti_alloc(2, 2, 1, 1);
+
+    ck_assert_int_eq(rigmat_lti_has_process_noise(l), 0);
+    l->input_intensity[0] = 1.0; /* a control input: not process noise */
+    ck_assert_int_eq(rigmat_lti_has_process_noise(l), 0);
+    l->input_intensity[1] = 0.01 * 0.01;
+    ck_assert_int_eq(rigmat_lti_has_process_noise(l), 1);
+    rigmat_lti_free(l);
+}
+END_TEST
+
 Suite *linearize_suite(void);
 
 Suite *linearize_suite(void)
@@ -390,6 +406,7 @@ Suite *linearize_suite(void)
     TCase *tc = tcase_create("references");
 
     tcase_set_timeout(tc, 60);
+    tcase_add_test(tc, process_noise_needs_a_disturbance_density);
     tcase_add_test(tc, point_mass_cartpole_has_the_reference_eigenvalues_and_cart_response);
     tcase_add_test(tc, uniform_rod_cartpole_matches_the_textbook_model);
     tcase_add_test(tc, layout_names_units_and_hash);

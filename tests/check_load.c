@@ -821,6 +821,154 @@ START_TEST(operating_point_and_order_lists)
 END_TEST
 
 /* registered by the Makefile from the line below (build/suites.h) */
+
+/* ---------------------------------------------------------------- limits */
+
+/* The arm of tests/models/arm-duty.yaml with --set overrides; its header
+ * derives the numbers by hand. */
+static rigmat_model *arm(const char *const *sets, size_t nsets, rigmat_status want,
+        rigmat_diags *d)
+{
+    rigmat_model *m = NULL;
+    char msg[8192];
+    const rigmat_status st = load("models/arm-duty.yaml", sets, nsets, &m, d);
+
+    diags_text(d, msg, sizeof msg);
+    ck_assert_msg(st == want, "status %d, want %d\n%s", st, want, msg);
+    return m;
+}
+
+/* An error in d whose message holds frag. */
+static int has_error(const rigmat_diags *d, const char *frag)
+{
+    size_t i;
+    for (i = 0; i < d->count; i++)
+        if (d->items[i].severity == RIGMAT_ERROR && strstr(d->items[i].message, frag) != NULL)
+            return 1;
+    return 0;
+}
+
+START_TEST(limits_read_into_the_model_and_the_layout)
+{
+    static const char *const sets[] = { "motors.sh.limit=[-0.5, 0.9]",
+        "motors.sh.current_limit=2.5 A",
+        "forces={push: {on: arm, at: [0, -0.4 m], direction: [1, 0], limit: 3 N}}" };
+    rigmat_diags d;
+    rigmat_model *m = arm(sets, 3, RIGMAT_OK, &d), *plain;
+    const rigmat_layout *L = &m->layout;
+
+    ck_assert_int_eq((int)L->nu, 2);
+    /* a [low, high] list as written; a scalar v is [-v, v] */
+    ck_assert(L->inputs[0].has_limit && L->inputs[1].has_limit);
+    ck_assert_rel(L->inputs[0].limit[0], -0.5, 0);
+    ck_assert_rel(L->inputs[0].limit[1], 0.9, 0);
+    ck_assert_rel(L->inputs[0].current_limit, 2.5, 0);
+    ck_assert_rel(L->inputs[1].limit[0], -3.0, 0);
+    ck_assert_rel(L->inputs[1].limit[1], 3.0, 0);
+    ck_assert_rel(L->inputs[1].current_limit, 0.0, 0);
+    rigmat_model_free(m);
+    rigmat_diags_release(&d);
+    /* a duty drive is limited to [-1, 1] without a `limit` */
+    plain = arm(NULL, 0, RIGMAT_OK, &d);
+    ck_assert(plain->layout.inputs[0].has_limit);
+    ck_assert_rel(plain->layout.inputs[0].limit[0], -1.0, 0);
+    ck_assert_rel(plain->layout.inputs[0].limit[1], 1.0, 0);
+    rigmat_model_free(plain);
+    rigmat_diags_release(&d);
+}
+END_TEST
+
+/* Each bad limit and the fragment of its error. */
+static const struct {
+    const char *set;
+    const char *frag;
+} bad_limits[] = {
+    { "motors.sh.limit=[-1, 1.2]", "wider than [-1, 1]" },
+    { "motors.sh.limit=[0.5, -0.5]", "holds no value" },
+    { "motors.sh.limit=0", "limit must be positive" },
+    { "motors.sh.limit=[1, 2, 3]", "expected a list [low, high]" },
+    { "motors.sh.current_limit=-2 A", "current_limit" },
+    { "forces={gust: {on: arm, role: disturbance, limit: 3 N}}", "not to a disturbance" },
+    { "operating_point.inputs.sh=1.5", "operating-point input 'sh' is 1.5, outside its limit" },
+};
+
+START_TEST(bad_limits_are_model_errors)
+{
+    const char *sets[1];
+    rigmat_diags d;
+    char msg[8192];
+    rigmat_model *m;
+
+    sets[0] = bad_limits[_i].set;
+    m = arm(sets, 1, RIGMAT_EMODEL, &d);
+    ck_assert_ptr_null(m);
+    diags_text(&d, msg, sizeof msg);
+    ck_assert_msg(has_error(&d, bad_limits[_i].frag), "--set %s: want '%s', got\n%s",
+            bad_limits[_i].set, bad_limits[_i].frag, msg);
+    rigmat_diags_release(&d);
+}
+END_TEST
+
+/* The arm case of DESIGN.md section 3, Limits, against the hand-derived
+ * values in the model's header (common practice: holding torque
+ * g sin(th) (m_arm L/2 + m_bob L) = N Kt i, V = R i at rest). */
+START_TEST(arm_limits_at_the_operating_point)
+{
+    const double tau = 9.80665 * sin(25.0 * M_PI / 180.0) * (0.5 * 0.2 + 1.0 * 0.4);
+    const double i_hold = tau / (10 * 0.1), v_hold = 4.0 * i_hold;
+    static const char *const six[] = { "motors.sh.supply=6 V" };
+    static const char *const two_amp[] = { "motors.sh.current_limit=2 A" };
+    rigmat_options opt = rigmat_options_default();
+    rigmat_trim_result r;
+    rigmat_lti *l = NULL;
+    rigmat_error e;
+    rigmat_diags d;
+    rigmat_model *m;
+
+    /* 24 V: trims, duty V/24 */
+    m = arm(NULL, 0, RIGMAT_OK, &d);
+    memset(&e, 0, sizeof e);
+    ck_assert_int_eq(rigmat_trim_model(m, &opt, &r, &e), RIGMAT_OK);
+    ck_assert_rel(r.u[0], v_hold / 24.0, 1e-10);
+    rigmat_trim_result_release(&r);
+    ck_assert_int_eq(rigmat_linearize(m, &opt, &l, NULL, &e), RIGMAT_OK);
+    ck_assert_rel(l->input_current[0], i_hold, 1e-10);
+    rigmat_lti_free(l);
+    rigmat_model_free(m);
+    rigmat_diags_release(&d);
+    /* 6 V: the duty V/6 = 1.38 is beyond 1 */
+    m = arm(six, 1, RIGMAT_OK, &d);
+    ck_assert(v_hold / 6.0 > 1.0);
+    memset(&e, 0, sizeof e);
+    ck_assert_int_eq(rigmat_trim_model(m, &opt, &r, &e), RIGMAT_ENUMERIC);
+    ck_assert_msg(strstr(e.message, "needs duty 1.381 of drive 'sh'; its limit is 1 "
+                "(supply 6 V)") != NULL, "%s", e.message);
+    ck_assert_msg(strstr(e.hint, "raise the supply") != NULL, "%s", e.hint);
+    rigmat_trim_result_release(&r);
+    ck_assert_int_eq(rigmat_linearize(m, &opt, &l, NULL, &e), RIGMAT_ENUMERIC);
+    ck_assert_ptr_null(l);
+    /* check's options: the point is carried, not refused */
+    opt.limits_refuse = 0;
+    ck_assert_int_eq(rigmat_linearize(m, &opt, &l, NULL, &e), RIGMAT_OK);
+    ck_assert_rel(gsl_vector_get(l->u0, 0), v_hold / 6.0, 1e-10);
+    rigmat_lti_free(l);
+    opt.limits_refuse = 1;
+    rigmat_model_free(m);
+    rigmat_diags_release(&d);
+    /* a 2 A current limit below the 2.07 A the point needs */
+    m = arm(two_amp, 1, RIGMAT_OK, &d);
+    ck_assert(i_hold > 2.0);
+    memset(&e, 0, sizeof e);
+    ck_assert_int_eq(rigmat_linearize(m, &opt, &l, NULL, &e), RIGMAT_ENUMERIC);
+    ck_assert_msg(strstr(e.message, "needs 2.072 A in motor 'sh'; its current_limit is 2 A") !=
+            NULL, "%s", e.message);
+    ck_assert_int_eq(rigmat_trim_model(m, &opt, &r, &e), RIGMAT_ENUMERIC);
+    rigmat_trim_result_release(&r);
+    rigmat_model_free(m);
+    rigmat_diags_release(&d);
+}
+END_TEST
+
 Suite *load_suite(void);
 Suite *load_suite(void)
 {
@@ -851,6 +999,10 @@ Suite *load_suite(void)
     tcase_add_test(ok, distance_is_levenshtein);
     tcase_add_test(ok, operating_point_and_order_lists);
     tcase_add_test(ok, part_keys_are_overridden_by_the_model);
+    tcase_add_test(ok, limits_read_into_the_model_and_the_layout);
+    tcase_add_loop_test(ok, bad_limits_are_model_errors, 0,
+            (int)(sizeof bad_limits / sizeof bad_limits[0]));
+    tcase_add_test(ok, arm_limits_at_the_operating_point);
     suite_add_tcase(s, ok);
     tcase_add_test(set, set_overrides_values_and_parts);
     tcase_add_loop_test(set, set_errors_point_at_the_command_line, 0,

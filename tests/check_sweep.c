@@ -128,7 +128,7 @@ START_TEST(points_match_single_runs_and_do_not_depend_on_threads)
         ck_assert_uint_eq(p, id * 3 + it);
         ck_assert_int_eq(s1.ok[p], id == 1 || id == 2);
         if (!s1.ok[p]) {
-            ck_assert(strstr(s1.reason[p], "duty limit") != NULL);
+            ck_assert(strstr(s1.reason[p], "outside its limit") != NULL);
             ck_assert(isnan(s1.data[p * s1.stride]));
         } else {
             const char *sets[2];

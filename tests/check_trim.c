@@ -264,6 +264,39 @@ START_TEST(trim_that_cannot_converge_names_the_equation_and_the_free_unknown)
 }
 END_TEST
 
+
+/* A free cart pushed by a force solved for: the push is fixed (zero: the
+ * only steady state of a free body, common practice), the cart's position
+ * appears in no equation.  linearize warns and names it, as trim does. */
+START_TEST(linearize_warns_of_a_name_in_solve_the_equations_leave_free)
+{
+    rigmat_model *m = tm_new("free cart");
+    const size_t cart = tm_body(m, "cart", 1.2, 0, 0, 0);
+    rigmat_force *f;
+    rigmat_diags w;
+    rigmat_lti *l;
+    size_t i;
+    int found = 0;
+
+    (void)tm_joint(m, "rail", RIGMAT_JOINT_SLIDER, 0, cart);
+    f = tm_force(m, "push", RIGMAT_FORCE_ACROSS);
+    f->joint = 0;
+    tm_solve(m, "rail");
+    tm_solve(m, "push");
+    ck_assert_int_eq(tm_build(m, NULL, 0), RIGMAT_OK);
+    rigmat_diags_init(&w);
+    l = tm_lin(m, &w);
+    ck_assert(fabs(gsl_vector_get(l->u0, 0)) < 1e-12);
+    for (i = 0; i < w.count; i++)
+        found |= w.items[i].severity == RIGMAT_WARNING &&
+                strstr(w.items[i].message, "'rail.position' in solve is not fixed") != NULL;
+    ck_assert_msg(found, "no warning naming rail.position");
+    rigmat_diags_release(&w);
+    rigmat_lti_free(l);
+    tm_free(m);
+}
+END_TEST
+
 START_TEST(trim_steps_one_by_one_and_the_residual_falls)
 {
     rigmat_model *m = quarter_car(0);
@@ -304,6 +337,7 @@ Suite *trim_suite(void)
     tcase_add_test(tc, balancer_cruising_at_constant_speed_is_a_steady_motion);
     tcase_add_test(tc, trim_that_cannot_converge_names_the_equation_and_the_free_unknown);
     tcase_add_test(tc, trim_steps_one_by_one_and_the_residual_falls);
+    tcase_add_test(tc, linearize_warns_of_a_name_in_solve_the_equations_leave_free);
     suite_add_tcase(s, tc);
     return s;
 }

@@ -247,6 +247,10 @@ cp "$T/out" "$T/free.json"
 got=$(json_val "$T/free.json" '" ".join(d["free_unknowns"])')
 [ "$got" = "rail.position" ] && ok || bad "free unknowns: '$got', want 'rail.position'"
 below "$(json_val "$T/free.json" 'repr(d["u"][0])')" 1e-12 "a free cart's steady push"
+expect 0 "linearize warns of a free name in solve" -- "$R" linearize "$T/free.yaml"
+has "$T/err" "free.yaml:[0-9]*:[0-9]*: warning: 'rail.position' in solve is not fixed by the equations" "linearize free-unknown warning"
+expect 0 "discretize warns of a free name in solve" -- "$R" discretize "$T/free.yaml" --rate 100Hz
+has "$T/err" "warning: 'rail.position' in solve is not fixed by the equations" "discretize free-unknown warning"
 expect 0 "trim text with a free coordinate" -- "$R" trim "$T/free.yaml"
 has "$T/out" "not fixed by the equations.*rail.position" "trim text names the free coordinate"
 # no steady state exists: exit 3, the unmet equation named, nothing on stdout
@@ -255,6 +259,10 @@ expect 3 "trim with no steady state" -- "$R" trim "$T/push.yaml"
 has "$T/err" "did not converge" "trim failure message"
 has "$T/err" "cannot be met: d(rail.velocity)/dt" "trim names the unmet equation"
 if [ -s "$T/out" ]; then bad "failed trim printed a result"; else ok; fi
+# with --format json the failed trim still writes its result, and exits 3
+expect 3 "failed trim json" -- "$R" trim "$T/push.yaml" --format json
+got=$(json_val "$T/out" 'str(d["converged"]) + " " + " ".join(d["unmet_equations"])')
+[ "$got" = "False d(rail.velocity)/dt" ] && ok || bad "failed trim json: '$got'"
 expect 2 "trim without a model" -- "$R" trim
 expect 1 "trim bad model" -- "$R" trim "$T/bad.yaml"
 expect 4 "trim missing file" -- "$R" trim "$T/nope.yaml"
@@ -495,7 +503,9 @@ if "$R" --help | grep -q '^  gains'; then
     expect 1 "gains misspelt input" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/w2.yaml"
     has "$T/err" "w2.yaml:4:3: error: no control input 'driev'" "misspelt input placed"
     has "$T/err" "did you mean 'drive'" "misspelt input hint"
-    has "$T/err" "control input 'drive' has no weight" "missing input weight named"
+    # the demo's drive is a duty (always limited to [-1, 1]): without a
+    # weight it takes the room to its limit, so it is not reported missing
+    if grep -q "control input 'drive' has no weight" "$T/err"; then bad "a limited input reported without a weight"; else ok; fi
     printf 'states:\n  tilt.angle: 3 kg\ninputs:\n  drive: 0.6\n  shove: 2 N\n' >"$T/w3.yaml"
     expect 1 "gains wrong unit, disturbance weighted" -- "$R" gains "$DEMO" --rate 200Hz --weights "$T/w3.yaml"
     has "$T/err" "w3.yaml:2:15: error: expected rad for 'tilt.angle', got kg" "wrong unit placed"
@@ -603,6 +613,85 @@ has "$T/out" "gyro         random walk, sd 1.74533e-06 rad/s after one sample" "
 expect 1 "com with a rod" -- "$R" check tests/bad/rod_com.yaml
 has "$T/err" "A rod hinged at its end" "com refusal names the recipe"
 has README.md "### A rod hinged at its end" "the recipe is in the README"
+# limits (DESIGN.md section 3, Limits) on the arm of tests/models/arm-duty.yaml,
+# whose header derives the holding duty by hand: 0.345373 at 24 V, 1.381490 at
+# 6 V, and a winding current of 2.072 A
+ARM=tests/models/arm-duty.yaml
+expect 0 "arm trims at 24 V" -- "$R" trim "$ARM"
+has "$T/out" "0.34537" "arm holding duty at 24 V"
+expect 3 "arm refused at 6 V (trim)" -- "$R" trim "$ARM" --set motors.sh.supply=6V
+has "$T/err" "needs duty 1.381 of drive 'sh'; its limit is 1 (supply 6 V)" "duty limit message"
+has "$T/err" "raise the supply or lower the load" "duty limit hint"
+expect 3 "arm refused at 6 V (linearize)" -- "$R" linearize "$ARM" --set motors.sh.supply=6V
+expect 3 "arm refused at 6 V (discretize)" -- "$R" discretize "$ARM" --rate 100Hz --set motors.sh.supply=6V
+if [ -s "$T/out" ]; then bad "a refused point printed a model"; else ok; fi
+expect 3 "arm refused at a 2 A current limit" -- "$R" trim "$ARM" --set motors.sh.current_limit=2A
+has "$T/err" "arm-duty.yaml:[0-9]*:[0-9]*: error: the operating point needs 2.072 A in motor 'sh'; its current_limit is 2 A" "current limit message"
+expect 3 "current limit refused by discretize" -- "$R" discretize "$ARM" --rate 100Hz --set motors.sh.current_limit=2A
+expect 0 "a 3 A current limit holds" -- "$R" linearize "$ARM" --set motors.sh.current_limit=3A --format json
+has "$T/out" '"limit": \[-1,1\],"current_limit": 3' "limits in the linearize json"
+expect 0 "check shows the headroom beyond a limit" -- "$R" check "$ARM" --set motors.sh.supply=6V --set motors.sh.current_limit=2A
+has "$T/out" "sh           input   1.38149 of \[-1, 1\]: 138.1 % used" "duty headroom"
+has "$T/out" "sh           current 2.07223 A of \[-2, 2\]: 103.6 % used" "current headroom"
+expect 0 "check headroom at 24 V" -- "$R" check "$ARM"
+has "$T/out" "34.5 % used, headroom 0.654628" "duty headroom at 24 V"
+expect 1 "given input beyond its limit" -- "$R" check "$ARM" --set 'operating_point={coordinates: {shoulder: 0 deg}, inputs: {sh: 0.8}}' --set 'motors.sh.limit=0.5'
+has "$T/err" "error: operating-point input 'sh' is 0.8, outside its limit \[-0.5, 0.5\]" "given input message"
+expect 1 "duty limit wider than 1" -- "$R" check "$ARM" --set 'motors.sh.limit=[-1, 1.2]'
+has "$T/err" "wider than \[-1, 1\]" "duty limit wider message"
+expect 1 "empty limit" -- "$R" check "$ARM" --set 'motors.sh.limit=[0.5, -0.5]'
+has "$T/err" "holds no value" "empty limit message"
+expect 1 "zero limit" -- "$R" check "$ARM" --set 'motors.sh.limit=0'
+has "$T/err" "limit must be positive" "zero limit message"
+expect 0 "c header carries limits" -- "$R" linearize "$ARM" --set motors.sh.current_limit=3A --format c
+has "$T/out" "input_limit\[ARM_HELD_AT_25_DEG_BY_A_DUTY_DRIVE_N_INPUTS\]\[2\]" "c header limit array"
+has "$T/out" "input_current_limit" "c header current limit"
+
+# the sampled affine term (tests/ref/test_fd.py checks its values)
+expect 0 "fd at a point that is not a steady state" -- "$R" discretize examples/cart.yaml --rate 50Hz --set operating_point.inputs.push=2N
+has "$T/err" "warning: the operating point is not a steady state: the largest component of f0 is d(track.velocity)/dt = 1.48148 m/s per s" "not-steady warning"
+has "$T/out" "fd (sampled affine term: the point is not a steady state)" "fd in the text"
+expect 0 "steady motion warns of the drift" -- "$R" linearize examples/cart.yaml --set operating_point.rates.track=0.5m/s --set operating_point.inputs.push=1.35N
+has "$T/err" "a steady motion, not a rest point: the largest component of f0 is d(track.position)/dt = 0.5 m per s" "steady-motion warning"
+expect 0 "no warning at rest" -- "$R" discretize examples/cart.yaml --rate 50Hz
+if grep -q "steady" "$T/err"; then bad "warning at a rest point"; else ok; fi
+
+# Qd not declared: a warning with a one-line `forces:` entry that works
+expect 0 "Qd zero warned" -- "$R" discretize examples/cart.yaml --rate 50Hz
+has "$T/err" "warning: Qd is zero: the model declares no disturbance with a \`density\`, and a Kalman filter needs process noise" "Qd zero warning"
+has "$T/err" "load: {torque_on: carriage, role: disturbance, density: 0.01 N\*m/sqrt(Hz)}" "Qd zero hint"
+expect 0 "the hint's entry silences it" -- "$R" discretize examples/cart.yaml --rate 50Hz --set 'forces.load={torque_on: carriage, role: disturbance, density: 0.01 N*m/sqrt(Hz)}'
+if grep -q "Qd is zero" "$T/err"; then bad "Qd warning with a density"; else ok; fi
+
+# discretize JSON without glue: states are Ad's rows (delay stages with their
+# kind), Qc matches Gd's columns, an empty Gd reads as n x 0 in numpy
+expect 0 "discretize json with a delay" -- "$R" discretize "$DEMO" --rate 200Hz --delay 1 --format json -o "$T/glue.json"
+if /usr/bin/python3 -c '
+import json, sys, numpy as np
+j = json.load(open(sys.argv[1]))
+ad = np.array(j["Ad"]); gd = np.array(j["Gd"])
+assert len(j["states"]) == ad.shape[0], "states vs Ad"
+assert j["states"][-1]["kind"] == "delay" and j["states"][0]["kind"] == "coordinate"
+assert len(j["Qc"]) == gd.shape[1], "Qc vs Gd columns"
+' "$T/glue.json" 2>"$T/err"; then ok; else bad "discretize json glue"; sed 's/^/  | /' "$T/err" >&2; fi
+expect 0 "discretize json without disturbances" -- "$R" discretize examples/cart.yaml --rate 50Hz --format json -o "$T/cart.json"
+if /usr/bin/python3 -c '
+import json, sys, numpy as np
+j = json.load(open(sys.argv[1]))
+assert np.array(j["Gd"]).shape == (2, 0) and np.array(j["Qc"]).shape == (0,)
+' "$T/cart.json" 2>"$T/err"; then ok; else bad "empty Gd shape"; sed 's/^/  | /' "$T/err" >&2; fi
+
+# state basis: physical for zoh and the Euler forms, transformed (with the
+# map in the text and no Qd) for foh and tustin (tests/ref/test_state_basis.py
+# checks the maps against the zoh state)
+expect 0 "tustin states its basis" -- "$R" discretize "$DEMO" --rate 200Hz --method tustin
+has "$T/out" "state basis: transformed (tustin): the state is xi = (I - A T/2) x - (T/2) (B u + G w + f0)" "tustin map"
+has "$T/out" "Qd and S are not given for a transformed state" "tustin Qd rule"
+expect 0 "foh states its basis" -- "$R" discretize "$DEMO" --rate 200Hz --method foh --format json
+has "$T/out" '"state_basis": "transformed"' "foh state_basis"
+has "$T/out" '"Qd": null' "foh Qd null"
+expect 0 "zoh states its basis" -- "$R" discretize "$DEMO" --rate 200Hz --delay 1 --format json
+has "$T/out" '"state_basis": "physical"' "zoh state_basis"
 
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"

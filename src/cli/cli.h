@@ -45,6 +45,8 @@ struct cli_env {
     } inputs[64];
     size_t ninputs;
     int inputs_lost; /* more inputs than fit: every regular output is refused */
+    int keep_on_failure;    /* the command's result is written even though it returns
+                             * RIGMAT_ENUMERIC (a trim that did not converge, JSON) */
 };
 
 /* A stream that discards what is written (a finite check by rendering the

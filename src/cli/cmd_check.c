@@ -18,6 +18,7 @@
 #include "noise.h"
 
 #include <math.h>
+#include <gsl/gsl_math.h>
 #include <string.h>
 
 #ifndef M_PI
@@ -361,6 +362,8 @@ static void motor_entry(rigmat_result *r, const rigmat_motor *mo)
     capture_close(&c, r, 1);
 }
 
+static void check_headroom(struct cli_env *env, const rigmat_model *m, rigmat_result *r);
+
 /* The result of `check`, described once: the JSON records, each with its
  * line of the text layout. */
 static void check_result(struct cli_env *env, rigmat_result *r, const rigmat_model *m,
@@ -486,7 +489,94 @@ static void check_result(struct cli_env *env, rigmat_result *r, const rigmat_mod
         fputs(m->op_solve.count ? "\n" : " nothing\n", c.f);
     }
     capture_close(&c, r, 1);
+    check_headroom(env, m, r);
     check_sign_table(env, m, r);
+}
+
+/* How much of its limit a value uses, in percent: of the bound on the
+ * value's side of zero when that bound lies on that side, else of the
+ * whole range from low. */
+static double used_percent(double v, double lo, double hi)
+{
+    if (v >= 0.0 && hi > 0.0)
+        return 100.0 * v / hi;
+    if (v < 0.0 && lo < 0.0)
+        return 100.0 * v / lo;
+    return 100.0 * (v - lo) / (hi - lo);
+}
+
+/* One headroom entry: JSON object and its text line appended to buf. */
+static void headroom_entry(rigmat_result *r, char *buf, size_t len, const char *name,
+        const char *what, double v, double lo, double hi, const char *unit)
+{
+    const double used = used_percent(v, lo, hi);
+    const double room = GSL_MIN_DBL(hi - v, v - lo);
+    const size_t at = strlen(buf);
+    const char *us = strcmp(unit, "1") == 0 ? "" : unit, *sp = us[0] ? " " : "";
+
+    rigmat_result_object(r);
+    rigmat_result_key(r, "input");
+    rigmat_result_string(r, name);
+    rigmat_result_key(r, "quantity");
+    rigmat_result_string(r, what);
+    rigmat_result_key(r, "value");
+    rigmat_result_number(r, v, unit);
+    rigmat_result_key(r, "limit");
+    rigmat_result_array(r);
+    rigmat_result_number(r, lo, unit);
+    rigmat_result_number(r, hi, unit);
+    rigmat_result_close(r);
+    rigmat_result_key(r, "headroom");
+    rigmat_result_number(r, room, unit);
+    rigmat_result_key(r, "used_percent");
+    rigmat_result_number(r, used, "%");
+    rigmat_result_close(r);
+    if (at < len)
+        snprintf(buf + at, len - at, "  %-12s %-7s %.6g%s%s of [%.6g, %.6g]: %.1f %% used, "
+                "headroom %.6g%s%s%s\n", name, what, v, sp, us, lo, hi, used, room, sp, us,
+                room < 0.0 ? " (beyond the limit)" : "");
+}
+
+/* The headroom of every limited input and motor current at the operating
+ * point (DESIGN.md section 3, Limits), after trim when solve names
+ * unknowns.  A point beyond a limit is shown here, not refused. */
+static void check_headroom(struct cli_env *env, const rigmat_model *m, rigmat_result *r)
+{
+    const rigmat_layout *L = &m->layout;
+    rigmat_options opt = env->opt;
+    rigmat_lti *l = NULL;
+    rigmat_error e;
+    char buf[4096];
+    size_t k;
+    int any = 0;
+
+    for (k = 0; k < L->nu; k++)
+        any |= L->inputs[k].has_limit || L->inputs[k].current_limit > 0.0;
+    if (!any)
+        return;
+    memset(&e, 0, sizeof e);
+    rigmat_result_key(r, "headroom");
+    opt.limits_refuse = 0;
+    if (rigmat_linearize(m, &opt, &l, NULL, &e) != RIGMAT_OK) {
+        rigmat_result_null(r);
+        rigmat_result_as_text(r, "\nheadroom: not available: %s\n", e.message);
+        return;
+    }
+    buf[0] = '\0';
+    rigmat_result_array(r);
+    for (k = 0; k < L->nu; k++) {
+        const rigmat_signal *in = &L->inputs[k];
+        const double u = gsl_vector_get(l->u0, k);
+        if (in->has_limit)
+            headroom_entry(r, buf, sizeof buf, in->name, "input", u, in->limit[0],
+                    in->limit[1], in->unit);
+        if (in->current_limit > 0.0)
+            headroom_entry(r, buf, sizeof buf, in->name, "current", fabs(l->input_current[k]),
+                    -in->current_limit, in->current_limit, "A");
+    }
+    rigmat_result_close(r);
+    rigmat_result_as_text(r, "\nheadroom at the operating point\n%s", buf);
+    rigmat_lti_free(l);
 }
 
 /* called from the table in main.c */
@@ -522,6 +612,7 @@ rigmat_status cmd_check(int argc, char **argv, struct cli_env *env)
         }
     }
     env->opt.rate_hz = rate_hz;
+    env->opt.limits_refuse = 0; /* check shows a point beyond a limit (headroom), trim refuses it */
     st = cli_load_model(env, file, &c, &m);
     if (st != RIGMAT_OK)
         return st;

@@ -25,6 +25,8 @@
  * Numbers carry 17 significant digits.
  */
 #include "cli.h"
+#include "affine.h"
+#include "linearize.h"
 #include "discretize.h"
 #include "noise.h"
 #include "units.h"
@@ -101,18 +103,22 @@ static void noise_lines(rigmat_result *r, const rigmat_layout *L, const rigmat_n
 
 /* The result, described once for every format. */
 static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti *l,
-        const rigmat_dlti *d, const rigmat_noise *nz, const rigmat_signal *xs)
+        const rigmat_dlti *d, const rigmat_noise *nz, const rigmat_signal *xs,
+        const gsl_vector *fd)
 {
     const rigmat_layout *L = &m->layout;
     const rigmat_signal *w = L->inputs + L->nu_control;
     const double rate_hz = 1.0 / d->period_s;
+    const int transformed = d->method == RIGMAT_METHOD_FOH || d->method == RIGMAT_METHOD_TUSTIN;
     rigmat_result *r = rigmat_result_alloc("discrete");
     char line[160];
 
     if (r == NULL)
         return NULL;
-    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
-            L->outputs, L->ny);
+    /* states: every state of Ad, the delay stages included (each with its
+     * kind); the order hash stays the continuous layout's */
+    rigmat_result_head(r, m->name, L->order_hash, xs, d->nx, L->inputs, L->nu, L->outputs,
+            L->ny);
     rigmat_result_dim(r, "state", xs, d->nx);
     rigmat_result_dim(r, "input", L->inputs, d->nu);
     rigmat_result_dim(r, "disturbance", w, d->nw);
@@ -125,8 +131,8 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     if (d->delay_samples > 0)
         rigmat_result_text(r, ", input delay %.6g samples (%.6g ms)", d->delay_samples,
                 d->delay_samples * d->period_s * 1e3);
-    rigmat_result_text(r, "\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + noise (Qd);  y[k] = Cd x[k] "
-            "+ Dd u[k] + Ed w[k] + noise (Rd)\n\n");
+    rigmat_result_text(r, "\nx[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + fd + noise (Qd);  y[k] = "
+            "Cd x[k] + Dd u[k] + Ed w[k] + noise (Rd)\n\n");
     rigmat_result_key(r, "period");
     rigmat_result_number(r, d->period_s, "s");
     rigmat_result_key(r, "method");
@@ -137,6 +143,25 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     }
     rigmat_result_key(r, "delay");
     rigmat_result_number(r, d->delay_samples, "samples");
+    /* the state basis (README.md, "State basis"): zoh and the Euler forms
+     * sample the physical state; foh and tustin realize another one */
+    rigmat_result_key(r, "state_basis");
+    rigmat_result_string(r, transformed ? "transformed" : "physical");
+    if (d->method == RIGMAT_METHOD_FOH)
+        rigmat_result_text(r, "state basis: transformed (foh): the state is xi = x - G2 [u; w], "
+                "so x = xi + G2 [u; w], with G2 the top right block of exp([[A T, [B G] T, 0], "
+                "[0, 0, I], [0, 0, 0]]); weights and initial states written for x need this map\n");
+    else if (d->method == RIGMAT_METHOD_TUSTIN)
+        rigmat_result_text(r, "state basis: transformed (tustin): the state is xi = (I - A T/2) "
+                "x - (T/2) (B u + G w + f0), so x = (I - A T/2)^-1 (xi + (T/2) (B u + G w + "
+                "f0))%s; weights and initial states written for x need this map\n", d->prewarp_hz > 0 ? " (T prewarped: "
+                "T_w = 2 tan(w1 T/2)/w1)" : "");
+    else
+        rigmat_result_text(r, "state basis: physical (the sampled state is x itself)\n");
+    if (transformed)
+        rigmat_result_text(r, "Qd and S are not given for a transformed state (they would "
+                "belong to x): use --method zoh for a Kalman filter\n");
+    rigmat_result_text(r, "\n");
     rigmat_result_key(r, "delay_states");
     rigmat_result_signals(r, d->delay_states, d->nx - d->nx_plant, 0);
     rigmat_result_key(r, "Ad");
@@ -154,13 +179,28 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     rigmat_result_key(r, "Ed");
     rigmat_result_matrix(r, d->Ed, d->ny, d->nw, L->outputs, w);
     rigmat_result_title(r, "Ed (disturbance feedthrough)");
+    /* the sampled affine term (src/sample/affine.h): zero at a steady state */
+    rigmat_result_key(r, "fd");
+    rigmat_result_vector(r, fd, d->nx, xs);
+    rigmat_result_title(r, l->is_steady ? "fd (sampled affine term; zero: a steady state)"
+                                        : "fd (sampled affine term: the point is not a steady "
+                                          "state)");
+    /* the white intensity of the disturbances only: Gd's columns */
     rigmat_result_key(r, "Qc");
-    rigmat_result_values(r, l->input_intensity, l->nu, L->inputs);
+    rigmat_result_values(r, l->input_intensity + l->nu_control, d->nw, w);
     rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
+    /* one rule for a transformed state: no Qd (nor S), never a covariance
+     * that belongs to another state */
     rigmat_result_key(r, "Qd");
-    rigmat_result_matrix(r, nz->Qd, d->nx, d->nx, xs, xs);
-    rigmat_result_title(r, nz->qd_exact ? "Qd (process noise per period, exact)"
-                                        : "Qd (process noise per period, exact for zoh only)");
+    if (transformed) {
+        rigmat_result_null(r);
+        rigmat_result_show(r, RIGMAT_SHOW_JSON);
+    } else {
+        rigmat_result_matrix(r, nz->Qd, d->nx, d->nx, xs, xs);
+        rigmat_result_title(r, nz->qd_exact ? "Qd (process noise per period, exact)"
+                                            : "Qd (process noise per period, exact for zoh "
+                                              "only)");
+    }
     rigmat_result_key(r, "qd_exact");
     rigmat_result_bool(r, nz->qd_exact);
     rigmat_result_key(r, "qd_error_bound");
@@ -174,7 +214,7 @@ static rigmat_result *discretize_result(const rigmat_model *m, const rigmat_lti 
     rigmat_result_key(r, "Rd");
     rigmat_result_matrix(r, nz->Rd, d->ny, d->ny, L->outputs, L->outputs);
     rigmat_result_title(r, "Rd (measurement noise per sample)");
-    if (nz->S != NULL) {
+    if (nz->S != NULL && !transformed) {
         rigmat_result_key(r, "S");
         rigmat_result_matrix(r, nz->S, d->nx, d->ny, xs, L->outputs);
         rigmat_result_title(r, "S = E[w_k v_k^T] (process-measurement cross-covariance)");
@@ -266,6 +306,20 @@ static void print_advice(struct cli_env *env, const rigmat_model *m, const rigma
             break;
         }
     }
+}
+
+/* Qd is zero without a disturbance density: say so, with a one-line
+ * `forces:` entry on the model's first body as the example. */
+static void print_no_process_noise(struct cli_env *env, const rigmat_model *m,
+        const rigmat_lti *l)
+{
+    if (rigmat_lti_has_process_noise(l))
+        return;
+    fprintf(env->err, "rigmat discretize: warning: Qd is zero: the model declares no "
+            "disturbance with a `density`, and a Kalman filter needs process noise\n");
+    fprintf(env->err, "  hint: add a disturbance, e.g. under `forces:`  load: {torque_on: %s, "
+            "role: disturbance, density: 0.01 N*m/sqrt(Hz)}\n",
+            m->nbodies > 1 ? m->bodies[1].name : "BODY");
 }
 
 static void print_direct(struct cli_env *env, const rigmat_model *m, const rigmat_lti *l)
@@ -371,6 +425,7 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
     rigmat_discretize_ws *dw = NULL;
     rigmat_noise_ws *nw = NULL;
     rigmat_signal *xs = NULL;
+    gsl_vector *fd = NULL;
     rigmat_advice advice[32];
     size_t nadvice = 0;
     rigmat_error e;
@@ -428,7 +483,16 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
                  &o);
     if (nz->S != NULL)
         print_direct(env, m, lti);
-    r = discretize_result(m, lti, d, nz, xs);
+    print_no_process_noise(env, m, lti);
+    fd = gsl_vector_calloc(d->nx);
+    if (fd == NULL) {
+        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
+        goto report;
+    }
+    st = rigmat_discretize_affine(lti, &o, d, fd, &e);
+    if (st != RIGMAT_OK)
+        goto report;
+    r = discretize_result(m, lti, d, nz, xs, fd);
     if (r == NULL) {
         st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
         goto report;
@@ -440,6 +504,8 @@ report:
 done:
     rigmat_result_free(r);
     free(xs);
+    if (fd != NULL)
+        gsl_vector_free(fd);
     rigmat_noise_free(nz);
     rigmat_dlti_free(d);
     rigmat_noise_ws_free(nw);

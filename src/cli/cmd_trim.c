@@ -109,6 +109,19 @@ rigmat_status cmd_trim(int argc, char **argv, struct cli_env *env)
             fprintf(env->err, "  note: cannot be met: %s\n", r.unmet_equations[i]);
         for (i = 0; i < r.nfree; i++)
             fprintf(env->err, "  note: not fixed by the equations: %s\n", r.free_unknowns[i]);
+        /* with --format json a trim that did not converge still writes its
+         * result (converged false, the last iterate, unmet_equations) for
+         * other tools, and exits 3; the text stays on stderr */
+        if (st == RIGMAT_ENUMERIC && r.x != NULL && !r.converged && c.format != NULL &&
+                strcmp(c.format, "json") == 0) {
+            rigmat_status st2;
+            res = trim_result(m, &r, env->opt.trim_tol);
+            st2 = res != NULL ? cli_emit(env, res, &c, file) : RIGMAT_ENOMEM;
+            if (st2 != RIGMAT_OK)
+                st = st2;
+            else
+                env->keep_on_failure = 1;
+        }
     } else {
         res = trim_result(m, &r, env->opt.trim_tol);
         st = res != NULL ? cli_emit(env, res, &c, file) : RIGMAT_ENOMEM;

@@ -1,7 +1,9 @@
 /* common.c - model loading and error reporting shared by the commands. */
 #include "cli.h"
+#include "affine.h"
 #include "linearize.h"
 
+#include <math.h>
 #include <string.h>
 
 void cli_put_clean(FILE *f, const char *s)
@@ -106,6 +108,28 @@ rigmat_status cli_linearize(struct cli_env *env, const rigmat_model *m, rigmat_l
     memset(&e, 0, sizeof e);
     rigmat_diags_init(&warn);
     st = rigmat_linearize(m, &env->opt, out, &warn, &e);
+    if (st == RIGMAT_OK && (*out)->nx > 0) {
+        /* f0 != 0: the model is affine there, x' = A dx + B du + f0, and
+         * sampled it carries fd (src/sample/affine.h); a steady motion's
+         * moving coordinate drifts by v T per sample */
+        const rigmat_lti *l = *out;
+        double v;
+        const size_t k = rigmat_affine_largest(l->f0, &v);
+        const rigmat_loc none = { NULL, 0, 0 };
+        const char *name = l->states != NULL ? l->states[k].name : "x";
+        const char *unit = l->states != NULL ? l->states[k].unit : "SI";
+        if (fabs(v) > env->opt.trim_tol &&
+                rigmat_diags_add(&warn, RIGMAT_WARNING, none, none, NULL,
+                        l->is_steady ? "the sampled model carries the drift in fd (v T per "
+                                       "sample); the other equations are balanced"
+                                     : "trim it (operating_point.solve), or carry f0 (fd "
+                                       "when sampled) with the model",
+                        "%s: the largest component of f0 is d(%s)/dt = %.6g %s per s",
+                        l->is_steady ? "a steady motion, not a rest point"
+                                     : "the operating point is not a steady state",
+                        name, v, unit) != RIGMAT_OK)
+            st = RIGMAT_ENOMEM;
+    }
     rigmat_diags_print(&warn, env->err);
     rigmat_diags_release(&warn);
     return st == RIGMAT_OK ? st : cli_report(env, &e);

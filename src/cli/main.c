@@ -170,12 +170,23 @@ int main(int argc, char **argv)
         fprintf(stderr, "rigmat %s: out of memory while writing the result\n", cmd->name);
         st = RIGMAT_ENOMEM;
     }
-    if (st == RIGMAT_OK)
-        st = cli_output_guard(&env, env.output);
-    if (st == RIGMAT_OK && env.files.folder)
+    if (st == RIGMAT_OK || (st == RIGMAT_ENUMERIC && env.keep_on_failure)) {
+        /* never write over an input (the model, a part, a weights file) */
+        const rigmat_status sg = cli_output_guard(&env, env.output);
+        if (sg != RIGMAT_OK)
+            st = sg;
+    }
+    if (st == RIGMAT_OK && env.files.folder) {
         st = emit_folder(&env);
-    else if (st == RIGMAT_OK)
+    } else if (st == RIGMAT_OK) {
         st = emit(&env, buf, len);
+    } else if (st == RIGMAT_ENUMERIC && env.keep_on_failure && !env.files.folder) {
+        /* the result of a failure that is still worth reading (a trim
+         * that did not converge); the exit code stays 3 */
+        const rigmat_status st2 = emit(&env, buf, len);
+        if (st2 != RIGMAT_OK)
+            st = st2;
+    }
     cli_files_release(&env.files);
     free(buf);
 out:

@@ -327,6 +327,46 @@ static void c_enum(FILE *f, const char *low, const char *up, const rigmat_rdim *
     fputs("};\n", f);
 }
 
+/* The control inputs' limits (DESIGN.md section 3, Limits), when any input
+ * has one: [low, high] with a flag per input, and each motor's
+ * current_limit (A per motor, 0 = none).  size is the dimension's macro. */
+static void c_limits(FILE *f, const char *low, const char *type, int fl, const char *size,
+        const rigmat_rdim *dm)
+{
+    char a[64], b[64];
+    size_t i;
+    int any = 0, anycur = 0;
+
+    for (i = 0; i < dm->n; i++) {
+        any |= dm->sig[i].has_limit;
+        anycur |= dm->sig[i].current_limit > 0.0;
+    }
+    if (!any && !anycur)
+        return;
+    fprintf(f, "/* limits of the inputs: [low, high] where %s_input_limited is 1 */\n", low);
+    fprintf(f, "static const int %s_input_limited[%s] = {", low, size);
+    for (i = 0; i < dm->n; i++)
+        fprintf(f, "%s%d", i ? ", " : " ", dm->sig[i].has_limit ? 1 : 0);
+    fprintf(f, " };\nstatic const %s %s_input_limit[%s][2] = {\n", type, low, size);
+    for (i = 0; i < dm->n; i++) {
+        fmt_c(a, sizeof a, dm->sig[i].has_limit ? dm->sig[i].limit[0] : 0.0, fl);
+        fmt_c(b, sizeof b, dm->sig[i].has_limit ? dm->sig[i].limit[1] : 0.0, fl);
+        fprintf(f, "    { %s, %s }, /* ", a, b);
+        put_comment_text(f, dm->sig[i].name);
+        fputs(" */\n", f);
+    }
+    fputs("};\n", f);
+    if (!anycur)
+        return;
+    fprintf(f, "/* winding current per motor the drive allows, A (0: none) */\n"
+               "static const %s %s_input_current_limit[%s] = {", type, low, size);
+    for (i = 0; i < dm->n; i++) {
+        fmt_c(a, sizeof a, dm->sig[i].current_limit, fl);
+        fprintf(f, "%s%s", i ? ", " : " ", a);
+    }
+    fputs(" };\n", f);
+}
+
 rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, FILE *f,
         rigmat_error *err)
 {
@@ -427,6 +467,8 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
             c_string(f, dm->sig[a].unit);
         }
         fputs(" };\n", f);
+        if (strcmp(dm->word, "input") == 0)
+            c_limits(f, low, type, fl, name, dm);
     }
     /* matrices and vectors */
     for (i = 1; i < r->n; i++) {
@@ -561,7 +603,7 @@ rigmat_status rigmat_emit_numpy(const rigmat_result *r, const rigmat_emit_opts *
             py_list(f, n->row_names, n->rows, 0);
             fprintf(f, "%s_units = ", name);
             py_list(f, n->row_names, n->rows, 1);
-            if (n->with_role) {
+            if (n->with_role == 1) {
                 fprintf(f, "%s_roles = ", name);
                 py_list(f, n->row_names, n->rows, 2);
             }

@@ -194,9 +194,34 @@ void rigmat_json_signals(rigmat_json *j, const rigmat_signal *s, size_t n, int w
         rigmat_json_str(j, s[i].name);
         rigmat_json_key(j, "unit");
         rigmat_json_str(j, s[i].unit);
-        if (with_role) {
+        if (with_role == 2) {
+            static const char *const kinds[] = { "coordinate", "rate", "current", "shaping",
+                "delay" };
+            rigmat_json_key(j, "kind");
+            rigmat_json_str(j, (size_t)s[i].kind < sizeof kinds / sizeof kinds[0]
+                            ? kinds[s[i].kind] : "state");
+        }
+        if (with_role == 1) {
             rigmat_json_key(j, "role");
             rigmat_json_str(j, s[i].role == RIGMAT_ROLE_DISTURBANCE ? "disturbance" : "input");
+            /* DESIGN.md section 3, Limits: [low, high] or null; a motor's
+             * current_limit (A per motor) or null */
+            rigmat_json_key(j, "limit");
+            if (s[i].has_limit) {
+                rigmat_json_arr_open(j);
+                rigmat_json_num(j, s[i].limit[0]);
+                rigmat_json_num(j, s[i].limit[1]);
+                rigmat_json_arr_close(j);
+            } else {
+                rigmat_json_null(j);
+            }
+            if (s[i].kind == RIGMAT_SIG_MOTOR) {
+                rigmat_json_key(j, "current_limit");
+                if (s[i].current_limit > 0.0)
+                    rigmat_json_num(j, s[i].current_limit);
+                else
+                    rigmat_json_null(j);
+            }
         }
         rigmat_json_obj_close(j);
         j->pretty = pretty;

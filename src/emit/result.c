@@ -413,7 +413,7 @@ void rigmat_result_head(rigmat_result *r, const char *model, const char *order_h
     rigmat_result_string(r, order_hash != NULL ? order_hash : "");
     rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
     rigmat_result_key(r, "states");
-    rigmat_result_signals(r, states, nx, 0);
+    rigmat_result_signals(r, states, nx, 2);
     rigmat_result_show(r, RIGMAT_SHOW_JSON | RIGMAT_SHOW_EXPORT);
     rigmat_result_key(r, "inputs");
     rigmat_result_signals(r, inputs, nu, 1);

@@ -95,7 +95,9 @@ typedef struct rigmat_rnode {
     double *data;           /* matrix (rows x cols, row-major) or vector (rows) */
     size_t rows, cols;
     const rigmat_signal *row_names, *col_names; /* borrowed; NULL = unnamed */
-    int with_role;          /* RIGMAT_R_SIGNALS: each entry carries its role */
+    int with_role;          /* RIGMAT_R_SIGNALS: 1 each entry carries its role (inputs),
+                             * 2 its kind (states: coordinate, rate, current, shaping,
+                             * delay), 0 neither */
     int text_list;          /* vector: "name value unit" lines, no blank line after */
     size_t parent, first, last, next; /* indices into the node array; RIGMAT_NONE */
 } rigmat_rnode;

@@ -304,6 +304,102 @@ static rigmat_status warn_steady_motion(const rigmat_system *s, const rigmat_lay
     return RIGMAT_OK;
 }
 
+/* The winding current per motor of each layout input at the canonical point
+ * in s (0 for inputs that are not motors), into cur (length s->nu). */
+static rigmat_status input_currents(rigmat_system *s, double *cur, rigmat_error *err)
+{
+    const rigmat_model *m = s->m;
+    const rigmat_layout *L = &m->layout;
+    double *mc;
+    rigmat_status st;
+    size_t k;
+
+    for (k = 0; k < s->nu; k++)
+        cur[k] = 0.0;
+    if (m->nmotors == 0)
+        return RIGMAT_OK;
+    mc = calloc(m->nmotors, sizeof *mc);
+    if (mc == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    st = rigmat_mech_motor_currents(s->mech, s->xc, s->uc, mc, err);
+    for (k = 0; k < s->nu && st == RIGMAT_OK; k++)
+        if (L->inputs[k].kind == RIGMAT_SIG_MOTOR)
+            cur[k] = mc[L->inputs[k].index];
+    free(mc);
+    return st;
+}
+
+/* A value with its unit ("1.83" for a duty, "14.2 V"). */
+static void with_unit(char *buf, size_t len, double v, const char *unit)
+{
+    if (strcmp(unit, "1") == 0)
+        snprintf(buf, len, "%.4g", v);
+    else
+        snprintf(buf, len, "%.4g %s", v, unit);
+}
+
+rigmat_status rigmat_limits_check(const rigmat_model *m, const rigmat_signal *inputs, size_t nu,
+        const double *u, const double *cur, rigmat_error *err)
+{
+    size_t k;
+
+    for (k = 0; k < nu; k++) {
+        const rigmat_signal *in = &inputs[k];
+        char val[48], lo[48], hi[48], lim[112], extra[64];
+        const char *what = "input", *hint = "widen its 'limit' if the hardware allows it, or "
+                "lower the load";
+        extra[0] = '\0';
+        if (in->kind == RIGMAT_SIG_MOTOR) {
+            const rigmat_motor *mo = &m->motors[in->index];
+            what = "drive";
+            if (rigmat_drive_kind_desc(mo->drive)->needs_supply) {
+                snprintf(extra, sizeof extra, " (supply %.4g V)", mo->supply_v);
+                hint = "raise the supply or lower the load";
+            } else if (mo->drive == RIGMAT_DRIVE_CURRENT) {
+                hint = "a drive with more current, or lower the load";
+            } else {
+                hint = "a higher drive voltage, or lower the load";
+            }
+            if (in->current_limit > 0.0 && fabs(cur[k]) > in->current_limit) {
+                with_unit(val, sizeof val, fabs(cur[k]), "A");
+                with_unit(hi, sizeof hi, in->current_limit, "A");
+                (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the operating point needs %s in "
+                        "motor '%s'%s; its current_limit is %s", val, in->name,
+                        mo->count > 1 ? " (each of its motors)" : "", hi);
+                rigmat_error_hint(err, "lower the load, raise the gear ratio, or choose a "
+                        "motor with a larger torque constant");
+                if (err != NULL)
+                    err->where = mo->loc;
+                return RIGMAT_ENUMERIC;
+            }
+        } else if (in->kind == RIGMAT_SIG_FORCE) {
+            what = "force";
+        } else if (in->kind == RIGMAT_SIG_DRIVEN) {
+            what = "driven joint";
+        }
+        if (!in->has_limit || (u[k] >= in->limit[0] && u[k] <= in->limit[1]))
+            continue;
+        with_unit(val, sizeof val, u[k], in->unit);
+        if (in->limit[0] == -in->limit[1]) {
+            with_unit(lim, sizeof lim, in->limit[1], in->unit);
+        } else {
+            with_unit(lo, sizeof lo, in->limit[0], in->unit);
+            with_unit(hi, sizeof hi, in->limit[1], in->unit);
+            snprintf(lim, sizeof lim, "[%s, %s]", lo, hi);
+        }
+        (void)RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the operating point needs %s%s of %s '%s'; "
+                "its limit is %s%s", strcmp(in->unit, "1") == 0 ? "duty " : "", val, what,
+                in->name, lim, extra);
+        rigmat_error_hint(err, "%s", hint);
+        if (err != NULL)
+            err->where = in->kind == RIGMAT_SIG_MOTOR ? m->motors[in->index].loc :
+                         in->kind == RIGMAT_SIG_FORCE ? m->forces[in->index].loc :
+                                                        m->joints[in->index].loc;
+        return RIGMAT_ENUMERIC;
+    }
+    return RIGMAT_OK;
+}
+
 static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti *lti)
 {
     size_t k;
@@ -371,7 +467,31 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
         goto done;
     }
     if (m->op_solve.count > 0) {
-        st = rigmat_trim_run(s->mech, m, opt, s->xc, s->uc, NULL, err);
+        /* names in solve that the equations leave free keep their given
+         * values: say so, as trim does */
+        rigmat_trim_result tr;
+        memset(&tr, 0, sizeof tr);
+        st = rigmat_trim_run(s->mech, m, opt, s->xc, s->uc, &tr, err);
+        for (k = 0; st == RIGMAT_OK && warnings != NULL && k < tr.nfree; k++) {
+            const rigmat_loc none = { NULL, 0, 0 };
+            size_t i;
+            rigmat_loc at = none;
+            for (i = 0; i < m->op_solve.count; i++) {
+                const size_t len = strlen(m->op_solve.names[i]);
+                const char next = tr.free_unknowns[k][len < strlen(tr.free_unknowns[k]) ?
+                                                        len : strlen(tr.free_unknowns[k])];
+                if (strncmp(tr.free_unknowns[k], m->op_solve.names[i], len) == 0 &&
+                        (next == '\0' || next == '.'))
+                    at = m->op_solve.locs[i];
+            }
+            if (rigmat_diags_add(warnings, RIGMAT_WARNING, at, none, NULL,
+                        "remove it from solve, or give it the value you want (it stays at "
+                        "its given value)", "'%s' in solve is not fixed by the equations "
+                        "(a cyclic or unreachable coordinate)", tr.free_unknowns[k]) !=
+                    RIGMAT_OK)
+                st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        }
+        rigmat_trim_result_release(&tr);
         if (st != RIGMAT_OK)
             goto done;
     }
@@ -407,6 +527,12 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
     lti->residual = residual;
     lti->is_steady = residual <= opt->trim_tol;
     fill_noise(m, L, lti);
+    st = input_currents(s, lti->input_current, err);
+    if (st == RIGMAT_OK && opt->limits_refuse)
+        st = rigmat_limits_check(m, L->inputs, L->nu, lti->u0 != NULL ? lti->u0->data : NULL,
+                lti->input_current, err);
+    if (st != RIGMAT_OK)
+        goto done;
     if (!isfinite(residual) || !all_finite(lti->A) || !all_finite(lti->B) ||
             !all_finite(lti->C) || !all_finite(lti->D) || !vec_finite(lti->x0) ||
             !vec_finite(lti->u0) || !vec_finite(lti->y0) || !vec_finite(lti->f0)) {
@@ -446,6 +572,14 @@ rigmat_status rigmat_trim_model(const rigmat_model *m, const rigmat_options *opt
         r->x[k] = s->xc[s->xmap[k]];
     for (k = 0; k < s->nu; k++)
         r->u[k] = s->uc[s->umap[k]];
+    if (st == RIGMAT_OK && opt->limits_refuse) {
+        double *cur = calloc(s->nu + 1, sizeof *cur);
+        st = cur == NULL ? RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory")
+                         : input_currents(s, cur, err);
+        if (st == RIGMAT_OK)
+            st = rigmat_limits_check(m, m->layout.inputs, s->nu, r->u, cur, err);
+        free(cur);
+    }
     st2 = st;
     rigmat_system_free(s);
     return st2;

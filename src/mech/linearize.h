@@ -34,4 +34,8 @@ void rigmat_system_set_base(rigmat_system *s, const double *x_canon);
  * order) and the order in *order.  row has length l->nx. */
 int rigmat_lti_first_response(const rigmat_lti *l, const double *row, double d, size_t k,
         int *order);
+/* 1 when some disturbance input of l has a white-noise intensity (a
+ * `density`), so Qd can be non-zero; 0 when Qd is zero. */
+int rigmat_lti_has_process_noise(const rigmat_lti *l);
+
 #endif /* RIGMAT_LINEARIZE_H */

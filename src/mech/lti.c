@@ -1,6 +1,7 @@
 /* lti.c - the continuous linear model container. */
 #include "rigmat.h"
 #include "sizes.h"
+#include "linearize.h"
 
 #include <stdlib.h>
 #include <string.h>
@@ -58,6 +59,7 @@ rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control)
     s->y0 = zvec(ny, &bad);
     s->f0 = zvec(nx, &bad);
     s->input_intensity = zarr(nu, &bad);
+    s->input_current = zarr(nu, &bad);
     s->output_noise_sd = zarr(ny, &bad);
     s->output_density = zarr(ny, &bad);
     s->output_bandwidth_hz = zarr(ny, &bad);
@@ -146,9 +148,20 @@ void rigmat_lti_free(rigmat_lti *s)
     if (s->y0) gsl_vector_free(s->y0);
     if (s->f0) gsl_vector_free(s->f0);
     free(s->input_intensity);
+    free(s->input_current);
     free(s->output_noise_sd);
     free(s->output_density);
     free(s->output_bandwidth_hz);
     free(s->output_resolution);
     free(s);
+}
+
+int rigmat_lti_has_process_noise(const rigmat_lti *l)
+{
+    size_t k;
+
+    for (k = l->nu_control; k < l->nu && l->input_intensity != NULL; k++)
+        if (l->input_intensity[k] > 0.0)
+            return 1;
+    return 0;
 }

@@ -895,6 +895,19 @@ rigmat_status rigmat_mech_eval_real(rigmat_mech *s, const double *x, const doubl
     return RIGMAT_OK;
 }
 
+rigmat_status rigmat_mech_motor_currents(rigmat_mech *s, const double *x, const double *u,
+        double *cur, rigmat_error *err)
+{
+    const rigmat_status st = rigmat_mech_eval_real(s, x, u, s->fr, NULL, err);
+    size_t k;
+
+    if (st != RIGMAT_OK)
+        return st;
+    for (k = 0; k < s->m->nmotors; k++)
+        cur[k] = creal(s->cur[k]);
+    return RIGMAT_OK;
+}
+
 rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const double *u, double *A,
         double *B, double *C, double *D, double *f0, double *y0, rigmat_error *err)
 {

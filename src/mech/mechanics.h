@@ -59,6 +59,12 @@ rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const do
 rigmat_status rigmat_mech_eval_real(rigmat_mech *s, const double *x, const double *u, double *f,
         double *y, rigmat_error *err);
 
+/* The winding current of each motor (one motor of a `count`), in A, at a
+ * real point, canonical order: the state, the drive's current, or
+ * (V - Ke N w)/R with the inductance neglected.  cur has m->nmotors entries. */
+rigmat_status rigmat_mech_motor_currents(rigmat_mech *s, const double *x, const double *u,
+        double *cur, rigmat_error *err);
+
 /* Exact Jacobians at a real point by the complex step (h = 1e-20), canonical
  * order, row-major arrays: A nx*nx, B nx*nu, C ny*nx, D ny*nu (any may be
  * NULL).  f0 and y0 (may be NULL) receive f and h at the point. */

@@ -20,9 +20,9 @@ const char *const rigmat_joint_common_keys[] = { "type", "parent", "child", "at"
     "part" };
 const size_t rigmat_joint_ncommon_keys = NW(rigmat_joint_common_keys);
 const char *const rigmat_joint_all_keys[] = { "type", "parent", "child", "at", "angle", "part",
-    "axis", "reference", "radius", "driven", "role", "density", "bandwidth" };
+    "axis", "reference", "radius", "driven", "role", "density", "bandwidth", "limit" };
 const size_t rigmat_joint_nall_keys = NW(rigmat_joint_all_keys);
-const char *const rigmat_joint_driven_keys[] = { "role", "density", "bandwidth" };
+const char *const rigmat_joint_driven_keys[] = { "role", "density", "bandwidth", "limit" };
 const size_t rigmat_joint_ndriven_keys = NW(rigmat_joint_driven_keys);
 
 static const char *const reference_words[] = { "parent", "world" };
@@ -329,13 +329,13 @@ size_t rigmat_sensor_words(const char **out, size_t max)
 /* ------------------------------------------------------------ forces */
 
 static const char *const point_force_keys[] = { "on", "at", "direction", "frame", "role",
-    "density", "bandwidth", "part" };
+    "density", "bandwidth", "limit", "part" };
 static const char *const torque_keys[] = { "torque_on", "reacting", "role", "density",
-    "bandwidth", "part" };
+    "bandwidth", "limit", "part" };
 static const char *const across_force_keys[] = { "across", "role", "density", "bandwidth",
-    "part" };
+    "limit", "part" };
 const char *const rigmat_force_all_keys[] = { "on", "at", "direction", "frame", "torque_on",
-    "reacting", "across", "role", "density", "bandwidth", "part" };
+    "reacting", "across", "role", "density", "bandwidth", "limit", "part" };
 const size_t rigmat_force_nall_keys = NW(rigmat_force_all_keys);
 
 const rigmat_force_desc rigmat_force_kinds[RIGMAT_NFORCE_FORMS] = {

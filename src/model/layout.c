@@ -68,6 +68,30 @@ static rigmat_status add_sig(rigmat_signal *arr, size_t *count, const char *name
     return RIGMAT_OK;
 }
 
+/* An input's limits from its model entry (DESIGN.md section 3, Limits). */
+static void fill_limits(const rigmat_model *m, rigmat_signal *in)
+{
+    const double *lim = NULL;
+
+    in->has_limit = 0;
+    in->limit[0] = in->limit[1] = 0.0;
+    in->current_limit = 0.0;
+    if (in->kind == RIGMAT_SIG_MOTOR) {
+        const rigmat_motor *mo = &m->motors[in->index];
+        lim = mo->has_limit ? mo->limit : NULL;
+        in->current_limit = mo->current_limit_a;
+    } else if (in->kind == RIGMAT_SIG_FORCE && m->forces[in->index].has_limit) {
+        lim = m->forces[in->index].limit;
+    } else if (in->kind == RIGMAT_SIG_DRIVEN && m->joints[in->index].has_limit) {
+        lim = m->joints[in->index].limit;
+    }
+    if (lim != NULL) {
+        in->has_limit = 1;
+        in->limit[0] = lim[0];
+        in->limit[1] = lim[1];
+    }
+}
+
 static int shaped(const rigmat_model *m, const rigmat_signal *in)
 {
     if (in->role != RIGMAT_ROLE_DISTURBANCE)
@@ -134,6 +158,8 @@ static rigmat_status canonical(const rigmat_model *m, rigmat_layout *l, int inte
             st = add_sig(l->inputs, &l->nu, m->sensors[k].name, ".bias_noise", unit,
                     RIGMAT_SIG_BIAS_NOISE, k, RIGMAT_ROLE_DISTURBANCE, err);
         }
+    for (k = 0; k < l->nu && st == RIGMAT_OK; k++)
+        fill_limits(m, &l->inputs[k]);
     /* states */
     for (j = 0; j < m->njoints && st == RIGMAT_OK; j++) {
         const rigmat_joint *jt = &m->joints[j];

@@ -367,6 +367,54 @@ static int opt_vec2(struct ld *L, const struct ent *e, const char *key, rigmat_k
     return vec2_node(L, e, f->value, kind, out) ? 1 : -1;
 }
 
+/* `limit` of a control input (DESIGN.md section 3, Limits): one value v > 0
+ * means [-v, v]; a list [low, high] needs low < high.  A disturbance is not
+ * commanded and takes none.  Returns 1 read, 0 absent, -1 error. */
+static int read_limit(struct ld *L, const struct ent *e, rigmat_kind kind, rigmat_role role,
+        int *has, double lim[2])
+{
+    const rigmat_entry *f = field(e, "limit");
+    const rigmat_node *n;
+    double v[2];
+
+    if (f == NULL)
+        return 0;
+    n = f->value;
+    if (role == RIGMAT_ROLE_DISTURBANCE) {
+        lerr(L, e, f->key_loc, "remove it, or make the entry 'role: input'",
+                "'limit' applies to control inputs, not to a disturbance");
+        return -1;
+    }
+    if (n->type == RIGMAT_NODE_SEQ) {
+        if (n->n != 2) {
+            lerr(L, e, n->loc, "write [low, high], or one value v for [-v, v]",
+                    "expected a list [low, high], got %zu values", n->n);
+            return -1;
+        }
+        if (!num_node(L, e, n->items[0], kind, 0, &v[0]) ||
+                !num_node(L, e, n->items[1], kind, 0, &v[1]))
+            return -1;
+        if (!(v[0] < v[1])) {
+            lerr(L, e, n->loc, "write [low, high] with low below high",
+                    "limit [%s, %s] holds no value", n->items[0]->text, n->items[1]->text);
+            return -1;
+        }
+    } else {
+        if (!num_node(L, e, n, kind, 0, &v[1]))
+            return -1;
+        if (!(v[1] > 0.0)) {
+            lerr(L, e, n->loc, "one value v means [-v, v]; write [low, high] for a one-sided "
+                    "limit", "limit must be positive, got %s", n->text);
+            return -1;
+        }
+        v[0] = -v[1];
+    }
+    *has = 1;
+    lim[0] = v[0];
+    lim[1] = v[1];
+    return 1;
+}
+
 /* A direction: [x, y] (normalised) or an angle from +x. */
 static int dir_node(struct ld *L, const struct ent *e, const rigmat_node *n, double out[2])
 {
@@ -959,6 +1007,8 @@ static void read_joints(struct ld *L, const rigmat_node *root)
                     must_nonneg(L, &e, "density", j->density);
                 if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &j->bandwidth_hz) == 1)
                     must_positive(L, &e, "bandwidth", j->bandwidth_hz);
+                (void)read_limit(L, &e, joint_kind(j, (int)j->driven - 1), j->role,
+                        &j->has_limit, j->limit);
             }
         }
     }
@@ -1185,7 +1235,7 @@ static const char *const motor_keys[] = { "resistance", "inductance", "torque_co
     "back_emf_constant", "rotor_inertia", "friction", "rated_voltage", "stall_torque",
     "stall_current", "no_load_speed", "no_load_current", "figures_at", "drive", "supply",
     "gear_ratio", "efficiency", "radius", "lead", "load_inertia", "across", "mounted_on",
-    "stator", "rotor", "count", "polarity", "part" };
+    "stator", "rotor", "count", "polarity", "limit", "current_limit", "part" };
 
 static const rigmat_entry *first_of(const struct ent *e, const char *const *keys, size_t n)
 {
@@ -1378,6 +1428,29 @@ static void read_motors(struct ld *L, const rigmat_node *root)
                     "'supply' applies only to drive: duty");
         else if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_VOLTAGE, 0, &mo->supply_v))
             must_positive(L, &e, "supply", mo->supply_v);
+        /* limits (DESIGN.md section 3, Limits): a duty is always within
+         * [-1, 1], and `limit` may only narrow that */
+        if (rigmat_drive_kind_desc(mo->drive)->needs_supply) {
+            mo->has_limit = 1;
+            mo->limit[0] = -1.0;
+            mo->limit[1] = 1.0;
+        }
+        {
+            double lim[2];
+            int has = 0;
+            if (read_limit(L, &e, rigmat_drive_kind_desc(mo->drive)->input, RIGMAT_ROLE_INPUT,
+                        &has, lim) == 1) {
+                if (mo->has_limit && (lim[0] < -1.0 || lim[1] > 1.0))
+                    lerr(L, &e, field(&e, "limit")->value->loc, "a duty is always within "
+                            "[-1, 1]; 'limit' may only narrow it (raise 'supply' for more)",
+                            "duty limit [%.6g, %.6g] is wider than [-1, 1]", lim[0], lim[1]);
+                mo->has_limit = 1;
+                mo->limit[0] = lim[0];
+                mo->limit[1] = lim[1];
+            }
+        }
+        if (opt_num(L, &e, "current_limit", RIGMAT_Q_CURRENT, &mo->current_limit_a) == 1)
+            must_positive(L, &e, "current_limit", mo->current_limit_a);
         if (opt_num(L, &e, "load_inertia", RIGMAT_Q_INERTIA, &mo->load_inertia_kgm2) == 1)
             must_nonneg(L, &e, "load_inertia", mo->load_inertia_kgm2);
         f = field(&e, "count");
@@ -1563,6 +1636,8 @@ static void read_forces(struct ld *L, const rigmat_node *root)
             must_nonneg(L, &e, "density", fo->density);
         if (opt_num(L, &e, "bandwidth", RIGMAT_Q_FREQUENCY, &fo->bandwidth_hz) == 1)
             must_positive(L, &e, "bandwidth", fo->bandwidth_hz);
+        (void)read_limit(L, &e, forms == 1 ? rigmat_force_effort(m, fo) : RIGMAT_Q_FORCE,
+                fo->role, &fo->has_limit, fo->limit);
     }
 }
 
@@ -1858,6 +1933,28 @@ static int input_kind(const rigmat_model *m, const char *name, rigmat_kind *q)
     return 0;
 }
 
+/* The limit of the control input called name: 1 with lim filled, 0 when it
+ * has none (or is no input). */
+static int input_limit(const rigmat_model *m, const char *name, double lim[2])
+{
+    size_t k = find_motor(m, name);
+    const double *src = NULL;
+
+    if (k != RIGMAT_NONE && m->motors[k].has_limit)
+        src = m->motors[k].limit;
+    else if (k == RIGMAT_NONE && (k = find_force(m, name)) != RIGMAT_NONE &&
+            m->forces[k].has_limit)
+        src = m->forces[k].limit;
+    else if (k == RIGMAT_NONE && (k = find_joint(m, name)) != RIGMAT_NONE &&
+            m->joints[k].driven != RIGMAT_DRIVEN_NONE && m->joints[k].has_limit)
+        src = m->joints[k].limit;
+    if (src == NULL)
+        return 0;
+    lim[0] = src[0];
+    lim[1] = src[1];
+    return 1;
+}
+
 static size_t input_names(const rigmat_model *m, const char **names, size_t max)
 {
     size_t i, n = 0;
@@ -2010,6 +2107,16 @@ static void read_operating_point(struct ld *L, const rigmat_node *root)
     read_settings(L, &e, "coordinates", 0, &m->op_coordinates, &m->nop_coordinates);
     read_settings(L, &e, "rates", 1, &m->op_rates, &m->nop_rates);
     read_settings(L, &e, "inputs", 2, &m->op_inputs, &m->nop_inputs);
+    /* a given input outside its limit is a model error (DESIGN.md section
+     * 3, Limits): the hardware cannot hold that point */
+    for (i = 0; i < m->nop_inputs; i++) {
+        const rigmat_setting *st = &m->op_inputs[i];
+        double lim[2];
+        if (input_limit(m, st->name, lim) && (st->value < lim[0] || st->value > lim[1]))
+            lerr(L, &e, st->loc, "lower the input, or widen its 'limit' if the hardware "
+                    "allows it", "operating-point input '%s' is %.6g, outside its limit "
+                    "[%.6g, %.6g] (SI units)", st->name, st->value, lim[0], lim[1]);
+    }
     f = field(&e, "solve");
     if (f == NULL)
         return;

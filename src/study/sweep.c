@@ -312,7 +312,8 @@ static rigmat_status run_point(struct shared *sh, size_t p, rigmat_discretize_ws
         snprintf(reason, reason_len, "%s", e.message);
         goto fail;
     }
-    /* the one input limit the schema has: a duty cycle lies in [-1, 1] */
+    /* a backstop: linearize already refuses a point beyond an input limit
+     * (README.md, "Limits"); a duty cycle lies in [-1, 1] whatever it says */
     for (i = 0; i < m->layout.nu; i++) {
         const rigmat_signal *in = &m->layout.inputs[i];
         const double u = gsl_vector_get(l->u0, i);

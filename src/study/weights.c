@@ -6,6 +6,7 @@
 #include "units.h"
 
 #include <math.h>
+#include <gsl/gsl_math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -25,15 +26,24 @@ void rigmat_weights_free(rigmat_weights *w)
     free(w);
 }
 
-/* The largest value a control input may take, from the model's `limit`.
- * This version of the model schema has no limits (DESIGN.md section 3,
- * Limits, is still to be built): the one place to read them when it has. */
+/* The largest deviation a control input may take from its operating-point
+ * value before it meets its `limit` (DESIGN.md section 3, Limits): the
+ * nearer of the two bounds, min(high - u0, u0 - low), since the LQR input
+ * is a deviation from u0.  0 when the input has no limit or no room. */
 static int input_limit(const rigmat_lti *l, size_t i, double *limit)
 {
-    (void)l;
-    (void)i;
+    const rigmat_signal *in = l->inputs != NULL ? &l->inputs[i] : NULL;
+    double u0, room;
+
     *limit = 0.0;
-    return 0;
+    if (in == NULL || !in->has_limit)
+        return 0;
+    u0 = l->u0 != NULL ? gsl_vector_get(l->u0, i) : 0.0;
+    room = GSL_MIN_DBL(in->limit[1] - u0, u0 - in->limit[0]);
+    if (!(room > 0.0))
+        return 0;
+    *limit = room;
+    return 1;
 }
 
 /* The dimension of a signal's unit string ("rad/s", "N*m", "1"); 0 when

@@ -28,5 +28,6 @@ rigmat_options rigmat_options_default(void)
      * 28 MB, 1024 states 4.0 s and 90 MB, 2048 states 16 s and 340 MB;
      * time and memory grow as the square of the states */
     o.max_sampled_states = 1024;
+    o.limits_refuse = 1;
     return o;
 }

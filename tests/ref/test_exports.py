@@ -65,7 +65,7 @@ def expected_arrays(j):
     """The matrices and vectors the exports must hold, by export name."""
     out = {}
     for k in ("A", "B", "C", "D", "Ad", "Bd", "Cd", "Dd", "Gd", "Ed", "Qd", "Rd", "S"):
-        if k in j:
+        if k in j and j[k] is not None:  # Qd is null for a transformed state
             m = np.array(j[k], dtype=np.float64)
             rows = len(j[k])
             cols = len(j[k][0]) if rows else 0
@@ -137,7 +137,8 @@ def check_numpy(tag, j, text, tmp):
     if mod.order_hash != j["order_hash"] or mod.model != j["model"]:
         fail("%s numpy: order hash or model name differ" % tag)
     if "Ad" in j:
-        names = [s["name"] for s in j["states"]] + [s["name"] for s in j["delay_states"]]
+        # `states` lists every row of Ad, the delay stages included
+        names = [s["name"] for s in j["states"]]
         if mod.state_names != names:
             fail("%s numpy: state_names are not the rows of Ad" % tag)
 
@@ -222,7 +223,7 @@ def check_latex(tag, j, text):
             fail("%s latex: no block %s" % (tag, k))
             continue
         r, c, body = found[k]
-        want = v.reshape(v.shape[0], -1) if v.ndim == 1 else v
+        want = v.reshape(v.shape[0], 1) if v.ndim == 1 else v
         if (r, c) != want.shape:
             fail("%s latex: %s is %dx%d" % (tag, k, r, c))
             continue

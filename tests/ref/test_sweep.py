@@ -156,8 +156,8 @@ def main():
         bal = os.path.join(EX, "balancer.yaml")
         j, good = sweep_case(bal, ["drive=-1.5:1.5:4"], None, tmp)
         check(good == 2 and j["failed"] == 2, "balancer: 2 good, 2 failed points")
-        check(all("duty limit" in p["reason"] for p in j["points"] if not p["ok"]),
-              "balancer: the reason names the duty limit")
+        check(all("outside its limit" in p["reason"] for p in j["points"] if not p["ok"]),
+              "balancer: the reason names the input limit")
         # the numpy module holds the good points' matrices, the grid and ok
         mod = {}
         exec(run(["sweep", bal, "--vary", "drive=-1.5:1.5:4", "--format", "numpy"]).stdout, mod)
