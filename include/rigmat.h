@@ -244,7 +244,7 @@ typedef struct rigmat_joint {
     rigmat_role role;      /* driven joints only */
     double density;        /* driven, disturbance: SI unit of the driven derivative per sqrt(Hz); 0 = none */
     double bandwidth_hz;   /* driven, disturbance: first-order colouring; 0 = white */
-    int has_limit;         /* driven: `limit` given (DESIGN.md section 3, Limits) */
+    int has_limit;         /* driven: `limit` given (README.md, "Limits" */
     double limit[2];       /* driven: [low, high] of the driven input, SI */
 } rigmat_joint;
 
@@ -306,7 +306,7 @@ typedef struct rigmat_motor {
     size_t stator, rotor;         /* bodies (filled for both forms when rotary) */
     unsigned count;               /* identical motors in parallel, >= 1 */
     int polarity;                 /* +1 or -1 */
-    /* limits (DESIGN.md section 3, Limits) */
+    /* limits (README.md, "Limits" */
     int has_limit;                /* always 1 for a duty drive */
     double limit[2];              /* [low, high] of the drive input (V, A or duty) */
     double current_limit_a;       /* winding current per motor the drive allows; 0 = none */
@@ -411,7 +411,7 @@ typedef struct rigmat_signal {
     rigmat_signal_kind kind;
     size_t index;
     rigmat_role role;    /* inputs */
-    /* inputs: the limits of the model entry (DESIGN.md section 3, Limits) */
+    /* inputs: the limits of the model entry (README.md, "Limits" */
     int has_limit;
     double limit[2];     /* [low, high] in the input's SI unit */
     double current_limit; /* motor inputs: A per motor; 0 = none */
@@ -479,7 +479,7 @@ typedef struct rigmat_lti {
      * 0 for control inputs and for disturbances without a density */
     double *input_intensity;   /* length nu */
     /* per input: a motor input's winding current (A, per motor) at the
-     * operating point; 0 for the other inputs (DESIGN.md section 3, Limits) */
+     * operating point; 0 for the other inputs (README.md, "Limits" */
     double *input_current;     /* length nu */
     /* noise, per output, already scaled by |gain| into the output's unit */
     double *output_noise_sd;   /* standard deviation per sample; 0 = none */
@@ -564,7 +564,7 @@ rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const d
 rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt, rigmat_lti **out,
         rigmat_diags *warnings, rigmat_error *err);
 
-/* The limits at an operating point (DESIGN.md section 3, Limits): u (layout
+/* The limits at an operating point (README.md, "Limits": u (layout
  * order, nu inputs described by inputs) within each input's limit and each
  * motor input's winding current cur (A per motor, 0 for other inputs) within
  * its current_limit.  RIGMAT_ENUMERIC with a message naming the input, the

@@ -121,7 +121,7 @@ END_TEST
 
 
 /* An input without a weight takes the room to its nearer limit from the
- * operating point (Bryson's rule on the deviation, DESIGN.md section 5):
+ * operating point (Bryson's rule on the deviation, README.md, "Gains: the Kalman filter and the LQR"):
  * u0 = 0.3 in [-1, 1] leaves 0.7, so R = 1/0.7^2. */
 START_TEST(input_without_a_weight_takes_the_room_to_its_limit)
 {

@@ -909,7 +909,7 @@ START_TEST(bad_limits_are_model_errors)
 }
 END_TEST
 
-/* The arm case of DESIGN.md section 3, Limits, against the hand-derived
+/* The arm case of README.md, "Limits", against the hand-derived
  * values in the model's header (common practice: holding torque
  * g sin(th) (m_arm L/2 + m_bob L) = N Kt i, V = R i at rest). */
 START_TEST(arm_limits_at_the_operating_point)

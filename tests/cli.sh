@@ -613,7 +613,7 @@ has "$T/out" "gyro         random walk, sd 1.74533e-06 rad/s after one sample" "
 expect 1 "com with a rod" -- "$R" check tests/bad/rod_com.yaml
 has "$T/err" "A rod hinged at its end" "com refusal names the recipe"
 has README.md "### A rod hinged at its end" "the recipe is in the README"
-# limits (DESIGN.md section 3, Limits) on the arm of tests/models/arm-duty.yaml,
+# limits (README.md, "Limits") on the arm of tests/models/arm-duty.yaml,
 # whose header derives the holding duty by hand: 0.345373 at 24 V, 1.381490 at
 # 6 V, and a winding current of 2.072 A
 ARM=tests/models/arm-duty.yaml

@@ -538,7 +538,7 @@ static void headroom_entry(rigmat_result *r, char *buf, size_t len, const char *
 }
 
 /* The headroom of every limited input and motor current at the operating
- * point (DESIGN.md section 3, Limits), after trim when solve names
+ * point (README.md, "Limits"), after trim when solve names
  * unknowns.  A point beyond a limit is shown here, not refused. */
 static void check_headroom(struct cli_env *env, const rigmat_model *m, rigmat_result *r)
 {

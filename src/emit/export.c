@@ -327,7 +327,7 @@ static void c_enum(FILE *f, const char *low, const char *up, const rigmat_rdim *
     fputs("};\n", f);
 }
 
-/* The control inputs' limits (DESIGN.md section 3, Limits), when any input
+/* The control inputs' limits (README.md, "Limits"), when any input
  * has one: [low, high] with a flag per input, and each motor's
  * current_limit (A per motor, 0 = none).  size is the dimension's macro. */
 static void c_limits(FILE *f, const char *low, const char *type, int fl, const char *size,

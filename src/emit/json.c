@@ -204,7 +204,7 @@ void rigmat_json_signals(rigmat_json *j, const rigmat_signal *s, size_t n, int w
         if (with_role == 1) {
             rigmat_json_key(j, "role");
             rigmat_json_str(j, s[i].role == RIGMAT_ROLE_DISTURBANCE ? "disturbance" : "input");
-            /* DESIGN.md section 3, Limits: [low, high] or null; a motor's
+            /* README.md, "Limits": [low, high] or null; a motor's
              * current_limit (A per motor) or null */
             rigmat_json_key(j, "limit");
             if (s[i].has_limit) {

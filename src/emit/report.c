@@ -466,7 +466,7 @@ static rigmat_status freq_compute(struct report *R, rigmat_error *err)
         if (freq_point(l->A, l->B, l->C, l->D, gsl_complex_rect(0.0, w), M, p, b, x, g)
                 != RIGMAT_OK) {
             for (c = 0; c < ny * nu; c++)
-                fr->mag[c * n + k] = NAN, fr->ph[c * n + k] = NAN;
+                fr->mag[c * n + k] = (double)NAN, fr->ph[c * n + k] = (double)NAN;
         } else {
             for (c = 0; c < ny * nu; c++) {
                 fr->mag[c * n + k] = gsl_complex_abs(g[c]);
@@ -480,7 +480,7 @@ static rigmat_status freq_compute(struct report *R, rigmat_error *err)
             if (freq_point(R->d->Ad, R->d->Bd, R->d->Cd, R->d->Dd, z, M, p, b, x, g)
                     != RIGMAT_OK) {
                 for (c = 0; c < ny * R->d->nu; c++)
-                    fr->dmag[c * n + kd] = NAN, fr->dph[c * n + kd] = NAN;
+                    fr->dmag[c * n + kd] = (double)NAN, fr->dph[c * n + kd] = (double)NAN;
             } else {
                 for (c = 0; c < ny * R->d->nu; c++) {
                     fr->dmag[c * n + kd] = gsl_complex_abs(g[c]);

@@ -68,7 +68,7 @@ static rigmat_status add_sig(rigmat_signal *arr, size_t *count, const char *name
     return RIGMAT_OK;
 }
 
-/* An input's limits from its model entry (DESIGN.md section 3, Limits). */
+/* An input's limits from its model entry (README.md, "Limits"). */
 static void fill_limits(const rigmat_model *m, rigmat_signal *in)
 {
     const double *lim = NULL;

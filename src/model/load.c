@@ -367,7 +367,7 @@ static int opt_vec2(struct ld *L, const struct ent *e, const char *key, rigmat_k
     return vec2_node(L, e, f->value, kind, out) ? 1 : -1;
 }
 
-/* `limit` of a control input (DESIGN.md section 3, Limits): one value v > 0
+/* `limit` of a control input (README.md, "Limits"): one value v > 0
  * means [-v, v]; a list [low, high] needs low < high.  A disturbance is not
  * commanded and takes none.  Returns 1 read, 0 absent, -1 error. */
 static int read_limit(struct ld *L, const struct ent *e, rigmat_kind kind, rigmat_role role,
@@ -1428,7 +1428,7 @@ static void read_motors(struct ld *L, const rigmat_node *root)
                     "'supply' applies only to drive: duty");
         else if (f != NULL && num_node(L, &e, f->value, RIGMAT_Q_VOLTAGE, 0, &mo->supply_v))
             must_positive(L, &e, "supply", mo->supply_v);
-        /* limits (DESIGN.md section 3, Limits): a duty is always within
+        /* limits (README.md, "Limits"): a duty is always within
          * [-1, 1], and `limit` may only narrow that */
         if (rigmat_drive_kind_desc(mo->drive)->needs_supply) {
             mo->has_limit = 1;
@@ -2107,11 +2107,13 @@ static void read_operating_point(struct ld *L, const rigmat_node *root)
     read_settings(L, &e, "coordinates", 0, &m->op_coordinates, &m->nop_coordinates);
     read_settings(L, &e, "rates", 1, &m->op_rates, &m->nop_rates);
     read_settings(L, &e, "inputs", 2, &m->op_inputs, &m->nop_inputs);
-    /* a given input outside its limit is a model error (DESIGN.md section
-     * 3, Limits): the hardware cannot hold that point */
+    /* a given input outside its limit is a model error (README.md,
+     * "Limits"): the hardware cannot hold that point */
     for (i = 0; i < m->nop_inputs; i++) {
         const rigmat_setting *st = &m->op_inputs[i];
         double lim[2];
+        if (st->name == NULL)
+            continue; /* its copy ran out of memory, recorded already */
         if (input_limit(m, st->name, lim) && (st->value < lim[0] || st->value > lim[1]))
             lerr(L, &e, st->loc, "lower the input, or widen its 'limit' if the hardware "
                     "allows it", "operating-point input '%s' is %.6g, outside its limit "

@@ -924,7 +924,7 @@ static int dc_gain(struct ws *w, rigmat_modes *md, const rigmat_lti *l)
                 if (hypot(z->re[a], z->im[a]) <= tol0)
                     z0++;
             if (z0 < md->zero_poles)
-                gsl_matrix_set(md->dc_gain, i, j, GSL_NAN);
+                gsl_matrix_set(md->dc_gain, i, j, (double)GSL_NAN);
             else if (z0 > md->zero_poles)
                 gsl_matrix_set(md->dc_gain, i, j, 0.0);
         }

@@ -272,13 +272,13 @@ double rigmat_riccati_residual(const gsl_matrix *A, const gsl_matrix *B, const g
     int gs = 0;
 
     if (gain(w, A, B, R, S, X, &gs) != RIGMAT_NONE || gs != 0)
-        return NAN;
+        return (double)NAN;
     /* T2 = A^T X A; W = Nt^T K = (A^T X B + S) K */
     gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, X, A, 0.0, w->T1);
     gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, A, w->T1, 0.0, w->T2);
     gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->Nt, w->Kt, 0.0, w->W);
     if (gs != 0)
-        return NAN;
+        return (double)NAN;
     den = fro(X) + fro(w->T2) + fro(w->W) + fro(Q);
     gsl_matrix_memcpy(w->T1, w->T2);
     gsl_matrix_sub(w->T1, X);
@@ -315,7 +315,7 @@ static int sda(rigmat_riccati_ws *w, const gsl_matrix *A0, const gsl_matrix *G0,
     gsl_matrix_memcpy(w->Hk, H0);
     symmetrize(w->Gk);
     symmetrize(w->Hk);
-    *update = NAN;
+    *update = (double)NAN;
     for (k = 1; k <= o->max_iter; k++) {
         double upd, h;
         *iters = k;
@@ -660,12 +660,12 @@ rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, con
 
     info->iterations = 0;
     info->newton_steps = 0;
-    info->update = NAN;
-    info->residual = NAN;
-    info->rho = NAN;
+    info->update = (double)NAN;
+    info->residual = (double)NAN;
+    info->rho = (double)NAN;
     info->defect = RIGMAT_RICCATI_FINE;
     info->re = info->im = 0.0;
-    info->margin = NAN;
+    info->margin = (double)NAN;
     info->index = info->right = info->left = RIGMAT_NONE;
     if (o == NULL)
         o = &def;

@@ -27,7 +27,7 @@ void rigmat_weights_free(rigmat_weights *w)
 }
 
 /* The largest deviation a control input may take from its operating-point
- * value before it meets its `limit` (DESIGN.md section 3, Limits): the
+ * value before it meets its `limit` (README.md, "Limits"): the
  * nearer of the two bounds, min(high - u0, u0 - low), since the LQR input
  * is a deviation from u0.  0 when the input has no limit or no room. */
 static int input_limit(const rigmat_lti *l, size_t i, double *limit)
@@ -258,9 +258,9 @@ rigmat_status rigmat_weights_load(const char *path, const rigmat_lti *l, const r
         goto done;
     }
     for (i = 0; i < l->nx; i++)
-        xv[i] = NAN;
+        xv[i] = (double)NAN;
     for (i = 0; i < l->nu_control; i++)
-        uv[i] = NAN;
+        uv[i] = (double)NAN;
     if (root == NULL || root->type != RIGMAT_NODE_MAP) {
         werr(&c, root != NULL ? root->loc : start, "write states: {...} and inputs: {...}",
              "expected a mapping with `states` and `inputs`, got %s",
