@@ -212,7 +212,8 @@ check-san: $(BUILD)/san/check_rigmat $(BUILD)/san/rigmat $(BUILD)/shim/writefail
 	RIGMAT=$(BUILD)/san/rigmat WRITE_SHIM=$(BUILD)/shim/writefail.so sh tests/cli.sh
 check-valgrind: $(BUILD)/vg/check_rigmat check-valgrind-cli check-locale
 	cd tests && CK_FORK=no CK_DEFAULT_TIMEOUT=600 valgrind --error-exitcode=9 --leak-check=full \
-	    --errors-for-leak-kinds=definite,indirect -q ../$(BUILD)/vg/check_rigmat
+	    --errors-for-leak-kinds=definite,indirect --suppressions=valgrind.supp -q \
+	    ../$(BUILD)/vg/check_rigmat
 # check-mutants: plant each one-line bug of tests/mutants.list in a scratch
 # copy of the sources, rebuild, and require the tests to catch every one
 # (tests/mutants.sh; not part of `make check`; .ci/run runs it).
