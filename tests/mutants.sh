@@ -50,7 +50,7 @@ for d in src include tests catalog examples; do
     rm -rf "${S:?}/$d"
     cp -R "$d" "$S/$d" || die "cannot copy $d"
 done
-cp Makefile rigmat.pc.in "$S/" || die "cannot copy the Makefile"
+cp Makefile rigmat.pc.in README.md "$S/" || die "cannot copy the Makefile and README.md"
 
 build() { # build TARGET... (quiet; the log goes to $S/build.log)
     (cd "$S" && $MK --no-print-directory -j"$JOBS" BUILD=build "$@") </dev/null >"$S/build.log" 2>&1
@@ -58,7 +58,7 @@ build() { # build TARGET... (quiet; the log goes to $S/build.log)
 
 # The suites, from the generated list.
 echo "mutants: building the plain test program in $S"
-build build/plain/check_rigmat build/plain/rigmat || { cat "$S/build.log" >&2; die "the unmutated sources do not build"; }
+build build/plain/check_rigmat build/plain/rigmat build/shim/writefail.so || { cat "$S/build.log" >&2; die "the unmutated sources do not build"; }
 SUITES=$(sed -n 's/^RIGMAT_SUITE(\(.*\))$/\1/p' "$S/build/suites.h")
 [ -n "$SUITES" ] || die "no suites found in $S/build/suites.h"
 
@@ -88,7 +88,7 @@ run_extra() {
     for x in "$@"; do
         case $x in
         cli)
-            if ! (cd "$S" && RIGMAT=build/plain/rigmat sh tests/cli.sh) </dev/null >"$S/extra.log" 2>&1; then
+            if ! (cd "$S" && RIGMAT=build/plain/rigmat WRITE_SHIM=build/shim/writefail.so sh tests/cli.sh) </dev/null >"$S/extra.log" 2>&1; then
                 failed_by="tests/cli.sh"
                 return 1
             fi ;;
