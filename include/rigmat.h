@@ -582,8 +582,15 @@ typedef struct rigmat_trim_result {
     int converged;          /* residual <= opt->trim_tol */
     char **free_unknowns;   /* unknowns the equations do not fix */
     size_t nfree;
-    char **unmet_equations; /* equations no choice of the unknowns meets */
+    char **unmet_equations; /* equations that cannot be met when the others are
+                             * ("d(elbow.rate)/dt"; src/mech/trim.h says how) */
     size_t nunmet;
+    /* the residual per equation at x, u (the last iterate when not converged),
+     * in the order trim holds them to zero: neq entries each */
+    size_t neq;
+    char **eq_state;        /* the state whose derivative the equation is */
+    char **eq_unit;         /* the derivative's unit: "rad/s^2", "A/s" */
+    double *eq_residual;    /* f of that state, in eq_unit */
 } rigmat_trim_result;
 /* Fill r (caller-owned struct, released with rigmat_trim_result_release
  * whatever the status).  RIGMAT_ENUMERIC when it does not converge (r then

@@ -36,6 +36,29 @@ static void names(rigmat_result *r, const char *key, char **list, size_t n, cons
     rigmat_result_as_text(r, "%s:%s\n", lead, text);
 }
 
+/* The failed trim's residual per equation, a short table on stderr. */
+static void residual_table(FILE *f, const rigmat_trim_result *t)
+{
+    size_t i, w = 8;
+
+    if (t->neq == 0)
+        return;
+    for (i = 0; i < t->neq; i++)
+        if (strlen(t->eq_state[i]) + 6 > w)
+            w = strlen(t->eq_state[i]) + 6;
+    fprintf(f, "  residual per equation at the last iterate:\n");
+    for (i = 0; i < t->neq; i++) {
+        char eq[160];
+        size_t k;
+        int unmet = 0;
+        snprintf(eq, sizeof eq, "d(%s)/dt", t->eq_state[i]);
+        for (k = 0; k < t->nunmet; k++)
+            unmet |= strcmp(t->unmet_equations[k], eq) == 0;
+        fprintf(f, "    %-*s %13.6g %s%s\n", (int)w, eq, t->eq_residual[i], t->eq_unit[i],
+                unmet ? "  (cannot be met)" : "");
+    }
+}
+
 /* The result, described once for every format. */
 static rigmat_result *trim_result(const rigmat_model *m, const rigmat_trim_result *t, double tol)
 {
@@ -70,6 +93,25 @@ static rigmat_result *trim_result(const rigmat_model *m, const rigmat_trim_resul
     rigmat_result_as_text(r, "\nresidual %.3g after %zu Gauss-Newton step%s (tolerance %.3g): %s\n",
             t->residual, t->iterations, t->iterations == 1 ? "" : "s", tol,
             t->converged ? "a steady state" : "not converged");
+    /* the residual per equation: name = the state whose derivative it is */
+    rigmat_result_key(r, "residuals");
+    rigmat_result_array(r);
+    for (i = 0; i < t->neq; i++) {
+        char eq[160];
+        snprintf(eq, sizeof eq, "d(%s)/dt", t->eq_state[i]);
+        rigmat_result_object(r);
+        rigmat_result_key(r, "name");
+        rigmat_result_string(r, t->eq_state[i]);
+        rigmat_result_key(r, "equation");
+        rigmat_result_string(r, eq);
+        rigmat_result_key(r, "value");
+        rigmat_result_number(r, t->eq_residual[i], NULL);
+        rigmat_result_key(r, "unit");
+        rigmat_result_string(r, t->eq_unit[i]);
+        rigmat_result_close(r);
+    }
+    rigmat_result_close(r);
+    rigmat_result_as_text(r, "%s", "");
     names(r, "free_unknowns", t->free_unknowns, t->nfree,
             "not fixed by the equations (kept at their given values)");
     names(r, "unmet_equations", t->unmet_equations, t->nunmet,
@@ -105,6 +147,7 @@ rigmat_status cmd_trim(int argc, char **argv, struct cli_env *env)
     st = rigmat_trim_model(m, &env->opt, &r, &e);
     if (st != RIGMAT_OK) {
         st = cli_report(env, &e);
+        residual_table(env->err, &r);
         for (i = 0; i < r.nunmet; i++)
             fprintf(env->err, "  note: cannot be met: %s\n", r.unmet_equations[i]);
         for (i = 0; i < r.nfree; i++)

@@ -949,6 +949,74 @@ rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const doubl
     return RIGMAT_OK;
 }
 
+/* After rigmat_mech_eval: f with each free coordinate's rate row replaced
+ * by its held residual (M qdd)_c / M_cc (see mechanics.h).  Analytic in the
+ * inputs, so the complex step differentiates it. */
+static void held_rows(rigmat_mech *s, double complex *f)
+{
+    const rigmat_layout *L = &s->canon;
+    const size_t n = s->n;
+    size_t k, a, b;
+
+    for (k = 0; k < L->nx; k++) {
+        size_t c;
+        if (L->states[k].kind != RIGMAT_SIG_RATE)
+            continue;
+        c = s->coord[L->states[k].index];
+        for (a = 0; a < s->nf && s->freec[a] != c; a++)
+            ;
+        if (a == s->nf)
+            continue; /* a driven coordinate: its row stays f */
+        {
+            double complex v = 0;
+            for (b = 0; b < n; b++)
+                v += s->M[c * n + b] * s->qdd[b];
+            f[k] = v / s->M[c * n + c];
+        }
+    }
+}
+
+rigmat_status rigmat_mech_held(rigmat_mech *s, const double *x, const double *u, double *g,
+        double *Gx, double *Gu, rigmat_error *err)
+{
+    const size_t nx = s->canon.nx, nu = s->canon.nu;
+    rigmat_status st;
+    size_t j, k;
+
+    for (k = 0; k < nx; k++)
+        s->xc[k] = x[k];
+    for (k = 0; k < nu; k++)
+        s->uc[k] = u[k];
+    st = rigmat_mech_eval(s, s->xc, s->uc, s->fc, NULL, err);
+    if (st != RIGMAT_OK)
+        return st;
+    held_rows(s, s->fc);
+    if (g != NULL)
+        for (k = 0; k < nx; k++)
+            g[k] = creal(s->fc[k]);
+    if (Gx == NULL && Gu == NULL)
+        return RIGMAT_OK;
+    for (j = 0; j < nx + nu; j++) {
+        double complex *z = j < nx ? &s->xc[j] : &s->uc[j - nx];
+        double *col = j < nx ? Gx : Gu;
+        if (col == NULL)
+            continue;
+        *z += step_h * (double complex)I;
+        st = rigmat_mech_eval(s, s->xc, s->uc, s->fc, NULL, err);
+        *z = creal(*z);
+        if (st != RIGMAT_OK)
+            return st;
+        held_rows(s, s->fc);
+        for (k = 0; k < nx; k++) {
+            if (j < nx)
+                Gx[k * nx + j] = cimag(s->fc[k]) / step_h;
+            else
+                Gu[k * nu + j - nx] = cimag(s->fc[k]) / step_h;
+        }
+    }
+    return RIGMAT_OK;
+}
+
 int rigmat_mech_is_balance_row(const rigmat_mech *s, size_t k)
 {
     const rigmat_signal_kind kd = s->canon.states[k].kind;

@@ -71,6 +71,19 @@ rigmat_status rigmat_mech_motor_currents(rigmat_mech *s, const double *x, const 
 rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const double *u, double *A,
         double *B, double *C, double *D, double *f0, double *y0, rigmat_error *err);
 
+/* The held residual g(x, u), canonical order, and its exact Jacobians Gx
+ * (nx*nx) and Gu (nx*nu, either may be NULL) by the complex step.  For the
+ * rate of a free coordinate c, g_c = (M qdd)_c / M_cc: the generalized-force
+ * balance of c divided by its own inertia, i.e. the acceleration c would
+ * have if every other free coordinate were held still (the coupling of the
+ * mass matrix taken out, so that an input acting on one coordinate only
+ * moves that coordinate's row).  Every other row is f itself.  g = 0 on the
+ * balance rows exactly when f = 0 there (M is positive definite); a subset
+ * of rows of g says which balances hold, which f's coupled accelerations do
+ * not (src/mech/trim.h, unmet equations). */
+rigmat_status rigmat_mech_held(rigmat_mech *s, const double *x, const double *u, double *g,
+        double *Gx, double *Gu, rigmat_error *err);
+
 /* 1 when canonical state k's derivative is one trim holds to zero: joint
  * accelerations, motor current derivatives and shaping-filter states. */
 int rigmat_mech_is_balance_row(const rigmat_mech *s, size_t k);

@@ -22,6 +22,13 @@ struct rigmat_trim {
     gsl_vector *S, *work;
     double rank_rtol, res;
     size_t iter;
+    int moved;         /* the last step changed the iterate */
+    /* the unmet-equation search (see trim.h): one workspace */
+    int held;          /* 1: residual and Jacobian of the held form */
+    unsigned char *active; /* per equation: 1 when it is held to zero */
+    size_t *dropped;   /* equations dropped so far, in order */
+    double *xs, *us;   /* the iterate the search starts from */
+    double *xb, *ub;   /* the point where the reduced set converged */
 };
 
 void rigmat_trim_free(rigmat_trim *t)
@@ -31,6 +38,8 @@ void rigmat_trim_free(rigmat_trim *t)
     free(t->p_input); free(t->p_index); free(t->e_index);
     free(t->x); free(t->u); free(t->xt); free(t->ut);
     free(t->A); free(t->B); free(t->f); free(t->r); free(t->J); free(t->dp);
+    free(t->active); free(t->dropped);
+    free(t->xs); free(t->us); free(t->xb); free(t->ub);
     if (t->W) gsl_matrix_free(t->W);
     if (t->V) gsl_matrix_free(t->V);
     if (t->S) gsl_vector_free(t->S);
@@ -71,8 +80,12 @@ rigmat_status rigmat_trim_alloc(rigmat_mech *s, const rigmat_namelist *solve,
     t->A = calloc(rigmat_size_mul_add(L->nx, L->nx, 1), sizeof(double));
     t->B = calloc(rigmat_size_mul_add(L->nx, L->nu, 1), sizeof(double));
     t->f = calloc(L->nx + 1, sizeof(double));
+    t->xs = calloc(L->nx + 1, sizeof(double));
+    t->us = calloc(L->nu + 1, sizeof(double));
+    t->xb = calloc(L->nx + 1, sizeof(double));
+    t->ub = calloc(L->nu + 1, sizeof(double));
     if (!t->p_input || !t->p_index || !t->e_index || !t->x || !t->u || !t->xt || !t->ut ||
-            !t->A || !t->B || !t->f)
+            !t->A || !t->B || !t->f || !t->xs || !t->us || !t->xb || !t->ub)
         goto nomem;
     for (k = 0; k < solve->count; k++) {
         int is_input;
@@ -107,8 +120,11 @@ rigmat_status rigmat_trim_alloc(rigmat_mech *s, const rigmat_namelist *solve,
     t->r = calloc(t->ne + 1, sizeof(double));
     t->J = calloc(rigmat_size_mul_add(t->ne, t->np, 1), sizeof(double));
     t->dp = calloc(t->np + 1, sizeof(double));
-    if (!t->r || !t->J || !t->dp)
+    t->active = malloc(t->ne + 1);
+    t->dropped = calloc(t->ne + 1, sizeof *t->dropped);
+    if (!t->r || !t->J || !t->dp || !t->active || !t->dropped)
         goto nomem;
+    memset(t->active, 1, t->ne + 1);
     if (t->ne > 0 && t->np > 0) {
         const size_t small = t->ne < t->np ? t->ne : t->np;
         t->W = rigmat_matrix_alloc(big, small);
@@ -125,7 +141,10 @@ nomem:
     return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
 }
 
-/* Residual and Jacobian at (x, u) into r, J; returns max |r| in *res. */
+/* Residual and Jacobian at (x, u) into r, J; returns max |r| in *res.  In
+ * the held form (t->held) the rows are those of rigmat_mech_held; an
+ * equation that is not active gets a zero residual and a zero Jacobian row,
+ * so the least-squares step ignores it. */
 static rigmat_status evaluate(rigmat_trim *t, const double *x, const double *u, int with_jac,
         double *res, rigmat_error *err)
 {
@@ -133,7 +152,10 @@ static rigmat_status evaluate(rigmat_trim *t, const double *x, const double *u, 
     rigmat_status st;
     size_t e, p;
 
-    if (with_jac)
+    if (t->held)
+        st = rigmat_mech_held(t->s, x, u, t->f, with_jac ? t->A : NULL, with_jac ? t->B : NULL,
+                err);
+    else if (with_jac)
         st = rigmat_mech_jacobians(t->s, x, u, t->A, t->B, NULL, NULL, t->f, NULL, err);
     else
         st = rigmat_mech_eval_real(t->s, x, u, t->f, NULL, err);
@@ -142,6 +164,13 @@ static rigmat_status evaluate(rigmat_trim *t, const double *x, const double *u, 
     *res = 0.0;
     for (e = 0; e < t->ne; e++) {
         const size_t row = t->e_index[e];
+        if (!t->active[e]) {
+            t->r[e] = 0.0;
+            if (with_jac)
+                for (p = 0; p < t->np; p++)
+                    t->J[e * t->np + p] = 0.0;
+            continue;
+        }
         t->r[e] = t->f[row];
         if (!(fabs(t->r[e]) <= *res))
             *res = fabs(t->r[e]); /* NaN propagates */
@@ -223,6 +252,7 @@ rigmat_status rigmat_trim_iterate(rigmat_trim *t, rigmat_error *err)
     double lambda = 1.0, r0, r1 = 0.0;
     int wide;
 
+    t->moved = 0;
     if (t->np == 0 || t->ne == 0)
         return RIGMAT_OK;
     st = evaluate(t, t->x, t->u, 1, &t->res, err);
@@ -269,6 +299,7 @@ rigmat_status rigmat_trim_iterate(rigmat_trim *t, rigmat_error *err)
     }
     memcpy(t->x, t->xt, nx * sizeof *t->x);
     memcpy(t->u, t->ut, nu * sizeof *t->u);
+    t->moved = 1;
     (void)r1;
     return evaluate(t, t->x, t->u, 1, &t->res, err);
 }
@@ -308,17 +339,101 @@ static rigmat_status push_name(char ***list, size_t *n, const char *name)
     return RIGMAT_OK;
 }
 
-rigmat_status rigmat_trim_diagnose(rigmat_trim *t, double tol, rigmat_trim_result *res,
+/* The unit of d(state)/dt: "rad/s" -> "rad/s^2", "1" -> "1/s", "A" -> "A/s". */
+static void derivative_unit(const char *unit, char *out, size_t size)
+{
+    const size_t len = strlen(unit);
+    if (len >= 2 && strcmp(unit + len - 2, "/s") == 0)
+        snprintf(out, size, "%s^2", unit);
+    else
+        snprintf(out, size, "%s/s", unit);
+}
+
+/* Gauss-Newton on the active equations from t->x, t->u until they meet tol,
+ * max_iter steps pass or a step no longer moves; *ok = 1 when they meet it. */
+static rigmat_status resolve(rigmat_trim *t, double tol, size_t max_iter, int *ok,
         rigmat_error *err)
 {
+    rigmat_status st = evaluate(t, t->x, t->u, 1, &t->res, err);
+    size_t it;
+
+    t->moved = 1;
+    for (it = 0; st == RIGMAT_OK && !(t->res <= tol) && t->moved && it < max_iter; it++)
+        st = rigmat_trim_iterate(t, err);
+    *ok = st == RIGMAT_OK && t->res <= tol;
+    return st;
+}
+
+/* The search of trim.h: on return active[e] == 0 exactly for the unmet
+ * equations.  Starts from t->x, t->u (kept in xs, us). */
+static rigmat_status search_unmet(rigmat_trim *t, double tol, size_t max_iter, rigmat_error *err)
+{
+    const size_t nx = t->L->nx, nu = t->L->nu;
+    size_t nd = 0, k, e;
+    int ok = 0, put_back = 0;
+    rigmat_status st;
+
+    memset(t->active, 1, t->ne + 1);
+    t->held = 1;
+    st = resolve(t, tol, max_iter, &ok, err);
+    /* drop the worst active equation at the least-squares point of the
+     * active set, re-solve from there; each pass drops one, so at most ne */
+    while (st == RIGMAT_OK && !ok && nd < t->ne) {
+        size_t worst = t->ne;
+        double big = -1.0;
+        for (e = 0; e < t->ne; e++)
+            if (t->active[e] && !(fabs(t->r[e]) <= big)) {
+                big = fabs(t->r[e]);
+                worst = e;
+            }
+        if (worst == t->ne)
+            break;
+        t->active[worst] = 0;
+        t->dropped[nd++] = worst;
+        st = resolve(t, tol, max_iter, &ok, err);
+    }
+    if (st != RIGMAT_OK || !ok || nd < 2)
+        return st;
+    /* minimal: put each dropped equation back once, from the point where
+     * the reduced set converged; keep it when the set still converges.  The
+     * last one dropped is skipped unless an earlier one came back: without
+     * it the set was just seen to fail */
+    memcpy(t->xb, t->x, nx * sizeof *t->xb);
+    memcpy(t->ub, t->u, nu * sizeof *t->ub);
+    for (k = 0; st == RIGMAT_OK && k < nd; k++) {
+        if (k + 1 == nd && !put_back)
+            break;
+        t->active[t->dropped[k]] = 1;
+        memcpy(t->x, t->xb, nx * sizeof *t->x);
+        memcpy(t->u, t->ub, nu * sizeof *t->u);
+        st = resolve(t, tol, max_iter, &ok, err);
+        if (st == RIGMAT_OK && ok) {
+            put_back = 1;
+            memcpy(t->xb, t->x, nx * sizeof *t->xb);
+            memcpy(t->ub, t->u, nu * sizeof *t->ub);
+        } else {
+            t->active[t->dropped[k]] = 0;
+        }
+    }
+    return st;
+}
+
+rigmat_status rigmat_trim_diagnose(rigmat_trim *t, double tol, size_t max_iter,
+        rigmat_trim_result *res, rigmat_error *err)
+{
+    const size_t nx = t->L->nx, nu = t->L->nu;
+    const size_t iter = t->iter;
     rigmat_status st;
     size_t i, j, k, rk = 0;
     int wide = 0;
 
+    t->held = 0;
+    memset(t->active, 1, t->ne + 1);
+    st = evaluate(t, t->x, t->u, t->np > 0 && t->ne > 0, &t->res, err);
+    if (st != RIGMAT_OK)
+        return st;
     if (t->np > 0 && t->ne > 0) {
-        st = evaluate(t, t->x, t->u, 1, &t->res, err);
-        if (st == RIGMAT_OK)
-            st = svd(t, &wide, err);
+        st = svd(t, &wide, err);
         if (st != RIGMAT_OK)
             return st;
         rk = rank_of(t);
@@ -335,24 +450,51 @@ rigmat_status rigmat_trim_diagnose(rigmat_trim *t, double tol, rigmat_trim_resul
                 return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         }
     }
-    /* equations: the part of r outside the range of J */
-    for (i = 0; i < t->ne; i++) {
-        double perp = t->r[i];
-        for (k = 0; k < rk; k++) {
-            double c = 0.0;
-            size_t l;
-            for (l = 0; l < t->ne; l++)
-                c += left_vec(t, wide, l, k) * t->r[l];
-            perp -= c * left_vec(t, wide, i, k);
+    /* the residual per equation at the point */
+    if (t->ne > 0 && res->neq == 0) {
+        res->eq_residual = calloc(t->ne, sizeof *res->eq_residual);
+        res->eq_state = calloc(t->ne, sizeof *res->eq_state);
+        res->eq_unit = calloc(t->ne, sizeof *res->eq_unit);
+        if (res->eq_residual == NULL || res->eq_state == NULL || res->eq_unit == NULL)
+            return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        res->neq = t->ne;
+        for (i = 0; i < t->ne; i++) {
+            const rigmat_signal *sg = &t->L->states[t->e_index[i]];
+            char unit[40];
+            derivative_unit(sg->unit, unit, sizeof unit);
+            res->eq_state[i] = malloc(strlen(sg->name) + 1);
+            res->eq_unit[i] = malloc(strlen(unit) + 1);
+            if (res->eq_state[i] == NULL || res->eq_unit[i] == NULL)
+                return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+            memcpy(res->eq_state[i], sg->name, strlen(sg->name) + 1);
+            memcpy(res->eq_unit[i], unit, strlen(unit) + 1);
+            res->eq_residual[i] = t->r[i];
         }
-        if (fabs(perp) > tol) {
+    }
+    if (t->res <= tol)
+        return RIGMAT_OK;
+    /* equations that cannot be met when the others are (trim.h) */
+    memcpy(t->xs, t->x, nx * sizeof *t->xs);
+    memcpy(t->us, t->u, nu * sizeof *t->us);
+    st = search_unmet(t, tol, max_iter, err);
+    for (i = 0; st == RIGMAT_OK && i < t->ne; i++)
+        if (!t->active[i]) {
             char buf[160];
             snprintf(buf, sizeof buf, "d(%s)/dt", t->L->states[t->e_index[i]].name);
             if (push_name(&res->unmet_equations, &res->nunmet, buf) != RIGMAT_OK)
-                return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+                st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
         }
-    }
-    return RIGMAT_OK;
+    /* back to the iterate, its residual and its Jacobian's SVD */
+    t->held = 0;
+    memset(t->active, 1, t->ne + 1);
+    memcpy(t->x, t->xs, nx * sizeof *t->x);
+    memcpy(t->u, t->us, nu * sizeof *t->u);
+    t->iter = iter;
+    if (st == RIGMAT_OK)
+        st = evaluate(t, t->x, t->u, t->np > 0, &t->res, err);
+    if (st == RIGMAT_OK && t->np > 0 && t->ne > 0)
+        st = svd(t, &wide, err);
+    return st;
 }
 
 rigmat_status rigmat_trim_run(rigmat_mech *s, const rigmat_model *m, const rigmat_options *opt,
@@ -377,7 +519,7 @@ rigmat_status rigmat_trim_run(rigmat_mech *s, const rigmat_model *m, const rigma
             r->iterations = t->iter;
             r->residual = t->res;
             r->converged = rigmat_trim_test(t, opt->trim_tol);
-            st = rigmat_trim_diagnose(t, opt->trim_tol, r, err);
+            st = rigmat_trim_diagnose(t, opt->trim_tol, opt->trim_max_iter, r, err);
         }
     }
     if (st == RIGMAT_OK && !rigmat_trim_test(t, opt->trim_tol)) {
@@ -423,7 +565,14 @@ void rigmat_trim_result_release(rigmat_trim_result *r)
         free(r->free_unknowns[k]);
     for (k = 0; k < r->nunmet; k++)
         free(r->unmet_equations[k]);
+    for (k = 0; k < r->neq; k++) {
+        free(r->eq_state != NULL ? r->eq_state[k] : NULL);
+        free(r->eq_unit != NULL ? r->eq_unit[k] : NULL);
+    }
     free(r->free_unknowns);
     free(r->unmet_equations);
+    free(r->eq_state);
+    free(r->eq_unit);
+    free(r->eq_residual);
     memset(r, 0, sizeof *r);
 }

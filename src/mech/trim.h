@@ -12,8 +12,32 @@
  * GSL's SVD wants rows >= columns: a wide J is decomposed transposed.
  * Success when max |r| <= tol.  After the last step the unknowns the
  * equations do not fix (the diagonal of the projector onto the null space
- * of J is not ~0) and the equations no step can meet (the part of r outside
- * the range of J exceeds tol) are named.
+ * of J is not ~0) are named, and the residual of each equation is kept.
+ *
+ * Unmet equations (only when the trim failed): the smallest set of
+ * equations that cannot be met when all the others are.  The acceleration
+ * rows of f are coupled through the mass matrix (f = M^-1 (Q - hb)): an
+ * input acting on the shoulder alone moves every coordinate's acceleration,
+ * so with one unknown and two rows either row alone can be met and a
+ * least-squares split of f blames both, or whichever is larger.  The search
+ * therefore works on the held form g of rigmat_mech_held (each free
+ * coordinate's force balance divided by its own inertia, in the units of
+ * f; other rows are f), where an equation the unknowns cannot reach keeps
+ * its residual however they are chosen:
+ *   1. Gauss-Newton on all of g from the last iterate (its least-squares
+ *      point when g cannot be met);
+ *   2. while the active equations do not converge, drop the one with the
+ *      largest |g| there and re-solve the rest from the point reached
+ *      (at most ne re-solves);
+ *   3. minimality: put each dropped equation back once (the last dropped
+ *      only if an earlier one came back), re-solve from the point where
+ *      the reduced set converged, and keep it active when the set still
+ *      converges (at most ne - 1 re-solves).
+ * The dropped equations left are unmet_equations.  "Converges" means
+ * max |g| <= trim_tol over the active equations within trim_max_iter steps
+ * (a step that no longer lowers |g| ends a re-solve early), so at most
+ * 2 ne re-solves of at most trim_max_iter steps each; every buffer is the
+ * trim's own workspace, allocated once by rigmat_trim_alloc.
  * The loop follows GSL's alloc, set, iterate, test, free split.
  */
 #ifndef RIGMAT_TRIM_H
@@ -41,10 +65,12 @@ double rigmat_trim_residual(const rigmat_trim *t);
 /* The current iterate, canonical order (borrowed). */
 const double *rigmat_trim_x(const rigmat_trim *t);
 const double *rigmat_trim_u(const rigmat_trim *t);
-/* Names of free unknowns and unmet equations at the current iterate into r
- * (its free_unknowns / unmet_equations, owned by r). */
-rigmat_status rigmat_trim_diagnose(rigmat_trim *t, double tol, rigmat_trim_result *r,
-        rigmat_error *err);
+/* Names of free unknowns, the residual per equation and, when the
+ * iterate misses tol, the unmet equations (the search above, re-solves of
+ * at most max_iter steps) into r (its free_unknowns, eq_*,
+ * unmet_equations, owned by r).  The iterate is left as it was. */
+rigmat_status rigmat_trim_diagnose(rigmat_trim *t, double tol, size_t max_iter,
+        rigmat_trim_result *r, rigmat_error *err);
 
 /* The whole loop from (x, u), which receive the result (or the last
  * iterate).  r (may be NULL) receives iterations, residual and the names;
