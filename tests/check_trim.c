@@ -322,6 +322,194 @@ START_TEST(trim_steps_one_by_one_and_the_residual_falls)
 }
 END_TEST
 
+/* A chain of uniform rods hanging along -y at zero angles: a shoulder
+ * hinge on the ground with a current-driven motor (N = 15, Kt = 0.05 N*m/A,
+ * no rotor inertia), then free hinges (elbow, wrist) at the ends of the
+ * links, relative angles.  Gravity 9.80665 m/s^2. */
+static const double arm_m[3] = { 0.9, 0.55, 0.23 }, arm_l[3] = { 0.35, 0.28, 0.17 };
+static const char *const arm_joint[3] = { "shoulder", "elbow", "wrist" };
+
+static rigmat_model *rod_arm(size_t links, const double *q, int solve_elbow)
+{
+    rigmat_model *m = tm_new("rod arm");
+    size_t k, prev = 0;
+    rigmat_motor *mo;
+
+    for (k = 0; k < links; k++) {
+        static const char *const body[3] = { "upper", "fore", "hand" };
+        const size_t b = tm_body(m, body[k], arm_m[k], arm_m[k] * arm_l[k] * arm_l[k] / 12.0, 0,
+                -arm_l[k] / 2.0);
+        rigmat_joint *j = tm_joint(m, arm_joint[k], RIGMAT_JOINT_HINGE, prev, b);
+        if (k > 0)
+            j->at_m[1] = -arm_l[k - 1];
+        tm_op(m, 'c', arm_joint[k], q[k]);
+        prev = b;
+    }
+    mo = tm_motor(m, "sh");
+    mo->stator = 0;
+    mo->rotor = 1;
+    mo->drive = RIGMAT_DRIVE_CURRENT;
+    mo->resistance_ohm = 2.1;
+    mo->inductance_neglected = 1;
+    mo->torque_constant_nm_a = 0.05;
+    mo->back_emf_v_s_rad = 0.05;
+    mo->rotor_inertia_kgm2 = 0;
+    mo->gear_ratio = 15;
+    tm_solve(m, "sh");
+    if (solve_elbow)
+        tm_solve(m, "elbow");
+    ck_assert_int_eq(tm_build(m, NULL, 0), RIGMAT_OK);
+    return m;
+}
+
+/* Common practice, the planar two-link arm (e.g. M. W. Spong, S. Hutchinson,
+ * M. Vidyasagar, Robot Modeling and Control, 2006, section 7.4; from
+ * memory), angles from the downward vertical, the elbow relative, I_k = m_k
+ * l_k^2 / 12 about each rod's middle, lc_k = l_k / 2:
+ *   M11 = I1 + m1 lc1^2 + I2 + m2 (l1^2 + lc2^2 + 2 l1 lc2 cos q2)
+ *   M12 = I2 + m2 (lc2^2 + l1 lc2 cos q2),  M22 = I2 + m2 lc2^2
+ *   G1 = g (m1 lc1 + m2 l1) sin q1 + g m2 lc2 sin(q1 + q2),  G2 = g m2 lc2 sin(q1 + q2)
+ * and at rest M qdd = tau e1 - G. */
+static void arm2_statics(const double *q, double M[2][2], double G[2])
+{
+    const double g = 9.80665, m1 = arm_m[0], m2 = arm_m[1], l1 = arm_l[0], l2 = arm_l[1];
+    const double I1 = m1 * l1 * l1 / 12.0, I2 = m2 * l2 * l2 / 12.0, c1 = l1 / 2.0,
+                 c2 = l2 / 2.0;
+    M[0][0] = I1 + m1 * c1 * c1 + I2 + m2 * (l1 * l1 + c2 * c2 + 2.0 * l1 * c2 * cos(q[1]));
+    M[0][1] = M[1][0] = I2 + m2 * (c2 * c2 + l1 * c2 * cos(q[1]));
+    M[1][1] = I2 + m2 * c2 * c2;
+    G[1] = g * m2 * c2 * sin(q[0] + q[1]);
+    G[0] = g * (m1 * c1 + m2 * l1) * sin(q[0]) + G[1];
+}
+
+/* At 35 deg with the elbow at 50 deg the forearm does not hang straight:
+ * no shoulder current holds the elbow, the shoulder alone can be held.  At
+ * the last iterate (the least-squares point of the accelerations) the
+ * shoulder's acceleration is the larger of the two, so blaming the largest
+ * acceleration would name the wrong joint; the force balances do not. */
+START_TEST(two_link_arm_that_cannot_hold_its_elbow_names_only_the_elbow)
+{
+    const double q[2] = { 35.0 * M_PI / 180.0, 50.0 * M_PI / 180.0 }, NKt = 15 * 0.05;
+    rigmat_model *m = rod_arm(2, q, 0);
+    rigmat_options opt = rigmat_options_default();
+    double M[2][2], G[2], Mi[2][2], b[2], a[2], det, tau;
+    rigmat_trim_result r;
+    rigmat_error e;
+
+    arm2_statics(q, M, G);
+    det = M[0][0] * M[1][1] - M[0][1] * M[1][0];
+    Mi[0][0] = M[1][1] / det;
+    Mi[1][1] = M[0][0] / det;
+    Mi[0][1] = Mi[1][0] = -M[0][1] / det;
+    /* by hand: qdd = tau b - a with b = M^-1 e1, a = M^-1 G; the
+     * least-squares tau = (b . a) / (b . b) */
+    b[0] = Mi[0][0];
+    b[1] = Mi[1][0];
+    a[0] = Mi[0][0] * G[0] + Mi[0][1] * G[1];
+    a[1] = Mi[1][0] * G[0] + Mi[1][1] * G[1];
+    tau = (b[0] * a[0] + b[1] * a[1]) / (b[0] * b[0] + b[1] * b[1]);
+    memset(&e, 0, sizeof e);
+    ck_assert_int_eq(rigmat_trim_model(m, &opt, &r, &e), RIGMAT_ENUMERIC);
+    ck_assert(!r.converged);
+    ck_assert_uint_eq(r.nunmet, 1);
+    ck_assert_str_eq(r.unmet_equations[0], "d(elbow.rate)/dt");
+    ck_assert_uint_eq(r.nfree, 0);
+    ck_assert_rel(r.u[0], tau / NKt, 1e-9);
+    ck_assert_uint_eq(r.neq, 2);
+    ck_assert_str_eq(r.eq_state[0], "shoulder.rate");
+    ck_assert_str_eq(r.eq_state[1], "elbow.rate");
+    ck_assert_str_eq(r.eq_unit[0], "rad/s^2");
+    ck_assert_str_eq(r.eq_unit[1], "rad/s^2");
+    ck_assert_rel(r.eq_residual[0], tau * b[0] - a[0], 1e-9);
+    ck_assert_rel(r.eq_residual[1], tau * b[1] - a[1], 1e-9);
+    ck_assert(fabs(r.eq_residual[0]) > fabs(r.eq_residual[1]));
+    ck_assert_rel(r.residual, fabs(tau * b[0] - a[0]), 1e-9);
+    rigmat_trim_result_release(&r);
+    tm_free(m);
+}
+END_TEST
+
+/* The held residual itself: with the current that balances the shoulder's
+ * torque (G1 / (N Kt)) its row is zero, and the elbow's is -G2 / M22 (the
+ * forearm swings back toward hanging), whatever the current. */
+START_TEST(held_residual_is_each_force_balance_over_its_own_inertia)
+{
+    const double q[2] = { 35.0 * M_PI / 180.0, 50.0 * M_PI / 180.0 }, NKt = 15 * 0.05;
+    rigmat_model *m = rod_arm(2, q, 0);
+    rigmat_mech *s = NULL;
+    double x[4], u[1], g[4], Gx[16], Gu[4], M[2][2], G[2];
+
+    arm2_statics(q, M, G);
+    ck_assert_int_eq(rigmat_mech_alloc(m, &s, NULL), RIGMAT_OK);
+    ck_assert_int_eq(rigmat_mech_operating_point(s, x, u, NULL), RIGMAT_OK);
+    u[0] = G[0] / NKt;
+    ck_assert_int_eq(rigmat_mech_held(s, x, u, g, Gx, Gu, NULL), RIGMAT_OK);
+    ck_assert(fabs(g[2]) < 1e-12);
+    ck_assert_rel(g[3], -G[1] / M[1][1], 1e-12);
+    /* d g / d i: N Kt / M11 on the shoulder, nothing on the elbow */
+    ck_assert_rel(Gu[2], NKt / M[0][0], 1e-12);
+    ck_assert(fabs(Gu[3]) < 1e-14);
+    u[0] = 0.37 * G[0] / NKt;
+    ck_assert_int_eq(rigmat_mech_held(s, x, u, g, NULL, NULL, NULL), RIGMAT_OK);
+    ck_assert_rel(g[2], -0.63 * G[0] / M[0][0], 1e-12);
+    ck_assert_rel(g[3], -G[1] / M[1][1], 1e-12);
+    rigmat_mech_free(s);
+    tm_free(m);
+}
+END_TEST
+
+/* With the elbow solved the forearm hangs straight (q1 + q2 = 0) and the
+ * current is the statics one, common practice:
+ * i = g sin q1 (m1 l1 / 2 + m2 l1) / (N Kt). */
+START_TEST(two_link_arm_with_the_elbow_solved_hangs_the_forearm)
+{
+    const double q[2] = { 35.0 * M_PI / 180.0, 0.2 }, g = 9.80665;
+    rigmat_model *m = rod_arm(2, q, 1);
+    rigmat_options opt = rigmat_options_default();
+    rigmat_trim_result r;
+    rigmat_error e;
+    size_t k;
+
+    memset(&e, 0, sizeof e);
+    ck_assert_int_eq(rigmat_trim_model(m, &opt, &r, &e), RIGMAT_OK);
+    ck_assert(r.converged);
+    ck_assert_rel(r.x[1], -q[0], 1e-10);
+    ck_assert_rel(r.u[0], g * sin(q[0]) * (arm_m[0] * arm_l[0] / 2 + arm_m[1] * arm_l[0]) /
+            (15 * 0.05), 1e-10);
+    ck_assert_uint_eq(r.nunmet, 0);
+    ck_assert_uint_eq(r.neq, 2);
+    for (k = 0; k < r.neq; k++)
+        ck_assert(fabs(r.eq_residual[k]) <= opt.trim_tol);
+    rigmat_trim_result_release(&r);
+    tm_free(m);
+}
+END_TEST
+
+/* A three-link chain held at a pose by the shoulder alone: the elbow and
+ * the wrist both carry unbalanced gravity torques the shoulder current
+ * cannot reach (each joint's force balance holds only when everything
+ * below it hangs straight, common practice), so both are named, and the
+ * shoulder is not. */
+START_TEST(three_link_arm_names_the_elbow_and_the_wrist)
+{
+    const double q[3] = { 35.0 * M_PI / 180.0, 50.0 * M_PI / 180.0, -20.0 * M_PI / 180.0 };
+    rigmat_model *m = rod_arm(3, q, 0);
+    rigmat_options opt = rigmat_options_default();
+    rigmat_trim_result r;
+    rigmat_error e;
+
+    memset(&e, 0, sizeof e);
+    ck_assert_int_eq(rigmat_trim_model(m, &opt, &r, &e), RIGMAT_ENUMERIC);
+    ck_assert_uint_eq(r.nunmet, 2);
+    ck_assert_str_eq(r.unmet_equations[0], "d(elbow.rate)/dt");
+    ck_assert_str_eq(r.unmet_equations[1], "d(wrist.rate)/dt");
+    ck_assert_uint_eq(r.neq, 3);
+    ck_assert_str_eq(r.eq_state[2], "wrist.rate");
+    rigmat_trim_result_release(&r);
+    tm_free(m);
+}
+END_TEST
+
 Suite *trim_suite(void);
 
 Suite *trim_suite(void)
@@ -338,6 +526,10 @@ Suite *trim_suite(void)
     tcase_add_test(tc, trim_that_cannot_converge_names_the_equation_and_the_free_unknown);
     tcase_add_test(tc, trim_steps_one_by_one_and_the_residual_falls);
     tcase_add_test(tc, linearize_warns_of_a_name_in_solve_the_equations_leave_free);
+    tcase_add_test(tc, two_link_arm_that_cannot_hold_its_elbow_names_only_the_elbow);
+    tcase_add_test(tc, held_residual_is_each_force_balance_over_its_own_inertia);
+    tcase_add_test(tc, two_link_arm_with_the_elbow_solved_hangs_the_forearm);
+    tcase_add_test(tc, three_link_arm_names_the_elbow_and_the_wrist);
     suite_add_tcase(s, tc);
     return s;
 }
