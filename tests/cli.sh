@@ -263,6 +263,52 @@ if [ -s "$T/out" ]; then bad "failed trim printed a result"; else ok; fi
 expect 3 "failed trim json" -- "$R" trim "$T/push.yaml" --format json
 got=$(json_val "$T/out" 'str(d["converged"]) + " " + " ".join(d["unmet_equations"])')
 [ "$got" = "False d(rail.velocity)/dt" ] && ok || bad "failed trim json: '$got'"
+# The two-link arm (tests/models/two-link-arm.yaml): no shoulder current
+# holds the elbow at 50 deg, the shoulder alone can be held, so exactly the
+# elbow's equation is named; exit 3, the residual table on stderr, and with
+# --format json the result is still written (to stdout and to -o).
+ARM2=tests/models/two-link-arm.yaml
+expect 3 "two-link arm: the elbow cannot be held" -- "$R" trim "$ARM2"
+has "$T/err" "residual per equation at the last iterate" "failed trim prints the residual table"
+has "$T/err" "d(elbow.rate)/dt  *-*[0-9.e+-]* rad/s^2  (cannot be met)" "the table marks the elbow"
+if grep -q "shoulder.rate)/dt.*cannot be met" "$T/err"; then bad "the shoulder was named"; else ok; fi
+expect 3 "two-link arm json" -- "$R" trim "$ARM2" --format json -o "$T/arm2.json"
+json_keys "$T/arm2.json" converged x u residual residuals unmet_equations free_unknowns
+got=$(json_val "$T/arm2.json" 'str(d["converged"]) + " " + " ".join(d["unmet_equations"])')
+[ "$got" = "False d(elbow.rate)/dt" ] && ok || bad "two-link arm unmet: '$got'"
+got=$(json_val "$T/arm2.json" '" ".join(e["name"] + ":" + e["equation"] + ":" + e["unit"] for e in d["residuals"])')
+[ "$got" = "shoulder.rate:d(shoulder.rate)/dt:rad/s^2 elbow.rate:d(elbow.rate)/dt:rad/s^2" ] && ok ||
+    bad "two-link arm residual entries: '$got'"
+# By hand (common practice, the planar two-link arm with uniform rods, angles
+# from the downward vertical): at rest M qdd = tau e1 - G; the last iterate is
+# the least-squares current tau = (b . a) / (b . b), b = M^-1 e1, a = M^-1 G,
+# and each residual is tau b - a.
+want=$(awk 'BEGIN { pi = atan2(0, -1); g = 9.80665; m1 = 0.9; m2 = 0.55; l1 = 0.35; l2 = 0.28
+    q1 = 35 * pi / 180; q2 = 50 * pi / 180; I1 = m1 * l1 * l1 / 12; I2 = m2 * l2 * l2 / 12
+    c1 = l1 / 2; c2 = l2 / 2
+    M11 = I1 + m1 * c1 * c1 + I2 + m2 * (l1 * l1 + c2 * c2 + 2 * l1 * c2 * cos(q2))
+    M12 = I2 + m2 * (c2 * c2 + l1 * c2 * cos(q2)); M22 = I2 + m2 * c2 * c2
+    G2 = g * m2 * c2 * sin(q1 + q2); G1 = g * (m1 * c1 + m2 * l1) * sin(q1) + G2
+    det = M11 * M22 - M12 * M12; b1 = M22 / det; b2 = -M12 / det
+    a1 = (M22 * G1 - M12 * G2) / det; a2 = (-M12 * G1 + M11 * G2) / det
+    tau = (b1 * a1 + b2 * a2) / (b1 * b1 + b2 * b2)
+    printf "%.17g %.17g %.17g", tau / (15 * 0.05), tau * b1 - a1, tau * b2 - a2 }')
+set -- $want
+close "$(json_val "$T/arm2.json" 'repr(d["u"][0])')" "$1" 1e-9 "two-link arm: last iterate's current"
+close "$(json_val "$T/arm2.json" 'repr(d["residuals"][0]["value"])')" "$2" 1e-9 "two-link arm: shoulder residual"
+close "$(json_val "$T/arm2.json" 'repr(d["residuals"][1]["value"])')" "$3" 1e-9 "two-link arm: elbow residual"
+expect 3 "two-link arm json to stdout" -- "$R" trim "$ARM2" --format json
+has "$T/out" '"converged": false' "failed trim json on stdout"
+# with the elbow solved the forearm hangs straight, and the current is the
+# statics one, i = g sin(35 deg) (m1 l1 / 2 + m2 l1) / (N Kt) (common practice)
+expect 0 "two-link arm with the elbow solved" -- "$R" trim "$ARM2" --set 'operating_point.solve=[sh,elbow]' --format json
+cp "$T/out" "$T/arm2ok.json"
+got=$(json_val "$T/arm2ok.json" 'str(d["converged"]) + " " + str(len(d["unmet_equations"])) + " " + str(len(d["residuals"]))')
+[ "$got" = "True 0 2" ] && ok || bad "two-link arm held: '$got'"
+want=$(awk 'BEGIN { pi = atan2(0, -1); printf "%.17g", 9.80665 * sin(35 * pi / 180) * (0.9 * 0.175 + 0.55 * 0.35) / 0.75 }')
+close "$(json_val "$T/arm2ok.json" 'repr(d["u"][0])')" "$want" 1e-9 "two-link arm: holding current"
+close "$(json_val "$T/arm2ok.json" 'repr(d["x"][1])')" "-0.61086523819801535" 1e-9 "two-link arm: elbow hangs at -35 deg"
+below "$(json_val "$T/arm2ok.json" 'repr(max(abs(e["value"]) for e in d["residuals"]))')" 1e-10 "held arm: residuals below tolerance"
 expect 2 "trim without a model" -- "$R" trim
 expect 1 "trim bad model" -- "$R" trim "$T/bad.yaml"
 expect 4 "trim missing file" -- "$R" trim "$T/nope.yaml"
