@@ -41,8 +41,11 @@ static void residual_table(FILE *f, const rigmat_trim_result *t)
 {
     size_t i, w = 8;
 
-    if (t->neq == 0)
+    if (t->neq == 0 || t->eq_state == NULL || t->eq_unit == NULL || t->eq_residual == NULL)
         return;
+    for (i = 0; i < t->neq; i++)
+        if (t->eq_state[i] == NULL || t->eq_unit[i] == NULL)
+            return; /* only after an allocation failure, which is reported */
     for (i = 0; i < t->neq; i++)
         if (strlen(t->eq_state[i]) + 6 > w)
             w = strlen(t->eq_state[i]) + 6;
@@ -147,7 +150,8 @@ rigmat_status cmd_trim(int argc, char **argv, struct cli_env *env)
     st = rigmat_trim_model(m, &env->opt, &r, &e);
     if (st != RIGMAT_OK) {
         st = cli_report(env, &e);
-        residual_table(env->err, &r);
+        if (st == RIGMAT_ENUMERIC)
+            residual_table(env->err, &r);
         for (i = 0; i < r.nunmet; i++)
             fprintf(env->err, "  note: cannot be met: %s\n", r.unmet_equations[i]);
         for (i = 0; i < r.nfree; i++)
