@@ -309,6 +309,15 @@ want=$(awk 'BEGIN { pi = atan2(0, -1); printf "%.17g", 9.80665 * sin(35 * pi / 1
 close "$(json_val "$T/arm2ok.json" 'repr(d["u"][0])')" "$want" 1e-9 "two-link arm: holding current"
 close "$(json_val "$T/arm2ok.json" 'repr(d["x"][1])')" "-0.61086523819801535" 1e-9 "two-link arm: elbow hangs at -35 deg"
 below "$(json_val "$T/arm2ok.json" 'repr(max(abs(e["value"]) for e in d["residuals"]))')" 1e-10 "held arm: residuals below tolerance"
+# a hand on a wrist below the forearm: two balances no shoulder current
+# reaches, both named (and only they), exit 3
+sed -e 's|^  fore: .*|&\n  hand: {mass: 0.23 kg, shape: {rod: {length: 0.17 m, direction: -90 deg}}}|' \
+    -e 's|^  elbow: .*|&\n  wrist: {type: hinge, parent: fore, child: hand, at: [0, -0.28 m]}|' \
+    -e 's|elbow: 50 deg}|elbow: 50 deg, wrist: -20 deg}|' "$ARM2" >"$T/arm3.yaml"
+expect 3 "three-link arm: elbow and wrist unmet" -- "$R" trim "$T/arm3.yaml" --format json
+got=$(json_val "$T/out" 'str(d["converged"]) + " " + " ".join(d["unmet_equations"]) + " " + str(len(d["residuals"]))')
+[ "$got" = "False d(elbow.rate)/dt d(wrist.rate)/dt 3" ] && ok || bad "three-link arm unmet: '$got'"
+has "$T/err" "d(wrist.rate)/dt .*(cannot be met)" "three-link table marks the wrist"
 expect 2 "trim without a model" -- "$R" trim
 expect 1 "trim bad model" -- "$R" trim "$T/bad.yaml"
 expect 4 "trim missing file" -- "$R" trim "$T/nope.yaml"
