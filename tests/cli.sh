@@ -268,11 +268,12 @@ got=$(json_val "$T/out" 'str(d["converged"]) + " " + " ".join(d["unmet_equations
 # elbow's equation is named; exit 3, the residual table on stderr, and with
 # --format json the result is still written (to stdout and to -o).
 ARM2=tests/models/two-link-arm.yaml
-expect 3 "two-link arm: the elbow cannot be held" -- "$R" trim "$ARM2"
+UNMET='operating_point.solve=[sh]'
+expect 3 "two-link arm: the elbow cannot be held" -- "$R" trim "$ARM2" --set "$UNMET"
 has "$T/err" "residual per equation at the last iterate" "failed trim prints the residual table"
 has "$T/err" "d(elbow.rate)/dt  *-*[0-9.e+-]* rad/s^2  (cannot be met)" "the table marks the elbow"
 if grep -q "shoulder.rate)/dt.*cannot be met" "$T/err"; then bad "the shoulder was named"; else ok; fi
-expect 3 "two-link arm json" -- "$R" trim "$ARM2" --format json -o "$T/arm2.json"
+expect 3 "two-link arm json" -- "$R" trim "$ARM2" --set "$UNMET" --format json -o "$T/arm2.json"
 json_keys "$T/arm2.json" converged x u residual residuals unmet_equations free_unknowns
 got=$(json_val "$T/arm2.json" 'str(d["converged"]) + " " + " ".join(d["unmet_equations"])')
 [ "$got" = "False d(elbow.rate)/dt" ] && ok || bad "two-link arm unmet: '$got'"
@@ -297,11 +298,12 @@ set -- $want
 close "$(json_val "$T/arm2.json" 'repr(d["u"][0])')" "$1" 1e-9 "two-link arm: last iterate's current"
 close "$(json_val "$T/arm2.json" 'repr(d["residuals"][0]["value"])')" "$2" 1e-9 "two-link arm: shoulder residual"
 close "$(json_val "$T/arm2.json" 'repr(d["residuals"][1]["value"])')" "$3" 1e-9 "two-link arm: elbow residual"
-expect 3 "two-link arm json to stdout" -- "$R" trim "$ARM2" --format json
+expect 3 "two-link arm json to stdout" -- "$R" trim "$ARM2" --set "$UNMET" --format json
 has "$T/out" '"converged": false' "failed trim json on stdout"
-# with the elbow solved the forearm hangs straight, and the current is the
-# statics one, i = g sin(35 deg) (m1 l1 / 2 + m2 l1) / (N Kt) (common practice)
-expect 0 "two-link arm with the elbow solved" -- "$R" trim "$ARM2" --set 'operating_point.solve=[sh,elbow]' --format json
+# with the elbow solved (the file as written) the forearm hangs straight,
+# and the current is the statics one,
+# i = g sin(35 deg) (m1 l1 / 2 + m2 l1) / (N Kt) (common practice)
+expect 0 "two-link arm with the elbow solved" -- "$R" trim "$ARM2" --format json
 cp "$T/out" "$T/arm2ok.json"
 got=$(json_val "$T/arm2ok.json" 'str(d["converged"]) + " " + str(len(d["unmet_equations"])) + " " + str(len(d["residuals"]))')
 [ "$got" = "True 0 2" ] && ok || bad "two-link arm held: '$got'"
@@ -314,7 +316,7 @@ below "$(json_val "$T/arm2ok.json" 'repr(max(abs(e["value"]) for e in d["residua
 sed -e 's|^  fore: .*|&\n  hand: {mass: 0.23 kg, shape: {rod: {length: 0.17 m, direction: -90 deg}}}|' \
     -e 's|^  elbow: .*|&\n  wrist: {type: hinge, parent: fore, child: hand, at: [0, -0.28 m]}|' \
     -e 's|elbow: 50 deg}|elbow: 50 deg, wrist: -20 deg}|' "$ARM2" >"$T/arm3.yaml"
-expect 3 "three-link arm: elbow and wrist unmet" -- "$R" trim "$T/arm3.yaml" --format json
+expect 3 "three-link arm: elbow and wrist unmet" -- "$R" trim "$T/arm3.yaml" --set "$UNMET" --format json
 got=$(json_val "$T/out" 'str(d["converged"]) + " " + " ".join(d["unmet_equations"]) + " " + str(len(d["residuals"]))')
 [ "$got" = "False d(elbow.rate)/dt d(wrist.rate)/dt 3" ] && ok || bad "three-link arm unmet: '$got'"
 has "$T/err" "d(wrist.rate)/dt .*(cannot be met)" "three-link table marks the wrist"

@@ -32,12 +32,16 @@
  *   3. minimality: put each dropped equation back once (the last dropped
  *      only if an earlier one came back), re-solve from the point where
  *      the reduced set converged, and keep it active when the set still
- *      converges (at most ne - 1 re-solves).
+ *      converges (at most one re-solve per dropped equation, so ne).
  * The dropped equations left are unmet_equations.  "Converges" means
  * max |g| <= trim_tol over the active equations within trim_max_iter steps
- * (a step that no longer lowers |g| ends a re-solve early), so at most
- * 2 ne re-solves of at most trim_max_iter steps each; every buffer is the
- * trim's own workspace, allocated once by rigmat_trim_alloc.
+ * (a step that no longer lowers |g| ends a re-solve early): one solve and
+ * at most 2 ne re-solves of at most trim_max_iter steps each.  Every
+ * buffer is the trim's own workspace, allocated once by rigmat_trim_alloc;
+ * the steps allocate nothing.  The result is minimal in that no single
+ * unmet equation can be met with the rest; it need not be the smallest
+ * such set, and when several are equally small the largest residual of
+ * the held form picks one.
  * The loop follows GSL's alloc, set, iterate, test, free split.
  */
 #ifndef RIGMAT_TRIM_H
