@@ -34,7 +34,7 @@ BUILD = build
 .DEFAULT_GOAL := all
 # One folder per pipeline stage, in the order data flows (tests/stages.sh
 # refuses an include from a later stage into an earlier one).
-STAGES = util model mech sample study emit
+STAGES = util model mech sample study emit lib
 PROJECT_CFLAGS = -std=c99 -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc $(STAGES:%=-Isrc/%) -Isrc/cli -I$(BUILD) \
     -Wall -Wextra -Wpedantic -Wconversion -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
     -Wold-style-definition -Wvla -Wdouble-promotion -Wcast-qual -Wwrite-strings \

@@ -3,7 +3,7 @@
 #ifndef RIGMAT_EQUATIONS_H
 #define RIGMAT_EQUATIONS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "mechanics.h"
 
 /* The first canonical state at or after *from that the model's layout

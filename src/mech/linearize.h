@@ -14,7 +14,7 @@
 #ifndef RIGMAT_LINEARIZE_H
 #define RIGMAT_LINEARIZE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "mechanics.h"
 
 /* The system's canonical equations (borrowed). */

@@ -19,7 +19,7 @@
 #ifndef RIGMAT_KINDS_H
 #define RIGMAT_KINDS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "units.h"
 
 /* Entries in each table (the enums of rigmat.h have exactly these many). */

@@ -17,7 +17,7 @@
  *     freed (LeakSanitizer reports what is not).
  */
 #include "fuzz.h"
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <errno.h>
 #include <gsl/gsl_errno.h>

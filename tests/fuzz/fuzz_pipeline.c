@@ -26,7 +26,7 @@
  * line as a --set override (`bodies.chassis.mass=1e-300kg`).
  */
 #include "fuzz.h"
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <gsl/gsl_errno.h>
 #include <math.h>
