@@ -67,12 +67,9 @@ LIB_SRC  := $(sort $(foreach d,$(STAGES),$(wildcard src/$(d)/*.c)))
 CLI_SRC  := $(sort $(wildcard src/cli/*.c))
 TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c tests/mechtest.c
 BENCH_SRC := $(sort $(wildcard bench/*.c))
-# Installed beside rigmat.h as <rigmat/NAME.h>: units, the matrix
-# exponential, sampling, the noise model, simulation, the validity range,
-# the Riccati solver, the gains and the result writers.
-PUBLIC_SUBHEADERS = src/model/units.h src/sample/expm.h src/sample/discretize.h src/sample/noise.h \
-    src/study/simulate.h src/study/validity.h src/study/riccati.h src/study/gains.h \
-    src/emit/result.h
+# The one installed header is include/rigmat.h, the public API (opaque
+# handles; src/lib/ implements it over src/util/rigmat_internal.h and the
+# stage headers, which are not installed).
 
 # Flavours of the same sources, each in $(BUILD)/NAME:
 #   plain  -O2 -g, the shipped program and library (invariants pass through)
@@ -102,7 +99,7 @@ $(BUILD)/$(1)/rigmat: $$($(1)_OBJ_CLI) $(BUILD)/$(1)/librigmat.a
 $(BUILD)/$(1)/check_rigmat: $$($(1)_OBJ_TEST) $(BUILD)/$(1)/librigmat.a
 	$$(CC) $(2) $$(LDFLAGS) -o $$@ $$^ $$(CHECK_LIBS) $$(LIBS)
 $(BUILD)/$(1)/tests/run.o: $(BUILD)/suites.h
-$(BUILD)/$(1)/src/cli/main.o: $(BUILD)/share_dir.h
+$(BUILD)/$(1)/src/cli/main.o $(BUILD)/$(1)/src/lib/api.o: $(BUILD)/share_dir.h
 -include $$($(1)_OBJ_LIB:.o=.d) $$($(1)_OBJ_CLI:.o=.d) $$($(1)_OBJ_TEST:.o=.d)
 endef
 SAN_FLAGS = -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
@@ -303,6 +300,7 @@ $(BUILD)/fuzz/fuzz_%: $(BUILD)/fuzz/tests/fuzz/fuzz_%.o $(BUILD)/fuzz/librigmat.
 $(BUILD)/san/fuzz-replay-%: $(BUILD)/san/tests/fuzz/fuzz_%.o $(BUILD)/san/tests/fuzz/replay.o \
         $(BUILD)/san/librigmat.a
 	$(CC) $(SAN_FLAGS) $(LDFLAGS) -o $@ $^ $(LIBS)
+$(BUILD)/fuzz/src/lib/api.o: $(BUILD)/share_dir.h
 -include $(FUZZ_OBJ_LIB:.o=.d) $(wildcard $(BUILD)/fuzz/tests/fuzz/*.d $(BUILD)/san/tests/fuzz/*.d)
 # Keep the harness objects make would otherwise delete as intermediate.
 .SECONDARY: $(FUZZ_NAMES:%=$(BUILD)/fuzz/tests/fuzz/fuzz_%.o) \
@@ -343,11 +341,10 @@ install: all
 	install -m 644 doc/rigmat.bash $(DESTDIR)$(PREFIX)/share/bash-completion/completions/rigmat
 	install -m 755 $(BUILD)/rigmat $(DESTDIR)$(PREFIX)/bin/rigmat
 	install -m 644 $(BUILD)/librigmat.a $(DESTDIR)$(PREFIX)/lib/librigmat.a
-	install -d $(DESTDIR)$(PREFIX)/include/rigmat
 	install -m 644 include/rigmat.h $(DESTDIR)$(PREFIX)/include/rigmat.h
-	install -m 644 $(PUBLIC_SUBHEADERS) $(DESTDIR)$(PREFIX)/include/rigmat/
 	cp -R catalog $(DESTDIR)$(PREFIX)/share/rigmat/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/^#define RIGMAT_VERSION "\(.*\)"/\1/p' include/rigmat.h)|g' \
+	    -e 's|@LIBS@|$(strip $(LIBS))|g' -e 's|@CFLAGS@|$(strip $(PKG_CFLAGS))|g' \
 	    rigmat.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/rigmat.pc
 uninstall:
 	rm -f $(DESTDIR)$(PREFIX)/bin/rigmat $(DESTDIR)$(PREFIX)/lib/librigmat.a \

@@ -235,8 +235,8 @@ typedef struct rigmat_linear rigmat_linear;
 /* Linearize m at its operating point, trimmed first when
  * operating_point.solve names unknowns.  Warnings (a steady motion along a
  * coordinate that is not cyclic, ...) go to diags.  RIGMAT_ENUMERIC when
- * the trim does not converge or a result is not finite; RIGMAT_EMODEL
- * when an operating point lies outside a limit. */
+ * the trim does not converge, a result is not finite, or the operating
+ * point needs an input beyond its limit (README.md, "Limits"). */
 rigmat_status rigmat_model_linearize(const rigmat_model *m, rigmat_linear **out,
         rigmat_diags *diags);
 void rigmat_linear_free(rigmat_linear *l);
@@ -268,7 +268,7 @@ void rigmat_sampled_free(rigmat_sampled *s);
 /* The sample period (s). */
 double rigmat_sampled_period(const rigmat_sampled *s);
 /* A matrix by name: "Ad", "Bd", "Cd", "Dd", "Gd", "Ed" (Bd and Dd over
- * every input, Gd and Ed over the disturbances), "Qd", "Rd", and the
+ * the control inputs, Gd and Ed over the disturbances), "Qd", "Rd", and the
  * column "fd".  "Qd" has no data for foh and tustin, whose state is not
  * x (README.md, "State basis").  RIGMAT_EUSAGE for another name. */
 rigmat_status rigmat_sampled_matrix(const rigmat_sampled *s, const char *name,
@@ -353,8 +353,10 @@ typedef struct rigmat_export_opts {
 } rigmat_export_opts;
 
 /* Write the linear or sampled model to out in format: "text", "json",
- * "csv", "c", "numpy", "latex" (the bytes `rigmat linearize` and
- * `rigmat discretize --format FORMAT` write), or "mtx" through
+ * "csv", "c", "numpy", "latex" (the bytes `rigmat linearize` and `rigmat
+ * discretize --rate R --format FORMAT` write, less the program's text
+ * summary of modes and the provenance line, unless opts->source gives
+ * it), or "mtx" through
  * opts->open_file (out unused).  Nothing is written when a number is not
  * finite (RIGMAT_ENUMERIC, naming it).  RIGMAT_EUSAGE for an unknown
  * format; RIGMAT_EIO when writing to out fails (ferror). */
