@@ -178,8 +178,13 @@ check: all check-stages check-symbols check-unit check-cli check-man check-repor
 check-stages:
 	sh tests/stages.sh --self-test
 	sh tests/stages.sh
+# check-symbols: every exported symbol of the library is rigmat_-prefixed,
+# and the library holds no writable data, so no global state
+# (tests/globals.sh, with a self-test that plants a writable static).
 check-symbols: $(BUILD)/librigmat.a
 	@nm -g --defined-only $< | awk 'NF==3 && $$3 !~ /^rigmat_/ {bad=1; print "non-prefixed symbol: " $$3} END {exit bad}'
+	@sh tests/globals.sh --self-test
+	@sh tests/globals.sh $<
 # The locale case of the units suite (tests/check_locale.c) needs a
 # comma-decimal locale: tests/locale.sh generates de_DE.UTF-8 when it can.
 check-locale: deps-test

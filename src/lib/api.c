@@ -10,7 +10,7 @@
 
 /* ------------------------------------------------------------ helpers */
 
-rigmat_status api_fail(rigmat_diags *d, const rigmat_error *e)
+rigmat_status rigmat_api_fail(rigmat_diags *d, const rigmat_error *e)
 {
     const rigmat_status st = e->status != RIGMAT_OK ? e->status : RIGMAT_EINTERNAL;
 
@@ -22,16 +22,16 @@ rigmat_status api_fail(rigmat_diags *d, const rigmat_error *e)
     return st;
 }
 
-rigmat_status api_usage(rigmat_diags *d, const char *what)
+rigmat_status rigmat_api_usage(rigmat_diags *d, const char *what)
 {
     rigmat_error e;
 
     memset(&e, 0, sizeof e);
     RIGMAT_FAIL(&e, RIGMAT_EUSAGE, "%s", what);
-    return api_fail(d, &e);
+    return rigmat_api_fail(d, &e);
 }
 
-rigmat_status api_view(const gsl_matrix *m, size_t rows, size_t cols, rigmat_matrix_view *out)
+rigmat_status rigmat_api_view(const gsl_matrix *m, size_t rows, size_t cols, rigmat_matrix_view *out)
 {
     out->data = NULL;
     out->rows = rows;
@@ -47,7 +47,7 @@ rigmat_status api_view(const gsl_matrix *m, size_t rows, size_t cols, rigmat_mat
     return RIGMAT_OK;
 }
 
-rigmat_status api_view_vector(const gsl_vector *v, size_t n, rigmat_matrix_view *out)
+rigmat_status rigmat_api_view_vector(const gsl_vector *v, size_t n, rigmat_matrix_view *out)
 {
     out->data = NULL;
     out->rows = out->cols = 0;
@@ -61,7 +61,7 @@ rigmat_status api_view_vector(const gsl_vector *v, size_t n, rigmat_matrix_view 
     return RIGMAT_OK;
 }
 
-rigmat_options api_options(void)
+rigmat_options rigmat_api_options(void)
 {
     rigmat_options o = rigmat_options_default();
 
@@ -207,15 +207,15 @@ rigmat_status rigmat_source_catalog(rigmat_source *s, const char *dir)
 
 rigmat_status rigmat_source_load(const rigmat_source *s, rigmat_model **out, rigmat_diags *diags)
 {
-    rigmat_options opt = api_options();
+    rigmat_options opt = rigmat_api_options();
     rigmat_diags local, *d = diags;
     rigmat_status st;
 
     if (out == NULL)
-        return api_usage(diags, "rigmat_source_load: out is NULL");
+        return rigmat_api_usage(diags, "rigmat_source_load: out is NULL");
     *out = NULL;
     if (s == NULL)
-        return api_usage(diags, "rigmat_source_load: the source is NULL");
+        return rigmat_api_usage(diags, "rigmat_source_load: the source is NULL");
     if (d == NULL) {
         /* the loader needs a list; the caller did not want one */
         rigmat_diags_init(&local);
@@ -247,7 +247,7 @@ const char *rigmat_model_order_hash(const rigmat_model *m)
 }
 
 /* The signals of group g of layout L and their count; NULL for a bad g. */
-const rigmat_signal *api_group(const rigmat_layout *L, rigmat_group g, size_t *n)
+const rigmat_signal *rigmat_api_group(const rigmat_layout *L, rigmat_group g, size_t *n)
 {
     switch (g) {
     case RIGMAT_STATES: *n = L->nx; return L->states;
@@ -263,11 +263,11 @@ size_t rigmat_model_count(const rigmat_model *m, rigmat_group g)
     size_t n = 0;
 
     if (m != NULL)
-        (void)api_group(&m->layout, g, &n);
+        (void)rigmat_api_group(&m->layout, g, &n);
     return n;
 }
 
-void api_signal(const rigmat_signal *s, int disturbance, rigmat_signal_view *out)
+void rigmat_api_signal(const rigmat_signal *s, int disturbance, rigmat_signal_view *out)
 {
     out->name = s->name;
     out->unit = s->unit;
@@ -282,10 +282,10 @@ rigmat_status rigmat_model_signal(const rigmat_model *m, rigmat_group g, size_t 
 
     if (m == NULL || out == NULL)
         return RIGMAT_EUSAGE;
-    s = api_group(&m->layout, g, &n);
+    s = rigmat_api_group(&m->layout, g, &n);
     if (s == NULL || i >= n)
         return RIGMAT_EUSAGE;
     /* inputs [nu_control, nu) are the disturbances */
-    api_signal(&s[i], g == RIGMAT_INPUTS && i >= m->layout.nu_control, out);
+    rigmat_api_signal(&s[i], g == RIGMAT_INPUTS && i >= m->layout.nu_control, out);
     return RIGMAT_OK;
 }

@@ -42,18 +42,18 @@ struct rigmat_response {
 
 /* Append e to d (may be NULL) as an error; returns e's status
  * (RIGMAT_ENOMEM when d cannot take it). */
-rigmat_status api_fail(rigmat_diags *d, const rigmat_error *e);
+rigmat_status rigmat_api_fail(rigmat_diags *d, const rigmat_error *e);
 /* A usage error with message what, appended to d; RIGMAT_EUSAGE. */
-rigmat_status api_usage(rigmat_diags *d, const char *what);
+rigmat_status rigmat_api_usage(rigmat_diags *d, const char *what);
 /* A view of m (rows x cols, NULL or empty allowed); RIGMAT_EINTERNAL when
  * m is not a gapless row-major matrix of that size. */
-rigmat_status api_view(const gsl_matrix *m, size_t rows, size_t cols, rigmat_matrix_view *out);
-rigmat_status api_view_vector(const gsl_vector *v, size_t n, rigmat_matrix_view *out);
+rigmat_status rigmat_api_view(const gsl_matrix *m, size_t rows, size_t cols, rigmat_matrix_view *out);
+rigmat_status rigmat_api_view_vector(const gsl_vector *v, size_t n, rigmat_matrix_view *out);
 /* The library's options: the documented defaults and the installed
  * catalog; no environment is read. */
-rigmat_options api_options(void);
+rigmat_options rigmat_api_options(void);
 /* The signals of group g of L and their count (*n); NULL for a bad g. */
-const rigmat_signal *api_group(const rigmat_layout *L, rigmat_group g, size_t *n);
-void api_signal(const rigmat_signal *s, int disturbance, rigmat_signal_view *out);
+const rigmat_signal *rigmat_api_group(const rigmat_layout *L, rigmat_group g, size_t *n);
+void rigmat_api_signal(const rigmat_signal *s, int disturbance, rigmat_signal_view *out);
 
 #endif /* RIGMAT_API_H */

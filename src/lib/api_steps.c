@@ -17,7 +17,7 @@
 
 rigmat_status rigmat_model_trim(const rigmat_model *m, rigmat_steady **out, rigmat_diags *diags)
 {
-    const rigmat_options opt = api_options();
+    const rigmat_options opt = rigmat_api_options();
     const rigmat_loc none = { NULL, 0, 0 };
     rigmat_steady *t;
     rigmat_error e;
@@ -25,17 +25,17 @@ rigmat_status rigmat_model_trim(const rigmat_model *m, rigmat_steady **out, rigm
     size_t i;
 
     if (out == NULL)
-        return api_usage(diags, "rigmat_model_trim: out is NULL");
+        return rigmat_api_usage(diags, "rigmat_model_trim: out is NULL");
     *out = NULL;
     if (m == NULL)
-        return api_usage(diags, "rigmat_model_trim: the model is NULL");
+        return rigmat_api_usage(diags, "rigmat_model_trim: the model is NULL");
     t = calloc(1, sizeof *t);
     if (t == NULL)
         return RIGMAT_ENOMEM;
     memset(&e, 0, sizeof e);
     st = rigmat_trim_model(m, &opt, &t->r, &e);
     if (st != RIGMAT_OK) {
-        st = api_fail(diags, &e);
+        st = rigmat_api_fail(diags, &e);
         /* what the solver found out, as notes under the error */
         for (i = 0; diags != NULL && i < t->r.nfree && st != RIGMAT_ENOMEM; i++)
             if (rigmat_diags_add(diags, RIGMAT_NOTE, none, none, NULL, NULL,
@@ -92,20 +92,20 @@ rigmat_status rigmat_model_linearize(const rigmat_model *m, rigmat_linear **out,
     rigmat_status st;
 
     if (out == NULL)
-        return api_usage(diags, "rigmat_model_linearize: out is NULL");
+        return rigmat_api_usage(diags, "rigmat_model_linearize: out is NULL");
     *out = NULL;
     if (m == NULL)
-        return api_usage(diags, "rigmat_model_linearize: the model is NULL");
+        return rigmat_api_usage(diags, "rigmat_model_linearize: the model is NULL");
     l = calloc(1, sizeof *l);
     if (l == NULL)
         return RIGMAT_ENOMEM;
     l->m = m;
-    l->opt = api_options();
+    l->opt = rigmat_api_options();
     memset(&e, 0, sizeof e);
     st = rigmat_linearize(m, &l->opt, &l->lti, diags, &e);
     if (st != RIGMAT_OK) {
         free(l);
-        return api_fail(diags, &e);
+        return rigmat_api_fail(diags, &e);
     }
     *out = l;
     return RIGMAT_OK;
@@ -138,21 +138,21 @@ rigmat_status rigmat_linear_matrix(const rigmat_linear *l, const char *name,
         return RIGMAT_EUSAGE;
     s = l->lti;
     if (strcmp(name, "A") == 0)
-        return api_view(s->A, s->nx, s->nx, out);
+        return rigmat_api_view(s->A, s->nx, s->nx, out);
     if (strcmp(name, "B") == 0)
-        return api_view(s->B, s->nx, s->nu, out);
+        return rigmat_api_view(s->B, s->nx, s->nu, out);
     if (strcmp(name, "C") == 0)
-        return api_view(s->C, s->ny, s->nx, out);
+        return rigmat_api_view(s->C, s->ny, s->nx, out);
     if (strcmp(name, "D") == 0)
-        return api_view(s->D, s->ny, s->nu, out);
+        return rigmat_api_view(s->D, s->ny, s->nu, out);
     if (strcmp(name, "x0") == 0)
-        return api_view_vector(s->x0, s->nx, out);
+        return rigmat_api_view_vector(s->x0, s->nx, out);
     if (strcmp(name, "u0") == 0)
-        return api_view_vector(s->u0, s->nu, out);
+        return rigmat_api_view_vector(s->u0, s->nu, out);
     if (strcmp(name, "y0") == 0)
-        return api_view_vector(s->y0, s->ny, out);
+        return rigmat_api_view_vector(s->y0, s->ny, out);
     if (strcmp(name, "f0") == 0)
-        return api_view_vector(s->f0, s->nx, out);
+        return rigmat_api_view_vector(s->f0, s->nx, out);
     return RIGMAT_EUSAGE;
 }
 
@@ -195,15 +195,15 @@ rigmat_status rigmat_linear_discretize(const rigmat_linear *l, double rate_hz, c
     rigmat_status st;
 
     if (out == NULL)
-        return api_usage(diags, "rigmat_linear_discretize: out is NULL");
+        return rigmat_api_usage(diags, "rigmat_linear_discretize: out is NULL");
     *out = NULL;
     if (l == NULL)
-        return api_usage(diags, "rigmat_linear_discretize: the linear model is NULL");
+        return rigmat_api_usage(diags, "rigmat_linear_discretize: the linear model is NULL");
     if (!(rate_hz > 0) || !isfinite(rate_hz))
-        return api_usage(diags, "rigmat_linear_discretize: the rate must be a positive number "
+        return rigmat_api_usage(diags, "rigmat_linear_discretize: the rate must be a positive number "
                                 "of Hz");
     if (l->lti->nx == 0)
-        return api_usage(diags, "the model has no states to sample");
+        return rigmat_api_usage(diags, "the model has no states to sample");
     s = calloc(1, sizeof *s);
     if (s == NULL)
         return RIGMAT_ENOMEM;
@@ -213,14 +213,14 @@ rigmat_status rigmat_linear_discretize(const rigmat_linear *l, double rate_hz, c
     s->o.max_states = l->opt.max_sampled_states;
     if (method != NULL && rigmat_method_parse(method, &s->o.method) != 0) {
         free(s);
-        return api_usage(diags, "rigmat_linear_discretize: unknown method; use zoh, foh, "
+        return rigmat_api_usage(diags, "rigmat_linear_discretize: unknown method; use zoh, foh, "
                                 "tustin, euler or backward-euler");
     }
     memset(&e, 0, sizeof e);
     st = sample(s, &e);
     if (st != RIGMAT_OK) {
         rigmat_sampled_free(s);
-        return api_fail(diags, &e);
+        return rigmat_api_fail(diags, &e);
     }
     *out = s;
     return RIGMAT_OK;
@@ -254,24 +254,24 @@ rigmat_status rigmat_sampled_matrix(const rigmat_sampled *s, const char *name,
     d = s->d;
     transformed = d->method == RIGMAT_METHOD_FOH || d->method == RIGMAT_METHOD_TUSTIN;
     if (strcmp(name, "Ad") == 0)
-        return api_view(d->Ad, d->nx, d->nx, out);
+        return rigmat_api_view(d->Ad, d->nx, d->nx, out);
     if (strcmp(name, "Bd") == 0)
-        return api_view(d->Bd, d->nx, d->nu, out);
+        return rigmat_api_view(d->Bd, d->nx, d->nu, out);
     if (strcmp(name, "Cd") == 0)
-        return api_view(d->Cd, d->ny, d->nx, out);
+        return rigmat_api_view(d->Cd, d->ny, d->nx, out);
     if (strcmp(name, "Dd") == 0)
-        return api_view(d->Dd, d->ny, d->nu, out);
+        return rigmat_api_view(d->Dd, d->ny, d->nu, out);
     if (strcmp(name, "Gd") == 0)
-        return api_view(d->Gd, d->nx, d->nw, out);
+        return rigmat_api_view(d->Gd, d->nx, d->nw, out);
     if (strcmp(name, "Ed") == 0)
-        return api_view(d->Ed, d->ny, d->nw, out);
+        return rigmat_api_view(d->Ed, d->ny, d->nw, out);
     /* one rule with the export: no Qd for a transformed state */
     if (strcmp(name, "Qd") == 0)
-        return api_view(transformed ? NULL : s->nz->Qd, d->nx, d->nx, out);
+        return rigmat_api_view(transformed ? NULL : s->nz->Qd, d->nx, d->nx, out);
     if (strcmp(name, "Rd") == 0)
-        return api_view(s->nz->Rd, d->ny, d->ny, out);
+        return rigmat_api_view(s->nz->Rd, d->ny, d->ny, out);
     if (strcmp(name, "fd") == 0)
-        return api_view_vector(s->fd, d->nx, out);
+        return rigmat_api_view_vector(s->fd, d->nx, out);
     return RIGMAT_EUSAGE;
 }
 
@@ -284,7 +284,7 @@ rigmat_status rigmat_sampled_state(const rigmat_sampled *s, size_t i, rigmat_sig
 {
     if (s == NULL || out == NULL || i >= s->d->nx)
         return RIGMAT_EUSAGE;
-    api_signal(&s->xs[i], 0, out);
+    rigmat_api_signal(&s->xs[i], 0, out);
     return RIGMAT_OK;
 }
 
@@ -298,10 +298,10 @@ rigmat_status rigmat_linear_analyze(const rigmat_linear *l, double period_s,
     rigmat_status st;
 
     if (out == NULL)
-        return api_usage(diags, "rigmat_linear_analyze: out is NULL");
+        return rigmat_api_usage(diags, "rigmat_linear_analyze: out is NULL");
     *out = NULL;
     if (l == NULL)
-        return api_usage(diags, "rigmat_linear_analyze: the linear model is NULL");
+        return rigmat_api_usage(diags, "rigmat_linear_analyze: the linear model is NULL");
     a = calloc(1, sizeof *a);
     if (a == NULL)
         return RIGMAT_ENOMEM;
@@ -309,7 +309,7 @@ rigmat_status rigmat_linear_analyze(const rigmat_linear *l, double period_s,
     st = rigmat_modes_compute(l->lti, period_s, NULL, &a->md, &e);
     if (st != RIGMAT_OK) {
         free(a);
-        return api_fail(diags, &e);
+        return rigmat_api_fail(diags, &e);
     }
     *out = a;
     return RIGMAT_OK;
@@ -372,12 +372,12 @@ rigmat_status rigmat_linear_simulate(const rigmat_linear *l, const rigmat_run_sp
     rigmat_status st = RIGMAT_OK;
 
     if (out == NULL)
-        return api_usage(diags, "rigmat_linear_simulate: out is NULL");
+        return rigmat_api_usage(diags, "rigmat_linear_simulate: out is NULL");
     *out = NULL;
     if (l == NULL || spec == NULL)
-        return api_usage(diags, "rigmat_linear_simulate: the linear model or spec is NULL");
+        return rigmat_api_usage(diags, "rigmat_linear_simulate: the linear model or spec is NULL");
     if (spec->model != NULL && rigmat_sim_model_parse(spec->model, &o.model) != 0)
-        return api_usage(diags, "rigmat_linear_simulate: unknown model; use nonlinear, linear "
+        return rigmat_api_usage(diags, "rigmat_linear_simulate: unknown model; use nonlinear, linear "
                                 "or sampled");
     o.duration_s = spec->duration_s;
     o.step_s = spec->step_s;
@@ -396,7 +396,7 @@ rigmat_status rigmat_linear_simulate(const rigmat_linear *l, const rigmat_run_sp
     rigmat_system_free(sys);
     if (st != RIGMAT_OK) {
         rigmat_response_free(r);
-        return api_fail(diags, &e);
+        return rigmat_api_fail(diags, &e);
     }
     *out = r;
     return RIGMAT_OK;
@@ -454,14 +454,14 @@ static rigmat_status export_result(const rigmat_result *r, const char *format,
     memset(&e, 0, sizeof e);
     memset(&eo, 0, sizeof eo);
     if (fi == NULL)
-        return api_usage(diags, "unknown export format; use text, json, csv, c, numpy, mtx or "
+        return rigmat_api_usage(diags, "unknown export format; use text, json, csv, c, numpy, mtx or "
                                 "latex");
     if (r == NULL) {
         RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
-        return api_fail(diags, &e);
+        return rigmat_api_fail(diags, &e);
     }
     if (!fi->folder && out == NULL)
-        return api_usage(diags, "export: the stream is NULL");
+        return rigmat_api_usage(diags, "export: the stream is NULL");
     sink.open = NULL;
     sink.ctx = NULL;
     if (opts != NULL) {
@@ -473,10 +473,10 @@ static rigmat_status export_result(const rigmat_result *r, const char *format,
     }
     st = rigmat_result_write(r, fi->format, &eo, out, sink.open != NULL ? &sink : NULL, &e);
     if (st != RIGMAT_OK)
-        return api_fail(diags, &e);
+        return rigmat_api_fail(diags, &e);
     if (!fi->folder && ferror(out)) {
         RIGMAT_FAIL(&e, RIGMAT_EIO, "writing the %s export failed", fi->word);
-        return api_fail(diags, &e);
+        return rigmat_api_fail(diags, &e);
     }
     return RIGMAT_OK;
 }
@@ -488,7 +488,7 @@ rigmat_status rigmat_linear_export(const rigmat_linear *l, const char *format,
     rigmat_status st;
 
     if (l == NULL)
-        return api_usage(diags, "rigmat_linear_export: the linear model is NULL");
+        return rigmat_api_usage(diags, "rigmat_linear_export: the linear model is NULL");
     r = rigmat_describe_linear(l->m, l->lti);
     st = export_result(r, format, opts, out, diags);
     rigmat_result_free(r);
@@ -502,7 +502,7 @@ rigmat_status rigmat_sampled_export(const rigmat_sampled *s, const char *format,
     rigmat_status st;
 
     if (s == NULL)
-        return api_usage(diags, "rigmat_sampled_export: the sampled model is NULL");
+        return rigmat_api_usage(diags, "rigmat_sampled_export: the sampled model is NULL");
     r = rigmat_describe_sampled(s->lin->m, s->lin->lti, s->d, s->nz, s->xs, s->fd);
     st = export_result(r, format, opts, out, diags);
     rigmat_result_free(r);
