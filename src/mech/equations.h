@@ -1,5 +1,5 @@
 /* equations.h - checks of a loaded model that need its equations of motion
- * (the public one is rigmat_model_check_equations in include/rigmat.h). */
+ * (the entry point is rigmat_model_check_equations in src/util/rigmat_internal.h). */
 #ifndef RIGMAT_EQUATIONS_H
 #define RIGMAT_EQUATIONS_H
 

@@ -13,7 +13,7 @@
  * enum constant in rigmat.h (DEVELOPERS.md, "Adding a joint type or a
  * sensor kind").
  *
- * The tables are indexed by the enums of include/rigmat.h and each entry
+ * The tables are indexed by the enums of src/util/rigmat_internal.h and each entry
  * repeats its enum, so a table out of order fails the kinds test.
  */
 #ifndef RIGMAT_KINDS_H
