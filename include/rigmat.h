@@ -82,7 +82,7 @@ const char *rigmat_version(void);
 /* ---------------------------------------------------------------- status */
 
 /* What a function did.  The command line exits with rigmat_exit_code of
- * the status (README.md, "Exit codes"). */
+ * the status (README.md, "Exit codes" under the command line). */
 typedef enum rigmat_status {
     RIGMAT_OK = 0,
     RIGMAT_EMODEL,   /* the model file is wrong (exit 1) */
@@ -174,8 +174,8 @@ rigmat_status rigmat_source_load(const rigmat_source *s, rigmat_model **out, rig
 void rigmat_model_free(rigmat_model *m);
 /* The model's name (its `name:`), "" when it has none. */
 const char *rigmat_model_name(const rigmat_model *m);
-/* The order hash: 16 hex digits over the names and units of the states,
- * inputs and outputs, in order (README.md, "Order hash"). */
+/* The order hash: 16 hex digits (FNV-1a 64) over the names and units of
+ * the states, inputs and outputs, in order; every export carries it. */
 const char *rigmat_model_order_hash(const rigmat_model *m);
 
 /* The vectors of a state-space model. */
@@ -321,7 +321,8 @@ typedef struct rigmat_run_spec {
     const char *model;     /* "nonlinear" (NULL: the same), "linear" or "sampled" */
     double duration_s;     /* > 0 */
     double step_s;         /* > 0: the output interval */
-    double rate_hz;        /* "sampled": the sample rate; a multiple of 1/step_s */
+    double rate_hz;        /* "sampled": the sample rate; step_s must be a whole
+                            * number of its periods */
     const double *offset;  /* the initial deviation from x0 (one per state), or NULL */
 } rigmat_run_spec;
 

@@ -281,7 +281,9 @@ START_TEST(trim_finds_the_static_sag)
     ck_assert_int_eq(rigmat_linear_matrix(l, "x0", &x0), RIGMAT_OK);
     ck_assert_rel(x0.data[0], x.data[0], 1e-12);
     ck_assert(rigmat_linear_is_steady(l));
-    /* error paths */
+    rigmat_linear_free(l);
+    rigmat_steady_free(t);
+    /* error paths: *out is reset to NULL */
     ck_assert_int_eq(rigmat_model_trim(NULL, &t, d), RIGMAT_EUSAGE);
     ck_assert_ptr_null(t);
     ck_assert_int_eq(rigmat_model_linearize(NULL, &l, d), RIGMAT_EUSAGE);
@@ -370,9 +372,10 @@ START_TEST(discretize_analyze_simulate_values)
     ck_assert_int_eq(rigmat_response_matrix(r, "x", &x), RIGMAT_OK);
     ck_assert(fabs(at(&x, 50, 0) + 2.0 * G0 / 50.0 - 0.01 * cos(w * 0.5)) <= 1e-7);
     ck_assert_uint_eq(rigmat_diags_errors(d), 0);
-    /* error paths, each with a diagnostic */
+    /* error paths, each with a diagnostic; *out is reset to NULL */
     rigmat_response_free(r);
-    r = NULL;
+    rigmat_analysis_free(a);
+    rigmat_sampled_free(s);
     spec.duration_s = 0.0;
     ck_assert_int_ne(rigmat_linear_simulate(l, &spec, &r, d), RIGMAT_OK);
     ck_assert_ptr_null(r);

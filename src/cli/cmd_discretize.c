@@ -205,15 +205,9 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
     rigmat_result *r = NULL;
     rigmat_discretize_opts o = rigmat_discretize_opts_default();
     const rigmat_sampling_limits lim = rigmat_sampling_limits_default();
-    const rigmat_noise_opts no = rigmat_noise_opts_default();
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;
-    rigmat_dlti *d = NULL;
-    rigmat_noise *nz = NULL;
-    rigmat_discretize_ws *dw = NULL;
-    rigmat_noise_ws *nw = NULL;
-    rigmat_signal *xs = NULL;
-    gsl_vector *fd = NULL;
+    rigmat_sampled_parts p;
     rigmat_advice advice[32];
     size_t nadvice = 0;
     rigmat_error e;
@@ -225,6 +219,7 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
     memset(&c, 0, sizeof c);
     memset(&a, 0, sizeof a);
     memset(&e, 0, sizeof e);
+    memset(&p, 0, sizeof p);
     st = cli_model_command(argc, argv, opts, discretize_usage, cli_all_formats, env, &c, &file,
             &fmt, &done);
     if (st != RIGMAT_OK || done)
@@ -246,41 +241,22 @@ rigmat_status cmd_discretize(int argc, char **argv, struct cli_env *env)
         st = RIGMAT_FAIL(&e, RIGMAT_EUSAGE, "the model has no states to sample");
         goto report;
     }
-    dw = rigmat_discretize_ws_alloc(lti->nx, lti->nu, lti->ny);
-    nw = rigmat_noise_ws_alloc(lti->nx, lti->nu - lti->nu_control);
-    if (dw == NULL || nw == NULL) {
-        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
-        goto report;
-    }
-    st = rigmat_discretize(lti, &o, dw, &d, &e);
-    if (st == RIGMAT_OK)
-        st = rigmat_noise_build(lti, d, &no, nw, &nz, &e);
+    /* the sampled model, its noise model, states and affine term (the one
+     * sequence the library runs too: src/lib/describe.c) */
+    st = rigmat_sampled_parts_build(m, lti, &o, &p, &e);
     if (st == RIGMAT_OK)
         st = rigmat_sampling_advice(lti, &o, &lim, advice, sizeof advice / sizeof advice[0],
                                     &nadvice, &e);
     if (st != RIGMAT_OK)
         goto report;
-    xs = rigmat_sampled_signals(&m->layout, d);
-    if (xs == NULL) {
-        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
-        goto report;
-    }
     print_advice(env, m, advice,
                  nadvice < sizeof advice / sizeof advice[0] ? nadvice
                                                             : sizeof advice / sizeof advice[0],
                  &o);
-    if (nz->S != NULL)
+    if (p.nz->S != NULL)
         print_direct(env, m, lti);
     print_no_process_noise(env, m, lti);
-    fd = gsl_vector_calloc(d->nx);
-    if (fd == NULL) {
-        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
-        goto report;
-    }
-    st = rigmat_discretize_affine(lti, &o, d, fd, &e);
-    if (st != RIGMAT_OK)
-        goto report;
-    r = rigmat_describe_sampled(m, lti, d, nz, xs, fd);
+    r = rigmat_describe_sampled(m, lti, p.d, p.nz, p.xs, p.fd);
     if (r == NULL) {
         st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
         goto report;
@@ -291,13 +267,7 @@ report:
     st = cli_report(env, &e);
 done:
     rigmat_result_free(r);
-    free(xs);
-    if (fd != NULL)
-        gsl_vector_free(fd);
-    rigmat_noise_free(nz);
-    rigmat_dlti_free(d);
-    rigmat_noise_ws_free(nw);
-    rigmat_discretize_ws_free(dw);
+    rigmat_sampled_parts_release(&p);
     rigmat_lti_free(lti);
     rigmat_model_free(m);
     return st;

@@ -9,6 +9,7 @@
 #include "noise.h"
 #include "modes.h"
 #include "simulate.h"
+#include "describe.h"
 
 #include <gsl/gsl_matrix.h>
 #include <gsl/gsl_vector.h>
@@ -26,10 +27,7 @@ struct rigmat_linear {
 struct rigmat_sampled {
     const rigmat_linear *lin; /* borrowed */
     rigmat_discretize_opts o;
-    rigmat_dlti *d;   /* owned */
-    rigmat_noise *nz; /* owned */
-    rigmat_signal *xs; /* owned array; names borrowed from the model and d */
-    gsl_vector *fd;   /* owned */
+    rigmat_sampled_parts p;   /* owned (src/lib/describe.h) */
 };
 
 struct rigmat_analysis {

@@ -5,7 +5,6 @@
  * description of each result (src/lib/describe.c) and the one result
  * writer (src/emit/result.h). */
 #include "api.h"
-#include "affine.h"
 #include "describe.h"
 #include "result.h"
 
@@ -158,35 +157,6 @@ rigmat_status rigmat_linear_matrix(const rigmat_linear *l, const char *name,
 
 /* ------------------------------------------------------------ discretize */
 
-/* Sample, build the noise model and the affine term into s, as `rigmat
- * discretize` does (src/cli/cmd_discretize.c). */
-static rigmat_status sample(rigmat_sampled *s, rigmat_error *e)
-{
-    const rigmat_lti *lti = s->lin->lti;
-    const rigmat_noise_opts no = rigmat_noise_opts_default();
-    rigmat_discretize_ws *dw = rigmat_discretize_ws_alloc(lti->nx, lti->nu, lti->ny);
-    rigmat_noise_ws *nw = rigmat_noise_ws_alloc(lti->nx, lti->nu - lti->nu_control);
-    rigmat_status st = RIGMAT_OK;
-
-    if (dw == NULL || nw == NULL)
-        st = RIGMAT_FAIL(e, RIGMAT_ENOMEM, "out of memory");
-    if (st == RIGMAT_OK)
-        st = rigmat_discretize(lti, &s->o, dw, &s->d, e);
-    if (st == RIGMAT_OK)
-        st = rigmat_noise_build(lti, s->d, &no, nw, &s->nz, e);
-    if (st == RIGMAT_OK) {
-        s->xs = rigmat_sampled_signals(&s->lin->m->layout, s->d);
-        s->fd = gsl_vector_calloc(s->d->nx);
-        if (s->xs == NULL || s->fd == NULL)
-            st = RIGMAT_FAIL(e, RIGMAT_ENOMEM, "out of memory");
-    }
-    if (st == RIGMAT_OK)
-        st = rigmat_discretize_affine(lti, &s->o, s->d, s->fd, e);
-    rigmat_noise_ws_free(nw);
-    rigmat_discretize_ws_free(dw);
-    return st;
-}
-
 rigmat_status rigmat_linear_discretize(const rigmat_linear *l, double rate_hz, const char *method,
         rigmat_sampled **out, rigmat_diags *diags)
 {
@@ -217,7 +187,7 @@ rigmat_status rigmat_linear_discretize(const rigmat_linear *l, double rate_hz, c
                                 "tustin, euler or backward-euler");
     }
     memset(&e, 0, sizeof e);
-    st = sample(s, &e);
+    st = rigmat_sampled_parts_build(l->m, l->lti, &s->o, &s->p, &e);
     if (st != RIGMAT_OK) {
         rigmat_sampled_free(s);
         return rigmat_api_fail(diags, &e);
@@ -230,17 +200,13 @@ void rigmat_sampled_free(rigmat_sampled *s)
 {
     if (s == NULL)
         return;
-    if (s->fd != NULL)
-        gsl_vector_free(s->fd);
-    free(s->xs);
-    rigmat_noise_free(s->nz);
-    rigmat_dlti_free(s->d);
+    rigmat_sampled_parts_release(&s->p);
     free(s);
 }
 
 double rigmat_sampled_period(const rigmat_sampled *s)
 {
-    return s != NULL ? s->d->period_s : (double)NAN;
+    return s != NULL ? s->p.d->period_s : (double)NAN;
 }
 
 rigmat_status rigmat_sampled_matrix(const rigmat_sampled *s, const char *name,
@@ -251,7 +217,7 @@ rigmat_status rigmat_sampled_matrix(const rigmat_sampled *s, const char *name,
 
     if (s == NULL || name == NULL || out == NULL)
         return RIGMAT_EUSAGE;
-    d = s->d;
+    d = s->p.d;
     transformed = d->method == RIGMAT_METHOD_FOH || d->method == RIGMAT_METHOD_TUSTIN;
     if (strcmp(name, "Ad") == 0)
         return rigmat_api_view(d->Ad, d->nx, d->nx, out);
@@ -267,24 +233,24 @@ rigmat_status rigmat_sampled_matrix(const rigmat_sampled *s, const char *name,
         return rigmat_api_view(d->Ed, d->ny, d->nw, out);
     /* one rule with the export: no Qd for a transformed state */
     if (strcmp(name, "Qd") == 0)
-        return rigmat_api_view(transformed ? NULL : s->nz->Qd, d->nx, d->nx, out);
+        return rigmat_api_view(transformed ? NULL : s->p.nz->Qd, d->nx, d->nx, out);
     if (strcmp(name, "Rd") == 0)
-        return rigmat_api_view(s->nz->Rd, d->ny, d->ny, out);
+        return rigmat_api_view(s->p.nz->Rd, d->ny, d->ny, out);
     if (strcmp(name, "fd") == 0)
-        return rigmat_api_view_vector(s->fd, d->nx, out);
+        return rigmat_api_view_vector(s->p.fd, d->nx, out);
     return RIGMAT_EUSAGE;
 }
 
 size_t rigmat_sampled_states(const rigmat_sampled *s)
 {
-    return s != NULL ? s->d->nx : 0;
+    return s != NULL ? s->p.d->nx : 0;
 }
 
 rigmat_status rigmat_sampled_state(const rigmat_sampled *s, size_t i, rigmat_signal_view *out)
 {
-    if (s == NULL || out == NULL || i >= s->d->nx)
+    if (s == NULL || out == NULL || i >= s->p.d->nx)
         return RIGMAT_EUSAGE;
-    rigmat_api_signal(&s->xs[i], 0, out);
+    rigmat_api_signal(&s->p.xs[i], 0, out);
     return RIGMAT_OK;
 }
 
@@ -503,7 +469,7 @@ rigmat_status rigmat_sampled_export(const rigmat_sampled *s, const char *format,
 
     if (s == NULL)
         return rigmat_api_usage(diags, "rigmat_sampled_export: the sampled model is NULL");
-    r = rigmat_describe_sampled(s->lin->m, s->lin->lti, s->d, s->nz, s->xs, s->fd);
+    r = rigmat_describe_sampled(s->lin->m, s->lin->lti, s->p.d, s->p.nz, s->p.xs, s->p.fd);
     st = export_result(r, format, opts, out, diags);
     rigmat_result_free(r);
     return st;

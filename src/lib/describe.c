@@ -26,6 +26,7 @@
  * Numbers carry 17 significant digits.
  */
 #include "describe.h"
+#include "affine.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -290,3 +291,41 @@ rigmat_result *rigmat_describe_sampled(const rigmat_model *m, const rigmat_lti *
     return r;
 }
 
+
+rigmat_status rigmat_sampled_parts_build(const rigmat_model *m, const rigmat_lti *l,
+        const rigmat_discretize_opts *o, rigmat_sampled_parts *p, rigmat_error *err)
+{
+    const rigmat_noise_opts no = rigmat_noise_opts_default();
+    rigmat_discretize_ws *dw = rigmat_discretize_ws_alloc(l->nx, l->nu, l->ny);
+    rigmat_noise_ws *nw = rigmat_noise_ws_alloc(l->nx, l->nu - l->nu_control);
+    rigmat_status st = RIGMAT_OK;
+
+    memset(p, 0, sizeof *p);
+    if (dw == NULL || nw == NULL)
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    if (st == RIGMAT_OK)
+        st = rigmat_discretize(l, o, dw, &p->d, err);
+    if (st == RIGMAT_OK)
+        st = rigmat_noise_build(l, p->d, &no, nw, &p->nz, err);
+    if (st == RIGMAT_OK) {
+        p->xs = rigmat_sampled_signals(&m->layout, p->d);
+        p->fd = gsl_vector_calloc(p->d->nx);
+        if (p->xs == NULL || p->fd == NULL)
+            st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    }
+    if (st == RIGMAT_OK)
+        st = rigmat_discretize_affine(l, o, p->d, p->fd, err);
+    rigmat_noise_ws_free(nw);
+    rigmat_discretize_ws_free(dw);
+    return st;
+}
+
+void rigmat_sampled_parts_release(rigmat_sampled_parts *p)
+{
+    if (p->fd != NULL)
+        gsl_vector_free(p->fd);
+    free(p->xs);
+    rigmat_noise_free(p->nz);
+    rigmat_dlti_free(p->d);
+    memset(p, 0, sizeof *p);
+}

@@ -26,6 +26,24 @@ rigmat_result *rigmat_describe_linear(const rigmat_model *m, const rigmat_lti *l
  * when out of memory. */
 rigmat_signal *rigmat_sampled_signals(const rigmat_layout *L, const rigmat_dlti *d);
 
+/* Everything a sampled result holds besides the continuous model. */
+typedef struct rigmat_sampled_parts {
+    rigmat_dlti *d;    /* the sampled model */
+    rigmat_noise *nz;  /* its noise model */
+    rigmat_signal *xs; /* its states (rigmat_sampled_signals) */
+    gsl_vector *fd;    /* the sampled affine term, d->nx (src/sample/affine.h) */
+} rigmat_sampled_parts;
+
+/* Sample l (of model m) with o, build its noise model, its state list and
+ * its affine term: the one sequence `rigmat discretize` and
+ * rigmat_linear_discretize run.  p is zeroed first; on failure it holds
+ * what was built (release it either way with rigmat_sampled_parts_release)
+ * and err says why: RIGMAT_EUSAGE, RIGMAT_ENUMERIC or RIGMAT_ENOMEM as the
+ * stages return them. */
+rigmat_status rigmat_sampled_parts_build(const rigmat_model *m, const rigmat_lti *l,
+        const rigmat_discretize_opts *o, rigmat_sampled_parts *p, rigmat_error *err);
+void rigmat_sampled_parts_release(rigmat_sampled_parts *p);
+
 /* The sampled model d of l (of model m) with its noise model nz, sampled
  * states xs (rigmat_sampled_signals) and sampled affine term fd (d->nx,
  * src/sample/affine.h).  A new result owned by the caller, or NULL when
