@@ -246,7 +246,8 @@ check-tsan: $(BUILD)/tsan/threads
 
 # check-oom: a full load + trim + linearize + discretize + noise run in
 # which the n-th allocation fails, for every n until the run succeeds:
-# through the library (tests/oom.c) and through the program
+# through the library (tests/oom.c; with --api through the public API of
+# include/rigmat.h, on the demo) and through the program
 # (tests/oom-cli.sh: `discretize --format json -o FILE`, exit 4 each time).
 # The allocation entry points are wrapped at link time (-Wl,--wrap, see
 # tests/oomwrap.c) in these two test executables only; LeakSanitizer checks
@@ -271,6 +272,7 @@ OOM_MODELS ?= examples/balancer.yaml examples/ball-beam.yaml examples/quarter-ca
 OOM_CLI_STEP ?= 7
 check-oom: $(BUILD)/san/oom $(BUILD)/san/rigmat-oom
 	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 $(BUILD)/san/oom catalog $(OOM_MODELS)
+	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 $(BUILD)/san/oom --api catalog examples/balancer.yaml
 	RIGMAT=$(BUILD)/san/rigmat-oom OOM_STEP=$(OOM_CLI_STEP) sh tests/oom-cli.sh
 
 # ------------------------------------------------------------ hostile input and fuzzing
