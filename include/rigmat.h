@@ -31,12 +31,15 @@
  *     what happened.
  *   - An output pointer (*out) is set only on RIGMAT_OK; otherwise it is
  *     set to NULL.
- *   - Ownership: a handle returned through *out belongs to the caller.  A
- *     handle made from another borrows it: a rigmat_linear borrows its
- *     rigmat_model, a rigmat_sampled, rigmat_analysis or rigmat_response
- *     its rigmat_linear.  Free the borrower first (the lender must outlive
- *     it).  Strings and arrays an accessor returns belong to the handle
- *     they came from and are valid until it is freed.
+ *   - Ownership: a handle returned through *out belongs to the caller.  Two
+ *     handles borrow the one they were made from: a rigmat_linear its
+ *     rigmat_model, a rigmat_sampled its rigmat_linear (and so the model).
+ *     Free the borrower first (the lender must outlive it).  A
+ *     rigmat_steady, rigmat_analysis or rigmat_response copies what it
+ *     needs and borrows nothing.  Strings and arrays an accessor returns
+ *     belong to the handle they came from and are valid until it is freed.
+ *   - Build with `pkg-config --cflags --libs rigmat`: the library is static
+ *     and the .pc file lists what it needs (GSL, the BLAS, libyaml).
  *   - Numbers are SI (kg, m, s, A, rad, Hz for rates); every matrix is
  *     row-major with rows * cols doubles (rigmat_matrix_view).
  *   - GSL's default error handler aborts the process.  Call
