@@ -34,7 +34,7 @@ BUILD = build
 .DEFAULT_GOAL := all
 # One folder per pipeline stage, in the order data flows (tests/stages.sh
 # refuses an include from a later stage into an earlier one).
-STAGES = util model mech sample study emit
+STAGES = util model mech sample study emit lib
 PROJECT_CFLAGS = -std=c99 -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc $(STAGES:%=-Isrc/%) -Isrc/cli -I$(BUILD) \
     -Wall -Wextra -Wpedantic -Wconversion -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
     -Wold-style-definition -Wvla -Wdouble-promotion -Wcast-qual -Wwrite-strings \
@@ -67,12 +67,9 @@ LIB_SRC  := $(sort $(foreach d,$(STAGES),$(wildcard src/$(d)/*.c)))
 CLI_SRC  := $(sort $(wildcard src/cli/*.c))
 TEST_SRC := $(sort $(wildcard tests/check_*.c)) tests/run.c tests/testutil.c tests/mechtest.c
 BENCH_SRC := $(sort $(wildcard bench/*.c))
-# Installed beside rigmat.h as <rigmat/NAME.h>: units, the matrix
-# exponential, sampling, the noise model, simulation, the validity range,
-# the Riccati solver, the gains and the result writers.
-PUBLIC_SUBHEADERS = src/model/units.h src/sample/expm.h src/sample/discretize.h src/sample/noise.h \
-    src/study/simulate.h src/study/validity.h src/study/riccati.h src/study/gains.h \
-    src/emit/result.h
+# The one installed header is include/rigmat.h, the public API (opaque
+# handles; src/lib/ implements it over src/util/rigmat_internal.h and the
+# stage headers, which are not installed).
 
 # Flavours of the same sources, each in $(BUILD)/NAME:
 #   plain  -O2 -g, the shipped program and library (invariants pass through)
@@ -102,7 +99,7 @@ $(BUILD)/$(1)/rigmat: $$($(1)_OBJ_CLI) $(BUILD)/$(1)/librigmat.a
 $(BUILD)/$(1)/check_rigmat: $$($(1)_OBJ_TEST) $(BUILD)/$(1)/librigmat.a
 	$$(CC) $(2) $$(LDFLAGS) -o $$@ $$^ $$(CHECK_LIBS) $$(LIBS)
 $(BUILD)/$(1)/tests/run.o: $(BUILD)/suites.h
-$(BUILD)/$(1)/src/cli/main.o: $(BUILD)/share_dir.h
+$(BUILD)/$(1)/src/cli/main.o $(BUILD)/$(1)/src/lib/api.o: $(BUILD)/share_dir.h
 -include $$($(1)_OBJ_LIB:.o=.d) $$($(1)_OBJ_CLI:.o=.d) $$($(1)_OBJ_TEST:.o=.d)
 endef
 SAN_FLAGS = -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
@@ -181,8 +178,13 @@ check: all check-stages check-symbols check-unit check-cli check-man check-repor
 check-stages:
 	sh tests/stages.sh --self-test
 	sh tests/stages.sh
+# check-symbols: every exported symbol of the library is rigmat_-prefixed,
+# and the library holds no writable data, so no global state
+# (tests/globals.sh, with a self-test that plants a writable static).
 check-symbols: $(BUILD)/librigmat.a
 	@nm -g --defined-only $< | awk 'NF==3 && $$3 !~ /^rigmat_/ {bad=1; print "non-prefixed symbol: " $$3} END {exit bad}'
+	@sh tests/globals.sh --self-test
+	@sh tests/globals.sh $<
 # The locale case of the units suite (tests/check_locale.c) needs a
 # comma-decimal locale: tests/locale.sh generates de_DE.UTF-8 when it can.
 check-locale: deps-test
@@ -244,7 +246,8 @@ check-tsan: $(BUILD)/tsan/threads
 
 # check-oom: a full load + trim + linearize + discretize + noise run in
 # which the n-th allocation fails, for every n until the run succeeds:
-# through the library (tests/oom.c) and through the program
+# through the library (tests/oom.c; with --api through the public API of
+# include/rigmat.h, on the demo) and through the program
 # (tests/oom-cli.sh: `discretize --format json -o FILE`, exit 4 each time).
 # The allocation entry points are wrapped at link time (-Wl,--wrap, see
 # tests/oomwrap.c) in these two test executables only; LeakSanitizer checks
@@ -269,6 +272,7 @@ OOM_MODELS ?= examples/balancer.yaml examples/ball-beam.yaml examples/quarter-ca
 OOM_CLI_STEP ?= 7
 check-oom: $(BUILD)/san/oom $(BUILD)/san/rigmat-oom
 	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 $(BUILD)/san/oom catalog $(OOM_MODELS)
+	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 $(BUILD)/san/oom --api catalog examples/balancer.yaml
 	RIGMAT=$(BUILD)/san/rigmat-oom OOM_STEP=$(OOM_CLI_STEP) sh tests/oom-cli.sh
 
 # ------------------------------------------------------------ hostile input and fuzzing
@@ -303,6 +307,7 @@ $(BUILD)/fuzz/fuzz_%: $(BUILD)/fuzz/tests/fuzz/fuzz_%.o $(BUILD)/fuzz/librigmat.
 $(BUILD)/san/fuzz-replay-%: $(BUILD)/san/tests/fuzz/fuzz_%.o $(BUILD)/san/tests/fuzz/replay.o \
         $(BUILD)/san/librigmat.a
 	$(CC) $(SAN_FLAGS) $(LDFLAGS) -o $@ $^ $(LIBS)
+$(BUILD)/fuzz/src/lib/api.o: $(BUILD)/share_dir.h
 -include $(FUZZ_OBJ_LIB:.o=.d) $(wildcard $(BUILD)/fuzz/tests/fuzz/*.d $(BUILD)/san/tests/fuzz/*.d)
 # Keep the harness objects make would otherwise delete as intermediate.
 .SECONDARY: $(FUZZ_NAMES:%=$(BUILD)/fuzz/tests/fuzz/fuzz_%.o) \
@@ -343,11 +348,10 @@ install: all
 	install -m 644 doc/rigmat.bash $(DESTDIR)$(PREFIX)/share/bash-completion/completions/rigmat
 	install -m 755 $(BUILD)/rigmat $(DESTDIR)$(PREFIX)/bin/rigmat
 	install -m 644 $(BUILD)/librigmat.a $(DESTDIR)$(PREFIX)/lib/librigmat.a
-	install -d $(DESTDIR)$(PREFIX)/include/rigmat
 	install -m 644 include/rigmat.h $(DESTDIR)$(PREFIX)/include/rigmat.h
-	install -m 644 $(PUBLIC_SUBHEADERS) $(DESTDIR)$(PREFIX)/include/rigmat/
 	cp -R catalog $(DESTDIR)$(PREFIX)/share/rigmat/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/^#define RIGMAT_VERSION "\(.*\)"/\1/p' include/rigmat.h)|g' \
+	    -e 's|@LIBS@|$(strip $(LIBS))|g' -e 's|@CFLAGS@|$(strip $(PKG_CFLAGS))|g' \
 	    rigmat.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/rigmat.pc
 uninstall:
 	rm -f $(DESTDIR)$(PREFIX)/bin/rigmat $(DESTDIR)$(PREFIX)/lib/librigmat.a \

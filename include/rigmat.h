@@ -1,49 +1,62 @@
-/* rigmat.h - the one public header of librigmat.
+/* rigmat.h - the public API of librigmat.
  *
  * rigmat turns a YAML description of a planar mechanism (bodies, joints,
  * springs, dampers, DC motors with transmissions, forces, sensors, an
- * operating point) into the linear state-space model around that point, its
- * sampled form and a discrete noise model.  See README.md for the schema and
- * DEVELOPERS.md for the layout of the library.
+ * operating point) into the linear state-space model around that point,
+ * its sampled form with a discrete noise model, and analyses of both.
+ * README.md describes the model file; examples/embed.c is a complete
+ * program using this header.
  *
- * Conventions used throughout:
- *   - every double is SI; a double with a physical meaning carries its unit
- *     in its name (mass_kg, radius_m, rate_hz);
- *   - angles are radians, counter-clockwise positive; world x right, y up;
- *   - functions return a rigmat_status and, on failure, fill a caller-owned
- *     rigmat_error (which may be NULL);
- *   - GSL's default error handler aborts the process.  Programs linking
- *     librigmat must call gsl_set_error_handler_off() once, first (before
- *     starting any thread: the handler is process-wide): rigmat checks
+ * THE STEPS
+ *   rigmat_source_new      what to load: a file, overrides, a catalog folder
+ *   rigmat_source_load     -> rigmat_model      (validated, equations checked)
+ *   rigmat_model_trim      -> rigmat_steady     (a steady state over operating_point.solve)
+ *   rigmat_model_linearize -> rigmat_linear     (x' = A x + B u, y = C x + D u)
+ *   rigmat_linear_discretize -> rigmat_sampled  (Ad ... Ed, Qd, Rd at a rate)
+ *   rigmat_linear_analyze  -> rigmat_analysis   (eigenvalues and modes)
+ *   rigmat_linear_simulate -> rigmat_response   (a free response from an offset)
+ *   rigmat_linear_export, rigmat_sampled_export: the result to a FILE * in
+ *   any format of `rigmat --format` (text, json, csv, c, numpy, latex, and
+ *   the folder format mtx through a callback).
+ *
+ * CONVENTIONS
+ *   - Types are opaque: create them with the function that returns them,
+ *     read them with accessors, free them with their _free function.  Every
+ *     _free accepts NULL.
+ *   - Every function that can fail returns a rigmat_status and, when the
+ *     caller passes a rigmat_diags, appends what went wrong there (with the
+ *     place in the model file when there is one, and a hint).  Nothing is
+ *     ever printed: the library writes only to streams the caller passes.
+ *     diags may be NULL where a function takes one; the status still says
+ *     what happened.
+ *   - An output pointer (*out) is set only on RIGMAT_OK; otherwise it is
+ *     set to NULL.
+ *   - Ownership: a handle returned through *out belongs to the caller.  Two
+ *     handles borrow the one they were made from: a rigmat_linear its
+ *     rigmat_model, a rigmat_sampled its rigmat_linear (and so the model).
+ *     Free the borrower first (the lender must outlive it).  A
+ *     rigmat_steady, rigmat_analysis or rigmat_response copies what it
+ *     needs and borrows nothing.  Strings and arrays an accessor returns
+ *     belong to the handle they came from and are valid until it is freed.
+ *   - Build with `pkg-config --cflags --libs rigmat`: the library is static
+ *     and the .pc file lists what it needs (GSL, the BLAS, libyaml).
+ *   - Numbers are SI (kg, m, s, A, rad, Hz for rates); every matrix is
+ *     row-major with rows * cols doubles (rigmat_matrix_view).
+ *   - GSL's default error handler aborts the process.  Call
+ *     gsl_set_error_handler_off() once, before any other rigmat call and
+ *     before starting threads (the handler is process-wide): rigmat checks
  *     every GSL status itself.
  *
- * THREAD SAFETY
- *   Every function is reentrant for separate objects: librigmat keeps no
- *   process-wide state, never changes the signal mask, the locale or the
- *   GSL error handler, reads no environment variable, and reads numbers
- *   the same in every locale (a model's "0.8 kg" is 0.8 kg under a
- *   comma-decimal LC_NUMERIC too).  Hence:
- *     - May be shared by threads: a rigmat_model once rigmat_model_load has
- *       returned (read only from then on; rigmat_linearize, rigmat_trim_model
- *       and rigmat_system_alloc take it const), a rigmat_lti, rigmat_dlti or
- *       rigmat_noise that no thread modifies, and rigmat_options.
- *     - One thread at a time, each: a rigmat_system (it keeps scratch
- *       memory that every rigmat_system_eval and rigmat_system_jacobians
- *       call rewrites), the workspaces (rigmat_discretize_ws,
- *       rigmat_noise_ws, rigmat_expm_ws), a rigmat_diags list being
- *       filled, a rigmat_error, a rigmat_trim_result.  Give each thread its
- *       own, or lock around them.
- *     - Freeing an object while another thread uses it, or anything that
- *       borrows from it (an lti's layout points into its model), is wrong.
- *   The C library and GSL calls rigmat makes are thread-safe as used; with
- *   OpenBLAS as GSL's BLAS, use a build made for threaded callers (Debian's
- *   libopenblas0-pthread is).  tests/threads.c checks all of this under
- *   ThreadSanitizer (`make check-tsan`).
- *
- * Sampling, the noise model, the matrix exponential, units, the Riccati
- * solver and the Kalman/LQR gains have headers of their own, installed
- * beside this one: <rigmat/discretize.h>, <rigmat/noise.h>,
- * <rigmat/expm.h>, <rigmat/units.h>, <rigmat/riccati.h>, <rigmat/gains.h>.
+ * THREADS
+ *   librigmat has no global state (no writable static data: `make
+ *   check-symbols` verifies it), reads no environment variable and never
+ *   changes the locale.  Separate handles may be used on separate threads
+ *   at the same time.  A handle that no thread modifies (every handle once
+ *   created; a rigmat_diags or rigmat_source is modified by the functions
+ *   that fill it) may be read from several threads; freeing a handle while
+ *   another thread uses it or a borrower of it is wrong.  With OpenBLAS as
+ *   GSL's BLAS, use a build made for threaded callers (Debian's
+ *   libopenblas0-pthread is).
  *
  * Copyright (C) 2026 the rigmat authors.  GPL-3.0-or-later.
  */
@@ -52,21 +65,27 @@
 
 #include <stddef.h>
 #include <stdio.h>
-#include <gsl/gsl_matrix.h>
-#include <gsl/gsl_vector.h>
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* --------------------------------------------------------------- version */
 
 #define RIGMAT_VERSION "0.1.0"
-#define RIGMAT_SCHEMA 1
+#define RIGMAT_VERSION_MAJOR 0
+#define RIGMAT_VERSION_MINOR 1
+#define RIGMAT_VERSION_PATCH 0
+#define RIGMAT_SCHEMA 1 /* the model file schema this library reads */
 
-#if defined(__GNUC__) || defined(__clang__)
-#define RIGMAT_PRINTF(fmt, args) __attribute__((format(printf, fmt, args)))
-#else
-#define RIGMAT_PRINTF(fmt, args)
-#endif
+/* The version of the library linked in ("0.1.0"), to compare with the
+ * RIGMAT_VERSION a program was compiled with.  A static string. */
+const char *rigmat_version(void);
 
 /* ---------------------------------------------------------------- status */
 
-/* Exit codes of the command line follow this enum (src/cli/main.c). */
+/* What a function did.  The command line exits with rigmat_exit_code of
+ * the status (README.md, "Exit codes" under the command line). */
 typedef enum rigmat_status {
     RIGMAT_OK = 0,
     RIGMAT_EMODEL,   /* the model file is wrong (exit 1) */
@@ -77,527 +96,281 @@ typedef enum rigmat_status {
     RIGMAT_EINTERNAL /* a broken invariant: a bug in rigmat (exit 5) */
 } rigmat_status;
 
-/* A place in an input file. */
-typedef struct rigmat_loc {
-    const char *file;        /* owned by the model or diag list holding this loc */
-    unsigned long line, col; /* 1-based; col counts characters; 0 = unknown */
-} rigmat_loc;
-
-/* One failure of the computation or the system, filled by the function that
- * detects it.  Plain data: only the command line prints. */
-typedef struct rigmat_error {
-    rigmat_status status;
-    rigmat_loc where;  /* the offending value, if the failure has a place */
-    rigmat_loc within; /* the entry that encloses it, if any */
-    char message[256]; /* lowercase, no full stop */
-    char hint[512];    /* optional; empty when there is none */
-    const char *src_file; /* where rigmat raised it, for developers */
-    int src_line;
-} rigmat_error;
-
-/* Fill err (which may be NULL) and return st.  Never allocates.  This is the
- * breakpoint target for every error rigmat raises. */
-rigmat_status rigmat_error_set(rigmat_error *err, rigmat_status st, const char *src_file,
-        int src_line, const char *fmt, ...) RIGMAT_PRINTF(5, 6);
-/* Set err->hint (printf style); err may be NULL. */
-void rigmat_error_hint(rigmat_error *err, const char *fmt, ...) RIGMAT_PRINTF(2, 3);
-#define RIGMAT_FAIL(err, st, ...) rigmat_error_set((err), (st), __FILE__, __LINE__, __VA_ARGS__)
-
+/* "ok", "bad model", "bad usage", "numerical failure", "input/output
+ * error", "out of memory", "internal error"; a static string ("unknown
+ * status" for a value outside the enum). */
 const char *rigmat_status_name(rigmat_status st);
+/* The exit code of the command line for st: 0, 1, 2, 3, 4, 4, 5; 5 for a
+ * value outside the enum. */
+int rigmat_exit_code(rigmat_status st);
 
-/* ------------------------------------------------------------ diagnostics */
+/* ----------------------------------------------------------- diagnostics */
 
 typedef enum rigmat_severity { RIGMAT_ERROR = 0, RIGMAT_WARNING, RIGMAT_NOTE } rigmat_severity;
 
-/* One input diagnostic: an error, warning or note with a place. */
-typedef struct rigmat_diag {
+/* A list of diagnostics: errors, warnings and notes, each with its place
+ * in an input file when it has one.  Owned by the caller, who creates it
+ * with rigmat_diags_new, passes it to the functions below (each appends
+ * to it) and frees it with rigmat_diags_free. */
+typedef struct rigmat_diags rigmat_diags;
+
+/* One diagnostic as the caller reads it.  The strings belong to the list
+ * and are valid until it is freed. */
+typedef struct rigmat_diag_view {
     rigmat_severity severity;
-    rigmat_loc where;  /* the offending key or value */
-    rigmat_loc within; /* the enclosing entry (file NULL when none) */
-    char *within_what; /* "body 'chassis'", or NULL; owned */
-    char *message;     /* owned */
-    char *hint;        /* owned; NULL when there is none */
-} rigmat_diag;
+    const char *file;     /* the input file, or NULL when the problem has no place */
+    unsigned long line;   /* 1-based; 0 = unknown */
+    unsigned long column; /* 1-based, in characters; 0 = unknown */
+    const char *context;  /* the enclosing entry ("body 'chassis'"), or NULL */
+    const char *message;  /* lowercase, no full stop; never NULL */
+    const char *hint;     /* how to fix it, or NULL */
+} rigmat_diag_view;
 
-/* A list of diagnostics.  Owns copies of every string it holds, including
- * the file names its locs point at. */
-typedef struct rigmat_diags {
-    rigmat_diag *items;
-    size_t count, cap;
-    size_t errors;     /* errors found: those recorded plus those dropped */
-    size_t max_errors; /* stop recording errors past this (default 50) */
-    size_t dropped;    /* errors not recorded because of max_errors */
-    char **files;      /* interned file names */
-    size_t nfiles;
-} rigmat_diags;
-
-void rigmat_diags_init(rigmat_diags *d);
-void rigmat_diags_release(rigmat_diags *d);
-/* Record a diagnostic; returns RIGMAT_ENOMEM only if memory ran out.
- * within_what and hint may be NULL. */
-rigmat_status rigmat_diags_add(rigmat_diags *d, rigmat_severity sev, rigmat_loc where,
-        rigmat_loc within, const char *within_what, const char *hint, const char *fmt, ...)
-        RIGMAT_PRINTF(7, 8);
-/* Intern a file name; the returned pointer lives as long as d. */
-const char *rigmat_diags_file(rigmat_diags *d, const char *name);
-/* Print every diagnostic as FILE:LINE:COL: error: message, then its note and
- * hint lines, with control characters from the input replaced. */
+/* A new empty list, or NULL when out of memory. */
+rigmat_diags *rigmat_diags_new(void);
+void rigmat_diags_free(rigmat_diags *d);
+/* The number of diagnostics recorded (0 for NULL). */
+size_t rigmat_diags_count(const rigmat_diags *d);
+/* The number of errors found, those recorded plus any dropped past the
+ * limit of 50 per load (0 for NULL). */
+size_t rigmat_diags_errors(const rigmat_diags *d);
+/* Diagnostic i (0 <= i < count) into *out; RIGMAT_EUSAGE when i is out of
+ * range or an argument is NULL. */
+rigmat_status rigmat_diags_get(const rigmat_diags *d, size_t i, rigmat_diag_view *out);
+/* Write every diagnostic to out as the command line prints them:
+ * FILE:LINE:COL: error: message, then its note and hint lines, with
+ * control characters of the input replaced. */
 void rigmat_diags_print(const rigmat_diags *d, FILE *out);
 
-/* ---------------------------------------------------------------- options */
+/* ---------------------------------------------------------------- loading */
 
-/* Limits and tolerances travel here; no globals.  rigmat_options_default()
- * gives the documented defaults. */
-typedef struct rigmat_options {
-    size_t max_file_bytes;  /* default 4 MiB */
-    size_t max_depth;       /* YAML nesting depth, default 32 */
-    size_t max_nodes;       /* YAML scalars + collections per file, default 200000 */
-    size_t max_entries;     /* entries per section (bodies, joints, ...), default 256 */
-    size_t max_errors;      /* diagnostics reported before giving up, default 50 */
-    size_t max_part_depth;  /* catalog parts may not nest deeper, default 4 */
-    size_t max_joints;      /* joints per model, default 48: the cost limit (README.md) */
-    const char *catalog_dir;    /* --catalog, or NULL */
-    const char *catalog_env;    /* $RIGMAT_CATALOG, or NULL */
-    const char *catalog_share;  /* installed share folder, or NULL */
-    const char *catalog_exe;    /* folder of the running program (its ../catalog), or NULL */
-    double trim_tol;         /* steady-state residual tolerance (SI), default 1e-10 */
-    size_t trim_max_iter;    /* default 100 */
-    double rank_rtol;        /* relative singular-value threshold, default 1e-9 */
-    double rate_hz;          /* sample rate for noise-per-sample figures; 0 = none */
-    size_t max_sampled_states; /* states of a sampled model, plant plus input-delay
-                                * stages; a larger delay is refused; default 1024
-                                * (README.md, Limits) */
-    int limits_refuse;       /* 1 (default): an operating point beyond an input's limit or
-                              * a motor's current_limit is RIGMAT_ENUMERIC in linearize and
-                              * trim; 0: the lti carries it for a report (check) */
-} rigmat_options;
+/* What to load: the model file, values that override it (the command
+ * line's --set), and a catalog folder to look for parts in.  Owned by the
+ * caller (rigmat_source_free); it copies every string given to it. */
+typedef struct rigmat_source rigmat_source;
 
-rigmat_options rigmat_options_default(void);
+/* A source for the model file at path, or NULL when out of memory or path
+ * is NULL.  The file is read by rigmat_source_load, not here. */
+rigmat_source *rigmat_source_new(const char *path);
+void rigmat_source_free(rigmat_source *s);
+/* Override one value of the model: key is the path in the file
+ * ("bodies.chassis.mass"), value the text that replaces it, with units
+ * ("4.5 kg").  Checked when the model is loaded (an unknown path or a bad
+ * value is then an error naming "--set").  RIGMAT_EUSAGE for a NULL or
+ * empty key or a NULL value, RIGMAT_ENOMEM. */
+rigmat_status rigmat_source_set(rigmat_source *s, const char *key, const char *value);
+/* Look for catalog parts (`part: motors/NAME`) in dir first.  Without it,
+ * only the folder beside the library's installed share folder is
+ * searched.  RIGMAT_EUSAGE for NULL, RIGMAT_ENOMEM. */
+rigmat_status rigmat_source_catalog(rigmat_source *s, const char *dir);
 
-/* ------------------------------------------------------------------ units */
+/* A loaded, validated model.  Owned by the caller (rigmat_model_free);
+ * read-only once loaded, so threads may share it. */
+typedef struct rigmat_model rigmat_model;
 
-/* Base dimensions, in this order: mass, length, time, current, angle, cycle.
- * Angle (rad) and cycle (rev of a frequency: 1 Hz = 1 cycle/s) are kept
- * apart so Hz, rad/s and rpm never convert silently.  rpm is an angle rate
- * (2*pi/60 rad/s).  Exponents are in half units so sqrt(Hz) is exact. */
-enum { RIGMAT_DIM_MASS, RIGMAT_DIM_LENGTH, RIGMAT_DIM_TIME, RIGMAT_DIM_CURRENT,
-    RIGMAT_DIM_ANGLE, RIGMAT_DIM_CYCLE, RIGMAT_NDIM };
-
-typedef struct rigmat_dim {
-    signed char half[RIGMAT_NDIM]; /* exponent times two */
-} rigmat_dim;
-
-typedef struct rigmat_quantity {
-    double value; /* in SI (kg, m, s, A, rad, cycle) */
-    rigmat_dim dim;
-} rigmat_quantity;
-
-/* ------------------------------------------------------------------ model */
-
-/* ground is always body 0; an index of RIGMAT_NONE means "none". */
-#define RIGMAT_NONE ((size_t)-1)
-
-typedef enum rigmat_shape {
-    RIGMAT_SHAPE_GIVEN = 0, /* inertia written out (or 0: a point mass) */
-    RIGMAT_SHAPE_POINT, RIGMAT_SHAPE_ROD, RIGMAT_SHAPE_DISC, RIGMAT_SHAPE_RING,
-    RIGMAT_SHAPE_SPHERE, RIGMAT_SHAPE_BOX
-} rigmat_shape;
-
-typedef struct rigmat_body {
-    char *name;
-    rigmat_loc loc;
-    double mass_kg;       /* >= 0 */
-    double inertia_kgm2;  /* about the centre of mass; >= 0 (derived from shape if given) */
-    double com_m[2];      /* centre of mass in the body frame */
-    rigmat_shape shape;
-    double length_m, direction_rad; /* rod: length, direction from the origin */
-    double radius_m;                /* disc, ring, sphere */
-    double width_m, height_m;       /* box */
-    size_t joint;         /* the joint whose child this is; RIGMAT_NONE for ground */
-} rigmat_body;
-
-/* Joint types; what each one is (its word, coordinate, units, keys) is
- * its entry in the kind table (src/model/kinds.c). */
-typedef enum rigmat_joint_type {
-    RIGMAT_JOINT_SLIDER, RIGMAT_JOINT_HINGE, RIGMAT_JOINT_ROLLING, RIGMAT_JOINT_FIXED,
-    RIGMAT_JOINT_TYPE_COUNT /* the number of types, not a type */
-} rigmat_joint_type;
-
-typedef enum rigmat_driven {
-    RIGMAT_DRIVEN_NONE = 0, RIGMAT_DRIVEN_POSITION, RIGMAT_DRIVEN_VELOCITY,
-    RIGMAT_DRIVEN_ACCELERATION
-} rigmat_driven;
-
-typedef enum rigmat_role { RIGMAT_ROLE_INPUT = 0, RIGMAT_ROLE_DISTURBANCE } rigmat_role;
-
-typedef struct rigmat_joint {
-    char *name;
-    rigmat_loc loc;
-    rigmat_joint_type type;
-    size_t parent, child;  /* body indices */
-    double at_m[2];        /* in the parent frame */
-    double angle_rad;      /* child angle relative to parent at q = 0 */
-    double axis[2];        /* slider: unit vector in the parent frame */
-    int reference_world;   /* hinge: 1 if q is the child's world angle */
-    double radius_m;       /* rolling: wheel radius, > 0 */
-    rigmat_driven driven;
-    rigmat_role role;      /* driven joints only */
-    double density;        /* driven, disturbance: SI unit of the driven derivative per sqrt(Hz); 0 = none */
-    double bandwidth_hz;   /* driven, disturbance: first-order colouring; 0 = white */
-    int has_limit;         /* driven: `limit` given (README.md, "Limits" */
-    double limit[2];       /* driven: [low, high] of the driven input, SI */
-} rigmat_joint;
-
-/* Where a spring or damper acts. */
-typedef enum rigmat_attach {
-    RIGMAT_ATTACH_ACROSS,  /* across a joint: relative motion of parent and child */
-    RIGMAT_ATTACH_BETWEEN, /* rotational, angle(B) - angle(A) */
-    RIGMAT_ATTACH_POINTS   /* point to point along the connecting line */
-} rigmat_attach;
-
-/* A spring (stiffness, rest) or a damper (coefficient). */
-typedef struct rigmat_link {
-    char *name;
-    rigmat_loc loc;
-    rigmat_attach attach;
-    size_t joint;          /* ACROSS */
-    size_t body_a, body_b; /* BETWEEN and POINTS */
-    double point_a_m[2], point_b_m[2]; /* POINTS, in each body's frame */
-    double stiffness;      /* springs: N/m or N*m/rad */
-    double rest;           /* springs: m or rad */
-    double coefficient;    /* dampers: N*s/m or N*m*s/rad */
-} rigmat_link;
-
-typedef enum rigmat_motor_drive {
-    RIGMAT_DRIVE_VOLTAGE = 0, RIGMAT_DRIVE_CURRENT, RIGMAT_DRIVE_DUTY
-} rigmat_motor_drive;
-
-/* A brushed DC motor with its transmission.  The loader resolves the
- * datasheet form into the circuit values below, all at the motor shaft. */
-typedef struct rigmat_motor {
-    char *name;
-    rigmat_loc loc;
-    char *part;                   /* catalog part name, or NULL */
-    double resistance_ohm;        /* > 0 */
-    double inductance_h;          /* > 0 unless inductance_neglected */
-    int inductance_neglected;
-    double torque_constant_nm_a;  /* Kt, motor shaft */
-    double back_emf_v_s_rad;      /* Ke, motor shaft */
-    double rotor_inertia_kgm2;    /* one motor, >= 0 */
-    double friction_nm_s_rad;     /* viscous, motor shaft, >= 0 */
-    /* datasheet form, kept for the report (valid when datasheet != 0) */
-    int datasheet;
-    int figures_at_output;
-    double rated_voltage_v, stall_torque_nm, stall_current_a;
-    double no_load_speed_rad_s, no_load_current_a;
-    double kt_from_sheet, ke_from_sheet; /* both derived; torque_constant_nm_a is the one used */
-    /* drive */
-    rigmat_motor_drive drive;
-    double supply_v;              /* duty drive */
-    /* transmission */
-    double gear_ratio;            /* N, motor turns per output turn, > 0 */
-    double efficiency;            /* (0, 1], on Kt i only */
-    double radius_m;              /* across a slider: pulley/pinion radius, or 0 */
-    double lead_m;                /* across a slider: screw lead per turn, or 0 */
-    double load_inertia_kgm2;     /* on the output shaft */
-    /* placement: across a joint, or stator/rotor bodies */
-    size_t joint;                 /* RIGMAT_NONE for the stator/rotor form */
-    int mounted_on_child;         /* across: stator on the child */
-    size_t stator, rotor;         /* bodies (filled for both forms when rotary) */
-    unsigned count;               /* identical motors in parallel, >= 1 */
-    int polarity;                 /* +1 or -1 */
-    /* limits (README.md, "Limits" */
-    int has_limit;                /* always 1 for a duty drive */
-    double limit[2];              /* [low, high] of the drive input (V, A or duty) */
-    double current_limit_a;       /* winding current per motor the drive allows; 0 = none */
-} rigmat_motor;
-
-typedef enum rigmat_force_kind {
-    RIGMAT_FORCE_POINT,  /* on a body at a point, along a direction */
-    RIGMAT_FORCE_TORQUE, /* torque_on a body (optionally reacting on another) */
-    RIGMAT_FORCE_ACROSS  /* a generalized force across a joint */
-} rigmat_force_kind;
-
-typedef struct rigmat_force {
-    char *name;
-    rigmat_loc loc;
-    rigmat_force_kind kind;
-    size_t body;          /* POINT, TORQUE */
-    double at_m[2];       /* POINT: in the body frame */
-    double direction[2];  /* POINT: unit vector */
-    int frame_body;       /* POINT: direction in the body frame (else world) */
-    size_t reacting;      /* TORQUE: reaction body, or RIGMAT_NONE */
-    size_t joint;         /* ACROSS */
-    rigmat_role role;
-    double density;       /* N/sqrt(Hz) or N*m/sqrt(Hz); 0 = none */
-    double bandwidth_hz;  /* 0 = white */
-    int has_limit;        /* `limit` given */
-    double limit[2];      /* [low, high], N or N*m */
-} rigmat_force;
-
-typedef enum rigmat_sensor_kind {
-    RIGMAT_SENSE_JOINT_POSITION, RIGMAT_SENSE_JOINT_VELOCITY,
-    RIGMAT_SENSE_ANGLE, RIGMAT_SENSE_RATE,
-    RIGMAT_SENSE_RELATIVE_ANGLE, RIGMAT_SENSE_RELATIVE_RATE,
-    RIGMAT_SENSE_MOTOR_ANGLE,
-    RIGMAT_SENSE_POINT_POSITION, RIGMAT_SENSE_POINT_VELOCITY,
-    RIGMAT_SENSE_SPECIFIC_FORCE,
-    RIGMAT_SENSE_CURRENT, RIGMAT_SENSE_DRIVE_FORCE,
-    RIGMAT_SENSE_KIND_COUNT /* the number of kinds, not a kind (table: src/model/kinds.c) */
-} rigmat_sensor_kind;
-
-/* y = gain * (measured quantity) + offset.  noise, density and resolution
- * are in the measured quantity's own unit (before gain). */
-typedef struct rigmat_sensor {
-    char *name;
-    rigmat_loc loc;
-    rigmat_sensor_kind kind;
-    size_t joint;          /* joint kinds, DRIVE_FORCE */
-    size_t body, body_b;   /* body kinds; relative: reads body_b minus body */
-    size_t motor;          /* MOTOR_ANGLE, CURRENT */
-    double at_m[2];        /* point kinds, in the body frame */
-    double axis[2];        /* point kinds: world unit vector; SPECIFIC_FORCE: body unit vector */
-    double gain, offset;   /* gain signed, default 1 */
-    double noise;          /* standard deviation per sample; 0 = none */
-    double density;        /* per sqrt(Hz); 0 = none */
-    double bandwidth_hz;   /* first-order bandwidth for density; 0 = sample average */
-    double resolution;     /* quantization step; 0 = none */
-    double counts_per_rev; /* angle readings (angle, relative_angle, a hinge's position,
-                              motor_angle): decoded counts per turn; 0 = none */
-    int unit_counts;       /* those readings: output in counts (else rad) */
-    /* bias state `<sensor>.bias` (measured unit, before gain): b' = -b/tau + w */
-    double bias_walk;      /* random walk: density of w (unit per sqrt(s)); 0 = none */
-    double bias_sd;        /* Gauss-Markov: steady standard deviation; 0 = none */
-    double bias_tau_s;     /* Gauss-Markov: correlation time; 0 = random walk */
-    double filter_hz;      /* first-order low-pass state `<sensor>.filtered`; 0 = none */
-} rigmat_sensor;
-
-/* A sensor's bias state exists (and with it its noise input). */
-#define RIGMAT_SENSOR_HAS_BIAS(se) ((se)->bias_walk > 0.0 || (se)->bias_sd > 0.0)
-
-/* A name = value pair of the operating point. */
-typedef struct rigmat_setting {
-    char *name;
-    rigmat_loc loc;
-    double value; /* SI */
-} rigmat_setting;
-
-typedef struct rigmat_namelist {
-    char **names;
-    rigmat_loc *locs;
-    size_t count;
-} rigmat_namelist;
-
-/* What a state, input or output is. */
-typedef enum rigmat_signal_kind {
-    RIGMAT_SIG_COORD,      /* state: a joint coordinate; index = joint */
-    RIGMAT_SIG_RATE,       /* state: a joint rate; index = joint */
-    RIGMAT_SIG_CURRENT,    /* state: a motor current; index = motor */
-    RIGMAT_SIG_SHAPING,    /* state: a coloured disturbance's filter; index = input it colours */
-    RIGMAT_SIG_DELAY,      /* state: a delayed input (discretize); index = input */
-    RIGMAT_SIG_MOTOR,      /* input: a motor's drive; index = motor */
-    RIGMAT_SIG_FORCE,      /* input: a force or torque; index = force */
-    RIGMAT_SIG_DRIVEN,     /* input: a driven joint's derivative; index = joint */
-    RIGMAT_SIG_SENSOR,     /* output: index = sensor */
-    RIGMAT_SIG_BIAS,       /* state: a sensor's bias; index = sensor */
-    RIGMAT_SIG_BIAS_NOISE, /* input (disturbance): the white noise driving a bias; index = sensor */
-    RIGMAT_SIG_FILTERED,   /* state: a sensor's low-pass output; index = sensor */
-    RIGMAT_SIG_FILTER_NOISE /* input (disturbance): a filtered sensor's density; index = sensor */
-} rigmat_signal_kind;
-
-typedef struct rigmat_signal {
-    char *name;          /* "tilt.angle", "drive", "gyro" */
-    char unit[24];       /* "rad", "m/s", "V", "1" ... */
-    rigmat_signal_kind kind;
-    size_t index;
-    rigmat_role role;    /* inputs */
-    /* inputs: the limits of the model entry (README.md, "Limits" */
-    int has_limit;
-    double limit[2];     /* [low, high] in the input's SI unit */
-    double current_limit; /* motor inputs: A per motor; 0 = none */
-} rigmat_signal;
-
-/* The vectors of the state-space model, in their final order. */
-typedef struct rigmat_layout {
-    rigmat_signal *states, *inputs, *outputs;
-    size_t nx, nu, ny;
-    size_t nu_control;   /* inputs [0, nu_control) are control, the rest disturbances */
-    char order_hash[17]; /* 16 hex digits of FNV-1a 64 over names and units */
-} rigmat_layout;
-
-typedef struct rigmat_model {
-    char *file;          /* the path it was loaded from */
-    char *name;
-    double gravity_m_s2; /* default 9.80665 */
-    double slope_rad;    /* the ground rises toward +x by this angle */
-    rigmat_body *bodies;     size_t nbodies;   /* bodies[0] is ground */
-    rigmat_joint *joints;    size_t njoints;
-    rigmat_link *springs;    size_t nsprings;
-    rigmat_link *dampers;    size_t ndampers;
-    rigmat_motor *motors;    size_t nmotors;
-    rigmat_force *forces;    size_t nforces;
-    rigmat_sensor *sensors;  size_t nsensors;
-    rigmat_setting *op_coordinates; size_t nop_coordinates;
-    rigmat_setting *op_rates;       size_t nop_rates;
-    rigmat_setting *op_inputs;      size_t nop_inputs;
-    rigmat_namelist op_solve;
-    int order_interleaved;
-    rigmat_namelist order_states, order_inputs, order_outputs; /* empty = default */
-    rigmat_layout layout;
-    rigmat_diags *owner_diags; /* interned file names live here; owned */
-} rigmat_model;
-
-/* Load and validate a model file (the model stage: it does not build the
- * equations of motion; call rigmat_model_check_equations next).  sets are "PATH=VALUE" overrides (may be
- * NULL when nsets is 0).  Diagnostics go to diags (caller-owned, initialised).
- * On success *out is a new model owned by the caller (free it with
- * rigmat_model_free); on RIGMAT_EMODEL diags holds at least one error and
- * *out is NULL.  RIGMAT_EIO when the file cannot be read. */
-rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_t nsets,
-        const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags);
+/* Read, validate and check the model of s (its equations of motion can be
+ * built).  On RIGMAT_OK *out is a new model, and diags may hold warnings.
+ * RIGMAT_EMODEL: diags holds at least one error with its place;
+ * RIGMAT_EIO: the file cannot be read; RIGMAT_EUSAGE: a NULL argument;
+ * RIGMAT_ENOMEM.  s may be freed once this returns. */
+rigmat_status rigmat_source_load(const rigmat_source *s, rigmat_model **out, rigmat_diags *diags);
 void rigmat_model_free(rigmat_model *m);
+/* The model's name (its `name:`), "" when it has none. */
+const char *rigmat_model_name(const rigmat_model *m);
+/* The order hash: 16 hex digits (FNV-1a 64) over the names and units of
+ * the states, inputs and outputs, in order; every export carries it. */
+const char *rigmat_model_order_hash(const rigmat_model *m);
 
-/* Find by name; RIGMAT_NONE when absent. */
-size_t rigmat_model_body(const rigmat_model *m, const char *name);
-size_t rigmat_model_joint(const rigmat_model *m, const char *name);
-size_t rigmat_model_motor(const rigmat_model *m, const char *name);
+/* The vectors of a state-space model. */
+typedef enum rigmat_group { RIGMAT_STATES = 0, RIGMAT_INPUTS, RIGMAT_OUTPUTS } rigmat_group;
 
-/* -------------------------------------------------------------- lti model */
+/* One state, input or output.  Strings belong to the handle asked. */
+typedef struct rigmat_signal_view {
+    const char *name; /* "tilt.angle", "drive", "gyro" */
+    const char *unit; /* "rad", "m/s", "1" ... */
+    int disturbance;  /* inputs: 1 for a disturbance, 0 for a control input */
+} rigmat_signal_view;
 
-/* A continuous linear model x' = A x + B u + f0, y = C x + D u around an
- * operating point, with what the noise model needs.  Inputs [0, nu_control)
- * are control inputs, the rest disturbances.  Built by rigmat_linearize
- * (src/mech/linearize.h); consumed by discretize and noise. */
-typedef struct rigmat_lti {
-    size_t nx, nu, ny, nu_control;
-    gsl_matrix *A, *B, *C, *D; /* nx x nx, nx x nu, ny x nx, ny x nu; NULL when a size is 0 */
-    gsl_vector *x0, *u0, *y0;  /* the operating point: state, input, output */
-    gsl_vector *f0;            /* f(x0, u0): zero at a steady state */
-    double residual;           /* max |f0| over the equations trim holds to zero */
-    int is_steady;             /* residual below the trim tolerance */
-    /* noise, per input: white-noise intensity Qc = density^2 (SI, per Hz);
-     * 0 for control inputs and for disturbances without a density */
-    double *input_intensity;   /* length nu */
-    /* per input: a motor input's winding current (A, per motor) at the
-     * operating point; 0 for the other inputs (README.md, "Limits" */
-    double *input_current;     /* length nu */
-    /* noise, per output, already scaled by |gain| into the output's unit */
-    double *output_noise_sd;   /* standard deviation per sample; 0 = none */
-    double *output_density;    /* per sqrt(Hz); 0 = none */
-    double *output_bandwidth_hz; /* first-order bandwidth of the density; 0 = sample average */
-    double *output_resolution; /* quantization step; 0 = none */
-    /* names and units of x, u and y: plain copies owned by the lti (filled
-     * by rigmat_linearize; NULL when a group is unnamed).  The sampling
-     * stage reads name, unit and, for states, kind as a tag
-     * (RIGMAT_SIG_CURRENT: a motor current, for the inductance advice);
-     * index refers to the model the lti came from and is not used there. */
-    rigmat_signal *states, *inputs, *outputs;
-} rigmat_lti;
+/* The number of states, inputs or outputs of the model (0 for NULL). */
+size_t rigmat_model_count(const rigmat_model *m, rigmat_group g);
+/* Signal i of group g into *out; RIGMAT_EUSAGE when out of range. */
+rigmat_status rigmat_model_signal(const rigmat_model *m, rigmat_group g, size_t i,
+        rigmat_signal_view *out);
 
-/* Allocate an lti of the given sizes with every matrix zeroed (no names);
- * free with rigmat_lti_free.  NULL when out of memory. */
-rigmat_lti *rigmat_lti_alloc(size_t nx, size_t nu, size_t ny, size_t nu_control);
-/* Copy names, units, kinds, indices and roles of the states (nx), inputs
- * (nu) and outputs (ny) into s, replacing those it had; any group may be
- * NULL (left unnamed).  RIGMAT_ENOMEM (s then has no names). */
-rigmat_status rigmat_lti_set_signals(rigmat_lti *s, const rigmat_signal *states,
-        const rigmat_signal *inputs, const rigmat_signal *outputs);
-void rigmat_lti_free(rigmat_lti *s);
+/* ----------------------------------------------------------------- matrices */
 
-/* ------------------------------------------- layout, equations, linearize */
-/* (src/model/layout.h, src/mech/mechanics.h, src/mech/linearize.h, src/mech/trim.h) */
+/* A matrix (or a vector, as one column) borrowed from a handle: rows * cols
+ * doubles, row-major; data is NULL when rows or cols is 0.  Valid until
+ * the handle it came from is freed. */
+typedef struct rigmat_matrix_view {
+    const double *data;
+    size_t rows, cols;
+} rigmat_matrix_view;
 
-/* Fill m->layout from the model: names, units, kinds and order of x, u and
- * y (README.md, "Rules worth knowing"), after the optional states/inputs/outputs lists
- * and `order: interleaved`, and the order hash.  rigmat_model_load calls
- * it; it never builds the equations of motion (a `states` list may leave
- * out only coordinates; whether they are cyclic is
- * rigmat_model_check_equations' job).  Problems go to d with the place of
- * the offending entry; returns RIGMAT_EMODEL after recording at least one
- * error, RIGMAT_ENOMEM.  The layout is owned by the model: release it with
- * rigmat_layout_release. */
-rigmat_status rigmat_layout_build(rigmat_model *m, rigmat_diags *d);
-void rigmat_layout_release(rigmat_layout *l);
+/* ------------------------------------------------------------------ trim */
 
-/* The checks of a loaded model that need its equations of motion (the
- * mech stage; loading never builds them): the equations can be built
- * (driven joints give every derivative the model needs: the message names
- * the element and the driven kind that works), and every coordinate a
- * `states` list leaves out is cyclic (appears in no equation).  Call it
- * after rigmat_model_load and before using the model; rigmat_system_alloc,
- * rigmat_linearize and rigmat_trim_model refuse such a model too, with the
- * first problem as a rigmat_error.  Problems go to d (may be NULL) as
- * errors with places; returns RIGMAT_EMODEL after recording at least one,
- * RIGMAT_ENOMEM. */
-rigmat_status rigmat_model_check_equations(const rigmat_model *m, rigmat_diags *d);
+/* A steady state found by trim.  Owned by the caller (rigmat_steady_free);
+ * it copies what it needs and borrows nothing. */
+typedef struct rigmat_steady rigmat_steady;
 
-/* The nonlinear model x' = f(x, u), y = h(x, u) in the order of m->layout
- * (built), for extended Kalman filters and one's own simulators.  A system
- * holds scratch memory that every call rewrites: one thread at a time per
- * system (see THREAD SAFETY above); systems of the same model may run on
- * different threads at once.  States
- * a `states` list leaves out (cyclic coordinates) are held at their
- * operating-point values.  Returns a new object owned by the caller
- * (rigmat_system_free); it borrows m, which must outlive it.
- * RIGMAT_EMODEL when the equations cannot be built (a driven joint gives
- * too low a derivative: the message names the element) or the layout
- * leaves out a coordinate that is not cyclic. */
-typedef struct rigmat_system rigmat_system;
-rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, rigmat_error *err);
-void rigmat_system_free(rigmat_system *s);
-/* f and h at (x, u), arrays of length nx, nu (in), nx and ny (out; either
- * may be NULL).  RIGMAT_ENUMERIC for a singular mass matrix (naming the
- * coordinate without inertia) or a point spring of zero length. */
-rigmat_status rigmat_system_eval(rigmat_system *s, const double *x, const double *u, double *xdot,
-        double *y, rigmat_error *err);
-/* The exact Jacobians df/dx, df/du, dh/dx, dh/du at (x, u) by the complex
- * step; matrices of the layout's sizes, any may be NULL. */
-rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const double *u,
-        gsl_matrix *A, gsl_matrix *B, gsl_matrix *C, gsl_matrix *D, rigmat_error *err);
+/* Solve for the unknowns named in operating_point.solve so that the
+ * operating point is a steady state (Gauss-Newton with the exact
+ * Jacobian).  RIGMAT_ENUMERIC when it does not converge (diags says the
+ * residual and which equations or unknowns are the trouble);
+ * RIGMAT_EMODEL for a name in solve that matches nothing. */
+rigmat_status rigmat_model_trim(const rigmat_model *m, rigmat_steady **out, rigmat_diags *diags);
+void rigmat_steady_free(rigmat_steady *t);
+/* The largest residual of the balance equations (SI), and the
+ * Gauss-Newton iterations taken. */
+double rigmat_steady_residual(const rigmat_steady *t);
+size_t rigmat_steady_iterations(const rigmat_steady *t);
+/* The point found: g = RIGMAT_STATES (x) or RIGMAT_INPUTS (u), as a
+ * column in the model's order.  RIGMAT_EUSAGE for RIGMAT_OUTPUTS. */
+rigmat_status rigmat_steady_point(const rigmat_steady *t, rigmat_group g, rigmat_matrix_view *out);
 
-/* The continuous linear model at the model's operating point, after trim
- * when operating_point.solve names unknowns.  *out is a new lti owned by the
- * caller (rigmat_lti_free), named after m's layout (copies).  warnings (may be
- * NULL) receives warnings: a steady motion along a coordinate that is not
- * cyclic makes the model time-varying.  RIGMAT_ENUMERIC when the trim does
- * not converge or a result is not finite; RIGMAT_EMODEL as for the system. */
-rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt, rigmat_lti **out,
-        rigmat_diags *warnings, rigmat_error *err);
+/* ------------------------------------------------------------- linearize */
 
-/* The limits at an operating point (README.md, "Limits": u (layout
- * order, nu inputs described by inputs) within each input's limit and each
- * motor input's winding current cur (A per motor, 0 for other inputs) within
- * its current_limit.  RIGMAT_ENUMERIC with a message naming the input, the
- * value it needs and the limit, and a hint; RIGMAT_OK when all hold. */
-rigmat_status rigmat_limits_check(const rigmat_model *m, const rigmat_signal *inputs, size_t nu,
-        const double *u, const double *cur, rigmat_error *err);
+/* The continuous linear model x' = A x + B u (+ f0), y = C x + D u around
+ * the operating point, in deviations from it.  Owned by the caller
+ * (rigmat_linear_free); borrows its model. */
+typedef struct rigmat_linear rigmat_linear;
 
-/* Trim: a steady state over the names in operating_point.solve, by
- * Gauss-Newton with the exact Jacobian and an SVD step (src/mech/trim.h). */
-typedef struct rigmat_trim_result {
-    size_t nx, nu;
-    double *x, *u;          /* the point found (or the last iterate), layout order */
-    double residual;        /* max |f| over the balance equations */
-    size_t iterations;
-    int converged;          /* residual <= opt->trim_tol */
-    char **free_unknowns;   /* unknowns the equations do not fix */
-    size_t nfree;
-    char **unmet_equations; /* equations that cannot be met when the others are
-                             * ("d(elbow.rate)/dt"; src/mech/trim.h says how) */
-    size_t nunmet;
-    /* the residual per equation at x, u (the last iterate when not converged),
-     * in the order trim holds them to zero: neq entries each */
-    size_t neq;
-    char **eq_state;        /* the state whose derivative the equation is */
-    char **eq_unit;         /* the derivative's unit: "rad/s^2", "A/s" */
-    double *eq_residual;    /* f of that state, in eq_unit */
-} rigmat_trim_result;
-/* Fill r (caller-owned struct, released with rigmat_trim_result_release
- * whatever the status).  RIGMAT_ENUMERIC when it does not converge (r then
- * holds the last iterate and its residual), RIGMAT_EMODEL for a name in
- * solve that matches nothing. */
-rigmat_status rigmat_trim_model(const rigmat_model *m, const rigmat_options *opt,
-        rigmat_trim_result *r, rigmat_error *err);
-void rigmat_trim_result_release(rigmat_trim_result *r);
+/* Linearize m at its operating point, trimmed first when
+ * operating_point.solve names unknowns.  Warnings (a steady motion along a
+ * coordinate that is not cyclic, ...) go to diags.  RIGMAT_ENUMERIC when
+ * the trim does not converge, a result is not finite, or the operating
+ * point needs an input beyond its limit (README.md, "Limits"). */
+rigmat_status rigmat_model_linearize(const rigmat_model *m, rigmat_linear **out,
+        rigmat_diags *diags);
+void rigmat_linear_free(rigmat_linear *l);
+/* The model it came from (borrowed). */
+const rigmat_model *rigmat_linear_model(const rigmat_linear *l);
+/* A matrix by name: "A", "B", "C", "D", and the operating point as
+ * columns "x0", "u0", "y0" and "f0" (f(x0, u0): zero at a steady state).
+ * RIGMAT_EUSAGE for another name. */
+rigmat_status rigmat_linear_matrix(const rigmat_linear *l, const char *name,
+        rigmat_matrix_view *out);
+/* Whether the operating point is a steady state (|f0| within tolerance). */
+int rigmat_linear_is_steady(const rigmat_linear *l);
+
+/* ------------------------------------------------------------ discretize */
+
+/* The sampled model x[k+1] = Ad x[k] + Bd u[k] + Gd w[k] + fd,
+ * y[k] = Cd x[k] + Dd u[k] + Ed w[k], with the noise model Qd, Rd.  Owned
+ * by the caller (rigmat_sampled_free); borrows its rigmat_linear. */
+typedef struct rigmat_sampled rigmat_sampled;
+
+/* Sample l at rate_hz (> 0) with method "zoh" (NULL: zoh), "foh",
+ * "tustin", "euler" or "backward-euler", and build the noise model.
+ * RIGMAT_EUSAGE for a bad rate or method or a model without states;
+ * RIGMAT_ENUMERIC when the matrix exponential or the noise integral
+ * fails. */
+rigmat_status rigmat_linear_discretize(const rigmat_linear *l, double rate_hz, const char *method,
+        rigmat_sampled **out, rigmat_diags *diags);
+void rigmat_sampled_free(rigmat_sampled *s);
+/* The sample period (s). */
+double rigmat_sampled_period(const rigmat_sampled *s);
+/* A matrix by name: "Ad", "Bd", "Cd", "Dd", "Gd", "Ed" (Bd and Dd over
+ * the control inputs, Gd and Ed over the disturbances), "Qd", "Rd", and the
+ * column "fd".  "Qd" has no data for foh and tustin, whose state is not
+ * x (README.md, "State basis").  RIGMAT_EUSAGE for another name. */
+rigmat_status rigmat_sampled_matrix(const rigmat_sampled *s, const char *name,
+        rigmat_matrix_view *out);
+/* The sampled states: those of the model, then any delay stages. */
+size_t rigmat_sampled_states(const rigmat_sampled *s);
+rigmat_status rigmat_sampled_state(const rigmat_sampled *s, size_t i, rigmat_signal_view *out);
+
+/* ---------------------------------------------------------------- analyze */
+
+/* The eigenvalues of A and what each mode is.  Owned by the caller
+ * (rigmat_analysis_free); copies the names it needs, borrows nothing. */
+typedef struct rigmat_analysis rigmat_analysis;
+
+typedef struct rigmat_mode_view {
+    double re, im;           /* eigenvalue of A (1/s) */
+    double z_re, z_im;       /* e^{sT} when analysed with a period; else 0 */
+    double frequency_hz;     /* |s| / (2 pi) */
+    double damping;          /* -Re s / |s|; NaN when s = 0 */
+    double time_constant_s;  /* -1 / Re s (negative: growth); NaN when marginal */
+    const char *stability;   /* "stable", "marginal" or "unstable" (static) */
+    int controllable;        /* by the control inputs */
+    int observable;          /* by the outputs */
+    const char *main_state;  /* the state with the largest share in the mode */
+} rigmat_mode_view;
+
+/* Analyse l: eigenvalues sorted by |s|, a complex pair as two modes (Im > 0
+ * first).  period_s > 0 adds the sampled eigenvalues z = e^{sT}; 0 leaves
+ * them out.  RIGMAT_ENUMERIC when an iteration fails; RIGMAT_EUSAGE for a
+ * negative period. */
+rigmat_status rigmat_linear_analyze(const rigmat_linear *l, double period_s,
+        rigmat_analysis **out, rigmat_diags *diags);
+void rigmat_analysis_free(rigmat_analysis *a);
+size_t rigmat_analysis_count(const rigmat_analysis *a);
+rigmat_status rigmat_analysis_mode(const rigmat_analysis *a, size_t i, rigmat_mode_view *out);
+/* The one-line summary `rigmat linearize` ends with ("1 unstable mode at
+ * 5.3 rad/s, lives in tilt; ...") into buf (always terminated, cut to
+ * size).  Returns the length it wanted, as snprintf does. */
+size_t rigmat_analysis_summary(const rigmat_analysis *a, char *buf, size_t size);
+
+/* --------------------------------------------------------------- simulate */
+
+/* A time response: rows of t, x, u, y (absolute values, not deviations).
+ * Owned by the caller (rigmat_response_free); borrows nothing. */
+typedef struct rigmat_response rigmat_response;
+
+/* How to run one response of the model from x0 + offset with the inputs
+ * held at u0. */
+typedef struct rigmat_run_spec {
+    const char *model;     /* "nonlinear" (NULL: the same), "linear" or "sampled" */
+    double duration_s;     /* > 0 */
+    double step_s;         /* > 0: the output interval */
+    double rate_hz;        /* "sampled": the sample rate; step_s must be a whole
+                            * number of its periods */
+    const double *offset;  /* the initial deviation from x0 (one per state), or NULL */
+} rigmat_run_spec;
+
+/* Run spec on the model of l.  RIGMAT_EUSAGE for a bad spec (non-positive
+ * duration or step, an unknown model, too many rows); RIGMAT_ENUMERIC when
+ * the integration fails (the message says when). */
+rigmat_status rigmat_linear_simulate(const rigmat_linear *l, const rigmat_run_spec *spec,
+        rigmat_response **out, rigmat_diags *diags);
+void rigmat_response_free(rigmat_response *r);
+/* "t" (rows x 1), "x" (rows x states), "u" (rows x inputs), "y" (rows x
+ * outputs); RIGMAT_EUSAGE for another name. */
+rigmat_status rigmat_response_matrix(const rigmat_response *r, const char *name,
+        rigmat_matrix_view *out);
+
+/* ----------------------------------------------------------------- export */
+
+/* Options of an export; a NULL pointer to them means all defaults. */
+typedef struct rigmat_export_opts {
+    const char *name;  /* c: prefix of the header's identifiers; NULL = the model's name */
+    int ctype_float;   /* c: float arrays (9 significant digits) instead of double */
+    const char *source; /* the provenance line of c, numpy and the other exports
+                         * ("balancer.yaml (FNV-1a ...)"); NULL = none */
+    /* A folder format (mtx) writes one file per matrix: open_file(ctx,
+     * "Ad.mtx") returns a stream the caller owns (and closes after the
+     * export returns), or NULL to fail with RIGMAT_EIO.  NULL for a
+     * folder format: RIGMAT_EUSAGE. */
+    FILE *(*open_file)(void *ctx, const char *file_name);
+    void *ctx;
+} rigmat_export_opts;
+
+/* Write the linear or sampled model to out in format: "text", "json",
+ * "csv", "c", "numpy", "latex" (the bytes `rigmat linearize` and `rigmat
+ * discretize --rate R --format FORMAT` write, less the program's text
+ * summary of modes and the provenance line, unless opts->source gives
+ * it), or "mtx" through
+ * opts->open_file (out unused).  Nothing is written when a number is not
+ * finite (RIGMAT_ENUMERIC, naming it).  RIGMAT_EUSAGE for an unknown
+ * format; RIGMAT_EIO when writing to out fails (ferror). */
+rigmat_status rigmat_linear_export(const rigmat_linear *l, const char *format,
+        const rigmat_export_opts *opts, FILE *out, rigmat_diags *diags);
+rigmat_status rigmat_sampled_export(const rigmat_sampled *s, const char *format,
+        const rigmat_export_opts *opts, FILE *out, rigmat_diags *diags);
+
+#ifdef __cplusplus
+}
+#endif
 
 #endif /* RIGMAT_H */

@@ -8,7 +8,7 @@
  * no-fork mode (CK_FORK=no, used under valgrind), so that mode leaves the
  * signal case out and says so; `make check-unit` and `make check-san` run
  * it forked. */
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <check.h>
 #include <signal.h>

@@ -4,7 +4,7 @@
 #ifndef RIGMAT_MECHTEST_H
 #define RIGMAT_MECHTEST_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <complex.h>
 

@@ -1,9 +1,12 @@
 /* oom.c - out of memory at every allocation of a full run (`make check-oom`).
  *
- *     oom CATALOG MODEL.yaml...
+ *     oom [--api] CATALOG MODEL.yaml...
  *
  * For each model, run the pipeline of tests/pipeline.c (load, trim,
- * linearize, discretize, noise, advice) with the n-th allocation failing,
+ * linearize, discretize, noise, advice) or, with --api, the same steps
+ * through the public API of include/rigmat.h (api_run below: load,
+ * trim, linearize, discretize, analyze, simulate, export) with the n-th
+ * allocation failing,
  * for n = 1, 2, ... until a run reaches its end without meeting the failure.
  * Every run that met it must return RIGMAT_ENOMEM (the program's exit 4),
  * not another status, not a crash, and must leave nothing allocated:
@@ -26,6 +29,62 @@
 #include <sys/types.h>
 #include <sys/wait.h>
 #include <unistd.h>
+
+/* Run through the public API alone, as a program embedding librigmat
+ * does; every handle freed.  *where names the step that failed. */
+static rigmat_status api_run(const char *file, const char *catalog, const char **where)
+{
+    rigmat_diags *d = rigmat_diags_new();
+    rigmat_source *src = rigmat_source_new(file);
+    rigmat_model *m = NULL;
+    rigmat_steady *t = NULL;
+    rigmat_linear *l = NULL;
+    rigmat_sampled *smp = NULL;
+    rigmat_analysis *an = NULL;
+    rigmat_response *r = NULL;
+    rigmat_run_spec spec;
+    rigmat_status st = RIGMAT_OK;
+    FILE *sink = fopen("/dev/null", "w");
+
+    memset(&spec, 0, sizeof spec);
+    spec.model = "linear";
+    spec.duration_s = 0.05;
+    spec.step_s = 0.01;
+    *where = "api: source";
+    if (d == NULL || src == NULL || sink == NULL)
+        st = RIGMAT_ENOMEM;
+    if (st == RIGMAT_OK)
+        st = rigmat_source_catalog(src, catalog);
+    if (st == RIGMAT_OK && (*where = "api: load", 1))
+        st = rigmat_source_load(src, &m, d);
+    if (st == RIGMAT_OK && (*where = "api: trim", 1))
+        st = rigmat_model_trim(m, &t, d);
+    if (st == RIGMAT_OK && (*where = "api: linearize", 1))
+        st = rigmat_model_linearize(m, &l, d);
+    if (st == RIGMAT_OK && (*where = "api: discretize", 1))
+        st = rigmat_linear_discretize(l, 200.0, NULL, &smp, d);
+    if (st == RIGMAT_OK && (*where = "api: analyze", 1))
+        st = rigmat_linear_analyze(l, 0.005, &an, d);
+    if (st == RIGMAT_OK && (*where = "api: simulate", 1))
+        st = rigmat_linear_simulate(l, &spec, &r, d);
+    if (st == RIGMAT_OK && (*where = "api: export", 1))
+        st = rigmat_sampled_export(smp, "json", NULL, sink, d);
+    if (st == RIGMAT_OK && (*where = "api: export c", 1))
+        st = rigmat_linear_export(l, "c", NULL, sink, d);
+    if (sink != NULL)
+        fclose(sink);
+    rigmat_response_free(r);
+    rigmat_analysis_free(an);
+    rigmat_sampled_free(smp);
+    rigmat_linear_free(l);
+    rigmat_steady_free(t);
+    rigmat_model_free(m);
+    rigmat_source_free(src);
+    rigmat_diags_free(d);
+    return st;
+}
+
+static int use_api; /* --api: run api_run instead of pipe_run */
 
 /* What a run reports to the parent. */
 struct outcome {
@@ -50,7 +109,8 @@ static void child_runs(const char *file, const char *catalog, unsigned long star
         memset(&r, 0, sizeof r);
         r.n = n;
         oom_arm(n);
-        r.st = pipe_run(file, catalog, NULL, NULL, &where);
+        r.st = use_api ? api_run(file, catalog, &where)
+                       : pipe_run(file, catalog, NULL, NULL, &where);
         r.calls = oom_calls();
         oom_arm(0);
         snprintf(r.where, sizeof r.where, "%s", where);
@@ -138,15 +198,21 @@ int main(int argc, char **argv)
     unsigned long failures = 0, runs = 0;
     int a;
 
+    if (argc > 1 && strcmp(argv[1], "--api") == 0) {
+        use_api = 1;
+        argc--;
+        argv++;
+    }
     if (argc < 3) {
-        fprintf(stderr, "usage: oom CATALOG MODEL.yaml...\n");
+        fprintf(stderr, "usage: oom [--api] CATALOG MODEL.yaml...\n");
         return 2;
     }
     gsl_set_error_handler_off();
     for (a = 2; a < argc; a++) {
         unsigned long allocations;
         const unsigned long f = one_model(argv[a], argv[1], &allocations, &runs);
-        printf("oom: %s: %lu allocations, each failed in turn: %s\n", argv[a], allocations,
+        printf("oom: %s%s: %lu allocations, each failed in turn: %s\n", use_api ? "api: " : "",
+                argv[a], allocations,
                 f ? "FAILURES above" : "out of memory every time, nothing leaked");
         failures += f;
     }

@@ -7,7 +7,7 @@
 #ifndef RIGMAT_TEST_PIPELINE_H
 #define RIGMAT_TEST_PIPELINE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <stddef.h>
 

@@ -1,7 +1,7 @@
 #!/bin/sh
 # stages.sh - data flows one way through the stages of src/.
 #
-# The stages, in order: util model mech sample study emit cli.  A file in
+# The stages, in order: util model mech sample study emit lib cli.  A file in
 # src/<stage>/ may include the headers of its own stage and of earlier ones
 # only; include/rigmat.h is public and allowed everywhere; system headers
 # (<...>) are not looked at.  Headers of one stage may not include each
@@ -15,7 +15,7 @@
 # Exit 0 when the stages run one way; 1, naming each file and include, when not.
 # GENERATED lists headers made by the build (not in the tree), allowed anywhere.
 set -u
-STAGES="util model mech sample study emit cli"
+STAGES="util model mech sample study emit lib cli"
 GENERATED=${GENERATED:-"share_dir.h suites.h"}
 
 stage_rank() {

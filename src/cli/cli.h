@@ -12,7 +12,7 @@
 #ifndef RIGMAT_CLI_H
 #define RIGMAT_CLI_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "result.h"
 #include <stdio.h>
 

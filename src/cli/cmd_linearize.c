@@ -3,6 +3,7 @@
  * names unknowns), with the point itself and how far it is from a steady
  * state.  JSON layout: README.md, "JSON output". */
 #include "cli.h"
+#include "describe.h"
 
 #include <string.h>
 
@@ -10,67 +11,6 @@ static const char *const linearize_usage[] = {
     "rigmat linearize FILE [--set PATH=VALUE]... [--format FORMAT] [-o FILE|DIR] [--catalog DIR]",
     "                 [--name NAME] [--ctype double|float]",
     "FORMAT: text, json, csv, c, numpy, mtx (-o DIR), latex", NULL };
-
-/* The result, described once for every format. */
-static rigmat_result *linearize_result(const rigmat_model *m, const rigmat_lti *l)
-{
-    const rigmat_layout *L = &m->layout;
-    rigmat_result *r = rigmat_result_alloc("continuous");
-
-    if (r == NULL)
-        return NULL;
-    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
-            L->outputs, L->ny);
-    rigmat_result_dim(r, "state", L->states, L->nx);
-    rigmat_result_dim(r, "input", L->inputs, L->nu);
-    rigmat_result_dim(r, "output", L->outputs, L->ny);
-    rigmat_result_text(r, "model: %s\norder hash: %s\n\n", cli_model_name(m),
-            L->order_hash);
-    rigmat_result_key(r, "A");
-    rigmat_result_matrix(r, l->A, L->nx, L->nx, L->states, L->states);
-    rigmat_result_title(r, "A = df/dx");
-    rigmat_result_key(r, "B");
-    rigmat_result_matrix(r, l->B, L->nx, L->nu, L->states, L->inputs);
-    rigmat_result_title(r, "B = df/du");
-    rigmat_result_key(r, "C");
-    rigmat_result_matrix(r, l->C, L->ny, L->nx, L->outputs, L->states);
-    rigmat_result_title(r, "C = dh/dx");
-    rigmat_result_key(r, "D");
-    rigmat_result_matrix(r, l->D, L->ny, L->nu, L->outputs, L->inputs);
-    rigmat_result_title(r, "D = dh/du");
-    rigmat_result_key(r, "operating_point");
-    rigmat_result_object(r);
-    rigmat_result_key(r, "x");
-    rigmat_result_vector(r, l->x0, L->nx, L->states);
-    rigmat_result_title(r, "operating point: x0");
-    rigmat_result_export_name(r, "x0");
-    rigmat_result_key(r, "u");
-    rigmat_result_vector(r, l->u0, L->nu, L->inputs);
-    rigmat_result_title(r, "operating point: u0");
-    rigmat_result_export_name(r, "u0");
-    rigmat_result_key(r, "y");
-    rigmat_result_vector(r, l->y0, L->ny, L->outputs);
-    rigmat_result_title(r, "operating point: y0 = h(x0, u0)");
-    rigmat_result_export_name(r, "y0");
-    rigmat_result_close(r);
-    rigmat_result_key(r, "equilibrium");
-    rigmat_result_object(r);
-    rigmat_result_key(r, "residual");
-    rigmat_result_number(r, l->residual, NULL);
-    rigmat_result_export_name(r, "residual");
-    rigmat_result_key(r, "is_steady");
-    rigmat_result_bool(r, l->is_steady);
-    rigmat_result_export_name(r, "is_steady");
-    rigmat_result_key(r, "f0");
-    rigmat_result_vector(r, l->f0, L->nx, L->states);
-    rigmat_result_title(r, "equilibrium: f0 = f(x0, u0)");
-    rigmat_result_export_name(r, "f0");
-    rigmat_result_close(r);
-    rigmat_result_text(r, "residual %.3g (accelerations and current derivatives): %s\n",
-            l->residual,
-            l->is_steady ? "a steady state" : "not a steady state; x' = A dx + B du + f0");
-    return r;
-}
 
 rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env);
 rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
@@ -95,7 +35,7 @@ rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
         return st;
     st = cli_linearize(env, m, &lti);
     if (st == RIGMAT_OK) {
-        r = linearize_result(m, lti);
+        r = rigmat_describe_linear(m, lti);
         st = r != NULL ? cli_emit(env, r, &c, file) : RIGMAT_ENOMEM;
         if (r == NULL)
             fprintf(env->err, "rigmat linearize: out of memory\n");

@@ -1,5 +1,6 @@
 /* common.c - model loading and error reporting shared by the commands. */
 #include "cli.h"
+#include "describe.h"
 #include "affine.h"
 #include "linearize.h"
 
@@ -16,7 +17,7 @@ void cli_put_clean(FILE *f, const char *s)
 
 const char *cli_model_name(const rigmat_model *m)
 {
-    return m->name != NULL && m->name[0] != '\0' ? m->name : "(unnamed)";
+    return rigmat_model_display_name(m);
 }
 
 rigmat_status cli_report(struct cli_env *env, const rigmat_error *err)

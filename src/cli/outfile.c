@@ -16,7 +16,7 @@
  * tests/shim/writefail.c; the program itself has no test hook.
  */
 #define _XOPEN_SOURCE 700 /* realpath */
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "outfile.h"
 #include "reentrant.h"
 #include "outmode.h"

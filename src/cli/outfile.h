@@ -3,7 +3,7 @@
 #ifndef RIGMAT_OUTFILE_H
 #define RIGMAT_OUTFILE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 /* Write len bytes of data to path.  A regular (or new) file is replaced
  * atomically; anything else is written directly.  RIGMAT_EIO on failure,

@@ -42,7 +42,7 @@
 #ifndef RIGMAT_REPORT_H
 #define RIGMAT_REPORT_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include <stdio.h>
 
 /* One response: an offset of state `index` or a step of input `index`. */

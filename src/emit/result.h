@@ -26,7 +26,7 @@
 #ifndef RIGMAT_RESULT_H
 #define RIGMAT_RESULT_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include <stdio.h>
 
 /* ------------------------------------------------------------ formats */

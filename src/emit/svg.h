@@ -32,7 +32,7 @@
 #ifndef RIGMAT_SVG_H
 #define RIGMAT_SVG_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include <stdio.h>
 
 /* ----------------------------------------------------------------- ticks */

@@ -3,7 +3,7 @@
  * derivative the model needs) and that a `states` list leaves out only
  * cyclic coordinates.  They run after loading, in this stage, so that the
  * model stage never builds the mechanics (see rigmat_model_check_equations
- * in include/rigmat.h). */
+ * in src/util/rigmat_internal.h). */
 #include "equations.h"
 #include "sizes.h"
 

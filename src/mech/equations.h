@@ -1,9 +1,9 @@
 /* equations.h - checks of a loaded model that need its equations of motion
- * (the public one is rigmat_model_check_equations in include/rigmat.h). */
+ * (the entry point is rigmat_model_check_equations in src/util/rigmat_internal.h). */
 #ifndef RIGMAT_EQUATIONS_H
 #define RIGMAT_EQUATIONS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "mechanics.h"
 
 /* The first canonical state at or after *from that the model's layout

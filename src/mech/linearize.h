@@ -8,13 +8,13 @@
  * trimmed first when operating_point.solve is not empty (src/mech/trim.h).
  * residual = max |f0| over the balance equations (accelerations, current and
  * shaping derivatives); is_steady = residual <= opt->trim_tol.
- * The public entry points are rigmat_system_* and rigmat_linearize in
- * include/rigmat.h.
+ * The entry points are rigmat_system_* and rigmat_linearize in
+ * src/util/rigmat_internal.h.
  */
 #ifndef RIGMAT_LINEARIZE_H
 #define RIGMAT_LINEARIZE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "mechanics.h"
 
 /* The system's canonical equations (borrowed). */

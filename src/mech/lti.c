@@ -1,5 +1,5 @@
 /* lti.c - the continuous linear model container. */
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "sizes.h"
 #include "linearize.h"
 

@@ -28,7 +28,7 @@
 #ifndef RIGMAT_MECHANICS_H
 #define RIGMAT_MECHANICS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include <complex.h>
 
 /* The smallest pivot of the free mass matrix, relative to its largest

@@ -47,7 +47,7 @@
 #ifndef RIGMAT_TRIM_H
 #define RIGMAT_TRIM_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "mechanics.h"
 
 typedef struct rigmat_trim rigmat_trim;

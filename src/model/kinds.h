@@ -13,13 +13,13 @@
  * enum constant in rigmat.h (DEVELOPERS.md, "Adding a joint type or a
  * sensor kind").
  *
- * The tables are indexed by the enums of include/rigmat.h and each entry
+ * The tables are indexed by the enums of src/util/rigmat_internal.h and each entry
  * repeats its enum, so a table out of order fails the kinds test.
  */
 #ifndef RIGMAT_KINDS_H
 #define RIGMAT_KINDS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "units.h"
 
 /* Entries in each table (the enums of rigmat.h have exactly these many). */

@@ -21,7 +21,7 @@
 #ifndef RIGMAT_LAYOUT_H
 #define RIGMAT_LAYOUT_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 /* The canonical layout (no lists applied, interleave ignored) into *l,
  * which it owns afterwards (rigmat_layout_release).  RIGMAT_ENOMEM only. */

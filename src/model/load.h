@@ -17,7 +17,7 @@
 #ifndef RIGMAT_LOAD_H
 #define RIGMAT_LOAD_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 typedef enum rigmat_node_type {
     RIGMAT_NODE_SCALAR, RIGMAT_NODE_SEQ, RIGMAT_NODE_MAP

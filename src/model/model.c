@@ -1,6 +1,6 @@
 /* model.c - freeing a model and finding its parts by name.  A model is
  * built by rigmat_model_load (load.c); everything in it is owned by it. */
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <stdlib.h>
 #include <string.h>

@@ -23,7 +23,7 @@
 #ifndef RIGMAT_UNITS_H
 #define RIGMAT_UNITS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 /* Named dimensions a field can expect, for messages and hints. */
 typedef enum rigmat_kind {

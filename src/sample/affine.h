@@ -20,7 +20,7 @@
 #ifndef RIGMAT_AFFINE_H
 #define RIGMAT_AFFINE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "discretize.h"
 
 /* fd (length d->nx) for the continuous model s sampled as d with options o.

@@ -39,7 +39,7 @@
 #ifndef RIGMAT_DISCRETIZE_H
 #define RIGMAT_DISCRETIZE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "expm.h"
 
 typedef enum rigmat_method {

@@ -26,7 +26,7 @@
 #ifndef RIGMAT_EXPM_H
 #define RIGMAT_EXPM_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <gsl/gsl_permutation.h>
 

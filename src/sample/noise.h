@@ -73,7 +73,7 @@
 #ifndef RIGMAT_NOISE_H
 #define RIGMAT_NOISE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "discretize.h"
 #include "expm.h"
 

@@ -46,7 +46,7 @@
 #ifndef RIGMAT_GAINS_H
 #define RIGMAT_GAINS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "riccati.h"
 
 /* The steady-state Kalman filter.  Owns every matrix. */

@@ -90,7 +90,7 @@
 #ifndef RIGMAT_MODES_H
 #define RIGMAT_MODES_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 typedef enum rigmat_stability {
     RIGMAT_STABLE = 0, /* Re s < -stab_rtol * omega_b */

@@ -91,7 +91,7 @@
 #ifndef RIGMAT_RICCATI_H
 #define RIGMAT_RICCATI_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include <gsl/gsl_eigen.h>
 #include <gsl/gsl_permutation.h>
 

@@ -67,7 +67,7 @@
 #ifndef RIGMAT_SIMULATE_H
 #define RIGMAT_SIMULATE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 typedef enum rigmat_sim_model {
     RIGMAT_SIM_NONLINEAR = 0,

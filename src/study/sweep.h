@@ -31,7 +31,7 @@
 #ifndef RIGMAT_SWEEP_H
 #define RIGMAT_SWEEP_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "discretize.h"
 
 #define RIGMAT_SWEEP_MAX_AXES 8

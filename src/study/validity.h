@@ -25,7 +25,7 @@
 #ifndef RIGMAT_VALIDITY_H
 #define RIGMAT_VALIDITY_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "simulate.h"
 
 typedef struct rigmat_validity_opts {

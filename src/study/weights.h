@@ -27,7 +27,7 @@
 #ifndef RIGMAT_WEIGHTS_H
 #define RIGMAT_WEIGHTS_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 typedef struct rigmat_weights {
     size_t nx, nu;     /* states; control inputs */

@@ -1,7 +1,7 @@
 /* diag.c - errors of the computation (rigmat_error) and input diagnostics
  * (rigmat_diags).  Reporting an error never allocates; recording a
  * diagnostic copies its strings so the list outlives the parser. */
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "sizes.h"
 
 #include <stdarg.h>
@@ -48,6 +48,25 @@ const char *rigmat_status_name(rigmat_status st)
     case RIGMAT_EINTERNAL: return "internal error";
     }
     return "unknown status";
+}
+
+int rigmat_exit_code(rigmat_status st)
+{
+    switch (st) {
+    case RIGMAT_OK: return 0;
+    case RIGMAT_EMODEL: return 1;
+    case RIGMAT_EUSAGE: return 2;
+    case RIGMAT_ENUMERIC: return 3;
+    case RIGMAT_EIO: return 4;
+    case RIGMAT_ENOMEM: return 4;
+    case RIGMAT_EINTERNAL: return 5;
+    }
+    return 5;
+}
+
+const char *rigmat_version(void)
+{
+    return RIGMAT_VERSION;
 }
 
 void rigmat_diags_init(rigmat_diags *d)

@@ -1,5 +1,5 @@
 /* options.c - the documented defaults of every limit and tolerance. */
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 rigmat_options rigmat_options_default(void)
 {

@@ -7,7 +7,7 @@
  * of the form `#set PATH=VALUE` become --set overrides (at most 4), so the
  * fuzzer also reaches load_set.c while the file stays plain YAML.
  *
- * Properties checked (include/rigmat.h, src/model/load.h):
+ * Properties checked (src/util/rigmat_internal.h, src/model/load.h):
  *   - the status is OK, EMODEL, EIO or ENOMEM;
  *   - OK gives a model, anything else none; EMODEL comes with at least one
  *     error in the diagnostics;
@@ -17,7 +17,7 @@
  *     freed (LeakSanitizer reports what is not).
  */
 #include "fuzz.h"
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <errno.h>
 #include <gsl/gsl_errno.h>

@@ -5,7 +5,7 @@
  * loaded with the default options ($RIGMAT_CATALOG for parts, as in
  * fuzz_load.c).  A model that loads goes through rigmat_linearize, then
  * rigmat_discretize (ZOH, T = 10 ms), rigmat_noise_build and
- * rigmat_sampling_advice.  Properties checked (include/rigmat.h,
+ * rigmat_sampling_advice.  Properties checked (src/util/rigmat_internal.h,
  * src/sample/discretize.h, src/sample/noise.h, and README.md, "JSON output": a
  * non-finite result is an error, never printed):
  *   - every status is one its header documents;
@@ -26,7 +26,7 @@
  * line as a --set override (`bodies.chassis.mass=1e-300kg`).
  */
 #include "fuzz.h"
-#include "rigmat.h"
+#include "rigmat_internal.h"
 
 #include <gsl/gsl_errno.h>
 #include <math.h>
