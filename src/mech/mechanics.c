@@ -1426,10 +1426,22 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     if (st != RIGMAT_OK)
         goto fail;
     if (s->n >= RIGMAT_MECH_RECURSIVE_MIN) {
+        const char *why = NULL;
         st = rigmat_mech_set_path(s, RIGMAT_MECH_RECURSIVE, NULL);
         if (st == RIGMAT_ENOMEM)
             goto fail;
         st = RIGMAT_OK; /* an unsupported model keeps the mass matrix */
+        if (s->rec == NULL && s->n > RIGMAT_MECH_MASS_MATRIX_MAX &&
+                !rigmat_rec_supported(m, &why)) {
+            st = RIGMAT_FAIL(err, RIGMAT_EMODEL,
+                    "more than %d moving joints in a model the O(N) dynamics do not handle "
+                    "(%s)", RIGMAT_MECH_MASS_MATRIX_MAX, why);
+            rigmat_error_hint(err, "the mass-matrix method it needs grows as N^3 per "
+                                   "evaluation; see README.md, \"Rules worth knowing\"");
+            if (err != NULL)
+                err->where = m->joints[s->cjoint[RIGMAT_MECH_MASS_MATRIX_MAX]].loc;
+            goto fail;
+        }
     }
     *out = s;
     return RIGMAT_OK;

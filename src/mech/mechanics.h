@@ -61,6 +61,13 @@ void rigmat_mech_free(rigmat_mech *s);
  * stays in daily use. */
 #define RIGMAT_MECH_RECURSIVE_MIN 12
 
+/* A model the recursion does not handle keeps the mass-matrix method,
+ * O(N^3) per evaluation: above this many coordinates rigmat_mech_alloc
+ * refuses it (RIGMAT_EMODEL, naming what keeps the mass matrix), the cost
+ * limit that held for every model before the recursion (linearize 1.3 s
+ * at 48 joints, 16-20 s at 64 on the shared build machine). */
+#define RIGMAT_MECH_MASS_MATRIX_MAX 48
+
 typedef enum rigmat_mech_path {
     RIGMAT_MECH_MASS_MATRIX,
     RIGMAT_MECH_RECURSIVE
