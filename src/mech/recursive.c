@@ -75,6 +75,29 @@ int rigmat_rec_supported(const rigmat_model *m, const char **why)
 {
     size_t i;
 
+    /* the kinds this file has its own terms for (kinematics(), forces());
+     * a kind added to src/model/kinds.c without them keeps the mass matrix */
+    for (i = 0; i < m->njoints; i++)
+        if (m->joints[i].type != RIGMAT_JOINT_SLIDER && m->joints[i].type != RIGMAT_JOINT_HINGE &&
+                m->joints[i].type != RIGMAT_JOINT_ROLLING && m->joints[i].type != RIGMAT_JOINT_FIXED) {
+            *why = "a joint type without a recursive form";
+            return 0;
+        }
+    for (i = 0; i < m->nforces; i++)
+        if (m->forces[i].kind != RIGMAT_FORCE_POINT && m->forces[i].kind != RIGMAT_FORCE_TORQUE &&
+                m->forces[i].kind != RIGMAT_FORCE_ACROSS) {
+            *why = "a force form without a recursive form";
+            return 0;
+        }
+    for (i = 0; i < m->nsprings + m->ndampers; i++) {
+        const rigmat_link *lk = i < m->nsprings ? &m->springs[i] : &m->dampers[i - m->nsprings];
+        if (lk->attach != RIGMAT_ATTACH_ACROSS && lk->attach != RIGMAT_ATTACH_BETWEEN &&
+                lk->attach != RIGMAT_ATTACH_POINTS) {
+            *why = "a spring or damper attachment without a recursive form";
+            return 0;
+        }
+    }
+
     for (i = 0; i < m->nmotors; i++)
         if (m->motors[i].rotor_inertia_kgm2 != 0.0 || m->motors[i].load_inertia_kgm2 != 0.0) {
             *why = "a motor's rotor or load inertia couples its stator body and its output "
