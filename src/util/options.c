@@ -16,7 +16,8 @@ rigmat_options rigmat_options_default(void)
      * of a 1000-link pendulum chain took 6.7 s and of a 1000-mass chain
      * 3.1 s on the shared 2-core build machine, growing as N^2; a model the
      * recursion does not handle keeps the mass-matrix limit,
-     * RIGMAT_MECH_MASS_MATRIX_MAX coordinates (src/mech/mechanics.h). */
+     * RIGMAT_MECH_MASS_MATRIX_MAX coordinates (src/mech/mechanics.h).  It
+     * equals max_entries, so by default a joints section meets that first. */
     o.max_joints = 1024;
     o.catalog_dir = NULL;
     o.catalog_env = NULL;
