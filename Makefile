@@ -58,6 +58,9 @@ CHECK_CFLAGS = $(eval CHECK_CFLAGS := $$(call pkgcheck,$$(call pkgconfig,--cflag
 CHECK_LIBS = $(eval CHECK_LIBS := $$(call pkgcheck,$$(call pkgconfig,--libs check),--libs check))$(CHECK_LIBS)
 ifeq ($(BLAS),openblas)
 GSL_LIBS = $(patsubst -lgslcblas,-lopenblas,$(GSL_LIBS_PC))
+# OpenBLAS ships LAPACK: the matrix exponential takes its blocked LU
+# (src/sample/expm.c; a weak reference, GSL's LU when absent at link time)
+PROJECT_CFLAGS += -DRIGMAT_HAVE_LAPACK
 else
 GSL_LIBS = $(GSL_LIBS_PC)
 endif

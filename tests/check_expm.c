@@ -322,6 +322,47 @@ START_TEST(large_norm_ones_matrix)
 }
 END_TEST
 
+/* n >= 48 takes LAPACK's dgetrf where the BLAS has it (src/sample/expm.c);
+ * closed forms at n = 64 and 96.  Rotation blocks: exp([[a, -b], [b, a]]) =
+ * e^a [[cos b, -sin b], [sin b, cos b]] (common practice), scattered by a
+ * permutation similarity P R P^T, which moves the pivots about; and the
+ * ones matrix as above: exp(c ones(n)) = I + ((e^(n c) - 1)/n) ones. */
+START_TEST(large_closed_forms_take_the_blocked_lu)
+{
+    const size_t n = 96, n1 = 64;
+    gsl_matrix *A = gsl_matrix_calloc(n, n), *X = gsl_matrix_calloc(n, n);
+    gsl_matrix *B = gsl_matrix_alloc(n1, n1), *Y = gsl_matrix_alloc(n1, n1);
+    size_t perm[96], i, j, k;
+    const double c = 0.05, d = (exp((double)n1 * c) - 1.0) / (double)n1;
+
+    for (i = 0; i < n; i++)
+        perm[i] = (i * 37 + 11) % n; /* 37 is prime to 96: a permutation */
+    for (k = 0; k < n / 2; k++) {
+        const double a = -0.5 + 0.02 * (double)k, b = 0.3 + 0.17 * (double)k;
+        const size_t p = perm[2 * k], q = perm[2 * k + 1];
+        gsl_matrix_set(A, p, p, a);
+        gsl_matrix_set(A, p, q, -b);
+        gsl_matrix_set(A, q, p, b);
+        gsl_matrix_set(A, q, q, a);
+        gsl_matrix_set(X, p, p, exp(a) * cos(b));
+        gsl_matrix_set(X, p, q, -exp(a) * sin(b));
+        gsl_matrix_set(X, q, p, exp(a) * sin(b));
+        gsl_matrix_set(X, q, q, exp(a) * cos(b));
+    }
+    check_against(A, X, 0);
+    for (i = 0; i < n1; i++)
+        for (j = 0; j < n1; j++) {
+            gsl_matrix_set(B, i, j, c);
+            gsl_matrix_set(Y, i, j, (i == j ? 1.0 : 0.0) + d);
+        }
+    check_against(B, Y, 0);
+    gsl_matrix_free(A);
+    gsl_matrix_free(X);
+    gsl_matrix_free(B);
+    gsl_matrix_free(Y);
+}
+END_TEST
+
 START_TEST(scalar_matches_libm)
 {
     /* closed form: exp of a 1x1 matrix is exp() */
@@ -583,6 +624,7 @@ Suite *expm_suite(void)
     tcase_add_test(tc, errors_are_reported);
     tcase_add_test(tc, workspace_reuse_and_aliasing);
     tcase_add_test(tc, agrees_with_gsl_taylor_on_small_norms);
+    tcase_add_test(tc, large_closed_forms_take_the_blocked_lu);
     tcase_add_test(tc, tolerance_model_can_fail);
     suite_add_tcase(s, tc);
     tcase_add_test(tr, random_matrices_match_mpmath);

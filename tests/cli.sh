@@ -131,7 +131,7 @@ if grep -q inf "$T/out"; then bad "inf printed"; else ok; fi
 # issue 10, item 1: a delay is bounded by the states it implies, refused
 # fast (5 s, 1 GiB of address space, as tests/hostile.sh) with exit 2
 expect 2 "delay of 1e9 samples" -- bounded "$R" discretize "$DEMO" --rate 1kHz --delay 1e9
-has "$T/err" "above the limit of 1024 states" "delay limit message"
+has "$T/err" "above the limit of 2048 states" "delay limit message"
 if [ -s "$T/out" ]; then bad "refused delay printed a result"; else ok; fi
 {
     printf 'rigmat: 1\nbodies:\n  m: {mass: 1 kg}\n'

@@ -56,7 +56,7 @@ gen() { # gen NAME AWK-PROGRAM
 }
 mkdir -p "$G"
 # every file of HOSTILE_GEN must be refused; an older run left an accepted one here
-rm -f "$G/chain-48.yaml"
+rm -f "$G/chain-48.yaml" "$G/chain-49.yaml"
 gen list-1e6-flow.yaml 'printf "rigmat: 1\nbodies: [1"; for (i = 1; i < 1000000; i++) printf ",1"; print "]"'
 gen list-1e6-block.yaml 'print "rigmat: 1\nbodies:"; for (i = 0; i < 1000000; i++) print "- 1"'
 gen bodies-1e5.yaml 'print "rigmat: 1\nbodies:"; for (i = 0; i < 100000; i++) printf "  b%d: {mass: 1 kg}\n", i'
@@ -290,15 +290,31 @@ printf 'rigmat: 1\r\nbodies:\r\n  b: {mass: 3 m}\r\n' >"$T/crlf.yaml"
 expect "CRLF line" 1 "crlf.yaml:3:13: error" "$R" check "$T/crlf.yaml"
 printf 'rigmat: 1\rbodies:\r  b: {mass: 3 m}\r' >"$T/cr.yaml"
 expect "CR line" 1 "cr.yaml:3:13: error" "$R" check "$T/cr.yaml"
-# 12: cost limit: 48 hinged links are accepted and fast, 49 are refused
+# 12: cost limits (README.md, "Rules worth knowing"): 1024 hinged links
+# are accepted (the O(N) dynamics), 1025 are refused; with a motor's rotor
+# inertia (the mass-matrix method) 48 moving joints are accepted and 49
+# refused.  The accepted ones take seconds, so they get HOSTILE_LARGE_TIMEOUT
+# (the 1024-link linearize took 14 s and 124 MB on the shared 2-core
+# machine under load).
 chain='print "rigmat: 1\nbodies:"; for (i = 0; i < N; i++) printf "  l%d: {mass: 1 kg, inertia: 0.01 kg*m^2, com: [0.25 m, 0]}\n", i; print "joints:"; p = "ground"; for (i = 0; i < N; i++) { printf "  j%d: {type: hinge, parent: %s, child: l%d, at: %s}\n", i, p, i, i ? "[0.5 m, 0]" : "[0, 0]"; p = "l" i }'
-# the accepted chain goes to the scratch folder, not HOSTILE_GEN, where
+rotor='print "motors:\n  m: {part: motors/gearmotor-12v-50, across: j0, drive: voltage}"'
+# the accepted chains go to the scratch folder, not HOSTILE_GEN, where
 # every file must be refused
-awk "BEGIN { N = 48; $chain }" >"$T/chain-48.yaml"
-gen chain-49.yaml "N = 49; $chain"
-expect "48-link chain, linearize" 0 "" "$R" linearize "$T/chain-48.yaml"
-expect "48-link chain, check" 0 "" "$R" check "$T/chain-48.yaml"
-expect "49-link chain" 1 "more than 48 joints" "$R" linearize "$G/chain-49.yaml"
+awk "BEGIN { N = 1024; $chain }" >"$T/chain-1024.yaml"
+awk "BEGIN { N = 48; $chain; $rotor }" >"$T/chain-48-rotor.yaml"
+gen chain-1025.yaml "N = 1025; $chain"
+gen chain-49-rotor.yaml "N = 49; $chain; $rotor"
+save_s=$EXPECT_S
+EXPECT_S=${HOSTILE_LARGE_TIMEOUT:-120}
+expect "1024-link chain, linearize" 0 "" "$R" linearize "$T/chain-1024.yaml" --format mtx \
+    -o "$T/chain-1024"
+expect "48-link chain with a rotor, linearize" 0 "" "$R" linearize "$T/chain-48-rotor.yaml"
+EXPECT_S=$save_s
+# the section limit (1024 entries) meets the joint limit (1024) first
+expect "1025-link chain" 1 "more than 1024 entries in 'joints'" "$R" linearize \
+    "$G/chain-1025.yaml"
+expect "49-link chain with a rotor" 1 "more than 48 moving joints" "$R" linearize \
+    "$G/chain-49-rotor.yaml"
 echo "hostile: $ne expected-outcome cases"
 
 echo "hostile: $n inputs, commands: $cmds"

@@ -54,7 +54,7 @@ done
 for f in empty.yaml binary-garbage.bin truncated-flow-map.yaml alias-billion-laughs.yaml \
     deep-flow-seq-5000.yaml duplicate-keys-1000.yaml tree-cycle.yaml part-self.yaml \
     part-dotdot.yaml unit-kg-pow-99999.yaml number-1e999.yaml control-chars-echoed.yaml \
-    model-is-a-directory.yaml bodies-300.yaml long-body-name.yaml; do
+    model-is-a-directory.yaml bodies-1100.yaml long-body-name.yaml; do
     vg fail check "tests/hostile/$f"
 done
 vg fail discretize tests/hostile/number-nan-word.yaml --rate 100Hz

@@ -18,6 +18,7 @@
  */
 #include "invariant.h"
 #include "mechanics.h"
+#include "recursive.h"
 #include "layout.h"
 #include "kinds.h"
 
@@ -58,6 +59,7 @@ struct rigmat_mech {
     size_t *perm;
     double complex *xc, *uc, *fc, *yc;
     double *fr; /* real f, canonical */
+    rigmat_rec *rec; /* the O(N) path (recursive.c) when chosen, else NULL */
 };
 
 #define BJ(s, b, k, c) ((s)->bJ[((b) * 2 + (k)) * (s)->n + (c)])
@@ -86,6 +88,7 @@ void rigmat_mech_free(rigmat_mech *s)
     free(s->tJa); free(s->tJb); free(s->tj); free(s->jout); free(s->cur); free(s->wout);
     free(s->bout); free(s->perm);
     free(s->xc); free(s->uc); free(s->fc); free(s->yc); free(s->fr);
+    rigmat_rec_free(s->rec);
     free(s);
 }
 
@@ -743,12 +746,18 @@ static double complex read_specific_force(rigmat_mech *s, const rigmat_sensor *s
     const double complex c = ccos(s->bth[se->body]), sn = csin(s->bth[se->body]);
     double complex ax, ay, bx, by, p[2], a[2];
     size_t r;
-    point_kin(s, se->body, se->at_m, p, s->tJa, NULL, a);
-    ax = a[0] - gx;
-    ay = a[1] - gy;
-    for (r = 0; r < n; r++) {
-        ax += s->tJa[r] * s->qdd[r];
-        ay += s->tJa[n + r] * s->qdd[r];
+    if (s->rec != NULL) {
+        rigmat_rec_point_accel(s->rec, se->body, se->at_m, a);
+        ax = a[0] - gx;
+        ay = a[1] - gy;
+    } else {
+        point_kin(s, se->body, se->at_m, p, s->tJa, NULL, a);
+        ax = a[0] - gx;
+        ay = a[1] - gy;
+        for (r = 0; r < n; r++) {
+            ax += s->tJa[r] * s->qdd[r];
+            ay += s->tJa[n + r] * s->qdd[r];
+        }
     }
     /* R(th)^T: world into the body frame */
     bx = c * ax + sn * ay;
@@ -815,11 +824,14 @@ rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const do
     size_t k;
 
     unpack(s, x, u);
-    kinematics(s);
-    st = assemble(s, err);
-    if (st != RIGMAT_OK)
-        return st;
-    st = solve(s, err);
+    if (s->rec != NULL) {
+        st = rigmat_rec_eval(s->rec, err);
+    } else {
+        kinematics(s);
+        st = assemble(s, err);
+        if (st == RIGMAT_OK)
+            st = solve(s, err);
+    }
     if (st != RIGMAT_OK)
         return st;
     if (f != NULL)
@@ -1481,11 +1493,55 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
     st = check_needs(s, err);
     if (st != RIGMAT_OK)
         goto fail;
+    if (s->n >= RIGMAT_MECH_RECURSIVE_MIN) {
+        const char *why = NULL;
+        st = rigmat_mech_set_path(s, RIGMAT_MECH_RECURSIVE, NULL);
+        if (st == RIGMAT_ENOMEM)
+            goto fail;
+        st = RIGMAT_OK; /* an unsupported model keeps the mass matrix */
+        if (s->rec == NULL && s->n > RIGMAT_MECH_MASS_MATRIX_MAX &&
+                !rigmat_rec_supported(m, &why)) {
+            st = RIGMAT_FAIL(err, RIGMAT_EMODEL,
+                    "more than %d moving joints in a model the O(N) dynamics do not handle "
+                    "(%s)", RIGMAT_MECH_MASS_MATRIX_MAX, why);
+            rigmat_error_hint(err, "the mass-matrix method it needs grows as N^3 per "
+                                   "evaluation; see README.md, \"Rules worth knowing\"");
+            if (err != NULL)
+                err->where = m->joints[s->cjoint[RIGMAT_MECH_MASS_MATRIX_MAX]].loc;
+            goto fail;
+        }
+    }
     *out = s;
     return RIGMAT_OK;
 fail:
     rigmat_mech_free(s);
     return st;
+}
+
+rigmat_status rigmat_mech_set_path(rigmat_mech *s, rigmat_mech_path path, rigmat_error *err)
+{
+    const char *why = NULL;
+
+    rigmat_rec_free(s->rec);
+    s->rec = NULL;
+    if (path == RIGMAT_MECH_MASS_MATRIX)
+        return RIGMAT_OK;
+    if (!rigmat_rec_supported(s->m, &why))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the recursive dynamics do not apply: %s", why);
+    {
+        const rigmat_rec_view v = { s->m, s->n, s->nb, s->coord, s->cjoint, s->order, s->bjoint,
+            s->mstator, s->mrotor, s->mlin, s->mk, s->umot, s->ufor, s->q, s->qd, s->qdd,
+            s->ueff, s->cur, s->bp, s->bth, s->bv, s->bom, s->ba, s->bal, s->wout };
+        s->rec = rigmat_rec_alloc(&v);
+    }
+    if (s->rec == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    return RIGMAT_OK;
+}
+
+rigmat_mech_path rigmat_mech_get_path(const rigmat_mech *s)
+{
+    return s->rec != NULL ? RIGMAT_MECH_RECURSIVE : RIGMAT_MECH_MASS_MATRIX;
 }
 
 /* ----------------------------------------------------- operating point */

@@ -47,6 +47,38 @@ typedef struct rigmat_mech rigmat_mech;
 rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat_error *err);
 void rigmat_mech_free(rigmat_mech *s);
 
+/* Two methods give the same f and h (to rounding): the mass-matrix
+ * method above, O(N^3) per evaluation, and the articulated-body recursion
+ * of recursive.c, O(N) per evaluation, for every model but those with a
+ * motor's rotor or load inertia or a drive-force sensor (recursive.h).
+ * rigmat_mech_alloc takes the recursion when the model has at least
+ * RIGMAT_MECH_RECURSIVE_MIN coordinates and the recursion applies, the
+ * mass matrix otherwise.  The recursion is faster from the smallest
+ * chains on (the Jacobian of a 4-link pendulum chain: 22 us against 62 us
+ * on the shared build machine; 16 links: 1.0 ms against 6.0 ms); the mass
+ * matrix stays below 12 coordinates so that the small models (every
+ * example) keep their outputs to the last bit and the reference method
+ * stays in daily use. */
+#define RIGMAT_MECH_RECURSIVE_MIN 12
+
+/* A model the recursion does not handle keeps the mass-matrix method,
+ * O(N^3) per evaluation: above this many coordinates rigmat_mech_alloc
+ * refuses it (RIGMAT_EMODEL, naming what keeps the mass matrix), the cost
+ * limit that held for every model before the recursion (linearize 1.3 s
+ * at 48 joints, 16-20 s at 64 on the shared build machine). */
+#define RIGMAT_MECH_MASS_MATRIX_MAX 48
+
+typedef enum rigmat_mech_path {
+    RIGMAT_MECH_MASS_MATRIX,
+    RIGMAT_MECH_RECURSIVE
+} rigmat_mech_path;
+
+/* Choose the method (tests compare the two).  RIGMAT_EUSAGE, naming what
+ * the recursion does not handle, when it does not apply (the mass matrix
+ * stays); RIGMAT_ENOMEM. */
+rigmat_status rigmat_mech_set_path(rigmat_mech *s, rigmat_mech_path path, rigmat_error *err);
+rigmat_mech_path rigmat_mech_get_path(const rigmat_mech *s);
+
 /* The canonical sizes and signals (owned by the object). */
 const rigmat_layout *rigmat_mech_canonical(const rigmat_mech *s);
 

@@ -677,10 +677,10 @@ static const rigmat_node *section(struct ld *L, const rigmat_node *root, const c
     }
     if (strcmp(key, "joints") == 0 && s->value->n > L->opt->max_joints) {
         lerr(L, NULL, s->value->entries[L->opt->max_joints].key_loc,
-                "the cost of linearizing grows steeply with the joint count; a model this "
+                "linearizing costs grow as the square of the joint count; a model this "
                 "large would take minutes, so it is refused (README.md, limits)",
-                "more than %zu joints: at most %zu, so that every command finishes within a "
-                "few seconds", L->opt->max_joints, L->opt->max_joints);
+                "more than %zu joints: at most %zu, so that every command finishes within "
+                "seconds", L->opt->max_joints, L->opt->max_joints);
         return NULL;
     }
     return s->value;

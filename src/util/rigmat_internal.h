@@ -135,10 +135,10 @@ typedef struct rigmat_options {
     size_t max_file_bytes;  /* default 4 MiB */
     size_t max_depth;       /* YAML nesting depth, default 32 */
     size_t max_nodes;       /* YAML scalars + collections per file, default 200000 */
-    size_t max_entries;     /* entries per section (bodies, joints, ...), default 256 */
+    size_t max_entries;     /* entries per section (bodies, joints, ...), default 1024 */
     size_t max_errors;      /* diagnostics reported before giving up, default 50 */
     size_t max_part_depth;  /* catalog parts may not nest deeper, default 4 */
-    size_t max_joints;      /* joints per model, default 48: the cost limit (README.md) */
+    size_t max_joints;      /* joints per model, default 1024: the cost limit (README.md) */
     const char *catalog_dir;    /* --catalog, or NULL */
     const char *catalog_env;    /* $RIGMAT_CATALOG, or NULL */
     const char *catalog_share;  /* installed share folder, or NULL */
@@ -148,7 +148,7 @@ typedef struct rigmat_options {
     double rank_rtol;        /* relative singular-value threshold, default 1e-9 */
     double rate_hz;          /* sample rate for noise-per-sample figures; 0 = none */
     size_t max_sampled_states; /* states of a sampled model, plant plus input-delay
-                                * stages; a larger delay is refused; default 1024
+                                * stages; a larger delay is refused; default 2048
                                 * (README.md, Limits) */
     int limits_refuse;       /* 1 (default): an operating point beyond an input's limit or
                               * a motor's current_limit is RIGMAT_ENUMERIC in linearize and
