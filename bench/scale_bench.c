@@ -12,7 +12,7 @@
  *                              the number of products
  *
  * Part of `make bench` (bench/scale.sh); never fails on time. */
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "discretize.h"
 #include "expm.h"
 

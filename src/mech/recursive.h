@@ -26,7 +26,7 @@
 #ifndef RIGMAT_RECURSIVE_H
 #define RIGMAT_RECURSIVE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include <complex.h>
 
 /* What the recursion reads from and writes into the rigmat_mech that owns
