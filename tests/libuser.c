@@ -104,7 +104,7 @@ int main(int argc, char **argv)
         static char text[1 << 16];
         size_t len = 0;
         FILE *f = tmpfile();
-        rigmat_emit_opts eo = { "balancer", 0, NULL };
+        rigmat_emit_opts eo = { "balancer", 0, NULL, NULL };
         rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
                 L->outputs, L->ny);
         rigmat_result_dim(r, "state", L->states, z->nx);
