@@ -22,12 +22,12 @@ BUILD_PKGS = gcc make libc6-dev pkg-config libgsl-dev libyaml-dev libopenblas-de
 BUILD_PROBES = /usr/bin/pkg-config /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h
 TEST_PKGS = check libsubunit-dev python3-numpy python3-scipy python3-sympy python3-mpmath \
             time valgrind clang libclang-rt-14-dev locales groff-base \
-            libxml2-utils chromium imagemagick
+            libxml2-utils chromium imagemagick gcc-arm-none-eabi libnewlib-arm-none-eabi
 TEST_PROBES = /usr/include/check.h /usr/lib/python3/dist-packages/scipy \
               /usr/lib/python3/dist-packages/sympy /usr/lib/python3/dist-packages/mpmath \
               /usr/lib/python3/dist-packages/numpy /usr/bin/time /usr/bin/valgrind \
               /usr/bin/clang /usr/bin/localedef /usr/share/i18n/locales/de_DE \
-              /usr/bin/groff /usr/bin/xmllint /usr/bin/chromium
+              /usr/bin/groff /usr/bin/xmllint /usr/bin/chromium /usr/bin/arm-none-eabi-gcc
 DEB_PKGS = $(BUILD_PKGS) $(TEST_PKGS)
 
 BUILD = build
@@ -144,7 +144,7 @@ $(BUILD)/suites.h: $(sort $(wildcard tests/check_*.c))
         check check-symbols check-unit check-cli check-ref check-install check-san \
         check-hostile check-fuzz check-fuzz-replay check-fuzz-short fuzz \
         check-valgrind check-valgrind-cli check-tsan check-oom check-locale \
-        check-stages check-man check-report check-mutants
+        check-stages check-man check-report check-mutants check-firmware
 all: $(BUILD)/rigmat $(BUILD)/librigmat.a
 
 # Copied through a temporary and renamed, so a test running the old
@@ -188,7 +188,7 @@ demo: all
 # the threads under ThreadSanitizer and the allocation-failure run.  Every
 # target names what it runs, so any -j works.
 check: all check-stages check-symbols check-unit check-cli check-man check-report check-ref \
-        check-install check-san check-hostile check-fuzz check-tsan check-oom
+        check-firmware check-install check-san check-hostile check-fuzz check-tsan check-oom
 	@echo "rigmat: all checks passed"
 # check-stages: no include from a later stage into an earlier one, no
 # include cycle (tests/stages.sh, with a self-test that plants both).
@@ -220,6 +220,12 @@ check-report: $(BUILD)/rigmat deps-test
 check-ref: $(BUILD)/rigmat deps-test
 	@for t in tests/ref/test_*.py; do [ -e "$$t" ] || continue; \
 	    echo "reference: $$t"; RIGMAT=$(BUILD)/rigmat $(PYTHON) $$t || exit 1; done
+# check-firmware: the generated C of `rigmat firmware` compiled for the host
+# and a Cortex-M4F, against the library, numpy and a NEES test
+# (tests/firmware.sh).
+check-firmware: $(BUILD)/rigmat $(BUILD)/librigmat.a $(BUILD)/shim/writefail.so deps-test
+	RIGMAT=$(BUILD)/rigmat RIGMAT_LIB=$(BUILD)/librigmat.a FW_LIBS='$(LIBS) -lm' \
+	    WRITE_SHIM=$(BUILD)/shim/writefail.so PYTHON=$(PYTHON) sh tests/firmware.sh
 check-san: $(BUILD)/san/check_rigmat $(BUILD)/san/rigmat $(BUILD)/shim/writefail.so check-locale
 	cd tests && ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 UBSAN_OPTIONS=print_stacktrace=1 \
 	    CK_DEFAULT_TIMEOUT=300 ../$(BUILD)/san/check_rigmat

@@ -5,10 +5,9 @@
  * The model is linearized at its operating point, sampled by ZOH at the
  * rate, given its noise model and its steady-state Kalman filter, exactly
  * as `gains` does; the generator then writes both files into memory, and
- * only when both are complete are they written to DIR: NAME.h first, then
- * NAME.c, and when NAME.c cannot be written NAME.h is put back as it was
- * (or removed when it did not exist), so DIR holds both new files or
- * neither.  Standard output gets one line naming the files and the
+ * only when both are complete are they written to DIR, whole or not at
+ * all (cli_outfile_write_all, src/cli/outfile.h): DIR holds both new files
+ * or neither.  Standard output gets one line naming the files and the
  * operation counts.
  */
 #include "cli.h"
@@ -35,72 +34,6 @@ static const char *const firmware_usage[] = {
 };
 
 static const char *const firmware_formats[] = { "c", NULL };
-
-/* The whole of a regular file into *buf (NULL when it does not exist). */
-static rigmat_status read_old(const char *path, char **buf, size_t *len, int *exists)
-{
-    FILE *f = fopen(path, "rb");
-    char chunk[4096];
-    size_t n;
-    FILE *m;
-
-    *buf = NULL;
-    *len = 0;
-    *exists = 0;
-    if (f == NULL)
-        return errno == ENOENT ? RIGMAT_OK : RIGMAT_EIO;
-    *exists = 1;
-    m = open_memstream(buf, len);
-    if (m == NULL) {
-        fclose(f);
-        return RIGMAT_ENOMEM;
-    }
-    while ((n = fread(chunk, 1, sizeof chunk, f)) > 0)
-        if (fwrite(chunk, 1, n, m) != n)
-            break;
-    {
-        const int bad = ferror(f) != 0;
-        fclose(f);
-        if (fclose(m) != 0)
-            return RIGMAT_ENOMEM;
-        return bad ? RIGMAT_EIO : RIGMAT_OK;
-    }
-}
-
-/* Both files, or neither (see the top of this file). */
-static rigmat_status write_pair(struct cli_env *env, const char *hpath, const char *hdata,
-        size_t hlen, const char *cpath, const char *cdata, size_t clen)
-{
-    char *old = NULL;
-    size_t oldlen = 0;
-    int existed = 0;
-    rigmat_error e;
-    rigmat_status st;
-
-    memset(&e, 0, sizeof e);
-    st = read_old(hpath, &old, &oldlen, &existed);
-    if (st != RIGMAT_OK) {
-        free(old);
-        fprintf(env->err, "rigmat firmware: error: cannot read '%s' to keep it safe\n", hpath);
-        return st;
-    }
-    st = cli_outfile_write(hpath, hdata, hlen, &e);
-    if (st == RIGMAT_OK) {
-        st = cli_outfile_write(cpath, cdata, clen, &e);
-        if (st != RIGMAT_OK) {
-            rigmat_error e2;
-            memset(&e2, 0, sizeof e2);
-            if (existed)
-                (void)cli_outfile_write(hpath, old, oldlen, &e2);
-            else
-                (void)remove(hpath);
-        }
-    }
-    free(old);
-    if (st != RIGMAT_OK)
-        return cli_report(env, &e);
-    return RIGMAT_OK;
-}
 
 rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env);
 rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env)
@@ -226,8 +159,23 @@ rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env)
             goto report;
         }
         st = rigmat_kalman_solve(d->Ad, d->Cd, nz->Qd, nz->Rd, nz->S, &ro, gw, kw, &kf, &info, &e);
-        if (st != RIGMAT_OK) {
+        if (st == RIGMAT_ENUMERIC) {
+            /* no steady-state filter exists (a mode on the unit circle
+             * without noise, an undetectable mode): the model and its
+             * Jacobians are still worth having; say why there are no filters */
             rigmat_gains_explain(lti, RIGMAT_GAINS_KALMAN, &info, NULL, &e);
+            fprintf(env->err, "rigmat firmware: note: no Kalman filters: ");
+            cli_put_clean(env->err, e.message);
+            fputc('\n', env->err);
+            if (e.hint[0] != '\0') {
+                fputs("  hint: ", env->err);
+                cli_put_clean(env->err, e.hint);
+                fputc('\n', env->err);
+            }
+            memset(&e, 0, sizeof e);
+            kf = NULL;
+            st = RIGMAT_OK;
+        } else if (st != RIGMAT_OK) {
             goto report;
         }
     } else {
@@ -271,7 +219,14 @@ rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env)
         st = RIGMAT_EIO;
         goto done;
     }
-    st = write_pair(env, hpath, hbuf, hlen, cpath, cbuf, clen);
+    {
+        const char *const paths[2] = { hpath, cpath };
+        const char *const data[2] = { hbuf, cbuf };
+        const size_t lens[2] = { hlen, clen };
+        st = cli_outfile_write_all(paths, data, lens, 2, &e);
+        if (st != RIGMAT_OK)
+            goto report;
+    }
     if (st == RIGMAT_OK)
         fprintf(env->out, "wrote %s and %s; f: %lu operations, h: %lu, jacobians: %lu\n", hpath,
                 cpath,

@@ -24,6 +24,8 @@
 #include <stdlib.h>
 #include <string.h>
 #include <gsl/gsl_blas.h>
+#include <gsl/gsl_complex_math.h>
+#include <gsl/gsl_eigen.h>
 #include <gsl/gsl_math.h>
 
 /* ------------------------------------------- the counting pass of the kernel */
@@ -705,16 +707,35 @@ void rigmat_firmware_name(const rigmat_model *m, const char *name, char *buf, si
 
 unsigned rigmat_firmware_substeps(const rigmat_lti *lti, double period_s)
 {
-    double norm = 0.0, k;
+    const size_t n = lti->nx;
+    gsl_matrix *a = n > 0 && lti->A != NULL ? gsl_matrix_alloc(n, n) : NULL;
+    gsl_vector_complex *ev = n > 0 ? gsl_vector_complex_alloc(n) : NULL;
+    gsl_eigen_nonsymm_workspace *w = n > 0 ? gsl_eigen_nonsymm_alloc(n) : NULL;
+    double rho = 0.0, k;
     size_t i, j;
 
-    for (i = 0; lti->A != NULL && i < lti->nx; i++) {
-        double row = 0.0;
-        for (j = 0; j < lti->nx; j++)
-            row += fabs(gsl_matrix_get(lti->A, i, j));
-        norm = GSL_MAX(norm, row);
+    if (a != NULL && ev != NULL && w != NULL) {
+        gsl_matrix_memcpy(a, lti->A);
+        if (gsl_eigen_nonsymm(a, ev, w) == GSL_SUCCESS) {
+            for (i = 0; i < n; i++)
+                rho = GSL_MAX(rho, gsl_complex_abs(gsl_vector_complex_get(ev, i)));
+        } else {
+            /* no eigenvalues: the infinity norm bounds the spectral radius */
+            for (i = 0; i < n; i++) {
+                double row = 0.0;
+                for (j = 0; j < n; j++)
+                    row += fabs(gsl_matrix_get(lti->A, i, j));
+                rho = GSL_MAX(rho, row);
+            }
+        }
     }
-    k = ceil(period_s * norm / 0.5);
+    if (a != NULL)
+        gsl_matrix_free(a);
+    if (ev != NULL)
+        gsl_vector_complex_free(ev);
+    if (w != NULL)
+        gsl_eigen_nonsymm_free(w);
+    k = ceil(period_s * rho / RIGMAT_FW_RK4_REACH);
     if (!(k >= 1.0))
         return 1;
     return k > 100000.0 ? 100000u : (unsigned)k;
@@ -775,8 +796,9 @@ static char *header_tail(const rigmat_fw_input *in, const char *low, const char 
         fprintf(f,
                 "\n/* Extended Kalman filter.  Predict: the nonlinear model over one period by\n"
                 " * %u step%s of classical fourth-order Runge-Kutta (%s_EKF_SUBSTEPS, chosen so\n"
-                " * that the step times the infinity norm of A at the operating point is at\n"
-                " * most 1/2), the covariance through the exact Jacobian of those steps\n"
+                " * that the step times the largest |eigenvalue| of A at the operating point\n"
+                " * is at most 2, inside RK4's stability region), the covariance through\n"
+                " * the exact Jacobian of those steps\n"
                 " * (the stage sensitivities of RK4 from the exact Jacobians of f):\n"
                 " * P = Phi P Phi^T + Qd.  Update: y- = h(x, u), C exact, S = C P C^T + Rd,\n"
                 " * K = P C^T S^-1 (Cholesky), P in Joseph form with Rd.  The cross-covariance\n"
@@ -792,8 +814,12 @@ static char *header_tail(const rigmat_fw_input *in, const char *low, const char 
                 substeps, substeps == 1 ? "" : "s", up, up, substeps, low, low, up, low, up, up,
                 low, low, low, low, low, low, low, low, low, low);
     } else {
-        fputs("\n/* No sensors: no Kalman filters. */\n", f);
+        fprintf(f, "\n/* No Kalman filters: %s. */\n",
+                L->ny == 0 ? "the model has no sensors"
+                           : "no steady-state filter exists for this noise model (`rigmat gains` "
+                             "says why)");
     }
+    fprintf(f, "#define %s_HAS_FILTERS %d\n", up, filters);
     if (fclose(f) != 0) {
         free(buf);
         return NULL;

@@ -68,8 +68,16 @@ rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit
         FILE *hf, FILE *cf, rigmat_fw_counts *counts, rigmat_error *err);
 
 /* The EKF's RK4 substeps over one period: the smallest k with
- * T ||A||_inf / k <= 1/2 (A the continuous Jacobian at the operating
- * point; ||A||_inf bounds its spectral radius), at least 1. */
+ * T rho(A) / k <= RIGMAT_FW_RK4_REACH, rho(A) the spectral radius of the
+ * continuous Jacobian at the operating point (its infinity norm when the
+ * eigenvalues cannot be had), at least 1.  Classical RK4 is stable for
+ * h lambda on the negative real axis down to -2.785 and on the imaginary
+ * axis up to 2.828 (E. Hairer, G. Wanner, Solving Ordinary Differential
+ * Equations II, 1996, sec. IV.2, from memory): a step with h |lambda| <= 2
+ * keeps every mode of the left half plane inside it, so a fast stable
+ * electrical pole costs few steps and is damped, and the mechanical modes
+ * are resolved finely. */
+#define RIGMAT_FW_RK4_REACH 0.5
 unsigned rigmat_firmware_substeps(const rigmat_lti *lti, double period_s);
 
 #endif /* RIGMAT_FIRMWARE_H */
