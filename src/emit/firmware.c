@@ -797,8 +797,7 @@ static char *header_tail(const rigmat_fw_input *in, const char *low, const char 
                 "\n/* Extended Kalman filter.  Predict: the nonlinear model over one period by\n"
                 " * %u step%s of classical fourth-order Runge-Kutta (%s_EKF_SUBSTEPS, chosen so\n"
                 " * that the step times the largest |eigenvalue| of A at the operating point\n"
-                " * is at most 2, inside RK4's stability region), the covariance through\n"
-                " * the exact Jacobian of those steps\n"
+                " * is at most %g), the covariance through the exact Jacobian of those steps\n"
                 " * (the stage sensitivities of RK4 from the exact Jacobians of f):\n"
                 " * P = Phi P Phi^T + Qd.  Update: y- = h(x, u), C exact, S = C P C^T + Rd,\n"
                 " * K = P C^T S^-1 (Cholesky), P in Joseph form with Rd.  The cross-covariance\n"
@@ -811,7 +810,7 @@ static char *header_tail(const rigmat_fw_input *in, const char *low, const char 
                 "void %s_ekf_init(%s_ekf *ekf);\n"
                 "int %s_ekf_update(%s_ekf *ekf, const %s_real *u, const %s_real *y);\n"
                 "void %s_ekf_predict(%s_ekf *ekf, const %s_real *u);\n",
-                substeps, substeps == 1 ? "" : "s", up, up, substeps, low, low, up, low, up, up,
+                substeps, substeps == 1 ? "" : "s", up, RIGMAT_FW_RK4_REACH, up, substeps, low, low, up, low, up, up,
                 low, low, low, low, low, low, low, low, low, low);
     } else {
         fprintf(f, "\n/* No Kalman filters: %s. */\n",
