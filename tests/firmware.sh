@@ -1,7 +1,8 @@
 #!/bin/sh
 # firmware.sh - `rigmat firmware` (README.md, "Firmware"), run by
 # `make check-firmware`:
-#   - the generated NAME.h and NAME.c of every example, double and float,
+#   - the generated NAME.h and NAME.c of every example and test model,
+#     double and float,
 #     compile with gcc -std=c99 -Wall -Wextra -Wpedantic -Werror, and the
 #     float form for a Cortex-M4F with arm-none-eabi-gcc (skipped with a
 #     message only when that compiler is absent); nm shows no undefined
@@ -49,7 +50,9 @@ only_allowed() {
         END { exit bad }'
 }
 
-for ex in examples/*.yaml; do
+# the examples, the test models, and tests/firmware/kinds.yaml (every kind
+# the examples leave out)
+for ex in examples/*.yaml tests/firmware/*.yaml tests/models/*.yaml tests/sensors/*.yaml; do
     base=$(basename "$ex" .yaml)
     for ct in double float; do
         D="$T/$base-$ct"

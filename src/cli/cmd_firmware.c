@@ -35,6 +35,33 @@ static const char *const firmware_usage[] = {
 
 static const char *const firmware_formats[] = { "c", NULL };
 
+/* Make the folder path and the missing folders above it (as mkdir -p);
+ * 0 on success, -1 with errno set. */
+static int make_folders(const char *path)
+{
+    char *p = malloc(strlen(path) + 1), *s;
+    int rc = 0;
+
+    if (p == NULL) {
+        errno = ENOMEM;
+        return -1;
+    }
+    strcpy(p, path);
+    for (s = p + 1; rc == 0; s++) {
+        const char c = *s;
+        if (c != '/' && c != '\0')
+            continue;
+        *s = '\0';
+        if (mkdir(p, 0777) != 0 && errno != EEXIST)
+            rc = -1;
+        *s = c;
+        if (c == '\0')
+            break;
+    }
+    free(p);
+    return rc;
+}
+
 rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env);
 rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env)
 {
@@ -206,7 +233,7 @@ rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env)
     if (st != RIGMAT_OK)
         goto report;
     if (stat(dir, &sb) != 0) {
-        if (mkdir(dir, 0777) != 0) {
+        if (make_folders(dir) != 0) {
             char why[RIGMAT_STRERROR_LEN];
             fprintf(env->err, "rigmat firmware: error: cannot make the folder '%s': %s\n", dir,
                     rigmat_strerror(errno, why, sizeof why));

@@ -184,6 +184,14 @@ unknown_joint:
         o->stator = idx(mp.mstator[i]);
         o->rotor = idx(mp.mrotor[i]);
         o->lin = idx(mp.mlin[i]);
+        if (mp.mlin[i] != RIGMAT_NONE) {
+            /* across a slider: the body holding the housing carries the
+             * rotor's rate (mechanics.c, motor_stator) */
+            const rigmat_joint *jt = &m->joints[mo->joint];
+            o->stator = idx(mo->mounted_on_child ? jt->child : jt->parent);
+        }
+        if (RIGMAT_NEVER(o->stator < 0 || (o->lin < 0 && o->rotor < 0) || o->umot < 0))
+            return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "motor '%s' has no bodies", mo->name);
         o->xi = idx(mp.xi[i]);
         o->umot = idx(mp.umot[i]);
         o->supply_scaled = dk->needs_supply;
