@@ -158,6 +158,10 @@ expect 2 "firmware without a rate" -- "$R" firmware examples/balancer.yaml -o "$
 expect 2 "firmware with --ctype int" -- "$R" firmware examples/balancer.yaml --rate 200Hz --ctype int -o "$T/x"
 expect 1 "firmware of a bad model" -- "$R" firmware tests/bad/$(ls tests/bad | head -1) --rate 200Hz -o "$T/x"
 [ ! -e "$T/x" ] && ok || bad "a failed run made the output folder"
+expect 3 "firmware float of a value beyond float" -- "$R" firmware examples/cart.yaml --rate 200Hz \
+    --ctype float -o "$T/big" --set 'springs.stiff={across: track, stiffness: 1e40 N/m}'
+grep -q "does not fit in a float" "$T/err" && [ ! -e "$T/big" ] && ok \
+    || bad "a value beyond float: no message, or files written"
 : >"$T/afile"
 expect 4 "firmware -o a regular file" -- "$R" firmware examples/balancer.yaml --rate 200Hz -o "$T/afile"
 expect 0 "firmware default name" -- "$R" firmware examples/balancer.yaml --period 5ms -o "$T/named"

@@ -366,12 +366,15 @@ unknown_joint:
 
 struct out {
     FILE *f;
-    int fl; /* float */
+    int fl;        /* float */
+    double beyond; /* the first value a float cannot hold (or that is not finite), else 0 */
 };
 
 static void num(struct out *o, double v)
 {
     char buf[64];
+    if (o->beyond == 0.0 && (!isfinite(v) || (o->fl && fabs(v) > (double)FLT_MAX)))
+        o->beyond = isfinite(v) ? v : HUGE_VAL;
     rigmat_emit_c_number(buf, sizeof buf, v, o->fl);
     fputs(buf, o->f);
 }
@@ -921,6 +924,7 @@ rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit
     /* NAME.c */
     out.f = cf;
     out.fl = fl;
+    out.beyond = 0.0;
     fprintf(cf, "/* %s.c - the nonlinear model, its exact Jacobians, a steady-state Kalman\n"
                 " * filter and an extended Kalman filter for firmware; %s.h says what each\n"
                 " * function does.\n",
@@ -985,6 +989,10 @@ rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit
         fputs("#define fw_kf_cross FW_DATA(kalman_cross)\n", cf);
     fputc('\n', cf);
     put_lines(cf, rigmat_fw_filter_text);
+    if (out.beyond != 0.0)
+        st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                "a value of the model (%g) does not fit in a %s: the table of %s.c cannot hold it",
+                out.beyond, fl ? "float" : "double", low);
 done:
     free(tail);
     rigmat_result_free(r);
