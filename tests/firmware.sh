@@ -10,6 +10,8 @@
 #     memcpy, memset.  On the host, sin and cos are compiled as calls
 #     (-fno-builtin-sin ...): gcc otherwise fuses a sine and a cosine of one
 #     angle into glibc's sincos, which is not in the source;
+#   - the operation counts of f and h in the header are those of the
+#     generated code, counted (tests/fw_count.c);
 #   - f, h and the exact Jacobians equal the library's (tests/fw_host.c
 #     jac: 1e-12 relative in double, 1e-5 in float), and a planted change
 #     in the generated table is caught;
@@ -50,6 +52,26 @@ only_allowed() {
         END { exit bad }'
 }
 
+# fwm.c with the real pass's operations counted into fw_ops (tests/fw_count.c)
+count_copy() {
+    sed -e '/pass 1/,/pass 2/{
+s/^#define SADD(a, b) .*/#define SADD(a, b) fw_n(\&fw_ops[0], (a) + (b))/
+s/^#define SSUB(a, b) .*/#define SSUB(a, b) fw_n(\&fw_ops[0], (a) - (b))/
+s/^#define SMUL(a, b) .*/#define SMUL(a, b) fw_n(\&fw_ops[1], (a) * (b))/
+s/^#define SKM(k, a) .*/#define SKM(k, a) fw_n(\&fw_ops[1], (k) * (a))/
+s/^#define SDIV(a, b) .*/#define SDIV(a, b) fw_n(\&fw_ops[2], (a) \/ (b))/
+s/^#define SSQRT(a) \(.*\)/#define SSQRT(a) fw_n(\&fw_ops[3], \1)/
+s/^#define SSIN(a) \(.*\)/#define SSIN(a) fw_n(\&fw_ops[4], \1)/
+s/^#define SCOS(a) \(.*\)/#define SCOS(a) fw_n(\&fw_ops[5], \1)/
+}' -e 's/^#include <math.h>$/#include <math.h>\
+unsigned long fw_ops[6];\
+static fwm_real fw_n(unsigned long *c, fwm_real v)\
+{\
+    ++*c;\
+    return v;\
+}/' "$1"
+}
+
 # the examples, the test models, and tests/firmware/kinds.yaml (every kind
 # the examples leave out)
 for ex in examples/*.yaml tests/firmware/*.yaml tests/models/*.yaml tests/sensors/*.yaml; do
@@ -88,6 +110,13 @@ for ex in examples/*.yaml tests/firmware/*.yaml tests/models/*.yaml tests/sensor
         if "$D/fw_host" jac "$ex" >"$T/out" 2>&1; then ok
         else bad "$base $ct: f, h, Jacobians against the library:"; cat "$T/out"; fi
         grep "largest relative error" "$T/out"
+        # the operation counts the header states, counted in the real pass
+        if [ "$ct" = double ] && grep -q "fwm_u0\[" "$D/fwm.h"; then
+            count_copy "$D/fwm.c" >"$D/counted.c"
+            if $HOSTCC -I"$D" tests/fw_count.c "$D/counted.c" -lm -o "$D/fw_count" 2>"$T/err" &&
+                "$D/fw_count" >"$T/counts" && grep '^ \*   [fh]:' "$D/fwm.h" | cmp -s - "$T/counts"
+            then ok; else bad "$base: the operation counts of fwm.h differ from the counted ones"; fi
+        fi
         if [ "$ct" = double ] && grep -q "FWM_HAS_FILTERS 1" "$D/fwm.h"; then
             if "$PY" tests/ref/firmware_kf.py "$R" "$D/fw_host" "$ex" 200Hz; then ok
             else bad "$base: the generated Kalman filter differs from numpy's"; fi
