@@ -944,6 +944,9 @@ rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit
                 " * tangent), which give the Jacobians exactly, one direction at a time.\n */\n",
             fl ? " (float forms: sinf, cosf, sqrtf)" : "", fl ? "float" : "double");
     fprintf(cf, "#include \"%s.h\"\n\n#include <math.h>\n\n", low);
+    fputs("/* the sizes of the model's layout (FW_NX ...) and of the evaluator's\n"
+          " * canonical order (FW_CNX ...; ...1: at least 1, for arrays), and of its\n"
+          " * table (FW_MAX_...) */\n", cf);
     fprintf(cf, "#define FW_R %s_real\n#define FW_API(name) %s_##name\n"
                 "#define FW_DATA(name) %s_##name\n",
             low, low, low);
@@ -951,8 +954,9 @@ rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit
                 "#define FW_NU1 %zu\n#define FW_NY1 %zu\n#define FW_CNX %zu\n#define FW_CNU1 %zu\n#define FW_CNY1 %zu\n",
             L->nx, L->nu, L->nu_control, L->ny, MAX1(L->nu), MAX1(L->ny), C->nx, MAX1(C->nu), MAX1(C->ny));
     fprintf(cf, "#define FW_CNU %zu\n#define FW_CNY %zu\n", C->nu, C->ny);
-    fprintf(cf, "#define FW_HAS_FILTERS %d\n#define FW_HAS_CROSS %d\n#define FW_SUBSTEPS %s_EKF_SUBSTEPS\n",
-            filters, cross != NULL, filters ? up : "1");
+    fprintf(cf, "#define FW_HAS_FILTERS %d\n#define FW_HAS_CROSS %d\n", filters, cross != NULL);
+    if (filters)
+        fprintf(cf, "#define FW_SUBSTEPS %s_EKF_SUBSTEPS\n", up);
     fprintf(cf, "#define FW_SQRT sqrt%s\n", fl ? "f" : "");
     fprintf(cf, "#define FW_MAX_NB %d\n#define FW_MAX_NJ %d\n#define FW_MAX_N %d\n"
                 "#define FW_MAX_NM %d\n#define FW_MAX_NL %d\n#define FW_MAX_NFO %d\n"
