@@ -3,7 +3,7 @@
 # share/bash-completion/completions/rigmat; tests/man.sh checks the lists
 # against `rigmat COMMAND --help`.
 
-_rigmat_commands="check linearize discretize modes simulate gains sweep trim parts report"
+_rigmat_commands="check linearize discretize modes simulate gains firmware sweep trim parts report"
 
 # The options of one command, as its --help lists them.
 _rigmat_options()
@@ -15,6 +15,7 @@ _rigmat_options()
     modes) echo "--rate --validity --set --format -o --output --catalog -h --help" ;;
     simulate) echo "--model --offset --input --duration --step --rate --tolerance --partial --plot --validity --criterion --horizon --set --format -o --output --catalog -h --help" ;;
     gains) echo "--rate --period --weights --method --name --ctype --set --format -o --output --catalog -h --help" ;;
+    firmware) echo "--rate --period -o --output --name --ctype --set --catalog -h --help" ;;
     report) echo "--rate --offset --step-size --duration --no-validity --set --format -o --output --catalog -h --help" ;;
     sweep) echo "--vary --rate --method --threads --name --ctype --set --format -o --output --catalog -h --help" ;;
     trim) echo "--set --format -o --output --catalog -h --help" ;;
@@ -28,7 +29,7 @@ _rigmat_formats()
     case "$1" in
     linearize | discretize | gains) echo "text json csv c numpy mtx latex" ;;
     simulate) echo "csv json text" ;;
-    report) echo "" ;;
+    report | firmware) echo "" ;;
     sweep) echo "json csv c numpy npy" ;;
     *) echo "text json" ;;
     esac
@@ -70,7 +71,11 @@ _rigmat()
         COMPREPLY=($(compgen -d -- "$cur"))
         return 0 ;;
     -o | --output)
-        COMPREPLY=($(compgen -f -- "$cur"))
+        if [ "$cmd" = firmware ]; then
+            COMPREPLY=($(compgen -d -- "$cur"))
+        else
+            COMPREPLY=($(compgen -f -- "$cur"))
+        fi
         return 0 ;;
     --rate | --period | --prewarp | --delay | --set | --name | --vary | --threads | --offset | \
         --input | --duration | --step | --tolerance | --criterion | --horizon | --step-size)

@@ -148,7 +148,7 @@ START_TEST(c_identifiers_are_valid)
     rigmat_status st;
     rigmat_error e;
     char *out = render(r, RIGMAT_FORMAT_C, NULL, &st, &e);
-    rigmat_emit_opts o = { "_plant_", 1, NULL };
+    rigmat_emit_opts o = { "_plant_", 1, NULL, NULL };
 
     ck_assert_int_eq(st, RIGMAT_OK);
     ck_assert_ptr_nonnull(strstr(out, "#ifndef M_3_AXIS_RIG_V2_H\n"));
@@ -175,7 +175,7 @@ END_TEST
 START_TEST(float_overflow_is_refused)
 {
     rigmat_result *r = small_result("cart", 1e39);
-    rigmat_emit_opts o = { NULL, 1, NULL };
+    rigmat_emit_opts o = { NULL, 1, NULL, NULL };
     rigmat_status st;
     rigmat_error e;
     char *out = render(r, RIGMAT_FORMAT_C, &o, &st, &e);

@@ -16,7 +16,7 @@
 # GENERATED lists headers made by the build (not in the tree), allowed anywhere.
 set -u
 STAGES="util model mech sample study emit lib cli"
-GENERATED=${GENERATED:-"share_dir.h suites.h"}
+GENERATED=${GENERATED:-"share_dir.h suites.h fwtext.h"}
 
 stage_rank() {
     r=0

@@ -159,6 +159,10 @@ rigmat_status cli_export_options(struct cli_env *env, const struct cli_common *c
 rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct cli_common *c,
         const char *model_file);
 
+/* The provenance line of the exports into source: the model file's name,
+ * the FNV-1a 64 hash of its bytes and the --set options; returns source. */
+const char *cli_source_line(const struct cli_common *c, const char *model_file, char *source,
+        size_t len);
 /* Write env->files into the folder path whole or not at all: a new folder
  * built beside it and renamed into place; an existing one is replaced only
  * when it holds nothing but files of the same extension (a previous

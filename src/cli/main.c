@@ -22,6 +22,7 @@ CMD(trim)
 CMD(discretize)
 CMD(modes)
 CMD(gains)
+CMD(firmware)
 CMD(parts)
 CMD(simulate)
 CMD(report)
@@ -42,6 +43,7 @@ static const struct command commands[] = {
     { "simulate", cmd_simulate, "one response: nonlinear, linear or sampled; validity range" },
     { "sweep", cmd_sweep, "linear and sampled models over a grid of values" },
     { "gains", cmd_gains, "steady-state Kalman gain; LQR gain with --weights" },
+    { "firmware", cmd_firmware, "C99 for a microcontroller: f, h, exact Jacobians, KF, EKF" },
     { "trim", cmd_trim, "solve the operating point; print it and the residual" },
     { "parts", cmd_parts, "list the catalog, or show one part" },
     { "report", cmd_report, "HTML report with plots: modes, responses, validity, sampled model" },

@@ -131,3 +131,71 @@ done:
     free(tmp);
     return rc;
 }
+
+rigmat_status cli_outfile_write_all(const char *const *paths, const char *const *data,
+        const size_t *len, size_t n, rigmat_error *err)
+{
+    char why[RIGMAT_STRERROR_LEN];
+    char *tmp[CLI_OUTFILE_MAX];
+    struct stat st;
+    rigmat_status rc = RIGMAT_OK;
+    sigset_t block, old;
+    size_t i;
+
+    if (n > CLI_OUTFILE_MAX)
+        return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "too many files at once");
+    for (i = 0; i < n; i++)
+        if (lstat(paths[i], &st) == 0 && !S_ISREG(st.st_mode))
+            return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': it is not a regular file",
+                    paths[i]);
+    for (i = 0; i < n; i++)
+        tmp[i] = NULL;
+    sigemptyset(&block);
+    sigaddset(&block, SIGINT);
+    sigaddset(&block, SIGTERM);
+    sigaddset(&block, SIGHUP);
+    sigprocmask(SIG_BLOCK, &block, &old);
+    for (i = 0; i < n && rc == RIGMAT_OK; i++) {
+        int fd;
+        tmp[i] = rigmat_outmode_temp(paths[i]);
+        if (tmp[i] == NULL) {
+            rc = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+            break;
+        }
+        fd = mkstemp(tmp[i]);
+        if (fd < 0) {
+            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot create a file beside '%s': %s", paths[i],
+                    WHY(why));
+            free(tmp[i]);
+            tmp[i] = NULL;
+            break;
+        }
+        rc = write_all(fd, data[i], len[i], paths[i], err);
+        if (rc == RIGMAT_OK && fsync(fd) != 0)
+            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", paths[i], WHY(why));
+        if (close(fd) != 0 && rc == RIGMAT_OK)
+            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", paths[i], WHY(why));
+        if (rc == RIGMAT_OK) {
+            if (stat(paths[i], &st) != 0)
+                st.st_mode = (mode_t)rigmat_outmode_file();
+            if (chmod(tmp[i], st.st_mode & 07777) != 0)
+                rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot write '%s': %s", paths[i], WHY(why));
+        }
+    }
+    /* every file is complete beside its target: now the renames, which
+     * write no data */
+    for (i = 0; i < n && rc == RIGMAT_OK; i++)
+        if (rename(tmp[i], paths[i]) != 0)
+            rc = RIGMAT_FAIL(err, RIGMAT_EIO, "cannot replace '%s': %s", paths[i], WHY(why));
+        else {
+            free(tmp[i]);
+            tmp[i] = NULL;
+        }
+    for (i = 0; i < n; i++)
+        if (tmp[i] != NULL) {
+            unlink(tmp[i]);
+            free(tmp[i]);
+        }
+    sigprocmask(SIG_SETMASK, &old, NULL);
+    return rc;
+}

@@ -102,6 +102,31 @@ rigmat_status cli_export_options(struct cli_env *env, const struct cli_common *c
     return RIGMAT_OK;
 }
 
+const char *cli_source_line(const struct cli_common *c, const char *model_file, char *source,
+        size_t len)
+{
+    const char *base = strrchr(model_file, '/');
+    unsigned long long h;
+    size_t i, used;
+
+    base = base != NULL ? base + 1 : model_file;
+    if (file_hash(model_file, &h) == 0)
+        snprintf(source, len, "%s (FNV-1a 64 of the file: %016llx)", base, h);
+    else
+        snprintf(source, len, "%s", base);
+    used = strlen(source);
+    for (i = 0; i < c->sets.count && used + 1 < len; i++) {
+        const int w = snprintf(source + used, len - used, "%s --set %s", i ? "" : " with",
+                c->sets.items[i]);
+        if (w < 0)
+            break;
+        used += (size_t)w;
+        if (used >= len)
+            used = len - 1;
+    }
+    return source;
+}
+
 rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct cli_common *c,
         const char *model_file)
 {
@@ -110,9 +135,7 @@ rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct
     rigmat_emit_sink sink;
     rigmat_error e;
     char source[512];
-    unsigned long long h;
     rigmat_status st;
-    size_t i, used;
 
     memset(&e, 0, sizeof e);
     memset(&o, 0, sizeof o);
@@ -120,25 +143,8 @@ rigmat_status cli_emit(struct cli_env *env, const rigmat_result *r, const struct
         return RIGMAT_EUSAGE; /* cli_format refused it already */
     o.ctype_float = c->ctype != NULL && strcmp(c->ctype, "float") == 0;
     o.name = c->name;
-    if (model_file != NULL) {
-        const char *base = strrchr(model_file, '/');
-        base = base != NULL ? base + 1 : model_file;
-        if (file_hash(model_file, &h) == 0)
-            snprintf(source, sizeof source, "%s (FNV-1a 64 of the file: %016llx)", base, h);
-        else
-            snprintf(source, sizeof source, "%s", base);
-        used = strlen(source);
-        for (i = 0; i < c->sets.count && used + 1 < sizeof source; i++) {
-            const int w = snprintf(source + used, sizeof source - used, "%s --set %s",
-                    i ? "" : " with", c->sets.items[i]);
-            if (w < 0)
-                break;
-            used += (size_t)w;
-            if (used >= sizeof source)
-                used = sizeof source - 1;
-        }
-        o.source = source;
-    }
+    if (model_file != NULL)
+        o.source = cli_source_line(c, model_file, source, sizeof source);
     sink.open = open_part;
     sink.ctx = &env->files;
     st = rigmat_result_write(r, fi->format, &o, env->out, &sink, &e);

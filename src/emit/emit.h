@@ -18,4 +18,11 @@ rigmat_status rigmat_emit_mtx(const rigmat_result *r, const rigmat_emit_opts *o,
 rigmat_status rigmat_emit_latex(const rigmat_result *r, const rigmat_emit_opts *o, FILE *f,
         rigmat_error *err);
 
+/* A C floating literal that converts back to v (17 significant digits, or
+ * 9 and the f suffix for float), always with a point or an exponent. */
+void rigmat_emit_c_number(char *buf, size_t len, double v, int is_float);
+/* An identifier from free text (the c export's rule: letters and digits,
+ * lower or upper case, single '_' between words, fallback when empty). */
+void rigmat_emit_c_ident(char *buf, size_t len, const char *s, int upper, const char *fallback);
+
 #endif /* RIGMAT_EMIT_H */

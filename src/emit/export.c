@@ -72,7 +72,7 @@ static void fmt_num(char *buf, size_t len, double v, int digits)
 }
 
 /* A C floating literal: a point or an exponent, and the float suffix. */
-static void fmt_c(char *buf, size_t len, double v, int is_float)
+void rigmat_emit_c_number(char *buf, size_t len, double v, int is_float)
 {
     char tmp[48];
 
@@ -226,7 +226,7 @@ rigmat_status rigmat_emit_csv(const rigmat_result *r, const rigmat_emit_opts *o,
  * upper case when upper), everything else one '_', no '_' at either end,
  * never two in a row (C reserves names with "__" or a leading '_' and a
  * capital, C11 7.1.3), never a leading digit. */
-static void ident(char *buf, size_t len, const char *s, int upper, const char *fallback)
+void rigmat_emit_c_ident(char *buf, size_t len, const char *s, int upper, const char *fallback)
 {
     size_t n = 0;
 
@@ -265,7 +265,7 @@ static void dim_macro(char *buf, size_t len, const char *up, const rigmat_rdim *
 {
     char w[32];
 
-    ident(w, sizeof w, d->word, 1, "DIM");
+    rigmat_emit_c_ident(w, sizeof w, d->word, 1, "DIM");
     snprintf(buf, len, "%s_N_%sS", up, w);
 }
 
@@ -302,17 +302,17 @@ static void c_enum(FILE *f, const char *low, const char *up, const rigmat_rdim *
     char w[32], wl[32];
     size_t i, k;
 
-    ident(w, sizeof w, d->word, 1, "DIM");
-    ident(wl, sizeof wl, d->word, 0, "dim");
+    rigmat_emit_c_ident(w, sizeof w, d->word, 1, "DIM");
+    rigmat_emit_c_ident(wl, sizeof wl, d->word, 0, "dim");
     fprintf(f, "/* %s indices */\nenum %s_%s {\n", d->word, low, wl);
     for (i = 0; i < d->n; i++) {
         char base[NAME_MAX_LEN];
-        ident(base, sizeof base, d->sig[i].name, 1, "UNNAMED");
+        rigmat_emit_c_ident(base, sizeof base, d->sig[i].name, 1, "UNNAMED");
         fprintf(f, "    %s_%s_%s", up, w, base);
         /* two names that differ only in punctuation ("a.b", "a_b") */
         for (k = 0; k < i; k++) {
             char other[NAME_MAX_LEN];
-            ident(other, sizeof other, d->sig[k].name, 1, "UNNAMED");
+            rigmat_emit_c_ident(other, sizeof other, d->sig[k].name, 1, "UNNAMED");
             if (strcmp(other, base) == 0) {
                 fprintf(f, "_%zu", i + 1);
                 break;
@@ -349,8 +349,8 @@ static void c_limits(FILE *f, const char *low, const char *type, int fl, const c
         fprintf(f, "%s%d", i ? ", " : " ", dm->sig[i].has_limit ? 1 : 0);
     fprintf(f, " };\nstatic const %s %s_input_limit[%s][2] = {\n", type, low, size);
     for (i = 0; i < dm->n; i++) {
-        fmt_c(a, sizeof a, dm->sig[i].has_limit ? dm->sig[i].limit[0] : 0.0, fl);
-        fmt_c(b, sizeof b, dm->sig[i].has_limit ? dm->sig[i].limit[1] : 0.0, fl);
+        rigmat_emit_c_number(a, sizeof a, dm->sig[i].has_limit ? dm->sig[i].limit[0] : 0.0, fl);
+        rigmat_emit_c_number(b, sizeof b, dm->sig[i].has_limit ? dm->sig[i].limit[1] : 0.0, fl);
         fprintf(f, "    { %s, %s }, /* ", a, b);
         put_comment_text(f, dm->sig[i].name);
         fputs(" */\n", f);
@@ -361,7 +361,7 @@ static void c_limits(FILE *f, const char *low, const char *type, int fl, const c
     fprintf(f, "/* winding current per motor the drive allows, A (0: none) */\n"
                "static const %s %s_input_current_limit[%s] = {", type, low, size);
     for (i = 0; i < dm->n; i++) {
-        fmt_c(a, sizeof a, dm->sig[i].current_limit, fl);
+        rigmat_emit_c_number(a, sizeof a, dm->sig[i].current_limit, fl);
         fprintf(f, "%s%s", i ? ", " : " ", a);
     }
     fputs(" };\n", f);
@@ -376,8 +376,8 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
     char rs[NAME_MAX_LEN], cs[NAME_MAX_LEN], lab[96];
     size_t i, a, b, d;
 
-    ident(low, sizeof low, o->name != NULL ? o->name : r->model, 0, "rigmat_model");
-    ident(up, sizeof up, o->name != NULL ? o->name : r->model, 1, "RIGMAT_MODEL");
+    rigmat_emit_c_ident(low, sizeof low, o->name != NULL ? o->name : r->model, 0, "rigmat_model");
+    rigmat_emit_c_ident(up, sizeof up, o->name != NULL ? o->name : r->model, 1, "RIGMAT_MODEL");
     /* a float export must not overflow */
     for (i = 1; fl && i < r->n; i++) {
         const rigmat_rnode *n = &r->nodes[i];
@@ -421,10 +421,10 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
         if (!exported(r, i))
             continue;
         export_name(r, i, name, sizeof name);
-        ident(mac, sizeof mac, name, 1, "VALUE");
+        rigmat_emit_c_ident(mac, sizeof mac, name, 1, "VALUE");
         switch (n->type) {
         case RIGMAT_R_NUMBER:
-            fmt_c(num, sizeof num, n->num, fl);
+            rigmat_emit_c_number(num, sizeof num, n->num, fl);
             fprintf(f, "static const %s %s_%s = %s;", type, low, name, num);
             if (n->unit != NULL && n->unit[0]) {
                 fputs(" /* ", f);
@@ -454,7 +454,7 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
         char wl[32];
         if (dm->n == 0)
             continue;
-        ident(wl, sizeof wl, dm->word, 0, "dim");
+        rigmat_emit_c_ident(wl, sizeof wl, dm->word, 0, "dim");
         dim_macro(name, sizeof name, up, dm);
         fprintf(f, "\nstatic const char *const %s_%s_names[%s] = {", low, wl, name);
         for (a = 0; a < dm->n; a++) {
@@ -485,7 +485,7 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
         if (n->type == RIGMAT_R_VECTOR) {
             fprintf(f, "\nstatic const %s %s_%s[%s] = {\n", type, low, name, rs);
             for (a = 0; a < n->rows; a++) {
-                fmt_c(num, sizeof num, n->data[a], fl);
+                rigmat_emit_c_number(num, sizeof num, n->data[a], fl);
                 sig_label(lab, sizeof lab, n->row_names, a);
                 fprintf(f, "    %s, /* ", num);
                 put_comment_text(f, lab);
@@ -505,7 +505,7 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
         for (a = 0; a < n->rows; a++) {
             fputs("    {", f);
             for (b = 0; b < n->cols; b++) {
-                fmt_c(num, sizeof num, n->data[a * n->cols + b], fl);
+                rigmat_emit_c_number(num, sizeof num, n->data[a * n->cols + b], fl);
                 fprintf(f, "%s%s", b ? ", " : " ", num);
             }
             sig_label(lab, sizeof lab, n->row_names, a);
@@ -515,6 +515,8 @@ rigmat_status rigmat_emit_c(const rigmat_result *r, const rigmat_emit_opts *o, F
         }
         fputs("};\n", f);
     }
+    if (o->c_tail != NULL)
+        fputs(o->c_tail, f);
     fprintf(f, "\n#endif /* %s_H */\n", up);
     return RIGMAT_OK;
 }
@@ -565,7 +567,7 @@ rigmat_status rigmat_emit_numpy(const rigmat_result *r, const rigmat_emit_opts *
     /* the rows and columns of the matrices: one list per dimension */
     for (i = 0; i < r->ndims; i++) {
         char w[32];
-        ident(w, sizeof w, r->dims[i].word, 0, "dim");
+        rigmat_emit_c_ident(w, sizeof w, r->dims[i].word, 0, "dim");
         fprintf(f, "%s_names = ", w);
         py_list(f, r->dims[i].sig, r->dims[i].n, 0);
         fprintf(f, "%s_units = ", w);

@@ -502,7 +502,7 @@ rigmat_status rigmat_result_check_finite(const rigmat_result *r, rigmat_error *e
 rigmat_status rigmat_result_write(const rigmat_result *r, rigmat_format fmt,
         const rigmat_emit_opts *o, FILE *out, const rigmat_emit_sink *sink, rigmat_error *err)
 {
-    static const rigmat_emit_opts none = { NULL, 0, NULL };
+    static const rigmat_emit_opts none = { NULL, 0, NULL, NULL };
     const rigmat_status st = rigmat_result_check_finite(r, err);
 
     if (st != RIGMAT_OK)

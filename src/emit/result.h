@@ -184,6 +184,7 @@ typedef struct rigmat_emit_opts {
     const char *name;   /* c: identifier prefix; NULL = from the model's name */
     int ctype_float;    /* c: float arrays (9 significant digits, f suffix) */
     const char *source; /* provenance: "model FILE (hash ...)"; NULL = none */
+    const char *c_tail; /* c: text written before the closing #endif; NULL = none */
 } rigmat_emit_opts;
 
 /* Render r in format fmt to out (for a folder format, to the files opened

@@ -1027,6 +1027,33 @@ rigmat_status rigmat_mech_held(rigmat_mech *s, const double *x, const double *u,
         }
     }
     return RIGMAT_OK;
+void rigmat_mech_map_get(const rigmat_mech *s, rigmat_mech_map *out)
+{
+    out->n = s->n;
+    out->nb = s->nb;
+    out->nf = s->nf;
+    out->coord = s->coord;
+    out->cjoint = s->cjoint;
+    out->order = s->order;
+    out->bjoint = s->bjoint;
+    out->xq = s->xq;
+    out->xr = s->xr;
+    out->uq = s->uq;
+    out->freec = s->freec;
+    out->xi = s->xi;
+    out->umot = s->umot;
+    out->ufor = s->ufor;
+    out->xsh = s->xsh;
+    out->xbias = s->xbias;
+    out->ubias = s->ubias;
+    out->xfilt = s->xfilt;
+    out->ufilt = s->ufilt;
+    out->mstator = s->mstator;
+    out->mrotor = s->mrotor;
+    out->mlin = s->mlin;
+    out->mk = s->mk;
+    out->msign = s->msign;
+    out->mtheta0 = s->mtheta0;
 }
 
 int rigmat_mech_is_balance_row(const rigmat_mech *s, size_t k)

@@ -115,6 +115,22 @@ rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const doubl
  * not (src/mech/trim.h, unmet equations). */
 rigmat_status rigmat_mech_held(rigmat_mech *s, const double *x, const double *u, double *g,
         double *Gx, double *Gu, rigmat_error *err);
+/* The index tables of the evaluation, for the firmware generator
+ * (src/emit/firmware.c), which writes them out as constants of the
+ * generated evaluator.  Every pointer is borrowed from s; RIGMAT_NONE
+ * marks an absent entry, as in rigmat_mech itself.  Sizes: coord per
+ * joint; cjoint, xq, xr, uq per coordinate (n); order nb - 1 bodies
+ * (parents first); bjoint per body; freec nf; xi, umot, mstator, mrotor,
+ * mlin, mk, msign, mtheta0 per motor; ufor per force; xsh per canonical
+ * input; xbias, ubias, xfilt, ufilt per sensor. */
+typedef struct rigmat_mech_map {
+    size_t n, nb, nf;
+    const size_t *coord, *cjoint, *order, *bjoint, *xq, *xr, *uq, *freec;
+    const size_t *xi, *umot, *ufor, *xsh, *xbias, *ubias, *xfilt, *ufilt;
+    const size_t *mstator, *mrotor, *mlin;
+    const double *mk, *msign, *mtheta0;
+} rigmat_mech_map;
+void rigmat_mech_map_get(const rigmat_mech *s, rigmat_mech_map *out);
 
 /* 1 when canonical state k's derivative is one trim holds to zero: joint
  * accelerations, motor current derivatives and shaping-filter states. */

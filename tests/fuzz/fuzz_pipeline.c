@@ -249,7 +249,7 @@ static void export_all(const rigmat_model *m, const rigmat_lti *s)
     for (i = 0; i < n; i++) {
         struct fuzz_sink sink;
         rigmat_emit_sink es = { fuzz_open, &sink };
-        rigmat_emit_opts eo = { NULL, (int)(i & 1), m->file };
+        rigmat_emit_opts eo = { NULL, (int)(i & 1), m->file, NULL };
         rigmat_error e;
         char *buf = NULL;
         size_t len = 0;
