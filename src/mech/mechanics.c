@@ -1027,6 +1027,8 @@ rigmat_status rigmat_mech_held(rigmat_mech *s, const double *x, const double *u,
         }
     }
     return RIGMAT_OK;
+}
+
 void rigmat_mech_map_get(const rigmat_mech *s, rigmat_mech_map *out)
 {
     out->n = s->n;
