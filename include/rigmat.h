@@ -246,7 +246,36 @@ typedef struct rigmat_joint {
     double bandwidth_hz;   /* driven, disturbance: first-order colouring; 0 = white */
     int has_limit;         /* driven: `limit` given (README.md, "Limits" */
     double limit[2];       /* driven: [low, high] of the driven input, SI */
+    /* closed loops (README.md, "Closed loops"), set by rigmat_model_check_equations */
+    int in_loop;           /* the coordinate moves a closure's points */
+    int dependent;         /* solved from the closures: no state of its own */
+    double assembled;      /* in a loop: its value at the assembled operating point */
 } rigmat_joint;
+
+/* A closure of a kinematic loop: two equations between two bodies. */
+typedef enum rigmat_closure_type {
+    RIGMAT_CLOSURE_HINGE,  /* point at[0] of body 0 coincides with point at[1] of body 1 */
+    RIGMAT_CLOSURE_SLIDER  /* point at[1] of body 1 on the line through point at[0] of
+                              body 0 along axis (body 0's frame); relative angle held */
+} rigmat_closure_type;
+
+typedef struct rigmat_closure {
+    char *name;
+    rigmat_loc loc;
+    rigmat_closure_type type;
+    size_t body[2];
+    double at_m[2][2];     /* each in its own body's frame */
+    double axis[2];        /* slider: unit vector in body 0's frame */
+    double angle_rad;      /* slider: the relative angle held (set at assembly) */
+} rigmat_closure;
+
+/* How the independent coordinates of a model with closures were chosen. */
+typedef enum rigmat_independent_how {
+    RIGMAT_INDEPENDENT_NONE = 0, /* no closures */
+    RIGMAT_INDEPENDENT_NAMED,    /* `independent:` */
+    RIGMAT_INDEPENDENT_GIVEN,    /* the operating point's loop coordinates, as many as the DOF */
+    RIGMAT_INDEPENDENT_PARTITION /* coordinate partitioning at the operating point */
+} rigmat_independent_how;
 
 /* Where a spring or damper acts. */
 typedef enum rigmat_attach {
@@ -437,6 +466,14 @@ typedef struct rigmat_model {
     rigmat_motor *motors;    size_t nmotors;
     rigmat_force *forces;    size_t nforces;
     rigmat_sensor *sensors;  size_t nsensors;
+    rigmat_closure *closures; size_t nclosures;
+    rigmat_namelist independent;      /* `independent:` as written; empty = not given */
+    rigmat_independent_how independent_how;
+    int closures_pending;  /* closures not yet assembled: rigmat_model_check_equations does it */
+    double closure_sv_ratio; /* at the operating point: the smallest singular value of the
+                                constraint Jacobian's dependent block over its largest */
+    double closure_residual; /* the largest closure residual after assembly (m or rad) */
+    int closure_iterations;  /* Newton iterations of the assembly */
     rigmat_setting *op_coordinates; size_t nop_coordinates;
     rigmat_setting *op_rates;       size_t nop_rates;
     rigmat_setting *op_inputs;      size_t nop_inputs;
@@ -528,8 +565,13 @@ void rigmat_layout_release(rigmat_layout *l);
  * rigmat_linearize and rigmat_trim_model refuse such a model too, with the
  * first problem as a rigmat_error.  Problems go to d (may be NULL) as
  * errors with places; returns RIGMAT_EMODEL after recording at least one,
- * RIGMAT_ENOMEM. */
-rigmat_status rigmat_model_check_equations(const rigmat_model *m, rigmat_diags *d);
+ * RIGMAT_ENOMEM.  A model with closures is completed here: the loop is
+ * assembled at the operating point, the independent coordinates are
+ * chosen (m->independent_how, each joint's `dependent`) and the layout is
+ * rebuilt without the dependent coordinates; until then the equations
+ * refuse the model (RIGMAT_EUSAGE).  RIGMAT_ENUMERIC (with an error in d)
+ * when a closure cannot assemble or sits at a dead centre. */
+rigmat_status rigmat_model_check_equations(rigmat_model *m, rigmat_diags *d);
 
 /* The nonlinear model x' = f(x, u), y = h(x, u) in the order of m->layout
  * (built), for extended Kalman filters and one's own simulators.  A system
