@@ -286,10 +286,11 @@ def dead_centre(path, tmp):
 def full_turn(path, tmp):
     links = [0.08, 0.28, 0.20, 0.30]
     rep.check("example four-bar is Grashof (s + l <= p + q)", grashof(links), str(links))
-    p = run("simulate", path, "--input", "drive=12", "--duration", "1.5", "--format", "csv",
+    p = run("simulate", path, "--input", "drive=step:10", "--duration", "1.5", "--format", "csv",
             ok=False)
     rows = [ln.split(",") for ln in p.stdout.strip().splitlines()]
-    col = rows[0].index("crank.angle") if rows and "crank.angle" in rows[0] else -1
+    heads = [hd.split(" ")[0] for hd in rows[0]] if rows else []
+    col = heads.index("crank.angle") if "crank.angle" in heads else -1
     last = float(rows[-1][col]) if col >= 0 and len(rows) > 1 else float("nan")
     rep.check("Grashof crank-rocker: the crank turns a full revolution in simulate",
               p.returncode == 0 and last > math.radians(60) + 2 * math.pi,
@@ -307,12 +308,23 @@ def full_turn(path, tmp):
     model = os.path.join(tmp, "fourbar-rocker.yaml")
     with open(model, "w") as fh:
         fh.write(text)
-    p = run("simulate", model, "--input", "drive=12", "--duration", "1.5", "--format", "csv",
+    p = run("simulate", model, "--input", "drive=step:10", "--duration", "1.5", "--format", "csv",
             "--set", "operating_point.coordinates.knee=-60deg",
-            "--set", "operating_point.coordinates.swing=100deg", ok=False)
+            "--set", "operating_point.coordinates.swing=100deg",
+            "--set", "springs.return.stiffness=0.01", "--partial", os.path.join(tmp, "part.csv"),
+            ok=False)
     rep.check("non-Grashof: simulate stops at the limit position (exit 3, closure named)",
               p.returncode == 3 and "pin_c" in p.stderr,
               "exit %d: %s" % (p.returncode, p.stderr.strip()[:300]))
+    # the crank got as far as its limit: B = crank end at b + c from O4,
+    # cos(th) = (a^2 + d^2 - (b + c)^2) / (2 a d)
+    a, b, c, d = bad[0], bad[1], bad[2], bad[3]
+    limit = math.acos((a * a + d * d - (b + c) ** 2) / (2 * a * d))
+    rows = [ln.split(",") for ln in open(os.path.join(tmp, "part.csv")).read().split("\n")[1:]
+            if ln]
+    reached = max(float(r[1]) for r in rows) if rows else float("nan")
+    rep.check("non-Grashof: the crank stopped within 2 deg of its limit %.4f rad" % limit,
+              limit - math.radians(2) < reached <= limit, "reached %.6f rad" % reached)
 
 
 def main():
