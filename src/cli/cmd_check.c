@@ -446,23 +446,19 @@ static void closures_entry(rigmat_result *r, const rigmat_model *m)
     rigmat_result_close(r);
     if (capture_open(&c, r) == NULL)
         return;
-    fputs("
-closed loops (two equations per closure)
-", c.f);
+    fputs("\nclosed loops (two equations per closure)\n", c.f);
     for (i = 0; i < m->nclosures; i++) {
         const rigmat_closure *cl = &m->closures[i];
         if (cl->type == RIGMAT_CLOSURE_SLIDER)
             fprintf(c.f, "  %-12s slider: point [%.6g, %.6g] m of %s on the line through "
                     "[%.6g, %.6g] m of %s along [%.6g, %.6g]; relative angle held at %.6g "
-                    "deg
-", cl->name, cl->at_m[1][0], cl->at_m[1][1],
+                    "deg\n", cl->name, cl->at_m[1][0], cl->at_m[1][1],
                     m->bodies[cl->body[1]].name, cl->at_m[0][0], cl->at_m[0][1],
                     m->bodies[cl->body[0]].name, cl->axis[0], cl->axis[1],
                     cl->angle_rad * 180.0 / M_PI);
         else
             fprintf(c.f, "  %-12s hinge: point [%.6g, %.6g] m of %s = point [%.6g, %.6g] m "
-                    "of %s
-", cl->name, cl->at_m[0][0], cl->at_m[0][1],
+                    "of %s\n", cl->name, cl->at_m[0][0], cl->at_m[0][1],
                     m->bodies[cl->body[0]].name, cl->at_m[1][0], cl->at_m[1][1],
                     m->bodies[cl->body[1]].name);
     }
@@ -474,10 +470,8 @@ closed loops (two equations per closure)
                 fprintf(c.f, "%s %s", first ? "" : ",", m->joints[k].name);
                 first = 0;
             }
-        fprintf(c.f, pass ? " (solved by Newton assembly at every evaluation)
-" :
-                " (%s)
-", independent_why(m->independent_how));
+        fprintf(c.f, pass ? " (solved by Newton assembly at every evaluation)\n" :
+                " (%s)\n", independent_why(m->independent_how));
     }
     fputs("  assembled at the operating point:", c.f);
     for (k = 0, pass = 0; k < m->njoints; k++)
@@ -486,8 +480,7 @@ closed loops (two equations per closure)
                     m->joints[k].assembled);
             pass = 1;
         }
-    fprintf(c.f, " (SI), residual %.3g after %d Newton iterations
-", m->closure_residual,
+    fprintf(c.f, " (SI), residual %.3g after %d Newton iterations\n", m->closure_residual,
             m->closure_iterations);
     fprintf(c.f, "  distance from a dead centre: the dependent block of the constraint "
             "Jacobian has relative singular value %.3g (refused below %g)\n",

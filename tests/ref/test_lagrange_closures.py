@@ -206,9 +206,30 @@ def fourbar(path, th0_deg, guess_deg, spring_rest_deg, sets, label):
     A, B, C, D, y0 = jacobians(f, h, [th, thd, i], [u], known, subs, at)
     js = linearize(path, *sets)
     rep.rel(label + ": trimmed drive voltage", [js["operating_point"]["u"][0]], [u_eq])
-    compare(label, js, A, B, C, D, y0, ["crank.angle", "crank.rate", "drive.current"],
-            ["drive"], ["crank_enc", "rocker_angle", "coupler_gyro", "current"])
+    names = (["crank.angle", "crank.rate", "drive.current"], ["drive"],
+             ["crank_enc", "rocker_angle", "coupler_gyro", "current"])
+    compare(label, js, A, B, C, D, y0, *names)
+    moving(label, path, sets, f, h, [th, thd, i], [u], known, subs, th0, 5.0, 3.0, names)
     return float(subs[t4])
+
+
+def moving(label, path, sets, f, h, xs, us, known, subs, th0, rate, volts, names):
+    """Away from rest: the velocity-product (curvature) terms, zero at rest,
+    now enter f0 and A; the point is not steady (f0 != 0)."""
+    js = linearize(path, *(list(sets) + ["operating_point.solve=[]",
+                                          "operating_point.inputs.drive=%.17gV" % volts,
+                                          "operating_point.rates.crank=%.17grad/s" % rate]))
+    cur = js["operating_point"]["x"][names[0].index("drive.current")]
+    at = {th: th0, thd: rate, i: cur, u: volts, w: 0}
+    A, B, C, D, y0 = jacobians(f, h, xs, us, known, subs, at)
+    f0 = np.array([numeric(f[r], known, subs, at) for r in range(f.shape[0])])
+    got = lc.permuted(js, *names)
+    rep.rel(label + ", moving: f0", np.asarray(js["equilibrium"]["f0"], dtype=float)[
+        [lc.names_of(js["states"]).index(n) for n in names[0]]], f0)
+    rep.rel(label + ", moving: A", got["A"], A)
+    rep.rel(label + ", moving: B", got["B"], B)
+    rep.rel(label + ", moving: C", got["C"], C)
+    rep.rel(label + ", moving: y at the point", got["y0"], y0)
 
 
 # --------------------------------------------------------- the slider-crank
@@ -239,8 +260,11 @@ def slider_crank(path):
     A, B, C, D, y0 = jacobians(f, h, [th, thd, i], [u, w], known, subs, at)
     js = linearize(path)
     rep.rel("slider-crank: trimmed drive voltage", [js["operating_point"]["u"][0]], [u_eq])
-    compare("slider-crank", js, A, B, C, D, y0, ["crank.angle", "crank.rate", "drive.current"],
-            ["drive", "load"], ["crank_enc", "travel", "rod_angle", "current"])
+    names = (["crank.angle", "crank.rate", "drive.current"], ["drive", "load"],
+             ["crank_enc", "travel", "rod_angle", "current"])
+    compare("slider-crank", js, A, B, C, D, y0, *names)
+    moving("slider-crank", path, [], f, h, [th, thd, i], [u, w], known, subs, th0, -7.0, -2.0,
+           names)
 
 
 # ------------------------------------------------- dead centre and Grashof
