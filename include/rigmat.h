@@ -592,6 +592,12 @@ void rigmat_system_free(rigmat_system *s);
  * coordinate without inertia) or a point spring of zero length. */
 rigmat_status rigmat_system_eval(rigmat_system *s, const double *x, const double *u, double *xdot,
         double *y, rigmat_error *err);
+/* Every joint's coordinate at (x, u), in joint order (q has m->njoints
+ * entries; 0 for a fixed joint): the states' values, a position-driven
+ * joint's input and, in a closed loop, the dependent coordinates the
+ * assembly solves (README.md, "Closed loops"). */
+rigmat_status rigmat_system_coordinates(rigmat_system *s, const double *x, const double *u,
+        double *q, rigmat_error *err);
 /* The exact Jacobians df/dx, df/du, dh/dx, dh/du at (x, u) by the complex
  * step; matrices of the layout's sizes, any may be NULL. */
 rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const double *u,

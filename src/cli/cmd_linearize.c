@@ -4,6 +4,7 @@
  * state.  JSON layout: README.md, "JSON output". */
 #include "cli.h"
 
+#include <stdlib.h>
 #include <string.h>
 
 static const char *const linearize_usage[] = {
@@ -11,8 +12,10 @@ static const char *const linearize_usage[] = {
     "                 [--name NAME] [--ctype double|float]",
     "FORMAT: text, json, csv, c, numpy, mtx (-o DIR), latex", NULL };
 
-/* The result, described once for every format. */
-static rigmat_result *linearize_result(const rigmat_model *m, const rigmat_lti *l)
+/* The result, described once for every format.  q (may be NULL): every
+ * joint's coordinate at the point, given for a model with closed loops. */
+static rigmat_result *linearize_result(const rigmat_model *m, const rigmat_lti *l,
+        const double *q)
 {
     const rigmat_layout *L = &m->layout;
     rigmat_result *r = rigmat_result_alloc("continuous");
@@ -52,6 +55,20 @@ static rigmat_result *linearize_result(const rigmat_model *m, const rigmat_lti *
     rigmat_result_vector(r, l->y0, L->ny, L->outputs);
     rigmat_result_title(r, "operating point: y0 = h(x0, u0)");
     rigmat_result_export_name(r, "y0");
+    if (q != NULL) {
+        /* a closed loop's dependent coordinates are no states: every
+         * joint's value (README.md, "Closed loops"), JSON only */
+        size_t j;
+        rigmat_result_key(r, "coordinates");
+        rigmat_result_object(r);
+        for (j = 0; j < m->njoints; j++) {
+            rigmat_result_key(r, m->joints[j].name);
+            rigmat_result_number(r, q[j], NULL);
+            rigmat_result_show(r, RIGMAT_SHOW_JSON);
+        }
+        rigmat_result_close(r);
+        rigmat_result_show(r, RIGMAT_SHOW_JSON);
+    }
     rigmat_result_close(r);
     rigmat_result_key(r, "equilibrium");
     rigmat_result_object(r);
@@ -72,6 +89,37 @@ static rigmat_result *linearize_result(const rigmat_model *m, const rigmat_lti *
     return r;
 }
 
+/* Every joint's coordinate at the linearized point into a new *q. */
+static rigmat_status closed_coordinates(struct cli_env *env, const rigmat_model *m,
+        const rigmat_lti *l, double **q)
+{
+    rigmat_system *s = NULL;
+    rigmat_error e;
+    double *x = calloc(l->nx + 1, sizeof *x), *u = calloc(l->nu + 1, sizeof *u);
+    rigmat_status st;
+    size_t k;
+
+    memset(&e, 0, sizeof e);
+    *q = calloc(m->njoints + 1, sizeof **q);
+    if (x == NULL || u == NULL || *q == NULL) {
+        st = RIGMAT_FAIL(&e, RIGMAT_ENOMEM, "out of memory");
+    } else {
+        for (k = 0; k < l->nx; k++)
+            x[k] = gsl_vector_get(l->x0, k);
+        for (k = 0; k < l->nu; k++)
+            u[k] = gsl_vector_get(l->u0, k);
+        st = rigmat_system_alloc(m, &s, &e);
+        if (st == RIGMAT_OK)
+            st = rigmat_system_coordinates(s, x, u, *q, &e);
+    }
+    rigmat_system_free(s);
+    free(x);
+    free(u);
+    if (st != RIGMAT_OK)
+        (void)cli_report(env, &e);
+    return st;
+}
+
 rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env);
 rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
 {
@@ -80,6 +128,7 @@ rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
     rigmat_result *r = NULL;
     rigmat_model *m = NULL;
     rigmat_lti *lti = NULL;
+    double *q = NULL;
     const char *file = NULL;
     int done = 0;
     rigmat_status st;
@@ -94,8 +143,10 @@ rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
     if (st != RIGMAT_OK)
         return st;
     st = cli_linearize(env, m, &lti);
+    if (st == RIGMAT_OK && m->nclosures > 0)
+        st = closed_coordinates(env, m, lti, &q);
     if (st == RIGMAT_OK) {
-        r = linearize_result(m, lti);
+        r = linearize_result(m, lti, q);
         st = r != NULL ? cli_emit(env, r, &c, file) : RIGMAT_ENOMEM;
         if (r == NULL)
             fprintf(env->err, "rigmat linearize: out of memory\n");
@@ -106,5 +157,6 @@ rigmat_status cmd_linearize(int argc, char **argv, struct cli_env *env)
     rigmat_result_free(r);
     rigmat_lti_free(lti);
     rigmat_model_free(m);
+    free(q);
     return st;
 }

@@ -209,6 +209,9 @@ def fourbar(path, th0_deg, guess_deg, spring_rest_deg, sets, label):
     names = (["crank.angle", "crank.rate", "drive.current"], ["drive"],
              ["crank_enc", "rocker_angle", "coupler_gyro", "current"])
     compare(label, js, A, B, C, D, y0, *names)
+    co = js["operating_point"]["coordinates"]
+    rep.rel(label + ": assembled coordinates (JSON)", [co["crank"], co["knee"], co["swing"]],
+            [th0, float(subs[t3]) - th0, float(subs[t4])], tol=1e-13)
     moving(label, path, sets, f, h, [th, thd, i], [u], known, subs, th0, 5.0, 3.0, names)
     return float(subs[t4])
 
