@@ -28,7 +28,8 @@ Checked, each to 1e-10 relative (normwise):
     several frequencies;
   * the assembled dependent coordinates (the sensors on dependent joints)
     against mpmath.findroot on the absolute-angle loop equations.
-Also: a four-bar at its dead centre (coupler and crank in line, rocker
+Also: energy conservation along a simulation of a conservative
+oscillating-slider linkage (a slider closure on a moving body); a four-bar at its dead centre (coupler and crank in line, rocker
 independent) is refused (exit 3, the closure named), and the Grashof
 condition s + l <= p + q (Norton, Design of Machinery, ch. 2) decides
 which linkage `rigmat simulate` drives through a full crank turn: the
@@ -354,6 +355,74 @@ def full_turn(path, tmp):
               limit - math.radians(2) < reached <= limit, "reached %.6f rad" % reached)
 
 
+# An oscillating-slider linkage (a block hinged at the crank pin slides
+# along a swinging rocker: the slider closure's first body moves, so every
+# velocity-product term of its curvature is in play), conservative: no
+# damper, motor or force.  The sensors give each body's centre-of-mass
+# velocity, rate and height, so T + V follows from the outputs alone.
+OSCILLATING = """rigmat: 1
+name: oscillating slider, conservative
+bodies:
+  crank:  {mass: 0.4, shape: {rod: {length: 0.1, direction: 0 deg}}}
+  block:  {mass: 0.3, inertia: 0.0002}
+  rocker: {mass: 0.5, shape: {rod: {length: 0.5, direction: 0 deg}}}
+joints:
+  crank: {type: hinge, parent: ground, child: crank}
+  pin:   {type: hinge, parent: crank, child: block, at: [0.1, 0]}
+  rock:  {type: hinge, parent: ground, child: rocker, at: [0.25, -0.2]}
+independent: [crank]
+closures:
+  guide: {type: slider, bodies: [rocker, block], at: [[0, 0], [0, 0]], axis: [1, 0]}
+sensors:
+  c_vx: {measures: velocity, of: crank, at: [0.05, 0], axis: [1, 0]}
+  c_vy: {measures: velocity, of: crank, at: [0.05, 0], axis: [0, 1]}
+  c_w:  {measures: rate, of: crank}
+  c_y:  {measures: position, of: crank, at: [0.05, 0], axis: [0, 1]}
+  b_vx: {measures: velocity, of: block, at: [0, 0], axis: [1, 0]}
+  b_vy: {measures: velocity, of: block, at: [0, 0], axis: [0, 1]}
+  b_w:  {measures: rate, of: block}
+  b_y:  {measures: position, of: block, at: [0, 0], axis: [0, 1]}
+  r_vx: {measures: velocity, of: rocker, at: [0.25, 0], axis: [1, 0]}
+  r_vy: {measures: velocity, of: rocker, at: [0.25, 0], axis: [0, 1]}
+  r_w:  {measures: rate, of: rocker}
+  r_y:  {measures: position, of: rocker, at: [0.25, 0], axis: [0, 1]}
+operating_point:
+  coordinates: {crank: 30 deg, pin: 80 deg, rock: 110 deg}
+  rates: {crank: 12 rad/s}
+"""
+BODIES = (("c", 0.4, 0.4 * 0.1 ** 2 / 12), ("b", 0.3, 0.0002), ("r", 0.5, 0.5 * 0.5 ** 2 / 12))
+
+
+def energy_conserved(tmp):
+    """T + V constant along `rigmat simulate` of a conservative closed loop
+    (conservation of energy for a holonomic system with a time-independent
+    Lagrangian: Goldstein, Classical Mechanics, ch. 1-2, from memory).  A
+    wrong curvature term breaks it at once."""
+    model = os.path.join(tmp, "oscillating.yaml")
+    with open(model, "w") as fh:
+        fh.write(OSCILLATING)
+    p = run("simulate", model, "--duration", "2", "--step", "10ms", "--tolerance", "1e-11",
+            ok=False)
+    rows = [ln.split(",") for ln in p.stdout.strip().splitlines()]
+    if p.returncode != 0 or len(rows) < 10:
+        rep.check("oscillating slider simulates", False, "exit %d %s" % (p.returncode,
+                                                                        p.stderr[:300]))
+        return
+    heads = [hd.split(" ")[0] for hd in rows[0]]
+    data = np.array(rows[1:], dtype=float)
+
+    def col(name):
+        return data[:, heads.index(name)]
+    kin = sum(0.5 * m * (col(b + "_vx") ** 2 + col(b + "_vy") ** 2) + 0.5 * I * col(b + "_w") ** 2
+              for b, m, I in BODIES)
+    pot = sum(m * G0 * col(b + "_y") for b, m, _ in BODIES)
+    e = kin + pot
+    turns = (col("crank.angle")[-1] - col("crank.angle")[0]) / (2 * math.pi)
+    drift = np.max(np.abs(e - e[0])) / np.max(kin)
+    rep.check("oscillating slider: T + V constant over %.1f crank turns" % turns,
+              drift <= 1e-9 and turns > 2, "max |dE| / max T = %.3e (tol 1e-9)" % drift)
+
+
 def main():
     fb = os.path.join(ROOT, "examples", "fourbar.yaml")
     sc = os.path.join(ROOT, "examples", "slider-crank.yaml")
@@ -368,6 +437,7 @@ def main():
     with tempfile.TemporaryDirectory() as tmp:
         dead_centre(fb, tmp)
         full_turn(fb, tmp)
+        energy_conserved(tmp)
     rep.finish()
 
 
