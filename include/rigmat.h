@@ -247,7 +247,8 @@ typedef struct rigmat_joint {
     int has_limit;         /* driven: `limit` given (README.md, "Limits" */
     double limit[2];       /* driven: [low, high] of the driven input, SI */
     /* closed loops (README.md, "Closed loops"), set by rigmat_model_check_equations */
-    int in_loop;           /* the coordinate moves a closure's points */
+    int in_loop;           /* the coordinate moves a closure's points: 1 + the index of
+                              the first closure whose loop holds it, else 0 */
     int dependent;         /* solved from the closures: no state of its own */
     double assembled;      /* in a loop: its value at the assembled operating point */
 } rigmat_joint;

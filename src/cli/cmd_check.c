@@ -455,7 +455,7 @@ static void closures_entry(rigmat_result *r, const rigmat_model *m)
                     "deg\n", cl->name, cl->at_m[1][0], cl->at_m[1][1],
                     m->bodies[cl->body[1]].name, cl->at_m[0][0], cl->at_m[0][1],
                     m->bodies[cl->body[0]].name, cl->axis[0], cl->axis[1],
-                    cl->angle_rad * 180.0 / M_PI);
+                    fabs(cl->angle_rad) < 1e-12 ? 0.0 : cl->angle_rad * 180.0 / M_PI);
         else
             fprintf(c.f, "  %-12s hinge: point [%.6g, %.6g] m of %s = point [%.6g, %.6g] m "
                     "of %s\n", cl->name, cl->at_m[0][0], cl->at_m[0][1],

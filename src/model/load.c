@@ -2170,7 +2170,7 @@ static const char *const closure_keys[] = { "type", "bodies", "at", "axis" };
 
 /* Mark the coordinates on the tree paths from each closure's two bodies
  * up to their nearest common ancestor: the joints of the loop. */
-static void mark_loop(rigmat_model *m, const rigmat_closure *cl)
+static void mark_loop(rigmat_model *m, const rigmat_closure *cl, int mark)
 {
     size_t a = cl->body[0], b = cl->body[1], steps = 0;
     unsigned char *up = calloc(m->nbodies ? m->nbodies : 1, 1);
@@ -2187,10 +2187,12 @@ static void mark_loop(rigmat_model *m, const rigmat_closure *cl)
     /* climb from b to the first body above a: the common ancestor */
     for (steps = 0; !up[b] && b != 0 && m->bodies[b].joint != RIGMAT_NONE &&
             steps++ <= m->nbodies; b = m->joints[m->bodies[b].joint].parent)
-        m->joints[m->bodies[b].joint].in_loop = 1;
+        if (!m->joints[m->bodies[b].joint].in_loop)
+            m->joints[m->bodies[b].joint].in_loop = mark;
     for (a = cl->body[0], steps = 0; a != b && a != 0 && m->bodies[a].joint != RIGMAT_NONE &&
             steps++ <= m->nbodies; a = m->joints[m->bodies[a].joint].parent)
-        m->joints[m->bodies[a].joint].in_loop = 1;
+        if (!m->joints[m->bodies[a].joint].in_loop)
+            m->joints[m->bodies[a].joint].in_loop = mark;
     free(up);
 }
 
@@ -2266,8 +2268,8 @@ static void read_closures(struct ld *L, const rigmat_node *root)
             (void)vec2_node(L, &e, f->value->items[0], RIGMAT_Q_LENGTH, c->at_m[0]);
             (void)vec2_node(L, &e, f->value->items[1], RIGMAT_Q_LENGTH, c->at_m[1]);
         }
-        if (ok)
-            mark_loop(m, c);
+        if (ok) /* in_loop: 1 + the index of the first closure whose loop holds it */
+            mark_loop(m, c, (int)m->nclosures);
     }
     for (j = 0; j < m->njoints; j++) {
         rigmat_joint *jt = &m->joints[j];
@@ -2287,7 +2289,7 @@ static void read_closures(struct ld *L, const rigmat_node *root)
             lerr(L, &e, jt->loc, "drive the loop with a motor or a force across the joint "
                     "instead", "joint '%s' is driven and lies inside the closed loop of closure "
                     "'%s': a driven joint inside a loop is not supported in this version",
-                    jt->name, m->closures[0].name);
+                    jt->name, m->closures[jt->in_loop - 1].name);
         }
     }
     if (nloop < 2 * m->nclosures + 1 && L->d->errors == before) {
