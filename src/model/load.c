@@ -2170,10 +2170,11 @@ static const char *const closure_keys[] = { "type", "bodies", "at", "axis" };
 
 /* Mark the coordinates on the tree paths from each closure's two bodies
  * up to their nearest common ancestor: the joints of the loop. */
-static void mark_loop(rigmat_model *m, const rigmat_closure *cl, int mark)
+static void mark_loop(struct ld *L, const rigmat_closure *cl, int mark)
 {
+    rigmat_model *m = L->m;
     size_t a = cl->body[0], b = cl->body[1], steps = 0;
-    unsigned char *up = calloc(m->nbodies ? m->nbodies : 1, 1);
+    unsigned char *up = alloc_array(L, m->nbodies, 1);
 
     if (up == NULL)
         return;
@@ -2269,8 +2270,10 @@ static void read_closures(struct ld *L, const rigmat_node *root)
             (void)vec2_node(L, &e, f->value->items[1], RIGMAT_Q_LENGTH, c->at_m[1]);
         }
         if (ok) /* in_loop: 1 + the index of the first closure whose loop holds it */
-            mark_loop(m, c, (int)m->nclosures);
+            mark_loop(L, c, (int)m->nclosures);
     }
+    if (L->nomem)
+        return;
     for (j = 0; j < m->njoints; j++) {
         rigmat_joint *jt = &m->joints[j];
         if (!jt->in_loop)
