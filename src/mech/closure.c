@@ -552,16 +552,22 @@ static rigmat_status assemble_op(rigmat_closure_ws *w, rigmat_mech *s, const siz
         rigmat_mech_update_kinematics(s);
         constraints(w, s, 0);
         for (a = 0; a < nc; a++)
-            if (fabs(creal(w->phi[a])) > r)
+            if (!(fabs(creal(w->phi[a])) <= r)) /* a NaN stays */
                 r = fabs(creal(w->phi[a]));
         *res = r;
         *iters = (int)it;
         if (it == MAX_ASSEMBLY_ITERATIONS)
             break;
         /* J_v' = U S V': the minimum-norm step is -U S^-1 V' phi */
+        if (!isfinite(r))
+            break; /* reported as a loop that cannot close */
         for (b = 0; b < nv; b++)
-            for (a = 0; a < nc; a++)
-                gsl_matrix_set(U, b, a, creal(w->J[a * n + mv[b]]));
+            for (a = 0; a < nc; a++) {
+                const double jv = creal(w->J[a * n + mv[b]]);
+                if (!isfinite(jv))
+                    goto done;
+                gsl_matrix_set(U, b, a, jv);
+            }
         if (gsl_linalg_SV_decomp(U, V, S, work) != GSL_SUCCESS)
             break;
         smax = gsl_vector_get(S, 0);
