@@ -373,7 +373,7 @@ rigmat_status rigmat_closure_positions(rigmat_closure_ws *w, rigmat_mech *s, rig
                 err->where = w->m->closures[a / 2].loc;
             return RIGMAT_ENUMERIC;
         }
-    if (!(ratio > RIGMAT_CLOSURE_SV_RTOL * 1e-3))
+    if (!(ratio > RIGMAT_CLOSURE_PIVOT_RTOL))
         return dead_centre(w, "at this point", err);
     for (b = 0; b < w->np; b++)
         w->guess[b] = creal(v.q[w->pc[b]]);

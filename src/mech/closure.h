@@ -14,13 +14,18 @@
  *     qdd = T qdd_i + g,        g_d = -Phi_d^-1 (Phi_q qd)_q qd (the curvature),
  *     T' M T qdd_i = T' (Q - hb - M g),
  * exact: nothing is linearized, and every step is complex arithmetic so the
- * complex step (mechanics.h) differentiates through the Newton solve; it
- * iterates until the real and the imaginary parts have converged.
+ * complex step (mechanics.h) differentiates through the Newton solve.  It
+ * iterates until the real step has been below tolerance twice in a row:
+ * at the converged point one more Newton step solves the tangent's linear
+ * equation (the imaginary part) to round-off.
  *
  * Slider closure, with n the line's normal (body 0) and d = p1 - p0:
  *     Phi = n . d,  and th1 - th0 - angle;
- *     (Phi)''' at qdd = 0: (al0 S n - om0^2 n) . d + 2 om0 (S n) . (v1 - v0)
- *                         + n . (a1 - a0).
+ *     d2/dt2 (n . d) at qdd = 0: (al0 S n - om0^2 n) . d + 2 om0 (S n) . (v1 - v0)
+ *                                + n . (a1 - a0),
+ * with S the quarter turn, om0 and al0 body 0's rate and angular
+ * acceleration and v, a the points' velocities and accelerations at
+ * qdd = 0 (the same transport as mechanics.c).
  */
 #ifndef RIGMAT_CLOSURE_H
 #define RIGMAT_CLOSURE_H
@@ -32,6 +37,11 @@
  * Jacobian (smallest over largest) below which a configuration is a dead
  * centre (DESIGN.md, "Closed loops"). */
 #define RIGMAT_CLOSURE_SV_RTOL 1e-9
+
+/* During an evaluation (simulation, the complex step) a dependent block
+ * whose LU pivots fall below this, relative to its largest entry, is a
+ * dead centre too; the error gives its singular values. */
+#define RIGMAT_CLOSURE_PIVOT_RTOL 1e-12
 
 /* Newton's convergence: a step below this times (1 + |q|) in every
  * dependent coordinate, then two more steps (the tangent's convergence). */
