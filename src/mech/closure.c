@@ -271,6 +271,8 @@ static rigmat_status real_svd(const double *A, size_t r, size_t c, double *sv, d
     if (gsl_linalg_SV_decomp(U, V, S, work) != GSL_SUCCESS) {
         for (j = 0; j < c; j++)
             sv[j] = 0.0;
+        for (i = 0; i < r && u != NULL; i++)
+            u[i] = 0.0;
         goto done;
     }
     for (j = 0; j < c; j++)
