@@ -750,6 +750,23 @@ has "$T/out" '"Qd": null' "foh Qd null"
 expect 0 "zoh states its basis" -- "$R" discretize "$DEMO" --rate 200Hz --delay 1 --format json
 has "$T/out" '"state_basis": "physical"' "zoh state_basis"
 
+# closed loops (README.md, "Closed loops")
+expect 0 "four-bar check" -- "$R" check examples/fourbar.yaml
+has "$T/out" "independent: crank (named in 'independent:')" "check says which coordinate is independent and why"
+has "$T/out" "dependent: knee, swing" "check names the dependent coordinates"
+has "$T/out" "relative singular value" "check gives the distance from a dead centre"
+expect 0 "four-bar check json" -- "$R" check examples/fourbar.yaml --format json
+has "$T/out" '"chosen_by": "named"' "json: how the independent coordinates were chosen"
+sed 's/\[\[280 mm, 0\], \[200 mm, 0\]\]/[[280 mm, 0], [900 mm, 0]]/' examples/fourbar.yaml >"$T/farbar.yaml"
+expect 3 "a loop that cannot close" -- "$R" linearize "$T/farbar.yaml"
+has "$T/err" "farbar.yaml:[0-9]*:3: error: closure 'pin_c' cannot assemble" "the closure is named at its line"
+if [ -s "$T/out" ]; then bad "a loop that cannot close printed a result"; else ok; fi
+printf 'rigmat: 1\nbodies:\n  a: {mass: 1 kg}\n  b: {mass: 1 kg}\njoints:\n  j1: {type: hinge, parent: ground, child: a}\n  j2: {type: hinge, parent: a, child: b}\n  j3: {type: hinge, parent: ground, child: b}\n' >"$T/twoparents.yaml"
+expect 1 "a body with two parents" -- "$R" check "$T/twoparents.yaml"
+has "$T/err" "closures:" "the two-parents hint points to closures"
+expect 1 "solve names a dependent coordinate" -- "$R" trim examples/fourbar.yaml --set 'operating_point.solve=[knee]'
+has "$T/err" "'knee' is a dependent coordinate" "dependent coordinate in solve refused"
+
 for f in examples/*.yaml; do
     expect 0 "example $f checks" -- "$R" check "$f"
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json

@@ -127,6 +127,8 @@ rigmat_status pipe_run(const char *file, const char *catalog, const rigmat_model
         *where = "";
     if (m == NULL) {
         STEP("load", rigmat_model_load(file, NULL, 0, &opt, &own, &d));
+        /* completes a model with closed loops (assembly, the layout) */
+        STEP("equations", rigmat_model_check_equations(own, &d));
         m = own;
     }
     if (st == RIGMAT_OK)

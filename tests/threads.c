@@ -112,6 +112,11 @@ int main(int argc, char **argv)
         rigmat_diags_init(&d);
         if (rigmat_model_load(job.files[i], NULL, 0, &opt, &job.shared[i], &d) != RIGMAT_OK)
             job.shared[i] = NULL;
+        /* shared read-only from here on: complete it (closed loops) first */
+        else if (rigmat_model_check_equations(job.shared[i], &d) != RIGMAT_OK) {
+            rigmat_model_free(job.shared[i]);
+            job.shared[i] = NULL;
+        }
         rigmat_diags_release(&d);
     }
     for (i = 0; i < NTHREADS; i++) {

@@ -16,6 +16,7 @@
 #include "units.h"
 #include "kinds.h"
 #include "noise.h"
+#include "closure.h"
 
 #include <math.h>
 #include <gsl/gsl_math.h>
@@ -364,6 +365,129 @@ static void motor_entry(rigmat_result *r, const rigmat_motor *mo)
 
 static void check_headroom(struct cli_env *env, const rigmat_model *m, rigmat_result *r);
 
+/* Why these coordinates are the independent ones (README.md, "Closed loops"). */
+static const char *independent_why(rigmat_independent_how how)
+{
+    switch (how) {
+    case RIGMAT_INDEPENDENT_NAMED: return "named in 'independent:'";
+    case RIGMAT_INDEPENDENT_GIVEN:
+        return "the loop coordinates given in operating_point.coordinates, as many as the "
+               "degrees of freedom";
+    case RIGMAT_INDEPENDENT_PARTITION:
+        return "coordinate partitioning at the operating point: the dependent ones are the "
+               "best-conditioned columns of the constraint Jacobian (column-pivoted QR)";
+    default: return "no closed loop";
+    }
+}
+
+static const char *independent_word(rigmat_independent_how how)
+{
+    return how == RIGMAT_INDEPENDENT_NAMED ? "named" :
+           how == RIGMAT_INDEPENDENT_GIVEN ? "operating_point" : "partitioned";
+}
+
+/* The closed loops: closures, which coordinates are independent and why,
+ * the assembled values and the distance from a dead centre. */
+static void closures_entry(rigmat_result *r, const rigmat_model *m)
+{
+    struct capture c;
+    size_t i, k;
+    int pass;
+
+    rigmat_result_key(r, "closures");
+    rigmat_result_object(r);
+    rigmat_result_key(r, "entries");
+    rigmat_result_array(r);
+    for (i = 0; i < m->nclosures; i++) {
+        const rigmat_closure *cl = &m->closures[i];
+        rigmat_result_object(r);
+        rigmat_result_key(r, "name");
+        rigmat_result_string(r, cl->name);
+        rigmat_result_key(r, "type");
+        rigmat_result_string(r, cl->type == RIGMAT_CLOSURE_SLIDER ? "slider" : "hinge");
+        rigmat_result_key(r, "bodies");
+        rigmat_result_array(r);
+        rigmat_result_string(r, m->bodies[cl->body[0]].name);
+        rigmat_result_string(r, m->bodies[cl->body[1]].name);
+        rigmat_result_close(r);
+        if (cl->type == RIGMAT_CLOSURE_SLIDER) {
+            rigmat_result_key(r, "angle");
+            rigmat_result_number(r, cl->angle_rad, "rad");
+        }
+        rigmat_result_close(r);
+    }
+    rigmat_result_close(r);
+    for (pass = 0; pass < 2; pass++) {
+        rigmat_result_key(r, pass ? "dependent" : "independent");
+        rigmat_result_array(r);
+        for (k = 0; k < m->njoints; k++)
+            if (m->joints[k].in_loop && m->joints[k].dependent == pass)
+                rigmat_result_string(r, m->joints[k].name);
+        rigmat_result_close(r);
+    }
+    rigmat_result_key(r, "chosen_by");
+    rigmat_result_string(r, independent_word(m->independent_how));
+    rigmat_result_key(r, "assembled");
+    rigmat_result_object(r);
+    for (k = 0; k < m->njoints; k++)
+        if (m->joints[k].in_loop) {
+            rigmat_result_key(r, m->joints[k].name);
+            rigmat_result_number(r, m->joints[k].assembled, NULL);
+        }
+    rigmat_result_close(r);
+    rigmat_result_key(r, "residual");
+    rigmat_result_number(r, m->closure_residual, NULL);
+    rigmat_result_key(r, "iterations");
+    rigmat_result_integer(r, (long)m->closure_iterations);
+    rigmat_result_key(r, "singular_value_ratio");
+    rigmat_result_number(r, m->closure_sv_ratio, NULL);
+    rigmat_result_key(r, "dead_centre_below");
+    rigmat_result_number(r, RIGMAT_CLOSURE_SV_RTOL, NULL);
+    rigmat_result_close(r);
+    if (capture_open(&c, r) == NULL)
+        return;
+    fputs("\nclosed loops (two equations per closure)\n", c.f);
+    for (i = 0; i < m->nclosures; i++) {
+        const rigmat_closure *cl = &m->closures[i];
+        if (cl->type == RIGMAT_CLOSURE_SLIDER)
+            fprintf(c.f, "  %-12s slider: point [%.6g, %.6g] m of %s on the line through "
+                    "[%.6g, %.6g] m of %s along [%.6g, %.6g]; relative angle held at %.6g "
+                    "deg\n", cl->name, cl->at_m[1][0], cl->at_m[1][1],
+                    m->bodies[cl->body[1]].name, cl->at_m[0][0], cl->at_m[0][1],
+                    m->bodies[cl->body[0]].name, cl->axis[0], cl->axis[1],
+                    fabs(cl->angle_rad) < 1e-12 ? 0.0 : cl->angle_rad * 180.0 / M_PI);
+        else
+            fprintf(c.f, "  %-12s hinge: point [%.6g, %.6g] m of %s = point [%.6g, %.6g] m "
+                    "of %s\n", cl->name, cl->at_m[0][0], cl->at_m[0][1],
+                    m->bodies[cl->body[0]].name, cl->at_m[1][0], cl->at_m[1][1],
+                    m->bodies[cl->body[1]].name);
+    }
+    for (pass = 0; pass < 2; pass++) {
+        int first = 1;
+        fputs(pass ? "  dependent:" : "  independent:", c.f);
+        for (k = 0; k < m->njoints; k++)
+            if (m->joints[k].in_loop && m->joints[k].dependent == pass) {
+                fprintf(c.f, "%s %s", first ? "" : ",", m->joints[k].name);
+                first = 0;
+            }
+        fprintf(c.f, pass ? " (solved by Newton assembly at every evaluation)\n" :
+                " (%s)\n", independent_why(m->independent_how));
+    }
+    fputs("  assembled at the operating point:", c.f);
+    for (k = 0, pass = 0; k < m->njoints; k++)
+        if (m->joints[k].in_loop) {
+            fprintf(c.f, "%s %s = %.9g", pass ? "," : "", m->joints[k].name,
+                    m->joints[k].assembled);
+            pass = 1;
+        }
+    fprintf(c.f, " (SI), residual %.3g after %d Newton iterations\n", m->closure_residual,
+            m->closure_iterations);
+    fprintf(c.f, "  distance from a dead centre: the dependent block of the constraint "
+            "Jacobian has relative singular value %.3g (refused below %g)\n",
+            m->closure_sv_ratio, RIGMAT_CLOSURE_SV_RTOL);
+    capture_close(&c, r, 1);
+}
+
 /* The result of `check`, described once: the JSON records, each with its
  * line of the text layout. */
 static void check_result(struct cli_env *env, rigmat_result *r, const rigmat_model *m,
@@ -401,6 +525,8 @@ static void check_result(struct cli_env *env, rigmat_result *r, const rigmat_mod
     for (i = 0; i < m->njoints; i++)
         joint_entry(r, m, &m->joints[i]);
     rigmat_result_close(r);
+    if (m->nclosures > 0)
+        closures_entry(r, m);
     /* the vectors of the head, laid out for people */
     if (capture_open(&c, r) != NULL) {
         fprintf(c.f, "\nstates (%zu), order hash %s\n", l->nx, l->order_hash);

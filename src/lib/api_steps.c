@@ -455,7 +455,7 @@ rigmat_status rigmat_linear_export(const rigmat_linear *l, const char *format,
 
     if (l == NULL)
         return rigmat_api_usage(diags, "rigmat_linear_export: the linear model is NULL");
-    r = rigmat_describe_linear(l->m, l->lti);
+    r = rigmat_describe_linear(l->m, l->lti, NULL);
     st = export_result(r, format, opts, out, diags);
     rigmat_result_free(r);
     return st;

@@ -44,7 +44,8 @@ const char *rigmat_model_display_name(const rigmat_model *m)
  * sample-rate selection, from memory). */
 static const double rule_low = 10.0, rule_high = 30.0;
 
-rigmat_result *rigmat_describe_linear(const rigmat_model *m, const rigmat_lti *l)
+rigmat_result *rigmat_describe_linear(const rigmat_model *m, const rigmat_lti *l,
+        const double *q)
 {
     const rigmat_layout *L = &m->layout;
     rigmat_result *r = rigmat_result_alloc("continuous");
@@ -84,6 +85,20 @@ rigmat_result *rigmat_describe_linear(const rigmat_model *m, const rigmat_lti *l
     rigmat_result_vector(r, l->y0, L->ny, L->outputs);
     rigmat_result_title(r, "operating point: y0 = h(x0, u0)");
     rigmat_result_export_name(r, "y0");
+    if (q != NULL) {
+        /* a closed loop's dependent coordinates are no states: every
+         * joint's value (README.md, "Closed loops"), JSON only */
+        size_t j;
+        rigmat_result_key(r, "coordinates");
+        rigmat_result_object(r);
+        for (j = 0; j < m->njoints; j++) {
+            rigmat_result_key(r, m->joints[j].name);
+            rigmat_result_number(r, q[j], NULL);
+            rigmat_result_show(r, RIGMAT_SHOW_JSON);
+        }
+        rigmat_result_close(r);
+        rigmat_result_show(r, RIGMAT_SHOW_JSON);
+    }
     rigmat_result_close(r);
     rigmat_result_key(r, "equilibrium");
     rigmat_result_object(r);

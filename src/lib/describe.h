@@ -17,8 +17,10 @@ const char *rigmat_model_display_name(const rigmat_model *m);
 /* The continuous model l of m: A, B, C, D, the operating point and the
  * equilibrium (README.md, "JSON output").  A new result owned by the
  * caller (rigmat_result_free), or NULL when out of memory; it borrows m's
- * signal lists, so m must outlive it. */
-rigmat_result *rigmat_describe_linear(const rigmat_model *m, const rigmat_lti *l);
+ * signal lists, so m must outlive it.  q (may be NULL): every joint's
+ * coordinate at the point, shown for a model with closed loops. */
+rigmat_result *rigmat_describe_linear(const rigmat_model *m, const rigmat_lti *l,
+        const double *q);
 
 /* The rows of the sampled state of d: the plant's states of L, then d's
  * delay stages.  A new array of d->nx (at least one) signals that borrow

@@ -5,6 +5,7 @@
  * model stage never builds the mechanics (see rigmat_model_check_equations
  * in src/util/rigmat_internal.h). */
 #include "equations.h"
+#include "closure.h"
 #include "sizes.h"
 
 #include <stdlib.h>
@@ -106,7 +107,7 @@ static rigmat_status error_to_diag(rigmat_diags *d, const rigmat_error *e)
     return e->status == RIGMAT_ENOMEM ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
 }
 
-rigmat_status rigmat_model_check_equations(const rigmat_model *m, rigmat_diags *d)
+rigmat_status rigmat_model_check_equations(rigmat_model *m, rigmat_diags *d)
 {
     const rigmat_loc none = { NULL, 0, 0 };
     rigmat_error e;
@@ -115,6 +116,11 @@ rigmat_status rigmat_model_check_equations(const rigmat_model *m, rigmat_diags *
     size_t k = 0;
 
     memset(&e, 0, sizeof e);
+    /* closed loops: assemble, choose the independent coordinates, rebuild
+     * the layout without the dependent ones */
+    st = rigmat_closure_resolve(m, d);
+    if (st != RIGMAT_OK)
+        return st;
     /* the equations must be buildable whatever the order */
     st = rigmat_mech_alloc(m, &s, &e);
     if (st != RIGMAT_OK)

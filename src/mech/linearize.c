@@ -179,6 +179,25 @@ rigmat_status rigmat_system_eval(rigmat_system *s, const double *x, const double
     return RIGMAT_OK;
 }
 
+rigmat_status rigmat_system_coordinates(rigmat_system *s, const double *x, const double *u,
+        double *q, rigmat_error *err)
+{
+    rigmat_mech_view v;
+    rigmat_status st;
+    size_t j;
+
+    if (RIGMAT_NEVER(s == NULL || x == NULL || q == NULL || (u == NULL && s->nu > 0)))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "system: missing argument");
+    scatter(s, x, u);
+    st = rigmat_mech_eval_real(s->mech, s->xc, s->uc, s->fc, s->yc, err);
+    if (st != RIGMAT_OK)
+        return st;
+    rigmat_mech_get_view(s->mech, &v);
+    for (j = 0; j < s->m->njoints; j++)
+        q[j] = v.coord[j] != RIGMAT_NONE ? creal(v.q[v.coord[j]]) : 0.0;
+    return RIGMAT_OK;
+}
+
 static rigmat_status check_size(const gsl_matrix *M, size_t r, size_t c, const char *name,
         rigmat_error *err)
 {

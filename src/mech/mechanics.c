@@ -21,6 +21,7 @@
 #include "recursive.h"
 #include "layout.h"
 #include "kinds.h"
+#include "closure.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -60,6 +61,7 @@ struct rigmat_mech {
     double complex *xc, *uc, *fc, *yc;
     double *fr; /* real f, canonical */
     rigmat_rec *rec; /* the O(N) path (recursive.c) when chosen, else NULL */
+    rigmat_closure_ws *cl; /* closed loops (closure.c), or NULL */
 };
 
 #define BJ(s, b, k, c) ((s)->bJ[((b) * 2 + (k)) * (s)->n + (c)])
@@ -75,6 +77,7 @@ void rigmat_mech_free(rigmat_mech *s)
     if (s == NULL)
         return;
     rigmat_layout_release(&s->canon);
+    rigmat_closure_free(s->cl);
     free(s->coord); free(s->cjoint); free(s->order); free(s->bjoint);
     free(s->xq); free(s->xr); free(s->uq); free(s->freec);
     free(s->xi); free(s->umot); free(s->ufor); free(s->xsh);
@@ -827,10 +830,18 @@ rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const do
     if (s->rec != NULL) {
         st = rigmat_rec_eval(s->rec, err);
     } else {
-        kinematics(s);
+        if (s->cl != NULL) {
+            /* closed loops: the dependent coordinates and rates by assembly */
+            st = rigmat_closure_positions(s->cl, s, err);
+            if (st != RIGMAT_OK)
+                return st;
+        } else {
+            kinematics(s);
+        }
         st = assemble(s, err);
-        if (st == RIGMAT_OK)
-            st = solve(s, err);
+        if (st != RIGMAT_OK)
+            return st;
+        st = s->cl != NULL ? rigmat_closure_accelerations(s->cl, s, err) : solve(s, err);
     }
     if (st != RIGMAT_OK)
         return st;
@@ -1349,15 +1360,34 @@ static rigmat_status tree_order(rigmat_mech *s, rigmat_error *err)
     return RIGMAT_OK;
 }
 
+static rigmat_status mech_alloc(const rigmat_model *m, int tree, rigmat_mech **out,
+        rigmat_error *err);
+
 rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat_error *err)
 {
-    rigmat_mech *s = calloc(1, sizeof *s);
+    return mech_alloc(m, 0, out, err);
+}
+
+rigmat_status rigmat_mech_alloc_tree(const rigmat_model *m, rigmat_mech **out,
+        rigmat_error *err)
+{
+    return mech_alloc(m, 1, out, err);
+}
+
+static rigmat_status mech_alloc(const rigmat_model *m, int tree, rigmat_mech **out,
+        rigmat_error *err)
+{
+    rigmat_mech *s;
     rigmat_status st = RIGMAT_OK;
     const rigmat_layout *L;
     int bad = 0;
     size_t j, k, n = 0, nm, nb;
 
     *out = NULL;
+    if (m->closures_pending && !tree)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the closed loops of the model are not "
+                "assembled yet: call rigmat_model_check_equations after loading");
+    s = calloc(1, sizeof *s);
     if (s == NULL)
         return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
     s->m = m;
@@ -1540,6 +1570,11 @@ rigmat_status rigmat_mech_alloc(const rigmat_model *m, rigmat_mech **out, rigmat
             goto fail;
         }
     }
+    if (m->nclosures > 0 && !tree) {
+        st = rigmat_closure_alloc(s, m, &s->cl, err);
+        if (st != RIGMAT_OK)
+            goto fail;
+    }
     *out = s;
     return RIGMAT_OK;
 fail:
@@ -1618,6 +1653,8 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
         const size_t c = j != RIGMAT_NONE ? s->coord[j] : RIGMAT_NONE;
         if (c == RIGMAT_NONE)
             return unknown_name(err, st, "moving joint");
+        if (m->joints[j].dependent)
+            continue; /* a guess for the assembly (rigmat_model_check_equations) */
         if (s->xq[c] != RIGMAT_NONE)
             x[s->xq[c]] = st->value;
         else
@@ -1629,6 +1666,15 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
         const size_t c = j != RIGMAT_NONE ? s->coord[j] : RIGMAT_NONE;
         if (c == RIGMAT_NONE)
             return unknown_name(err, st, "moving joint");
+        if (m->joints[j].dependent) {
+            (void)RIGMAT_FAIL(err, RIGMAT_EMODEL, "operating point: joint '%s' is a dependent "
+                    "coordinate of a closed loop: its rate follows from the independent ones",
+                    st->name);
+            rigmat_error_hint(err, "give the rates of the independent coordinates only");
+            if (err != NULL)
+                err->where = st->loc;
+            return RIGMAT_EMODEL;
+        }
         if (s->xr[c] != RIGMAT_NONE)
             x[s->xr[c]] = st->value;
         else if (m->joints[j].driven == RIGMAT_DRIVEN_VELOCITY)
@@ -1694,6 +1740,8 @@ int rigmat_mech_find_unknown(const rigmat_mech *s, const char *name, int *is_inp
     const size_t j = joint_named(s->m, name);
     size_t k;
 
+    if (j != RIGMAT_NONE && s->coord[j] != RIGMAT_NONE && s->m->joints[j].dependent)
+        return 0; /* solved from the closures, not an unknown of its own */
     if (j != RIGMAT_NONE && s->coord[j] != RIGMAT_NONE) {
         const size_t c = s->coord[j];
         *is_input = s->xq[c] == RIGMAT_NONE;
@@ -1713,4 +1761,43 @@ int rigmat_mech_find_unknown(const rigmat_mech *s, const char *name, int *is_inp
         return 1;
     }
     return 0;
+}
+
+/* ------------------------------------------------ hooks for closure.c */
+
+void rigmat_mech_get_view(rigmat_mech *s, rigmat_mech_view *v)
+{
+    v->n = s->n;
+    v->q = s->q;
+    v->qd = s->qd;
+    v->qdd = s->qdd;
+    v->M = s->M;
+    v->hb = s->hb;
+    v->Q = s->Q;
+    v->coord = s->coord;
+    v->cjoint = s->cjoint;
+}
+
+void rigmat_mech_update_kinematics(rigmat_mech *s)
+{
+    kinematics(s);
+}
+
+void rigmat_mech_point(const rigmat_mech *s, size_t b, const double r[2], double complex p[2],
+        double complex *J, double complex v[2], double complex a[2])
+{
+    double complex pp[2];
+    point_kin(s, b, r, p != NULL ? p : pp, J, v, a);
+}
+
+void rigmat_mech_body(const rigmat_mech *s, size_t b, double complex *th, double complex *row,
+        double complex *om, double complex *al)
+{
+    size_t c;
+    *th = s->bth[b];
+    *om = s->bom[b];
+    *al = s->bal[b];
+    if (row != NULL)
+        for (c = 0; c < s->n; c++)
+            row[c] = BJTH(s, b, c);
 }

@@ -151,4 +151,38 @@ rigmat_status rigmat_mech_operating_point(rigmat_mech *s, double *x, double *u,
 int rigmat_mech_find_unknown(const rigmat_mech *s, const char *name, int *is_input,
         size_t *index);
 
+/* ------------------------------------------------ hooks for closure.c */
+
+/* What closure.c (closed loops) works on: the coordinate vectors and the
+ * assembled M, hb, Q of the last evaluation, all complex, canonical
+ * coordinate order (one per non-fixed joint). */
+typedef struct rigmat_mech_view {
+    size_t n;
+    double complex *q, *qd, *qdd, *M, *hb, *Q;
+    const size_t *coord;  /* per joint: its coordinate or RIGMAT_NONE */
+    const size_t *cjoint; /* per coordinate: its joint */
+} rigmat_mech_view;
+
+void rigmat_mech_get_view(rigmat_mech *s, rigmat_mech_view *v);
+
+/* The tree's kinematics from the view's q and qd. */
+void rigmat_mech_update_kinematics(rigmat_mech *s);
+
+/* A point fixed in body b at r (body frame) after the kinematics:
+ * position, Jacobian (2 x n row-major), velocity and velocity-product
+ * acceleration; any output may be NULL. */
+void rigmat_mech_point(const rigmat_mech *s, size_t b, const double r[2], double complex p[2],
+        double complex *J, double complex v[2], double complex a[2]);
+
+/* Body b's angle, its Jacobian row (n entries; may be NULL), rate and
+ * velocity-product angular acceleration after the kinematics. */
+void rigmat_mech_body(const rigmat_mech *s, size_t b, double complex *th, double complex *row,
+        double complex *om, double complex *al);
+
+/* The equations of a model whose closures are not yet assembled
+ * (m->closures_pending): the plain tree, every coordinate a state, for
+ * rigmat_model_check_equations to assemble the loops on. */
+rigmat_status rigmat_mech_alloc_tree(const rigmat_model *m, rigmat_mech **out,
+        rigmat_error *err);
+
 #endif /* RIGMAT_MECHANICS_H */

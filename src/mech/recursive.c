@@ -75,6 +75,11 @@ int rigmat_rec_supported(const rigmat_model *m, const char **why)
 {
     size_t i;
 
+    if (m->nclosures > 0) {
+        *why = "closed loops reduce the mass matrix to the independent coordinates "
+               "(closure.c)";
+        return 0;
+    }
     /* the kinds this file has its own terms for (kinematics(), forces());
      * a kind added to src/model/kinds.c without them keeps the mass matrix */
     for (i = 0; i < m->njoints; i++)

@@ -33,14 +33,16 @@ static int has_coordinate(const rigmat_joint *j)
     return rigmat_joint_kind(j->type)->has_coordinate;
 }
 
+/* a dependent coordinate of a closed loop is solved from the closures: it
+ * has neither a coordinate nor a rate state (README.md, "Closed loops") */
 static int has_coord_state(const rigmat_joint *j)
 {
-    return has_coordinate(j) && j->driven != RIGMAT_DRIVEN_POSITION;
+    return has_coordinate(j) && j->driven != RIGMAT_DRIVEN_POSITION && !j->dependent;
 }
 
 static int has_rate_state(const rigmat_joint *j)
 {
-    return has_coordinate(j) &&
+    return has_coordinate(j) && !j->dependent &&
             (j->driven == RIGMAT_DRIVEN_NONE || j->driven == RIGMAT_DRIVEN_ACCELERATION);
 }
 

@@ -1031,8 +1031,10 @@ static void check_tree(struct ld *L)
             e.loc = m->joints[j].loc;
             e.map = NULL;
             snprintf(e.words, sizeof e.words, "joint '%s'", m->joints[j].name);
-            lerr(L, &e, e.loc, "a body hangs from exactly one joint; use 'fixed' to weld "
-                    "bodies", "body '%s' is already the child of joint '%s'", m->bodies[c].name,
+            lerr(L, &e, e.loc, "a body hangs from exactly one joint (use 'fixed' to weld "
+                    "bodies); to close a loop such as a four-bar, drop this joint and join the "
+                    "two bodies with an entry of 'closures:' (README.md, \"Closed loops\")",
+                    "body '%s' is already the child of joint '%s'", m->bodies[c].name,
                     m->joints[m->bodies[c].joint].name);
             continue;
         }
@@ -2161,11 +2163,194 @@ static void read_operating_point(struct ld *L, const rigmat_node *root)
     }
 }
 
+/* ------------------------------------------------------------ closures */
+
+static const char *const closure_words[] = { "hinge", "slider" };
+static const char *const closure_keys[] = { "type", "bodies", "at", "axis" };
+
+/* Mark the coordinates on the tree paths from each closure's two bodies
+ * up to their nearest common ancestor: the joints of the loop. */
+static void mark_loop(struct ld *L, const rigmat_closure *cl, int mark)
+{
+    rigmat_model *m = L->m;
+    size_t a = cl->body[0], b = cl->body[1], steps = 0;
+    unsigned char *up = alloc_array(L, m->nbodies, 1);
+
+    if (up == NULL)
+        return;
+    /* the bodies above a (a included) */
+    for (a = cl->body[0]; steps++ <= m->nbodies; ) {
+        up[a] = 1;
+        if (a == 0 || m->bodies[a].joint == RIGMAT_NONE)
+            break;
+        a = m->joints[m->bodies[a].joint].parent;
+    }
+    /* climb from b to the first body above a: the common ancestor */
+    for (steps = 0; !up[b] && b != 0 && m->bodies[b].joint != RIGMAT_NONE &&
+            steps++ <= m->nbodies; b = m->joints[m->bodies[b].joint].parent)
+        if (!m->joints[m->bodies[b].joint].in_loop)
+            m->joints[m->bodies[b].joint].in_loop = mark;
+    for (a = cl->body[0], steps = 0; a != b && a != 0 && m->bodies[a].joint != RIGMAT_NONE &&
+            steps++ <= m->nbodies; a = m->joints[m->bodies[a].joint].parent)
+        if (!m->joints[m->bodies[a].joint].in_loop)
+            m->joints[m->bodies[a].joint].in_loop = mark;
+    free(up);
+}
+
+static void read_closures(struct ld *L, const rigmat_node *root)
+{
+    const rigmat_node *sec = section(L, root, "closures");
+    const size_t n = sec ? sec->n : 0;
+    rigmat_model *m = L->m;
+    const size_t before = L->d->errors;
+    size_t i, j, nloop = 0;
+
+    if (n == 0)
+        return;
+    m->closures = alloc_array(L, n, sizeof *m->closures);
+    if (m->closures == NULL)
+        return;
+    for (i = 0; i < n; i++) {
+        rigmat_closure *c = &m->closures[m->nclosures];
+        const rigmat_entry *f;
+        struct ent e;
+        int t, ok = 1;
+        if (!entry(L, sec, i, "closure", &e))
+            continue;
+        m->nclosures++;
+        c->name = dup_s(L, e.name);
+        c->loc = e.loc;
+        c->body[0] = c->body[1] = RIGMAT_NONE;
+        c->axis[0] = 1.0;
+        check_keys(L, &e, closure_keys, NW(closure_keys), NULL, 0, "a closure");
+        f = field(&e, "type");
+        t = -1;
+        if (f == NULL)
+            missing(L, &e, "type", "hinge (two points coincide) or slider (a point on a line)");
+        else
+            t = word_node(L, &e, f->value, closure_words, NW(closure_words),
+                    "a closure type (hinge or slider)");
+        c->type = t == 1 ? RIGMAT_CLOSURE_SLIDER : RIGMAT_CLOSURE_HINGE;
+        if (t == 0 && field(&e, "axis") != NULL)
+            lerr(L, &e, field(&e, "axis")->key_loc, "a hinge closure joins two points; "
+                    "'axis' belongs to a slider closure", "'axis' does not apply to a hinge "
+                    "closure");
+        else if (t == 1 && field(&e, "axis") != NULL &&
+                !dir_node(L, &e, field(&e, "axis")->value, c->axis))
+            ok = 0;
+        f = field(&e, "bodies");
+        if (f == NULL) {
+            missing(L, &e, "bodies", "the two bodies it joins: bodies: [coupler, rocker]");
+            ok = 0;
+        } else if (f->value->type != RIGMAT_NODE_SEQ || f->value->n != 2) {
+            lerr(L, &e, f->value->loc, "write bodies: [first, second]", "expected a list of "
+                    "two bodies");
+            ok = 0;
+        } else {
+            c->body[0] = body_ref(L, &e, f->value->items[0]);
+            c->body[1] = body_ref(L, &e, f->value->items[1]);
+            if (c->body[0] == RIGMAT_NONE || c->body[1] == RIGMAT_NONE)
+                ok = 0;
+            else if (c->body[0] == c->body[1]) {
+                lerr(L, &e, f->value->items[1]->loc, "a closure joins two different bodies",
+                        "closure '%s' joins body '%s' to itself", e.name,
+                        m->bodies[c->body[0]].name);
+                ok = 0;
+            }
+        }
+        f = field(&e, "at");
+        if (f == NULL) {
+            missing(L, &e, "at", "the point on each body, in its own frame: "
+                    "at: [[x, y], [x, y]]");
+        } else if (f->value->type != RIGMAT_NODE_SEQ || f->value->n != 2) {
+            lerr(L, &e, f->value->loc, "write at: [[x, y], [x, y]], one point per body in its "
+                    "own frame", "expected a list of two points");
+        } else {
+            (void)vec2_node(L, &e, f->value->items[0], RIGMAT_Q_LENGTH, c->at_m[0]);
+            (void)vec2_node(L, &e, f->value->items[1], RIGMAT_Q_LENGTH, c->at_m[1]);
+        }
+        if (ok) /* in_loop: 1 + the index of the first closure whose loop holds it */
+            mark_loop(L, c, (int)m->nclosures);
+    }
+    if (L->nomem)
+        return;
+    for (j = 0; j < m->njoints; j++) {
+        rigmat_joint *jt = &m->joints[j];
+        if (!jt->in_loop)
+            continue;
+        if (!joint_moves(jt)) {
+            jt->in_loop = 0;
+            continue;
+        }
+        nloop++;
+        if (jt->driven != RIGMAT_DRIVEN_NONE && !driven_unknown(L, j)) {
+            struct ent e;
+            e.name = jt->name;
+            e.loc = jt->loc;
+            e.map = NULL;
+            snprintf(e.words, sizeof e.words, "joint '%s'", jt->name);
+            lerr(L, &e, jt->loc, "drive the loop with a motor or a force across the joint "
+                    "instead", "joint '%s' is driven and lies inside the closed loop of closure "
+                    "'%s': a driven joint inside a loop is not supported in this version",
+                    jt->name, m->closures[jt->in_loop - 1].name);
+        }
+    }
+    if (nloop < 2 * m->nclosures + 1 && L->d->errors == before) {
+        lerr(L, NULL, m->closures[0].loc, "each closure takes two degrees of freedom from "
+                "the joints of its loop; a loop that cannot move is a structure",
+                "the closures leave no degree of freedom: %zu loop coordinates, %zu closure "
+                "equations", nloop, 2 * m->nclosures);
+        return;
+    }
+    m->closures_pending = L->d->errors == before;
+    m->closure_sv_ratio = 1.0;
+}
+
+/* `independent: [crank]`: joints of the loops, as many as its degrees of
+ * freedom. */
+static void read_independent(struct ld *L, const rigmat_node *root)
+{
+    const rigmat_entry *f = rigmat_node_get(root, "independent");
+    rigmat_model *m = L->m;
+    size_t i, j, nloop = 0;
+
+    if (f == NULL || is_null(f->value))
+        return;
+    if (m->nclosures == 0) {
+        lerr(L, NULL, f->key_loc, "independent coordinates are chosen only where 'closures:' "
+                "closes a loop; remove this line", "'independent' without closures");
+        return;
+    }
+    read_namelist(L, NULL, f->value, &m->independent);
+    for (j = 0; j < m->njoints; j++)
+        nloop += m->joints[j].in_loop != 0;
+    for (i = 0; i < m->independent.count; i++) {
+        const char *nm = m->independent.names[i];
+        j = find_joint(m, nm);
+        if (j == RIGMAT_NONE) {
+            const char *names[64];
+            char hint[160];
+            const size_t nn = collect_names(names, 64, m->joints, m->njoints,
+                    sizeof(rigmat_joint), 0);
+            name_hint(hint, sizeof hint, nm, names, nn);
+            lerr(L, NULL, m->independent.locs[i], hint, "unknown joint '%s'", nm);
+        } else if (!m->joints[j].in_loop) {
+            lerr(L, NULL, m->independent.locs[i], "name joints whose coordinates move the "
+                    "points of a closure", "joint '%s' is not in a closed loop", nm);
+        }
+    }
+    if (nloop >= 2 * m->nclosures && m->independent.count != nloop - 2 * m->nclosures)
+        lerr(L, NULL, f->value->loc, "name as many joints of the loops as they have degrees "
+                "of freedom (loop coordinates minus two per closure)", "'independent' names "
+                "%zu joints, but the loops have %zu degrees of freedom", m->independent.count,
+                nloop - 2 * m->nclosures);
+}
+
 /* ------------------------------------------------------------ top level */
 
 static const char *const top_keys[] = { "rigmat", "name", "gravity", "slope", "bodies",
     "joints", "springs", "dampers", "motors", "forces", "sensors", "operating_point", "order",
-    "states", "inputs", "outputs" };
+    "states", "inputs", "outputs", "closures", "independent" };
 
 static void read_top(struct ld *L, const rigmat_node *root)
 {
@@ -2253,6 +2438,10 @@ rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
         read_forces(&L, root);
     if (!L.nomem)
         read_sensors(&L, root);
+    if (!L.nomem)
+        read_closures(&L, root);
+    if (!L.nomem)
+        read_independent(&L, root);
     if (!L.nomem)
         read_operating_point(&L, root);
     free(L.joint_unknown);

@@ -60,6 +60,10 @@ void rigmat_model_free(rigmat_model *m)
     free_namelist(&m->order_states);
     free_namelist(&m->order_inputs);
     free_namelist(&m->order_outputs);
+    free_namelist(&m->independent);
+    for (i = 0; i < m->nclosures; i++)
+        free(m->closures[i].name);
+    free(m->closures);
     rigmat_layout_release(&m->layout);
     if (m->owner_diags != NULL) {
         rigmat_diags_release(m->owner_diags);

@@ -229,7 +229,37 @@ typedef struct rigmat_joint {
     double bandwidth_hz;   /* driven, disturbance: first-order colouring; 0 = white */
     int has_limit;         /* driven: `limit` given (README.md, "Limits" */
     double limit[2];       /* driven: [low, high] of the driven input, SI */
+    /* closed loops (README.md, "Closed loops"), set by rigmat_model_check_equations */
+    int in_loop;           /* the coordinate moves a closure's points: 1 + the index of
+                              the first closure whose loop holds it, else 0 */
+    int dependent;         /* solved from the closures: no state of its own */
+    double assembled;      /* in a loop: its value at the assembled operating point */
 } rigmat_joint;
+
+/* A closure of a kinematic loop: two equations between two bodies. */
+typedef enum rigmat_closure_type {
+    RIGMAT_CLOSURE_HINGE,  /* point at[0] of body 0 coincides with point at[1] of body 1 */
+    RIGMAT_CLOSURE_SLIDER  /* point at[1] of body 1 on the line through point at[0] of
+                              body 0 along axis (body 0's frame); relative angle held */
+} rigmat_closure_type;
+
+typedef struct rigmat_closure {
+    char *name;
+    rigmat_loc loc;
+    rigmat_closure_type type;
+    size_t body[2];
+    double at_m[2][2];     /* each in its own body's frame */
+    double axis[2];        /* slider: unit vector in body 0's frame */
+    double angle_rad;      /* slider: the relative angle held (set at assembly) */
+} rigmat_closure;
+
+/* How the independent coordinates of a model with closures were chosen. */
+typedef enum rigmat_independent_how {
+    RIGMAT_INDEPENDENT_NONE = 0, /* no closures */
+    RIGMAT_INDEPENDENT_NAMED,    /* `independent:` */
+    RIGMAT_INDEPENDENT_GIVEN,    /* the operating point's loop coordinates, as many as the DOF */
+    RIGMAT_INDEPENDENT_PARTITION /* coordinate partitioning at the operating point */
+} rigmat_independent_how;
 
 /* Where a spring or damper acts. */
 typedef enum rigmat_attach {
@@ -420,6 +450,14 @@ struct rigmat_model { /* opaque in include/rigmat.h */
     rigmat_motor *motors;    size_t nmotors;
     rigmat_force *forces;    size_t nforces;
     rigmat_sensor *sensors;  size_t nsensors;
+    rigmat_closure *closures; size_t nclosures;
+    rigmat_namelist independent;      /* `independent:` as written; empty = not given */
+    rigmat_independent_how independent_how;
+    int closures_pending;  /* closures not yet assembled: rigmat_model_check_equations does it */
+    double closure_sv_ratio; /* at the operating point: the smallest singular value of the
+                                constraint Jacobian's dependent block over its largest */
+    double closure_residual; /* the largest closure residual after assembly (m or rad) */
+    int closure_iterations;  /* Newton iterations of the assembly */
     rigmat_setting *op_coordinates; size_t nop_coordinates;
     rigmat_setting *op_rates;       size_t nop_rates;
     rigmat_setting *op_inputs;      size_t nop_inputs;
@@ -511,8 +549,13 @@ void rigmat_layout_release(rigmat_layout *l);
  * rigmat_linearize and rigmat_trim_model refuse such a model too, with the
  * first problem as a rigmat_error.  Problems go to d (may be NULL) as
  * errors with places; returns RIGMAT_EMODEL after recording at least one,
- * RIGMAT_ENOMEM. */
-rigmat_status rigmat_model_check_equations(const rigmat_model *m, rigmat_diags *d);
+ * RIGMAT_ENOMEM.  A model with closures is completed here: the loop is
+ * assembled at the operating point, the independent coordinates are
+ * chosen (m->independent_how, each joint's `dependent`) and the layout is
+ * rebuilt without the dependent coordinates; until then the equations
+ * refuse the model (RIGMAT_EUSAGE).  RIGMAT_ENUMERIC (with an error in d)
+ * when a closure cannot assemble or sits at a dead centre. */
+rigmat_status rigmat_model_check_equations(rigmat_model *m, rigmat_diags *d);
 
 /* The nonlinear model x' = f(x, u), y = h(x, u) in the order of m->layout
  * (built), for extended Kalman filters and one's own simulators.  A system
@@ -533,6 +576,12 @@ void rigmat_system_free(rigmat_system *s);
  * coordinate without inertia) or a point spring of zero length. */
 rigmat_status rigmat_system_eval(rigmat_system *s, const double *x, const double *u, double *xdot,
         double *y, rigmat_error *err);
+/* Every joint's coordinate at (x, u), in joint order (q has m->njoints
+ * entries; 0 for a fixed joint): the states' values, a position-driven
+ * joint's input and, in a closed loop, the dependent coordinates the
+ * assembly solves (README.md, "Closed loops"). */
+rigmat_status rigmat_system_coordinates(rigmat_system *s, const double *x, const double *u,
+        double *q, rigmat_error *err);
 /* The exact Jacobians df/dx, df/du, dh/dx, dh/du at (x, u) by the complex
  * step; matrices of the layout's sizes, any may be NULL. */
 rigmat_status rigmat_system_jacobians(rigmat_system *s, const double *x, const double *u,
