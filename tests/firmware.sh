@@ -76,6 +76,15 @@ static fwm_real fw_n(unsigned long *c, fwm_real v)\
 # the examples leave out)
 for ex in examples/*.yaml tests/firmware/*.yaml tests/models/*.yaml tests/sensors/*.yaml; do
     base=$(basename "$ex" .yaml)
+    if grep -q '^closures:' "$ex"; then
+        # a linkage: refused at its first closure, exit 1, nothing written
+        "$R" firmware "$ex" --rate 200Hz --name fwm -o "$T/$base-loop" >"$T/out" 2>"$T/err"
+        rc=$?
+        if [ $rc = 1 ] && grep -q "error: closure '.*' closes a loop" "$T/err" &&
+            [ ! -e "$T/$base-loop/fwm.c" ]; then ok
+        else bad "$base: a model with closures: want exit 1 and the closure named (got $rc: $(cat "$T/err"))"; fi
+        continue
+    fi
     for ct in double float; do
         D="$T/$base-$ct"
         if "$R" firmware "$ex" --rate 200Hz --name fwm --ctype "$ct" -o "$D" >"$T/out" 2>"$T/err"

@@ -863,6 +863,18 @@ rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit
     rigmat_emit_c_ident(up, sizeof up, o->name != NULL ? o->name : m->name, 1, "RIGMAT_MODEL");
     if (L->nx == 0)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the model has no states: no firmware to write");
+    if (m->nclosures > 0) {
+        /* the evaluator walks a tree; a loop needs the Newton assembly of
+         * src/mech/closure.c, which it does not carry */
+        (void)RIGMAT_FAIL(err, RIGMAT_EMODEL,
+                "closure '%s' closes a loop: the firmware evaluator covers open trees only",
+                m->closures[0].name);
+        rigmat_error_hint(err, "use `rigmat discretize --format c` for the sampled model of a "
+                               "linkage, or the library's rigmat_system_eval on a host");
+        if (err != NULL)
+            err->where = m->closures[0].loc;
+        return RIGMAT_EMODEL;
+    }
     st = rigmat_system_alloc(m, &sys, err);
     if (st != RIGMAT_OK)
         return st;

@@ -30,7 +30,7 @@
 #ifndef RIGMAT_CLOSURE_H
 #define RIGMAT_CLOSURE_H
 
-#include "rigmat.h"
+#include "rigmat_internal.h"
 #include "mechanics.h"
 
 /* The relative singular value of the dependent block of the constraint

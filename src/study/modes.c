@@ -1141,6 +1141,19 @@ rigmat_status rigmat_modes_compute(const rigmat_lti *l, double period_s,
     gs = dc_gain(&w, md, l);
     if (gs != GSL_SUCCESS)
         goto gsl_fail;
+    /* an entry beyond the double range (a gain near 1e308 times the
+     * plant's static gain) is refused, never handed out; NaN marks a
+     * channel through a pole at 0 and only exists with one */
+    for (i = 0; i < ny; i++)
+        for (j = 0; j < nu; j++)
+            if (!isfinite(gsl_matrix_get(md->dc_gain, i, j)) && md->zero_poles == 0) {
+                rc = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "the DC gain from input %zu to output %zu is beyond the range of a "
+                        "double", j + 1, i + 1);
+                rigmat_error_hint(err, "check the scale of the sensors' gain and the "
+                                       "model's parameters");
+                goto done;
+            }
     *out = md;
     md = NULL;
     goto done;
