@@ -380,7 +380,7 @@ static int charge(struct merge *g, const struct cached *c, const char *name)
 {
     const rigmat_options *o = g->opt;
     char hint[320];
-    int st;
+    rigmat_status st;
 
     /* g->bytes <= max_file_bytes and g->nodes <= max_nodes hold here, so
      * the differences below cannot wrap */
