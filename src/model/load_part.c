@@ -375,7 +375,8 @@ static rigmat_status cache_get(struct merge *g, const char *path, const char *re
 }
 
 /* Charge one use of part c (named `name`) to the total budget: 1 when it
- * fits, 0 with the error reported at the model's entry (g->top). */
+ * fits, 0 with the error reported at the model's entry (g->top) and
+ * g->over set, -1 when out of memory while reporting it. */
 static int charge(struct merge *g, const struct cached *c, const char *name)
 {
     const rigmat_options *o = g->opt;
