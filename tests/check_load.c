@@ -795,6 +795,238 @@ START_TEST(file_limits_and_io_errors)
 }
 END_TEST
 
+/* ------------------------------------------ parts: budget, counts, cache */
+
+/* A temporary project: catalog/p/NAME.yaml holding part, and m.yaml. */
+static char *parts_project(const char *name, const char *part, const char *model, char *path,
+        size_t len)
+{
+    char *tmp = temp_dir(), p[512];
+
+    snprintf(p, sizeof p, "%s/catalog", tmp);
+    ck_assert_int_eq(mkdir(p, 0700), 0);
+    snprintf(p, sizeof p, "%s/catalog/p", tmp);
+    ck_assert_int_eq(mkdir(p, 0700), 0);
+    snprintf(p, sizeof p, "%s/catalog/p/%s.yaml", tmp, name);
+    write_file(p, part);
+    snprintf(path, len, "%s/m.yaml", tmp);
+    write_file(path, model);
+    return tmp;
+}
+
+/* Bodies b0 .. b<n-1>, each `{part: p/NAME}`, on lines 3 .. n + 2. */
+static void bodies_naming(char *buf, size_t len, size_t n, const char *name)
+{
+    size_t i, used = (size_t)snprintf(buf, len, "rigmat: 1\nbodies:\n");
+
+    for (i = 0; i < n && used < len; i++)
+        used += (size_t)snprintf(buf + used, len - used, "  b%zu: {part: p/%s}\n", i, name);
+    ck_assert_uint_lt(used, len);
+}
+
+/* The nodes counted by hand: the part "mass: 1 kg\npad: [1, ... 40 ones]"
+ * is a mapping (1), mass and its value (2), pad (1), its list (1) and 40
+ * values: 45.  The model with five bodies: the root (1), rigmat and 1 (2),
+ * bodies (1) and its mapping (1), and per body its name, mapping, `part`
+ * and the part's name (4): 25.  Merged: 25 + 45 k after k bodies, so a
+ * budget of 200 nodes is passed at the fourth body (205), and one of 205
+ * at the fifth. */
+START_TEST(parts_share_a_total_budget)
+{
+    char part[256], model[512], path[512];
+    size_t i, used, limit;
+    char *tmp;
+
+    used = (size_t)snprintf(part, sizeof part, "mass: 1 kg\npad: [1");
+    for (i = 1; i < 40; i++)
+        used += (size_t)snprintf(part + used, sizeof part - used, ", 1");
+    snprintf(part + used, sizeof part - used, "]\n");
+    bodies_naming(model, sizeof model, 5, "slab");
+    tmp = parts_project("slab", part, model, path, sizeof path);
+    {
+        rigmat_options opt = rigmat_options_default();
+        rigmat_diags files, d;
+        rigmat_node *tree = NULL;
+        char p[512];
+        rigmat_diags_init(&files);
+        rigmat_diags_init(&d);
+        snprintf(p, sizeof p, "%s/catalog/p/slab.yaml", tmp);
+        ck_assert_int_eq(rigmat_load_yaml_file(p, &opt, &files, &d, &tree), RIGMAT_OK);
+        ck_assert_uint_eq(rigmat_node_count(tree), 45);
+        rigmat_node_free(tree);
+        ck_assert_int_eq(rigmat_load_yaml_file(path, &opt, &files, &d, &tree), RIGMAT_OK);
+        ck_assert_uint_eq(rigmat_node_count(tree), 25);
+        rigmat_node_free(tree);
+        rigmat_diags_release(&d);
+        rigmat_diags_release(&files);
+    }
+    for (limit = 200; limit <= 205; limit += 5) {
+        rigmat_options opt = rigmat_options_default();
+        rigmat_model *m = NULL;
+        rigmat_diags d;
+        rigmat_diags_init(&d);
+        opt.max_nodes = limit;
+        ck_assert_int_eq(rigmat_model_load(path, NULL, 0, &opt, &m, &d), RIGMAT_EMODEL);
+        ck_assert_ptr_null(m);
+        /* the one error, at the part of the body that crosses the budget:
+         * merging stops there, and nothing after it is read */
+        ck_assert_uint_eq(d.errors, 1);
+        ck_assert_ptr_nonnull(strstr(d.items[0].message, limit == 200 ?
+                "has more than 200 values and collections" :
+                "has more than 205 values and collections"));
+        ck_assert_ptr_nonnull(strstr(d.items[0].hint, "counts in full"));
+        ck_assert_uint_eq(d.items[0].where.line, limit == 200 ? 6 : 7);
+        ck_assert_uint_eq(d.items[0].where.col, 14);
+        rigmat_diags_release(&d);
+    }
+    remove_tree(tmp);
+    free(tmp);
+}
+END_TEST
+
+/* Bytes: the model's text plus the part's text at each use, against
+ * max_file_bytes; a budget of the model and two uses fails at the third. */
+START_TEST(parts_share_a_byte_budget)
+{
+    const char *part = "# a part with a long comment .................................\n"
+                       "mass: 1 kg\n";
+    char model[512], path[512];
+    rigmat_options opt = rigmat_options_default();
+    rigmat_model *m = NULL;
+    rigmat_diags d;
+    char *tmp;
+
+    bodies_naming(model, sizeof model, 4, "wordy");
+    tmp = parts_project("wordy", part, model, path, sizeof path);
+    opt.max_file_bytes = strlen(model) + 2 * strlen(part);
+    rigmat_diags_init(&d);
+    ck_assert_int_eq(rigmat_model_load(path, NULL, 0, &opt, &m, &d), RIGMAT_EMODEL);
+    ck_assert_uint_eq(d.errors, 1);
+    ck_assert_ptr_nonnull(strstr(d.items[0].message, "larger than the limit of"));
+    ck_assert_uint_eq(d.items[0].where.line, 5);
+    rigmat_diags_release(&d);
+    /* one byte more than three uses need: all four cannot fit, the fourth fails */
+    opt.max_file_bytes = strlen(model) + 3 * strlen(part) + 1;
+    rigmat_diags_init(&d);
+    ck_assert_int_eq(rigmat_model_load(path, NULL, 0, &opt, &m, &d), RIGMAT_EMODEL);
+    ck_assert_uint_eq(d.errors, 1);
+    ck_assert_uint_eq(d.items[0].where.line, 6);
+    rigmat_diags_release(&d);
+    remove_tree(tmp);
+    free(tmp);
+}
+END_TEST
+
+/* A section over max_entries is refused before any part is read: the part
+ * named does not exist, and the count is the only error. */
+START_TEST(counts_come_before_parts)
+{
+    char model[512], path[512];
+    rigmat_options opt = rigmat_options_default();
+    rigmat_model *m = NULL;
+    rigmat_diags d;
+    char *tmp;
+
+    bodies_naming(model, sizeof model, 3, "missing");
+    tmp = parts_project("other", "mass: 1 kg\n", model, path, sizeof path);
+    opt.max_entries = 2;
+    rigmat_diags_init(&d);
+    ck_assert_int_eq(rigmat_model_load(path, NULL, 0, &opt, &m, &d), RIGMAT_EMODEL);
+    ck_assert_uint_eq(d.errors, 1);
+    ck_assert_ptr_nonnull(strstr(d.items[0].message, "more than 2 entries in 'bodies'"));
+    ck_assert_uint_eq(d.items[0].where.line, 5);
+    ck_assert_uint_eq(d.items[0].where.col, 3);
+    rigmat_diags_release(&d);
+    remove_tree(tmp);
+    free(tmp);
+}
+END_TEST
+
+/* Each part file is read once per load: a part with a syntax error, named
+ * by three bodies, gets its error once (it was reported three times when
+ * each body read the file again). */
+START_TEST(part_parsed_once)
+{
+    char model[512], path[512];
+    rigmat_model *m = NULL;
+    rigmat_diags d;
+    rigmat_options opt = rigmat_options_default();
+    size_t i, at_part = 0;
+    char *tmp;
+
+    bodies_naming(model, sizeof model, 3, "broken");
+    tmp = parts_project("broken", "mass: [1 kg\n", model, path, sizeof path);
+    rigmat_diags_init(&d);
+    ck_assert_int_eq(rigmat_model_load(path, NULL, 0, &opt, &m, &d), RIGMAT_EMODEL);
+    for (i = 0; i < d.count; i++)
+        if (d.items[i].severity == RIGMAT_ERROR && d.items[i].where.file != NULL &&
+                strstr(d.items[i].where.file, "broken.yaml") != NULL)
+            at_part++;
+    ck_assert_uint_eq(at_part, 1);
+    rigmat_diags_release(&d);
+    remove_tree(tmp);
+    free(tmp);
+}
+END_TEST
+
+/* Twenty bodies sharing one part (one overriding its mass) read as the
+ * same keys written inline. */
+START_TEST(shared_part_matches_inline)
+{
+    const char *rod = "mass: 1 kg\ninertia: 0.01 kg*m^2\ncom: [0.25 m, 0]\n";
+    char shared[4096], inline_[4096], path[512], path2[512];
+    size_t i, u1 = 0, u2 = 0;
+    rigmat_options opt = rigmat_options_default();
+    rigmat_model *a = NULL, *b = NULL;
+    rigmat_diags d;
+    char *tmp;
+
+    u1 += (size_t)snprintf(shared, sizeof shared, "rigmat: 1\nbodies:\n");
+    u2 += (size_t)snprintf(inline_, sizeof inline_, "rigmat: 1\nbodies:\n");
+    for (i = 0; i < 20; i++) {
+        u1 += (size_t)snprintf(shared + u1, sizeof shared - u1, "  l%zu: {part: p/rod%s}\n", i,
+                i == 7 ? ", mass: 2 kg" : "");
+        u2 += (size_t)snprintf(inline_ + u2, sizeof inline_ - u2, "  l%zu: {mass: %s kg, "
+                "inertia: 0.01 kg*m^2, com: [0.25 m, 0]}\n", i, i == 7 ? "2" : "1");
+    }
+    u1 += (size_t)snprintf(shared + u1, sizeof shared - u1, "joints:\n");
+    u2 += (size_t)snprintf(inline_ + u2, sizeof inline_ - u2, "joints:\n");
+    for (i = 0; i < 20; i++) {
+        char j[128], parent[16];
+        if (i == 0)
+            snprintf(parent, sizeof parent, "ground");
+        else
+            snprintf(parent, sizeof parent, "l%zu", i - 1);
+        snprintf(j, sizeof j, "  j%zu: {type: hinge, parent: %s, child: l%zu, at: [%s m, 0]}\n",
+                i, parent, i, i ? "0.5" : "0");
+        u1 += (size_t)snprintf(shared + u1, sizeof shared - u1, "%s", j);
+        u2 += (size_t)snprintf(inline_ + u2, sizeof inline_ - u2, "%s", j);
+    }
+    ck_assert_uint_lt(u1, sizeof shared);
+    ck_assert_uint_lt(u2, sizeof inline_);
+    tmp = parts_project("rod", rod, shared, path, sizeof path);
+    snprintf(path2, sizeof path2, "%s/inline.yaml", tmp);
+    write_file(path2, inline_);
+    rigmat_diags_init(&d);
+    ck_assert_int_eq(rigmat_model_load(path, NULL, 0, &opt, &a, &d), RIGMAT_OK);
+    ck_assert_int_eq(rigmat_model_load(path2, NULL, 0, &opt, &b, &d), RIGMAT_OK);
+    ck_assert_uint_eq(a->nbodies, 21);
+    ck_assert_uint_eq(b->nbodies, 21);
+    for (i = 1; i < a->nbodies; i++) {
+        ck_assert_str_eq(a->bodies[i].name, b->bodies[i].name);
+        ck_assert(a->bodies[i].mass_kg == b->bodies[i].mass_kg);
+        ck_assert(a->bodies[i].inertia_kgm2 == b->bodies[i].inertia_kgm2);
+        ck_assert(a->bodies[i].com_m[0] == b->bodies[i].com_m[0]);
+    }
+    ck_assert(a->bodies[8].mass_kg == 2.0);
+    rigmat_model_free(a);
+    rigmat_model_free(b);
+    rigmat_diags_release(&d);
+    remove_tree(tmp);
+    free(tmp);
+}
+END_TEST
+
 START_TEST(operating_point_and_order_lists)
 {
     rigmat_diags d;
@@ -1014,6 +1246,11 @@ Suite *load_suite(void)
     tcase_add_test(lim, limits_stop_large_input);
     tcase_add_test(lim, duplicates_in_a_large_mapping);
     tcase_add_test(lim, file_limits_and_io_errors);
+    tcase_add_test(lim, parts_share_a_total_budget);
+    tcase_add_test(lim, parts_share_a_byte_budget);
+    tcase_add_test(lim, counts_come_before_parts);
+    tcase_add_test(lim, part_parsed_once);
+    tcase_add_test(lim, shared_part_matches_inline);
     suite_add_tcase(s, lim);
     return s;
 }

@@ -283,6 +283,55 @@ for f in text json; do
         --catalog "$T/empty" --format "$f"
     grep -q 'motors/' "$T/out" && bad "expect empty catalog ($f): parts listed"
 done
+# 2: parts multiplying a file.  One 400 KB part (100008 nodes) named by 256
+# bodies passes the total budget (200000 nodes, as for one file) at the
+# second body; 1100 bodies are refused by their count (1024 entries per
+# section) before any part is read (the only error); a 1.5 MB part named three times passes the 4 MiB
+# at the third.  Before the fix (check, 2-core shared machine): 36 s and
+# 3.3 GiB peak RSS for 256 bodies, 47 s and 3.8 GiB for 300.
+mkdir -p "$T/p/catalog/big"
+awk 'BEGIN { print "# a slab padded with a long list"; print "mass: 1 kg"
+    print "inertia: 0.01 kg*m^2"; printf "pad: ["
+    for (i = 0; i < 100000; i++) printf "0.5,"; print "0.5]" }' >"$T/p/catalog/big/slab.yaml"
+awk 'BEGIN { for (i = 0; i < 24000; i++) printf "# %061d\n", i; print "mass: 1 kg" }' \
+    >"$T/p/catalog/big/wordy.yaml"
+for n in 256 1100; do
+    awk -v N="$n" 'BEGIN { print "rigmat: 1\nbodies:"
+        for (i = 0; i < N; i++) printf "  b%d: {part: big/slab}\n", i }' >"$T/p/bodies-$n.yaml"
+done
+printf 'rigmat: 1\nbodies:\n  a: {part: big/wordy}\n  b: {part: big/wordy}\n  c: {part: big/wordy}\n' \
+    >"$T/p/wordy-3.yaml"
+expect "256 bodies naming a 400 KB part" 1 \
+    "bodies-256.yaml:4:14: error: with its parts merged, the model has more than 200000 values" \
+    "$R" check "$T/p/bodies-256.yaml"
+expect "1100 bodies naming a 400 KB part" 1 "bodies-1100.yaml:1027:3: error: more than 1024 entries" \
+    "$R" linearize "$T/p/bodies-1100.yaml"
+[ "$(grep -c 'error:' "$T/err")" = 1 ] || bad "expect 1100 bodies: more than the count error"
+expect "a 1.5 MB part named three times" 1 \
+    "wordy-3.yaml:5:13: error: with its parts merged, the model is larger than the limit of 4194304" \
+    "$R" check "$T/p/wordy-3.yaml"
+# each part file is parsed once: its syntax error is reported once, not
+# once per body that names it
+printf 'mass: [1 kg\n' >"$T/p/catalog/big/broken.yaml"
+printf 'rigmat: 1\nbodies:\n  a: {part: big/broken}\n  b: {part: big/broken}\n  c: {part: big/broken}\n' \
+    >"$T/p/broken-3.yaml"
+expect "a broken part named three times" 1 "broken.yaml:2:1: error: not valid YAML" \
+    "$R" check "$T/p/broken-3.yaml"
+[ "$(grep -c 'broken.yaml:[0-9:]* error:' "$T/err")" = 1 ] ||
+    bad "expect a broken part named three times: reported more than once"
+# a legitimate model: 20 hinged links share one part (one link overrides
+# its mass) and give the same matrices as the part's keys written inline
+mkdir -p "$T/p/catalog/links" "$T/p/inline"
+printf '# a slender link\nmass: 1 kg\ninertia: 0.01 kg*m^2\ncom: [0.25 m, 0]\n' \
+    >"$T/p/catalog/links/rod.yaml"
+links='print "rigmat: 1\nbodies:"; for (i = 0; i < 20; i++) printf "  l%d: {%s%s}\n", i, ROD, i == 7 ? ", mass: 2 kg" : ""; print "joints:"; p = "ground"; for (i = 0; i < 20; i++) { printf "  j%d: {type: hinge, parent: %s, child: l%d, at: %s}\n", i, p, i, i ? "[0.5 m, 0]" : "[0, 0]"; p = "l" i }'
+awk "BEGIN { ROD = \"part: links/rod\"; $links }" >"$T/p/links-20.yaml"
+awk "BEGIN { ROD = \"inertia: 0.01 kg*m^2, com: [0.25 m, 0], mass: 1 kg\"; $links }" |
+    sed 's/mass: 1 kg, mass: 2 kg/mass: 2 kg/' >"$T/p/inline/links-20.yaml"
+expect "20 links sharing a part" 0 "" "$R" linearize "$T/p/links-20.yaml" --format json
+cp "$T/out" "$T/p/shared.json"
+expect "20 links written inline" 0 "" "$R" linearize "$T/p/inline/links-20.yaml" --format json
+cmp -s "$T/out" "$T/p/shared.json" || bad "expect 20 links sharing a part: matrices differ from inline"
 # 3: CR-only line endings: linear time, and the right line
 gen cr-only-3mb.yaml 'printf "rigmat: 1\rbodies:\r"; for (i = 0; i < 140000; i++) printf "  b%d: {mass: 1 kg}\r", i'
 expect "CR-only 3 MB" 1 "cr-only-3mb.yaml:50001:" "$R" check "$G/cr-only-3mb.yaml"

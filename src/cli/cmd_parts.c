@@ -319,7 +319,7 @@ static rigmat_status show_part(struct cli_env *env, const char *name, const stru
     }
     if (rigmat_node_map_add(root, "motors", at, sec) != RIGMAT_OK)
         goto done;
-    st = rigmat_load_parts(root, NULL, &env->opt, &files, &d);
+    st = rigmat_load_parts(root, NULL, 0, &env->opt, &files, &d, NULL);
     rigmat_diags_print(&d, env->err);
     if (st != RIGMAT_OK)
         goto done;

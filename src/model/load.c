@@ -656,6 +656,56 @@ static int valid_name(const char *s)
     return 1;
 }
 
+/* The entry count of section `key` (a mapping) against max_entries, and
+ * for joints max_joints: 1 within them, 0 with the error reported at the
+ * first entry past the limit. */
+static int count_within(struct ld *L, const rigmat_node *sec, const char *key)
+{
+    if (sec->n > L->opt->max_entries) {
+        lerr(L, NULL, sec->entries[L->opt->max_entries].key_loc,
+                "a mechanism needs far fewer; split the model, or raise max_entries if this "
+                "one is real (README.md, Limits)",
+                "more than %zu entries in '%s'", L->opt->max_entries, key);
+        return 0;
+    }
+    if (strcmp(key, "joints") == 0 && sec->n > L->opt->max_joints) {
+        lerr(L, NULL, sec->entries[L->opt->max_joints].key_loc,
+                "linearizing costs grow as the square of the joint count; a model this "
+                "large would take minutes, so it is refused (README.md, limits)",
+                "more than %zu joints: at most %zu, so that every command finishes within "
+                "seconds", L->opt->max_joints, L->opt->max_joints);
+        return 0;
+    }
+    return 1;
+}
+
+/* The sections whose entries are counted (and may name catalog parts). */
+static const char *const entry_sections[] = { "bodies", "joints", "springs", "dampers",
+    "motors", "forces", "sensors" };
+
+rigmat_status rigmat_load_counts(const rigmat_node *root, const rigmat_options *opt,
+        rigmat_diags *d)
+{
+    struct ld L;
+    size_t s;
+    int ok = 1;
+
+    memset(&L, 0, sizeof L);
+    L.d = d;
+    L.opt = opt;
+    if (root == NULL || root->type != RIGMAT_NODE_MAP)
+        return RIGMAT_OK;
+    for (s = 0; s < sizeof entry_sections / sizeof entry_sections[0]; s++) {
+        const rigmat_entry *sec = rigmat_node_get(root, entry_sections[s]);
+        if (sec != NULL && sec->value->type == RIGMAT_NODE_MAP &&
+                !count_within(&L, sec->value, entry_sections[s]))
+            ok = 0;
+    }
+    if (L.nomem)
+        return RIGMAT_ENOMEM;
+    return ok ? RIGMAT_OK : RIGMAT_EMODEL;
+}
+
 /* The entries of a section: a mapping of name: mapping.  Returns the
  * section node (NULL when absent, empty or wrong). */
 static const rigmat_node *section(struct ld *L, const rigmat_node *root, const char *key)
@@ -670,19 +720,8 @@ static const rigmat_node *section(struct ld *L, const rigmat_node *root, const c
                 rigmat_node_type_words(s->value->type));
         return NULL;
     }
-    if (s->value->n > L->opt->max_entries) {
-        lerr(L, NULL, s->value->entries[L->opt->max_entries].key_loc, NULL,
-                "more than %zu entries in '%s'", L->opt->max_entries, key);
+    if (!count_within(L, s->value, key))
         return NULL;
-    }
-    if (strcmp(key, "joints") == 0 && s->value->n > L->opt->max_joints) {
-        lerr(L, NULL, s->value->entries[L->opt->max_joints].key_loc,
-                "linearizing costs grow as the square of the joint count; a model this "
-                "large would take minutes, so it is refused (README.md, limits)",
-                "more than %zu joints: at most %zu, so that every command finishes within "
-                "seconds", L->opt->max_joints, L->opt->max_joints);
-        return NULL;
-    }
     return s->value;
 }
 
@@ -2457,6 +2496,8 @@ rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_
     rigmat_node *root = NULL;
     rigmat_status st, st2;
     const size_t before = diags->errors;
+    size_t bytes = 0;
+    int stop = 0;
     struct ld L;
 
     *out = NULL;
@@ -2474,17 +2515,24 @@ rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_
         return RIGMAT_ENOMEM;
     }
     rigmat_diags_init(m->owner_diags);
-    st = rigmat_load_yaml_file(path, opt, m->owner_diags, diags, &root);
+    st = rigmat_load_yaml_file_sized(path, opt, m->owner_diags, diags, &root, &bytes);
     if (st == RIGMAT_EIO || st == RIGMAT_ENOMEM || (st != RIGMAT_OK && root == NULL)) {
         rigmat_node_free(root);
         rigmat_model_free(m);
         return st;
     }
-    /* Keep going after duplicate keys: more errors are worth reporting. */
-    st2 = rigmat_load_parts(root, path, opt, m->owner_diags, diags);
-    if (st2 != RIGMAT_ENOMEM)
+    /* Entry counts before any part is read: 300 bodies that each name a
+     * large part are refused at once (issue 10).  Keep going after
+     * duplicate keys: more errors are worth reporting; not after a count
+     * or the parts' total budget, which leave nothing worth reading. */
+    st2 = rigmat_load_counts(root, opt, diags);
+    if (st2 == RIGMAT_OK)
+        st2 = rigmat_load_parts(root, path, bytes, opt, m->owner_diags, diags, &stop);
+    else
+        stop = 1;
+    if (st2 != RIGMAT_ENOMEM && !stop)
         st2 = rigmat_load_sets(root, sets, nsets, opt, m->owner_diags, diags);
-    if (st2 != RIGMAT_ENOMEM)
+    if (st2 != RIGMAT_ENOMEM && !stop)
         st2 = rigmat_load_schema(root, m, opt, diags);
     rigmat_node_free(root);
     if (st2 == RIGMAT_ENOMEM) {

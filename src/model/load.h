@@ -60,6 +60,15 @@ rigmat_status rigmat_load_yaml_text(const char *text, size_t len, const char *fi
 rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
         rigmat_diags *files, rigmat_diags *d, rigmat_node **out);
 
+/* The same, and *bytes (when not NULL) the length of the text read, for the
+ * total budget of a model with its parts (load_part.c). */
+rigmat_status rigmat_load_yaml_file_sized(const char *path, const rigmat_options *opt,
+        rigmat_diags *files, rigmat_diags *d, rigmat_node **out, size_t *bytes);
+
+/* Scalars, collections and keys in a tree, counted as the parser counts
+ * them against opt->max_nodes (a key is one more node). */
+size_t rigmat_node_count(const rigmat_node *n);
+
 /* Free a tree; NULL does nothing. */
 void rigmat_node_free(rigmat_node *n);
 
@@ -84,10 +93,26 @@ const char *rigmat_node_type_words(rigmat_node_type t);
  * the distance is cap or more); for "did you mean" hints. */
 size_t rigmat_load_distance(const char *a, const char *b, size_t cap);
 
+/* Check the entry count of every section (bodies, joints, ...) against
+ * opt->max_entries and, for joints, opt->max_joints (load.c).  Run before
+ * the parts are merged, so that no part is read for a model that is
+ * refused anyway.  RIGMAT_OK, RIGMAT_EMODEL (reported) or RIGMAT_ENOMEM. */
+rigmat_status rigmat_load_counts(const rigmat_node *root, const rigmat_options *opt,
+        rigmat_diags *d);
+
 /* Replace every `part:` entry of the model's sections with the merged part
- * (load_part.c).  model_path is the model file (its folder is searched). */
-rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path,
-        const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d);
+ * (load_part.c).  model_path is the model file (its folder is searched);
+ * model_bytes its length.  Each part file is read and parsed once per call,
+ * however many entries name it.  The model with its parts merged has the
+ * budget of one file: opt->max_file_bytes and opt->max_nodes, where a part
+ * counts in full each time an entry (or another part) names it.  The entry
+ * that would pass the budget gets the error, and merging stops there with
+ * *stop set (when stop is not NULL): the tree is then half merged and
+ * worth no further reading.  RIGMAT_OK, RIGMAT_EMODEL (an entry's part
+ * could not be merged: the entry is marked broken, the error reported) or
+ * RIGMAT_ENOMEM. */
+rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path, size_t model_bytes,
+        const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d, int *stop);
 
 /* Resolve a part name to a file path (malloc'd, caller frees) by the
  * lookup order documented in load_part.c.  model_path may be NULL (no

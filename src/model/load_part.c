@@ -31,6 +31,7 @@
 /* realpath() is an XSI function, outside _POSIX_C_SOURCE alone */
 #define _XOPEN_SOURCE 700
 #include "load.h"
+#include "sizes.h"
 
 #include <limits.h>
 #include <stdlib.h>
@@ -283,6 +284,28 @@ struct chain {
     const struct chain *up;
 };
 
+/* A part file read during this merge: parsed once, copied for each entry
+ * that names it. */
+struct cached {
+    char *real;         /* resolved path: the key */
+    rigmat_node *tree;  /* as parsed (its own `part:` not merged); NULL when it failed */
+    size_t bytes, nodes;
+};
+
+/* One merge: the cache of part files and the running total of the model
+ * with its parts merged.  Lives on the caller's stack: no global state, so
+ * loads on separate threads stay independent. */
+struct merge {
+    const char *model_path;
+    const rigmat_options *opt;
+    rigmat_diags *files, *d;
+    struct cached *parts;
+    size_t nparts, cap;
+    size_t bytes, nodes; /* the model so far: within opt's file limits */
+    rigmat_loc top;      /* the `part:` of the model's entry being merged */
+    int over;            /* the budget is spent: stop merging */
+};
+
 static const rigmat_loc no_loc = { NULL, 0, 0 };
 
 static rigmat_status part_error(rigmat_diags *d, rigmat_loc where, const rigmat_error *e)
@@ -292,61 +315,158 @@ static rigmat_status part_error(rigmat_diags *d, rigmat_loc where, const rigmat_
     return st == RIGMAT_OK ? RIGMAT_EMODEL : st;
 }
 
+/* The part file at path (resolved: real), read and parsed on its first use
+ * only.  A file that failed is remembered as failed, so its errors are
+ * reported once.  *out is NULL with RIGMAT_ENOMEM. */
+static rigmat_status cache_get(struct merge *g, const char *path, const char *real,
+        rigmat_loc named_at, const struct cached **out)
+{
+    struct cached *c;
+    rigmat_node *tree = NULL;
+    size_t i, bytes = 0;
+    rigmat_status st;
+
+    *out = NULL;
+    for (i = 0; i < g->nparts; i++)
+        if (strcmp(g->parts[i].real, real) == 0) {
+            *out = &g->parts[i];
+            return RIGMAT_OK;
+        }
+    if (g->nparts == g->cap) {
+        const size_t cap = g->cap ? 2 * g->cap : 8;
+        size_t sz;
+        void *p;
+        if (rigmat_size_mul(cap, sizeof *g->parts, &sz) != 0 ||
+                (p = realloc(g->parts, sz)) == NULL)
+            return RIGMAT_ENOMEM;
+        g->parts = p;
+        g->cap = cap;
+    }
+    st = rigmat_load_yaml_file_sized(path, g->opt, g->files, g->d, &tree, &bytes);
+    if (st == RIGMAT_ENOMEM)
+        return st;
+    if (st == RIGMAT_OK && (tree == NULL || tree->type != RIGMAT_NODE_MAP)) {
+        const rigmat_loc at = { rigmat_diags_file(g->files, path), 1, 1 };
+        if (rigmat_diags_add(g->d, RIGMAT_ERROR, tree ? tree->loc : at, named_at, "this part",
+                    "a part file is a mapping of the entry's keys, e.g. 'mass: 0.31 kg'",
+                    "a part file must be a mapping") == RIGMAT_ENOMEM) {
+            rigmat_node_free(tree);
+            return RIGMAT_ENOMEM;
+        }
+        st = RIGMAT_EMODEL;
+    }
+    if (st != RIGMAT_OK) {
+        rigmat_node_free(tree);
+        tree = NULL;
+    }
+    c = &g->parts[g->nparts];
+    c->real = malloc(strlen(real) + 1);
+    if (c->real == NULL) {
+        rigmat_node_free(tree);
+        return RIGMAT_ENOMEM;
+    }
+    memcpy(c->real, real, strlen(real) + 1);
+    c->tree = tree;
+    c->bytes = bytes;
+    c->nodes = rigmat_node_count(tree);
+    g->nparts++;
+    *out = c;
+    return RIGMAT_OK;
+}
+
+/* Charge one use of part c (named `name`) to the total budget: 1 when it
+ * fits, 0 with the error reported at the model's entry (g->top) and
+ * g->over set, -1 when out of memory while reporting it. */
+static int charge(struct merge *g, const struct cached *c, const char *name)
+{
+    const rigmat_options *o = g->opt;
+    char hint[320];
+    rigmat_status st;
+
+    /* g->bytes <= max_file_bytes and g->nodes <= max_nodes hold here, so
+     * the differences below cannot wrap */
+    if (c->bytes <= o->max_file_bytes - g->bytes && c->nodes <= o->max_nodes - g->nodes) {
+        g->bytes += c->bytes;
+        g->nodes += c->nodes;
+        return 1;
+    }
+    g->over = 1;
+    snprintf(hint, sizeof hint, "part '%.120s' (%zu bytes, %zu values and collections) counts "
+            "in full for every entry that names it; the model with its parts merged has the "
+            "limits of one file (README.md, Limits)", name, c->bytes, c->nodes);
+    if (c->bytes > o->max_file_bytes - g->bytes)
+        st = rigmat_diags_add(g->d, RIGMAT_ERROR, g->top, no_loc, NULL, hint,
+                "with its parts merged, the model is larger than the limit of %zu bytes",
+                o->max_file_bytes);
+    else
+        st = rigmat_diags_add(g->d, RIGMAT_ERROR, g->top, no_loc, NULL, hint,
+                "with its parts merged, the model has more than %zu values and collections",
+                o->max_nodes);
+    return st == RIGMAT_ENOMEM ? -1 : 0;
+}
+
 /* Merge the part named in entry map `m` into it.  depth counts the parts
  * above this one (1 for a part named by the model). */
-static rigmat_status resolve(rigmat_node *m, size_t depth, const struct chain *up,
-        const char *model_path, const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d)
+static rigmat_status resolve(struct merge *g, rigmat_node *m, size_t depth,
+        const struct chain *up)
 {
     rigmat_entry *pe = rigmat_node_get(m, "part");
+    const struct cached *c = NULL;
     rigmat_node *tree = NULL;
     rigmat_error e;
     struct chain here;
-    const struct chain *c;
+    const struct chain *k;
     char *path = NULL;
     rigmat_status st;
     size_t i;
+    int fits;
 
     memset(&e, 0, sizeof e);
     if (pe->value->type != RIGMAT_NODE_SCALAR) {
-        rigmat_diags_add(d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL,
+        rigmat_diags_add(g->d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL,
                 "write the part's name, e.g. part: motors/gearmotor-24v-27",
                 "expected a part name, got %s", rigmat_node_type_words(pe->value->type));
         return RIGMAT_EMODEL;
     }
-    if (depth > opt->max_part_depth) {
-        rigmat_diags_add(d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL,
+    if (depth > g->opt->max_part_depth) {
+        rigmat_diags_add(g->d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL,
                 "a part may build on another, but not this deep",
-                "parts nest deeper than %zu levels", opt->max_part_depth);
+                "parts nest deeper than %zu levels", g->opt->max_part_depth);
         return RIGMAT_EMODEL;
     }
-    st = rigmat_load_part_path(pe->value->text, model_path, opt, &path, &e);
+    st = rigmat_load_part_path(pe->value->text, g->model_path, g->opt, &path, &e);
     if (st != RIGMAT_OK)
-        return st == RIGMAT_ENOMEM ? st : part_error(d, pe->value->loc, &e);
+        return st == RIGMAT_ENOMEM ? st : part_error(g->d, pe->value->loc, &e);
     if (realpath(path, here.real) == NULL) {
         free(path);
-        rigmat_diags_add(d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL, NULL,
+        rigmat_diags_add(g->d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL, NULL,
                 "part '%s' cannot be read", pe->value->text);
         return RIGMAT_EMODEL;
     }
     here.up = up;
-    for (c = up; c != NULL; c = c->up)
-        if (strcmp(c->real, here.real) == 0) {
+    for (k = up; k != NULL; k = k->up)
+        if (strcmp(k->real, here.real) == 0) {
             free(path);
-            rigmat_diags_add(d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL,
+            rigmat_diags_add(g->d, RIGMAT_ERROR, pe->value->loc, no_loc, NULL,
                     "a part may not build on itself", "part '%s' includes itself",
                     pe->value->text);
             return RIGMAT_EMODEL;
         }
-    st = rigmat_load_yaml_file(path, opt, files, d, &tree);
-    if (st == RIGMAT_OK && (tree == NULL || tree->type != RIGMAT_NODE_MAP)) {
-        const rigmat_loc at = { rigmat_diags_file(files, path), 1, 1 };
-        st = rigmat_diags_add(d, RIGMAT_ERROR, tree ? tree->loc : at, pe->value->loc,
-                "this part", "a part file is a mapping of the entry's keys, e.g. 'mass: 0.31 kg'",
-                "a part file must be a mapping") == RIGMAT_ENOMEM ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
-    }
+    st = cache_get(g, path, here.real, pe->value->loc, &c);
     free(path);
-    if (st == RIGMAT_OK && rigmat_node_get(tree, "part") != NULL)
-        st = resolve(tree, depth + 1, &here, model_path, opt, files, d);
+    if (st != RIGMAT_OK)
+        return st;
+    if (c->tree == NULL)
+        return RIGMAT_EMODEL; /* reported when it was read */
+    fits = charge(g, c, pe->value->text);
+    if (fits != 1)
+        return fits < 0 ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
+    tree = rigmat_node_copy(c->tree);
+    c = NULL; /* the nested merge below may move the cache */
+    if (tree == NULL)
+        return RIGMAT_ENOMEM;
+    if (rigmat_node_get(tree, "part") != NULL)
+        st = resolve(g, tree, depth + 1, &here);
     if (st != RIGMAT_OK) {
         rigmat_node_free(tree);
         return st == RIGMAT_EIO ? RIGMAT_EMODEL : st;
@@ -363,31 +483,56 @@ static rigmat_status resolve(rigmat_node *m, size_t depth, const struct chain *u
     return st;
 }
 
-rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path,
-        const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d)
+rigmat_status rigmat_load_parts(rigmat_node *root, const char *model_path, size_t model_bytes,
+        const rigmat_options *opt, rigmat_diags *files, rigmat_diags *d, int *stop)
 {
     rigmat_status worst = RIGMAT_OK;
+    struct merge g;
     size_t s, i;
 
+    if (stop != NULL)
+        *stop = 0;
     if (root == NULL || root->type != RIGMAT_NODE_MAP)
         return RIGMAT_OK;
-    for (s = 0; s < sizeof part_sections / sizeof part_sections[0]; s++) {
+    memset(&g, 0, sizeof g);
+    g.model_path = model_path;
+    g.opt = opt;
+    g.files = files;
+    g.d = d;
+    /* the model file itself, already within these limits */
+    g.bytes = model_bytes < opt->max_file_bytes ? model_bytes : opt->max_file_bytes;
+    g.nodes = rigmat_node_count(root);
+    if (g.nodes > opt->max_nodes)
+        g.nodes = opt->max_nodes;
+    for (s = 0; s < sizeof part_sections / sizeof part_sections[0] && !g.over; s++) {
         const rigmat_entry *sec = rigmat_node_get(root, part_sections[s]);
         if (sec == NULL || sec->value->type != RIGMAT_NODE_MAP)
             continue;
-        for (i = 0; i < sec->value->n; i++) {
+        for (i = 0; i < sec->value->n && !g.over; i++) {
             rigmat_node *m = sec->value->entries[i].value;
             rigmat_status st;
             if (m->type != RIGMAT_NODE_MAP || rigmat_node_get(m, "part") == NULL)
                 continue;
-            st = resolve(m, 1, NULL, model_path, opt, files, d);
-            if (st == RIGMAT_ENOMEM)
-                return st;
+            g.top = rigmat_node_get(m, "part")->value->loc;
+            st = resolve(&g, m, 1, NULL);
+            if (st == RIGMAT_ENOMEM) {
+                worst = st;
+                break;
+            }
             if (st != RIGMAT_OK) {
                 m->broken = 1;
                 worst = RIGMAT_EMODEL;
             }
         }
+        if (worst == RIGMAT_ENOMEM)
+            break;
     }
+    for (i = 0; i < g.nparts; i++) {
+        free(g.parts[i].real);
+        rigmat_node_free(g.parts[i].tree);
+    }
+    free(g.parts);
+    if (stop != NULL && g.over)
+        *stop = 1;
     return worst;
 }

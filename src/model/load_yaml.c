@@ -295,6 +295,22 @@ fail:
     return NULL;
 }
 
+/* Recursion depth is that of the tree, bounded as above. */
+size_t rigmat_node_count(const rigmat_node *n)
+{
+    size_t i, c = 1;
+
+    if (n == NULL)
+        return 0;
+    for (i = 0; i < n->n; i++) {
+        if (n->type == RIGMAT_NODE_SEQ)
+            c += rigmat_node_count(n->items[i]);
+        else if (n->type == RIGMAT_NODE_MAP)
+            c += 1 + rigmat_node_count(n->entries[i].value);
+    }
+    return c;
+}
+
 rigmat_entry *rigmat_node_get(const rigmat_node *n, const char *key)
 {
     size_t i;
@@ -651,6 +667,12 @@ rigmat_status rigmat_load_yaml_text(const char *text, size_t len, const char *fi
 rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
         rigmat_diags *files, rigmat_diags *d, rigmat_node **out)
 {
+    return rigmat_load_yaml_file_sized(path, opt, files, d, out, NULL);
+}
+
+rigmat_status rigmat_load_yaml_file_sized(const char *path, const rigmat_options *opt,
+        rigmat_diags *files, rigmat_diags *d, rigmat_node **out, size_t *bytes)
+{
     const rigmat_loc at = { path, 0, 0 };
     char why[RIGMAT_STRERROR_LEN];
     struct stat sb;
@@ -660,6 +682,8 @@ rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
     rigmat_status st;
 
     *out = NULL;
+    if (bytes != NULL)
+        *bytes = 0;
     if (stat(path, &sb) != 0) {
         rigmat_diags_add(d, RIGMAT_ERROR, at, no_loc, NULL, NULL, "cannot read the model: %s",
                 rigmat_strerror(errno, why, sizeof why));
@@ -718,6 +742,8 @@ rigmat_status rigmat_load_yaml_file(const char *path, const rigmat_options *opt,
         free(buf);
         return RIGMAT_EMODEL;
     }
+    if (bytes != NULL)
+        *bytes = len;
     st = rigmat_load_yaml_text(buf, len, path, 1, 1, opt, files, d, out);
     free(buf);
     return st;

@@ -132,9 +132,11 @@ const char *rigmat_diags_file(rigmat_diags *d, const char *name);
 /* Limits and tolerances travel here; no globals.  rigmat_options_default()
  * gives the documented defaults. */
 typedef struct rigmat_options {
-    size_t max_file_bytes;  /* default 4 MiB */
+    size_t max_file_bytes;  /* default 4 MiB; per file, and for a model with its parts merged
+                             * (each part counted at each use; README.md) */
     size_t max_depth;       /* YAML nesting depth, default 32 */
-    size_t max_nodes;       /* YAML scalars + collections per file, default 200000 */
+    size_t max_nodes;       /* YAML scalars + collections per file, and for a model with its
+                             * parts merged, as max_file_bytes; default 200000 */
     size_t max_entries;     /* entries per section (bodies, joints, ...), default 1024 */
     size_t max_errors;      /* diagnostics reported before giving up, default 50 */
     size_t max_part_depth;  /* catalog parts may not nest deeper, default 4 */

@@ -23,7 +23,12 @@
  * numerics.  A second form keeps the structure and mutates values: an
  * input whose first line is `#base NAME` loads NAME from the examples
  * folder ($RIGMAT_FUZZ_EXAMPLES, default examples/) and applies each later
- * line as a --set override (`bodies.chassis.mass=1e-300kg`).
+ * line as a --set override (`bodies.chassis.mass=1e-300kg`).  A line
+ * `#delay D` there sets the input delay of the sampled model to D samples
+ * (strtod: huge, negative, NaN and fractional delays reach the checks of
+ * rigmat_discretize); the harness lowers max_states to 64 so that an
+ * accepted delay stays fast under the sanitizers, and the refusal above it
+ * is the same code as above the default limit.
  */
 #include "fuzz.h"
 #include "rigmat_internal.h"
@@ -94,7 +99,7 @@ static void require_covariance(const gsl_matrix *a, size_t n, const char *what)
     }
 }
 
-static void sample(const rigmat_lti *s)
+static void sample(const rigmat_lti *s, double delay)
 {
     rigmat_discretize_opts o = rigmat_discretize_opts_default();
     rigmat_discretize_ws *w = rigmat_discretize_ws_alloc(s->nx, s->nu, s->ny);
@@ -112,6 +117,8 @@ static void sample(const rigmat_lti *s)
         return;
     memset(&e, 0, sizeof e);
     o.period_s = 0.01; /* 100 Hz */
+    o.delay_samples = delay;
+    o.max_states = 64;
     st = rigmat_discretize(s, &o, w, &d, &e);
     FUZZ_REQUIRE(st == RIGMAT_OK || st == RIGMAT_EUSAGE || st == RIGMAT_ENUMERIC ||
                          st == RIGMAT_ENOMEM,
@@ -276,7 +283,7 @@ static void export_all(const rigmat_model *m, const rigmat_lti *s)
     rigmat_result_free(r);
 }
 
-static void linearize(const rigmat_model *m, const rigmat_options *opt)
+static void linearize(const rigmat_model *m, const rigmat_options *opt, double delay)
 {
     rigmat_lti *s = NULL;
     rigmat_diags warnings;
@@ -304,7 +311,7 @@ static void linearize(const rigmat_model *m, const rigmat_options *opt)
         require_finite_v(s->f0, s->nx, "f0");
         export_all(m, s);
         if (s->nx > 0)
-            sample(s);
+            sample(s, delay);
 #ifdef HAVE_MODES
         study(s);
 #endif
@@ -316,15 +323,17 @@ static void linearize(const rigmat_model *m, const rigmat_options *opt)
 }
 #endif
 
-/* The `#base NAME` form: the example's path (malloc'd) and the override
- * lines, cut in place in text; NULL when the input is a plain model. */
-static char *take_base(char *text, char **sets, size_t *nsets)
+/* The `#base NAME` form: the example's path (malloc'd), the override
+ * lines, cut in place in text, and the `#delay D` line's D (0 without
+ * one); NULL when the input is a plain model. */
+static char *take_base(char *text, char **sets, size_t *nsets, double *delay)
 {
     const char *dir = getenv("RIGMAT_FUZZ_EXAMPLES");
     char *name, *p, *path;
     size_t n;
 
     *nsets = 0;
+    *delay = 0.0;
     if (strncmp(text, "#base ", 6) != 0)
         return NULL;
     name = text + 6;
@@ -337,7 +346,9 @@ static char *take_base(char *text, char **sets, size_t *nsets)
         char *end = strchr(p, '\n');
         if (end != NULL)
             *end++ = '\0';
-        if (*p != '\0')
+        if (strncmp(p, "#delay ", 7) == 0)
+            *delay = strtod(p + 7, NULL);
+        else if (*p != '\0')
             sets[(*nsets)++] = p;
         p = end;
     }
@@ -359,13 +370,14 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     char *text, *base;
     char *sets[MAX_SETS];
     size_t nsets = 0;
+    double delay = 0.0;
 
     if (setup() != 0)
         abort();
     text = fuzz_text(data, size);
     if (text == NULL)
         return 0;
-    base = take_base(text, sets, &nsets);
+    base = take_base(text, sets, &nsets, &delay);
     if (base == NULL && fuzz_model_write(data, size) != 0)
         abort();
     opt = rigmat_options_default();
@@ -381,7 +393,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
                      "check_equations status %d", (int)st);
         if (st == RIGMAT_EMODEL)
             FUZZ_REQUIRE(d.errors > 0, "equations refused without an error");
-        linearize(m, &opt);
+        linearize(m, &opt, delay);
 #endif
         rigmat_model_free(m);
     }

@@ -29,6 +29,9 @@ sh tests/fuzz/seeds.sh "$t" "$seeds" || exit 2
 RIGMAT_CATALOG=$(pwd)/catalog
 export RIGMAT_CATALOG
 out=$b/last-$t.log
+# the commit fuzzed is the one checked out when the run starts
+rev=$(git rev-parse --short HEAD 2>/dev/null || echo unknown)
+if [ -n "$(git status --porcelain -- src 2>/dev/null)" ]; then rev="$rev+wip"; fi
 before=$(find "$art" -type f | wc -l)
 touch "$b/start-$t"
 start=$(date +%s)
@@ -64,9 +67,9 @@ if [ "$rc" != 0 ]; then
     tail -n 40 "$out" | sed 's/^/  | /' >&2
 fi
 
-if [ -n "$log" ]; then
-    rev=$(git rev-parse --short HEAD 2>/dev/null || echo unknown)
-    if [ -n "$(git status --porcelain -- src 2>/dev/null)" ]; then rev="$rev+wip"; fi
+# Two targets may be fuzzed at once (one run.sh each): the log is updated
+# under a lock (flock, util-linux, when present) so no row is lost.
+update_log() {
     row="| $(date -u '+%Y-%m-%d %H:%M') | $t | $rev | $wall | $cpu | $execs | $crashes | $ncorpus |"
     printf '%s\n' "$row" >>"$log"
     # Recompute the totals block from every row of the runs table.
@@ -91,6 +94,13 @@ if [ -n "$log" ]; then
                         printf "| %s | %d | %.0f | %.2f | %.0f | %d |\n", u, runs[u], cpu[u], cpu[u] / 3600, ex[u], cr[u] }
                 }
             }
-        }' "$log" >"$log.tmp" && mv "$log.tmp" "$log"
+        }' "$log" >"$log.tmp.$$" && mv "$log.tmp.$$" "$log"
+}
+if [ -n "$log" ]; then
+    if command -v flock >/dev/null 2>&1; then
+        (flock 9 && update_log) 9>>"$b/log.lock"
+    else
+        update_log
+    fi
 fi
 exit "$rc"

@@ -26,6 +26,11 @@ load | pipeline)
         [ -f "$f" ] || continue
         cp "$f" "$dir/$(printf '%s' "$f" | tr '/' '_')"
     done
+    # one part named by many entries (parsed once, counted at each use)
+    awk 'BEGIN { print "rigmat: 1\nbodies:"; for (i = 0; i < 8; i++) printf "  w%d: {part: wheels/wheel-65mm}\n", i
+        print "joints:"; for (i = 0; i < 8; i++) printf "  r%d: {type: rolling, parent: ground, child: w%d, radius: 32.5 mm}\n", i, i }' \
+        >"$dir/shared-part.yaml"
+    printf 'rigmat: 1\rbodies:\r  w: {part: wheels/wheel-65mm}\r  v: {part: wheels/wheel-65mm}\r' >"$dir/shared-part-cr.yaml"
     [ "$t" = pipeline ] || exit 0
     for f in examples/*.yaml; do
         [ -f "$f" ] || continue
@@ -40,7 +45,8 @@ load | pipeline)
                 if (sec == "motors") { seed("motors." name ".resistance=1e-300ohm"); seed("motors." name ".gear_ratio=1e300") }
                 if (sec == "sensors") seed("sensors." name ".gain=-1e308")
             }
-            END { seed("gravity=1e300m/s^2"); seed("slope=89.999999deg") }' "$f"
+            END { seed("gravity=1e300m/s^2"); seed("slope=89.999999deg")
+                seed("#delay 2.5"); seed("#delay 536870911"); seed("#delay 1e9") }' "$f"
     done
     ;;
 *)
