@@ -235,6 +235,10 @@ for f in text json; do
     expect "modes --rate 1e-300Hz ($f)" 3 "not finite" \
         "$R" modes "$B" --rate 1e-300Hz --format "$f"
 done
+# a sensor gain near the double range overflows the DC gain of the four-bar
+# (found by the pipeline fuzzer): refused, never printed as inf
+expect "modes, DC gain beyond the double range" 3 "DC gain from input 1 to output 1 is beyond" \
+    "$R" modes examples/fourbar.yaml --set sensors.crank_enc.gain=-1e308
 expect "check --rate 1e300Hz" 0 "" "$R" check "$B" --rate 1e300Hz
 grep -qiw 'inf\|nan' "$T/out" && bad "expect check --rate 1e300Hz: inf or nan printed"
 expect "--period 1e-320s" 2 "out of range" "$R" discretize "$B" --period 1e-320s
