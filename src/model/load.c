@@ -2207,31 +2207,45 @@ static void read_operating_point(struct ld *L, const rigmat_node *root)
 static const char *const closure_words[] = { "hinge", "slider" };
 static const char *const closure_keys[] = { "type", "bodies", "at", "axis" };
 
+/* The body above b along its joint; RIGMAT_NONE at the ground, for a body
+ * without a joint, or for a parent that did not resolve (an error already
+ * reported: the marking below must not index with it). */
+static size_t body_above(const rigmat_model *m, size_t b)
+{
+    size_t p;
+
+    if (b == 0 || b >= m->nbodies || m->bodies[b].joint == RIGMAT_NONE ||
+            m->bodies[b].joint >= m->njoints)
+        return RIGMAT_NONE;
+    p = m->joints[m->bodies[b].joint].parent;
+    return p < m->nbodies ? p : RIGMAT_NONE;
+}
+
 /* Mark the coordinates on the tree paths from each closure's two bodies
  * up to their nearest common ancestor: the joints of the loop. */
 static void mark_loop(struct ld *L, const rigmat_closure *cl, int mark)
 {
     rigmat_model *m = L->m;
-    size_t a = cl->body[0], b = cl->body[1], steps = 0;
-    unsigned char *up = alloc_array(L, m->nbodies, 1);
+    size_t a, b, steps;
+    unsigned char *up;
 
+    if (cl->body[0] >= m->nbodies || cl->body[1] >= m->nbodies)
+        return;
+    up = alloc_array(L, m->nbodies, 1);
     if (up == NULL)
         return;
     /* the bodies above a (a included) */
-    for (a = cl->body[0]; steps++ <= m->nbodies; ) {
+    for (a = cl->body[0], steps = 0; a != RIGMAT_NONE && steps++ <= m->nbodies;
+            a = body_above(m, a))
         up[a] = 1;
-        if (a == 0 || m->bodies[a].joint == RIGMAT_NONE)
-            break;
-        a = m->joints[m->bodies[a].joint].parent;
-    }
     /* climb from b to the first body above a: the common ancestor */
-    for (steps = 0; !up[b] && b != 0 && m->bodies[b].joint != RIGMAT_NONE &&
-            steps++ <= m->nbodies; b = m->joints[m->bodies[b].joint].parent)
-        if (!m->joints[m->bodies[b].joint].in_loop)
+    for (b = cl->body[1], steps = 0; b != RIGMAT_NONE && !up[b] && steps++ <= m->nbodies;
+            b = body_above(m, b))
+        if (body_above(m, b) != RIGMAT_NONE && !m->joints[m->bodies[b].joint].in_loop)
             m->joints[m->bodies[b].joint].in_loop = mark;
-    for (a = cl->body[0], steps = 0; a != b && a != 0 && m->bodies[a].joint != RIGMAT_NONE &&
-            steps++ <= m->nbodies; a = m->joints[m->bodies[a].joint].parent)
-        if (!m->joints[m->bodies[a].joint].in_loop)
+    for (a = cl->body[0], steps = 0; a != RIGMAT_NONE && a != b && steps++ <= m->nbodies;
+            a = body_above(m, a))
+        if (body_above(m, a) != RIGMAT_NONE && !m->joints[m->bodies[a].joint].in_loop)
             m->joints[m->bodies[a].joint].in_loop = mark;
     free(up);
 }
