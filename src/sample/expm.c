@@ -184,8 +184,10 @@ static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B
     return RIGMAT_OK;
 }
 
-/* Form U and V of r_m(A) for m <= 9 into U, V; returns the product count. */
-static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4,
+/* Form U and V of r_m(A) for m <= 9 into U, V, adding the products to
+ * *products.  The powers A^2 .. A^have (have = 0, 2, 4 or 6) are already in
+ * A2, A4, A6. */
+static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4,
                               gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U, gsl_matrix *V,
                               gsl_matrix *T, unsigned *products, rigmat_error *err)
 {
@@ -195,13 +197,16 @@ static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_mat
     size_t k, npw;
     rigmat_status rc;
 
-    rc = mul(A2, A, A, err);
-    (*products)++;
-    if (rc == RIGMAT_OK && m >= 5) {
+    rc = RIGMAT_OK;
+    if (have < 2) {
+        rc = mul(A2, A, A, err);
+        (*products)++;
+    }
+    if (rc == RIGMAT_OK && m >= 5 && have < 4) {
         rc = mul(A4, A2, A2, err);
         (*products)++;
     }
-    if (rc == RIGMAT_OK && m >= 7) {
+    if (rc == RIGMAT_OK && m >= 7 && have < 6) {
         rc = mul(A6, A2, A4, err);
         (*products)++;
     }
@@ -226,7 +231,8 @@ static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_mat
     return rc;
 }
 
-static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_matrix *A6,
+/* U and V of r_13(A); A2, A4, A6 already hold the powers when have. */
+static rigmat_status pade13(int have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_matrix *A6,
                             gsl_matrix *U, gsl_matrix *V, gsl_matrix *T, unsigned *products,
                             rigmat_error *err)
 {
@@ -237,13 +243,16 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
     const double vo[3] = { b13[2], b13[4], b13[6] };
     rigmat_status rc;
 
-    rc = mul(A2, A, A, err);
-    if (rc == RIGMAT_OK)
-        rc = mul(A4, A2, A2, err);
-    if (rc == RIGMAT_OK)
-        rc = mul(A6, A2, A4, err);
-    if (rc != RIGMAT_OK)
-        return rc;
+    if (!have) {
+        rc = mul(A2, A, A, err);
+        if (rc == RIGMAT_OK)
+            rc = mul(A4, A2, A2, err);
+        if (rc == RIGMAT_OK)
+            rc = mul(A6, A2, A4, err);
+        if (rc != RIGMAT_OK)
+            return rc;
+        *products += 3;
+    }
     /* U: T = b13 A6 + b11 A4 + b9 A2; V = A6 T + (b7 A6 + b5 A4 + b3 A2 + b1 I); U = A V */
     lincomb2(T, 0.0, ui, V, b13[1], uo, pw, 3);
     rc = !RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) !=
@@ -258,7 +267,7 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
     lincomb2(T, 0.0, vi, V, b13[0], vo, pw, 3);
     if (RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) != GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
-    *products += 6;
+    *products += 3;
     return RIGMAT_OK;
 }
 
@@ -368,13 +377,67 @@ static unsigned ceil_log2(double x)
     return e > 0 ? (unsigned)e : 0u;
 }
 
+/* log2 ||(|A|)^p||_1 by p products of |A|^T with a vector (for a
+ * nonnegative matrix the 1-norm is the largest entry of e^T B), rescaled
+ * at every step so that nothing overflows; -HUGE_VAL when it is zero.
+ * v and t hold n entries each. */
+static double log2_abs_power_norm(const gsl_matrix *A, unsigned p, double *v, double *t)
+{
+    const size_t n = A->size1;
+    double l = 0.0;
+    size_t i, j;
+    unsigned k;
+
+    for (j = 0; j < n; j++)
+        v[j] = 1.0;
+    for (k = 0; k < p; k++) {
+        double big = 0.0;
+        for (j = 0; j < n; j++)
+            t[j] = 0.0;
+        for (i = 0; i < n; i++) {
+            const double *a = gsl_matrix_const_ptr(A, i, 0);
+            const double vi = v[i];
+            for (j = 0; j < n; j++)
+                t[j] += fabs(a[j]) * vi;
+        }
+        for (j = 0; j < n; j++)
+            if (t[j] > big)
+                big = t[j];
+        if (big == 0.0)
+            return -HUGE_VAL;
+        l += log2(big);
+        for (j = 0; j < n; j++)
+            v[j] = t[j] / big;
+    }
+    return l;
+}
+
+/* ell(2^-s A, m) of Al-Mohy and Higham (2009), eq. (3.12)-(3.13): the extra
+ * squarings that keep the rounding in r_m at the unit roundoff, from
+ * alpha = |c_(2m+1)| ||(|A|)^(2m+1)||_1 / ||A||_1, c_(2m+1) =
+ * (m!)^2 / ((2m)! (2m+1)!) the leading coefficient of the backward error
+ * series (Higham 2005, eq. (2.6)).  Scaling A by 2^-s scales alpha by
+ * 2^(-2ms).  l2 = log2 ||(|A|)^(2m+1)||_1, nrm = ||A||_1 (unscaled). */
+static unsigned ell(unsigned m, unsigned s, double l2, double nrm)
+{
+    const double md = (double)m;
+    const double l2c = (2.0 * lgamma(md + 1.0) - lgamma(2.0 * md + 1.0) - lgamma(2.0 * md + 2.0)) /
+                       log(2.0);
+    const double l2alpha = l2c + l2 - log2(nrm) - 2.0 * md * (double)s;
+    const double q = ceil((l2alpha + 53.0) / (2.0 * md)); /* u = 2^-53 */
+
+    if (!(q > 0.0) || l2 == -HUGE_VAL)
+        return 0u;
+    return q > 64.0 ? 64u : (unsigned)q;
+}
+
 rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, rigmat_expm_ws *w,
                           rigmat_expm_info *info, rigmat_error *err)
 {
     rigmat_expm_info inf;
     size_t n, i, j;
     double nrm;
-    unsigned m, s, k;
+    unsigned m = 0, s, k, have;
     gsl_matrix_view As, A2, A4, A6, A8, U, V, T;
     gsl_matrix *X, *Y;
     gsl_permutation perm;
@@ -449,39 +512,111 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             *info = inf;
         return RIGMAT_OK;
     }
-    /* Higham (2005), Algorithm 2.3: the lowest degree whose theta covers ||A||_1 */
+    have = 0;
     s = 0;
-    if (nrm <= theta3)
-        m = 3;
-    else if (nrm <= theta5)
-        m = 5;
-    else if (nrm <= theta7)
-        m = 7;
-    else if (nrm <= theta9)
-        m = 9;
-    else {
-        m = 13;
-        if (nrm > theta13)
-            s = ceil_log2(nrm / theta13);
-        if (s > 0) {
-            /* 2^-s is exact and so is every product, up to underflow, where
-             * it rounds as ldexp does */
-            const double f = ldexp(1.0, -(int)s);
-            for (i = 0; i < n; i++) {
-                double *d = gsl_matrix_ptr(&As.matrix, i, 0);
-                for (j = 0; j < n; j++)
-                    d[j] *= f;
+    if ((flags & RIGMAT_EXPM_POWERS) && n >= 2) { /* 1x1: nothing to gain */
+        /* Al-Mohy and Higham (2009), Algorithm 3.1, with the upper bounds
+         * of expm.h for the norms of the powers not formed */
+        const unsigned degs[] = { 3, 5, 7, 9 };
+        const double ths[] = { theta3, theta5, theta7, theta9 };
+        double *v = gsl_matrix_ptr(&T.matrix, 0, 0), *t = v + n; /* 2n <= n^2 for n >= 2 */
+        double n2, n4, n6, eta[4], d8, d10, eta5;
+        double l2[5];
+        size_t q;
+        unsigned d;
+
+        for (q = 0; q < 4; q++)
+            l2[q] = log2_abs_power_norm(&As.matrix, 2 * degs[q] + 1, v, t);
+        l2[4] = log2_abs_power_norm(&As.matrix, 27, v, t);
+        rc = mul(&A2.matrix, &As.matrix, &As.matrix, err);
+        if (rc != RIGMAT_OK)
+            return rc;
+        inf.products++;
+        have = 2;
+        n2 = rigmat_expm_norm1(&A2.matrix);
+        eta[0] = sqrt(n2); /* bounds d_4 and d_6 */
+        m = 0;
+        if (eta[0] <= theta3 && ell(3, 0, l2[0], nrm) == 0)
+            m = 3;
+        if (m == 0) {
+            rc = mul(&A4.matrix, &A2.matrix, &A2.matrix, err);
+            if (rc != RIGMAT_OK)
+                return rc;
+            inf.products++;
+            have = 4;
+            n4 = rigmat_expm_norm1(&A4.matrix);
+            eta[1] = fmax(pow(n4, 0.25), pow(n4 * n2, 1.0 / 6.0));
+            if (eta[1] <= theta5 && ell(5, 0, l2[1], nrm) == 0)
+                m = 5;
+        }
+        if (m == 0) {
+            rc = mul(&A6.matrix, &A2.matrix, &A4.matrix, err);
+            if (rc != RIGMAT_OK)
+                return rc;
+            inf.products++;
+            have = 6;
+            n6 = rigmat_expm_norm1(&A6.matrix);
+            d8 = pow(fmin(n4 * n4, n6 * n2), 0.125);
+            eta[2] = fmax(pow(n6, 1.0 / 6.0), d8);
+            for (d = 2; d < 4 && m == 0; d++)
+                if (eta[2] <= ths[d] && ell(degs[d], 0, l2[d], nrm) == 0)
+                    m = degs[d];
+            if (m == 0) {
+                d10 = pow(n4 * n6, 0.1);
+                eta[3] = fmax(d8, d10);
+                eta5 = fmin(eta[2], eta[3]);
+                m = 13;
+                if (eta5 > theta13)
+                    s = ceil_log2(eta5 / theta13);
+                s += ell(13, s, l2[4], nrm);
+            }
+        }
+        if (m == 13 && s > 0) {
+            /* 2^-s A and its powers: exact factors */
+            gsl_matrix *const pw[4] = { &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix };
+            for (q = 0; q < 4; q++) {
+                const double f = ldexp(1.0, -(int)(s * (q == 0 ? 1u : 2u * (unsigned)q)));
+                for (i = 0; i < n; i++) {
+                    double *r = gsl_matrix_ptr(pw[q], i, 0);
+                    for (j = 0; j < n; j++)
+                        r[j] *= f;
+                }
+            }
+        }
+    } else {
+        /* Higham (2005), Algorithm 2.3: the lowest degree whose theta covers ||A||_1 */
+        if (nrm <= theta3)
+            m = 3;
+        else if (nrm <= theta5)
+            m = 5;
+        else if (nrm <= theta7)
+            m = 7;
+        else if (nrm <= theta9)
+            m = 9;
+        else {
+            m = 13;
+            if (nrm > theta13)
+                s = ceil_log2(nrm / theta13);
+            if (s > 0) {
+                /* 2^-s is exact and so is every product, up to underflow, where
+                 * it rounds as ldexp does */
+                const double f = ldexp(1.0, -(int)s);
+                for (i = 0; i < n; i++) {
+                    double *d = gsl_matrix_ptr(&As.matrix, i, 0);
+                    for (j = 0; j < n; j++)
+                        d[j] *= f;
+                }
             }
         }
     }
     inf.degree = m;
     inf.squarings = s;
     if (m == 13)
-        rc = pade13(&As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix, &T.matrix,
-                    &inf.products, err);
+        rc = pade13(have != 0, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix,
+                    &V.matrix, &T.matrix, &inf.products, err);
     else
-        rc = pade_low(m, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix, &U.matrix,
-                      &V.matrix, &T.matrix, &inf.products, err);
+        rc = pade_low(m, have, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix,
+                      &U.matrix, &V.matrix, &T.matrix, &inf.products, err);
     if (rc != RIGMAT_OK)
         return rc;
     /* X = r_m in A2 (free now); P = V - U in A4 */

@@ -31,7 +31,16 @@
 #include <gsl/gsl_permutation.h>
 
 enum rigmat_expm_flags {
-    RIGMAT_EXPM_BALANCE = 1 << 0 /* try a diagonal balancing first */
+    RIGMAT_EXPM_BALANCE = 1 << 0, /* try a diagonal balancing first */
+    /* choose the degree and the squarings from ||A^k||_1^(1/k) of the
+     * powers the approximant needs anyway (Al-Mohy and Higham, SIAM J.
+     * Matrix Anal. Appl. 31(3), 2009, Algorithm 3.1) instead of ||A||_1:
+     * fewer squarings for non-normal matrices whose powers shrink (no
+     * overscaling).  Where the paper estimates ||A^8|| and ||A^10|| this
+     * uses the upper bounds ||A^4||^2 and ||A^4|| ||A^6|| (so never fewer
+     * squarings than the paper) and ||(|A|)^(2m+1)||_1 exactly by vector
+     * products. */
+    RIGMAT_EXPM_POWERS = 1 << 1
 };
 
 /* Scratch space for matrices up to nmax x nmax: eight n x n buffers, a
