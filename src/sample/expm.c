@@ -516,18 +516,15 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     s = 0;
     if ((flags & RIGMAT_EXPM_POWERS) && n >= 2) { /* 1x1: nothing to gain */
         /* Al-Mohy and Higham (2009), Algorithm 3.1, with the upper bounds
-         * of expm.h for the norms of the powers not formed */
+         * of expm.h for the norms of the powers not formed; ell() only for
+         * a degree whose eta passes (O(m n^2) each) */
         const unsigned degs[] = { 3, 5, 7, 9 };
         const double ths[] = { theta3, theta5, theta7, theta9 };
         double *v = gsl_matrix_ptr(&T.matrix, 0, 0), *t = v + n; /* 2n <= n^2 for n >= 2 */
         double n2, n4, n6, eta[4], d8, d10, eta5;
-        double l2[5];
         size_t q;
         unsigned d;
 
-        for (q = 0; q < 4; q++)
-            l2[q] = log2_abs_power_norm(&As.matrix, 2 * degs[q] + 1, v, t);
-        l2[4] = log2_abs_power_norm(&As.matrix, 27, v, t);
         rc = mul(&A2.matrix, &As.matrix, &As.matrix, err);
         if (rc != RIGMAT_OK)
             return rc;
@@ -536,7 +533,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
         n2 = rigmat_expm_norm1(&A2.matrix);
         eta[0] = sqrt(n2); /* bounds d_4 and d_6 */
         m = 0;
-        if (eta[0] <= theta3 && ell(3, 0, l2[0], nrm) == 0)
+        if (eta[0] <= theta3 && ell(3, 0, log2_abs_power_norm(&As.matrix, 7, v, t), nrm) == 0)
             m = 3;
         if (m == 0) {
             rc = mul(&A4.matrix, &A2.matrix, &A2.matrix, err);
@@ -546,7 +543,8 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             have = 4;
             n4 = rigmat_expm_norm1(&A4.matrix);
             eta[1] = fmax(pow(n4, 0.25), pow(n4 * n2, 1.0 / 6.0));
-            if (eta[1] <= theta5 && ell(5, 0, l2[1], nrm) == 0)
+            if (eta[1] <= theta5 &&
+                ell(5, 0, log2_abs_power_norm(&As.matrix, 11, v, t), nrm) == 0)
                 m = 5;
         }
         if (m == 0) {
@@ -559,7 +557,9 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             d8 = pow(fmin(n4 * n4, n6 * n2), 0.125);
             eta[2] = fmax(pow(n6, 1.0 / 6.0), d8);
             for (d = 2; d < 4 && m == 0; d++)
-                if (eta[2] <= ths[d] && ell(degs[d], 0, l2[d], nrm) == 0)
+                if (eta[2] <= ths[d] &&
+                    ell(degs[d], 0, log2_abs_power_norm(&As.matrix, 2 * degs[d] + 1, v, t),
+                        nrm) == 0)
                     m = degs[d];
             if (m == 0) {
                 d10 = pow(n4 * n6, 0.1);
@@ -568,7 +568,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
                 m = 13;
                 if (eta5 > theta13)
                     s = ceil_log2(eta5 / theta13);
-                s += ell(13, s, l2[4], nrm);
+                s += ell(13, s, log2_abs_power_norm(&As.matrix, 27, v, t), nrm);
             }
         }
         if (m == 13 && s > 0) {
