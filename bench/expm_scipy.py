@@ -39,7 +39,7 @@ def scipy_choice(A):
 def main():
     folder = sys.argv[1]
     print("matrix exponential, seconds per call (best of 5, of 2 from n = 512; ||A||_1 = 20; "
-          "scipy %s; one BLAS thread)" % scipy.__version__)
+          "scipy %s; one BLAS thread; rigmat with RIGMAT_EXPM_POWERS)" % scipy.__version__)
     print("%6s %11s %11s %11s %11s %8s %8s %9s %9s %7s %7s" % (
         "n", "rigmat", "scipy", "rigmat cpu", "scipy cpu", "r/s", "r/s cpu", "r/prod",
         "r/prod cpu", "m/s", "scipy"))

@@ -30,8 +30,8 @@
  * took 0.26 ms with dgetrf against 0.18 ms with GSL's LU at n = 32, and
  * 0.87 ms against 1.21 ms at n = 48. */
 #if defined(RIGMAT_HAVE_LAPACK) && defined(__GNUC__)
-extern void dgetrf_(const int *m, const int *n, double *a, const int *lda, int *ipiv,
-                    int *info) __attribute__((weak));
+extern void dgetrf_(const int *m, const int *n, double *a, const int *lda, int *ipiv, int *info)
+        __attribute__((weak));
 #define RIGMAT_LAPACK_LU 1
 static const size_t lapack_min = 48;
 #endif
@@ -187,9 +187,9 @@ static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B
 /* Form U and V of r_m(A) for m <= 9 into U, V, adding the products to
  * *products.  The powers A^2 .. A^have (have = 0, 2, 4 or 6) are already in
  * A2, A4, A6. */
-static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4,
-                              gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U, gsl_matrix *V,
-                              gsl_matrix *T, unsigned *products, rigmat_error *err)
+static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matrix *A2,
+                              gsl_matrix *A4, gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U,
+                              gsl_matrix *V, gsl_matrix *T, unsigned *products, rigmat_error *err)
 {
     const double *b = m == 3 ? b3 : m == 5 ? b5 : m == 7 ? b7 : b9;
     gsl_matrix *pw[4];
@@ -334,8 +334,7 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
         }
     }
 #ifdef RIGMAT_LAPACK_LU
-    if (dgetrf_ != NULL && n >= lapack_min && n <= (size_t)INT_MAX &&
-        P->tda <= (size_t)INT_MAX)
+    if (dgetrf_ != NULL && n >= lapack_min && n <= (size_t)INT_MAX && P->tda <= (size_t)INT_MAX)
         return lapack_solve(V, P, X, ipiv, err);
 #else
     (void)ipiv;
@@ -421,8 +420,8 @@ static double log2_abs_power_norm(const gsl_matrix *A, unsigned p, double *v, do
 static unsigned ell(unsigned m, unsigned s, double l2, double nrm)
 {
     const double md = (double)m;
-    const double l2c = (2.0 * lgamma(md + 1.0) - lgamma(2.0 * md + 1.0) - lgamma(2.0 * md + 2.0)) /
-                       log(2.0);
+    const double l2c =
+            (2.0 * lgamma(md + 1.0) - lgamma(2.0 * md + 1.0) - lgamma(2.0 * md + 2.0)) / log(2.0);
     const double l2alpha = l2c + l2 - log2(nrm) - 2.0 * md * (double)s;
     const double q = ceil((l2alpha + 53.0) / (2.0 * md)); /* u = 2^-53 */
 
@@ -543,8 +542,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             have = 4;
             n4 = rigmat_expm_norm1(&A4.matrix);
             eta[1] = fmax(pow(n4, 0.25), pow(n4 * n2, 1.0 / 6.0));
-            if (eta[1] <= theta5 &&
-                ell(5, 0, log2_abs_power_norm(&As.matrix, 11, v, t), nrm) == 0)
+            if (eta[1] <= theta5 && ell(5, 0, log2_abs_power_norm(&As.matrix, 11, v, t), nrm) == 0)
                 m = 5;
         }
         if (m == 0) {
@@ -558,8 +556,8 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             eta[2] = fmax(pow(n6, 1.0 / 6.0), d8);
             for (d = 2; d < 4 && m == 0; d++)
                 if (eta[2] <= ths[d] &&
-                    ell(degs[d], 0, log2_abs_power_norm(&As.matrix, 2 * degs[d] + 1, v, t),
-                        nrm) == 0)
+                    ell(degs[d], 0, log2_abs_power_norm(&As.matrix, 2 * degs[d] + 1, v, t), nrm) ==
+                            0)
                     m = degs[d];
             if (m == 0) {
                 d10 = pow(n4 * n6, 0.1);
@@ -612,8 +610,8 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     inf.degree = m;
     inf.squarings = s;
     if (m == 13)
-        rc = pade13(have != 0, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix,
-                    &V.matrix, &T.matrix, &inf.products, err);
+        rc = pade13(have != 0, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix,
+                    &T.matrix, &inf.products, err);
     else
         rc = pade_low(m, have, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix,
                       &U.matrix, &V.matrix, &T.matrix, &inf.products, err);
