@@ -643,6 +643,23 @@ START_TEST(powers_avoid_overscaling)
         gsl_matrix_free(E0);
         gsl_matrix_free(E1);
     }
+    {
+        /* A = -1e60 I: A^6 overflows before any scaling, so the powers are
+         * unusable and the norm rule must take over; e^A = e^-1e60 I
+         * underflows to the zero matrix (closed form, common practice) */
+        const double a[] = { -1e60, 0.0, 0.0, -1e60 };
+        gsl_matrix *A = tu_mat(2, 2, a), *E0, *E1;
+        rigmat_expm_info i0, i1;
+
+        E0 = expm_of(A, 0, &i0);
+        E1 = expm_of(A, RIGMAT_EXPM_POWERS, &i1);
+        ck_assert_uint_eq(i1.squarings, i0.squarings);
+        for (i = 0; i < 4; i++)
+            ck_assert(gsl_matrix_get(E1, i / 2, i % 2) == 0.0);
+        gsl_matrix_free(A);
+        gsl_matrix_free(E0);
+        gsl_matrix_free(E1);
+    }
 }
 END_TEST
 

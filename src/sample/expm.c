@@ -436,6 +436,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     size_t n, i, j;
     double nrm;
     unsigned m = 0, s, k, have;
+    int by_norm;
     gsl_matrix_view As, A2, A4, A6, A8, U, V, T;
     gsl_matrix *X, *Y;
     gsl_permutation perm;
@@ -512,7 +513,10 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     }
     have = 0;
     s = 0;
-    if ((flags & RIGMAT_EXPM_POWERS) && n >= 2) { /* 1x1: nothing to gain */
+    /* the norm rule for a 1x1 matrix (nothing to gain) and when a power of
+     * the unscaled matrix overflows */
+    by_norm = !(flags & RIGMAT_EXPM_POWERS) || n < 2;
+    if (!by_norm) {
         /* Al-Mohy and Higham (2009), Algorithm 3.1, with the upper bounds
          * of expm.h for the norms of the powers not formed; ell() only for
          * a degree whose eta passes (O(m n^2) each) */
@@ -564,7 +568,10 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
                 if (eta[2] <= ths[d] &&
                     ell(degs[d], 0, log2_abs_power_norm(absA, 2 * degs[d] + 1, v, t), nrm) == 0)
                     m = degs[d];
-            if (m == 0) {
+            if (!isfinite(n2 * n4 * n6)) {
+                by_norm = 1; /* a power overflowed: A2, A4, A6 are not usable */
+                have = 0;
+            } else if (m == 0) {
                 d10 = pow(n4 * n6, 0.1);
                 eta[3] = fmax(d8, d10);
                 eta5 = fmin(eta[2], eta[3]);
@@ -574,7 +581,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
                 s += ell(13, s, log2_abs_power_norm(absA, 27, v, t), nrm);
             }
         }
-        if (m == 13 && s > 0) {
+        if (!by_norm && m == 13 && s > 0) {
             /* 2^-s A and its powers: exact factors */
             gsl_matrix *const pw[4] = { &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix };
             for (q = 0; q < 4; q++) {
@@ -586,7 +593,10 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
                 }
             }
         }
-    } else {
+    }
+    if (by_norm) {
+        m = 0;
+        s = 0;
         /* Higham (2005), Algorithm 2.3: the lowest degree whose theta covers ||A||_1 */
         if (nrm <= theta3)
             m = 3;
