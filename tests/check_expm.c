@@ -564,7 +564,9 @@ START_TEST(random_matrices_match_mpmath)
         const double scale = expm_tol(c.kappa, c.n, scaled_norm(c.A, 0)) / EXPM_TOL_FACTOR;
         double d;
         unsigned flags;
-        for (flags = 0; flags <= RIGMAT_EXPM_BALANCE; flags++) {
+        /* the degree and squarings from the powers (RIGMAT_EXPM_POWERS) must
+         * meet the same tolerance as the norm rule, the 2005 one */
+        for (flags = 0; flags <= (RIGMAT_EXPM_BALANCE | RIGMAT_EXPM_POWERS); flags++) {
             ck_assert_int_eq(rigmat_expm(c.A, &Ev.matrix, flags, w, NULL, NULL), RIGMAT_OK);
             d = rigmat_test_matrix_reldiff(&Ev.matrix, c.exact);
             ck_assert_msg(d <= tol, "%s (flags %u): error %.3g > tol %.3g (kappa %.3g)", c.name,
@@ -606,6 +608,61 @@ START_TEST(tolerance_model_can_fail)
 }
 END_TEST
 
+/* Overscaling: A = [[1, b], [0, -1]] (Al-Mohy and Higham 2009, section 1,
+ * from memory) has ||A||_1 = 1 + b, so the norm rule squares about
+ * log2(b) times, yet A^2 = I.  Closed form (common practice: a 2x2 upper
+ * triangular matrix with distinct eigenvalues 1 and -1, divided
+ * difference): e^A = [[e, b sinh 1], [0, e^-1]].  The choice from the
+ * powers takes no squarings and must be at least as accurate, to a few
+ * units of roundoff. */
+START_TEST(powers_avoid_overscaling)
+{
+    const double bs[] = { 1e2, 1e4, 1e6, 1e8 };
+    size_t k, i;
+
+    for (k = 0; k < sizeof bs / sizeof bs[0]; k++) {
+        const double a[] = { 1.0, bs[k], 0.0, -1.0 };
+        const double x[] = { exp(1.0), bs[k] * sinh(1.0), 0.0, exp(-1.0) };
+        gsl_matrix *A = tu_mat(2, 2, a), *E0, *E1;
+        rigmat_expm_info i0, i1;
+        double e0 = 0.0, e1 = 0.0;
+
+        E0 = expm_of(A, 0, &i0);
+        E1 = expm_of(A, RIGMAT_EXPM_POWERS, &i1);
+        for (i = 0; i < 4; i++) {
+            const double w = x[i] != 0.0 ? fabs(x[i]) : 1.0;
+            e0 = fmax(e0, fabs(gsl_matrix_get(E0, i / 2, i % 2) - x[i]) / w);
+            e1 = fmax(e1, fabs(gsl_matrix_get(E1, i / 2, i % 2) - x[i]) / w);
+        }
+        ck_assert_uint_eq(i1.squarings, 0);
+        ck_assert_uint_ge(i0.squarings, 5);
+        ck_assert_uint_lt(i1.products, i0.products);
+        ck_assert_msg(e1 <= 4 * DBL_EPSILON, "b = %g: error %.3g with the powers", bs[k], e1);
+        ck_assert_msg(e1 <= fmax(e0, 4 * DBL_EPSILON), "b = %g: %.3g > %.3g", bs[k], e1, e0);
+        gsl_matrix_free(A);
+        gsl_matrix_free(E0);
+        gsl_matrix_free(E1);
+    }
+    {
+        /* A = -1e60 I: A^6 overflows before any scaling, so the powers are
+         * unusable and the norm rule must take over; e^A = e^-1e60 I
+         * underflows to the zero matrix (closed form, common practice) */
+        const double a[] = { -1e60, 0.0, 0.0, -1e60 };
+        gsl_matrix *A = tu_mat(2, 2, a), *E0, *E1;
+        rigmat_expm_info i0, i1;
+
+        E0 = expm_of(A, 0, &i0);
+        E1 = expm_of(A, RIGMAT_EXPM_POWERS, &i1);
+        ck_assert_uint_eq(i1.squarings, i0.squarings);
+        for (i = 0; i < 4; i++)
+            ck_assert(gsl_matrix_get(E1, i / 2, i % 2) == 0.0);
+        gsl_matrix_free(A);
+        gsl_matrix_free(E0);
+        gsl_matrix_free(E1);
+    }
+}
+END_TEST
+
 Suite *expm_suite(void);
 Suite *expm_suite(void)
 {
@@ -626,6 +683,7 @@ Suite *expm_suite(void)
     tcase_add_test(tc, agrees_with_gsl_taylor_on_small_norms);
     tcase_add_test(tc, large_closed_forms_take_the_blocked_lu);
     tcase_add_test(tc, tolerance_model_can_fail);
+    tcase_add_test(tc, powers_avoid_overscaling);
     suite_add_tcase(s, tc);
     tcase_add_test(tr, random_matrices_match_mpmath);
     tcase_set_timeout(tr, 60);

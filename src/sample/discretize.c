@@ -49,7 +49,7 @@ rigmat_discretize_opts rigmat_discretize_opts_default(void)
     o.prewarp_hz = 0.0;
     o.delay_samples = 0.0;
     o.max_states = rigmat_options_default().max_sampled_states;
-    o.expm_flags = RIGMAT_EXPM_BALANCE;
+    o.expm_flags = RIGMAT_EXPM_BALANCE | RIGMAT_EXPM_POWERS;
     return o;
 }
 

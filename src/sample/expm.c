@@ -30,8 +30,8 @@
  * took 0.26 ms with dgetrf against 0.18 ms with GSL's LU at n = 32, and
  * 0.87 ms against 1.21 ms at n = 48. */
 #if defined(RIGMAT_HAVE_LAPACK) && defined(__GNUC__)
-extern void dgetrf_(const int *m, const int *n, double *a, const int *lda, int *ipiv,
-                    int *info) __attribute__((weak));
+extern void dgetrf_(const int *m, const int *n, double *a, const int *lda, int *ipiv, int *info)
+        __attribute__((weak));
 #define RIGMAT_LAPACK_LU 1
 static const size_t lapack_min = 48;
 #endif
@@ -72,10 +72,13 @@ double rigmat_expm_norm1(const gsl_matrix *A)
     double best = 0.0;
     size_t i, j;
 
+    /* by columns through the raw storage: gsl_matrix_get's range check per
+     * entry cost about 3% of the whole exponential at n = 64 (callgrind) */
     for (j = 0; j < A->size2; j++) {
+        const double *a = A->data + j;
         double s = 0.0;
         for (i = 0; i < A->size1; i++)
-            s += fabs(gsl_matrix_get(A, i, j));
+            s += fabs(a[i * A->tda]);
         if (s > best || isnan(s))
             best = s;
     }
@@ -144,23 +147,31 @@ static gsl_matrix_view block(gsl_matrix *m, size_t n)
     return gsl_matrix_submatrix(m, 0, 0, n, n);
 }
 
-/* dst = sum_k c[k] M[k] + c0 I, elementwise (no products). */
-static void lincomb(gsl_matrix *dst, double c0, const double *c, gsl_matrix *const *M, size_t count)
+/* d1 = sum_k c1[k] M[k] + c10 I and d2 = sum_k c2[k] M[k] + c20 I in one
+ * pass over the powers M[k] (no products). */
+static void lincomb2(gsl_matrix *d1, double c10, const double *c1, gsl_matrix *d2, double c20,
+                     const double *c2, gsl_matrix *const *M, size_t count)
 {
-    const size_t n = dst->size1;
+    const size_t n = d1->size1;
     size_t i, j, k;
 
     for (i = 0; i < n; i++) {
-        double *d = gsl_matrix_ptr(dst, i, 0);
-        for (j = 0; j < n; j++)
-            d[j] = 0.0;
+        double *p = gsl_matrix_ptr(d1, i, 0);
+        double *q = gsl_matrix_ptr(d2, i, 0);
+        for (j = 0; j < n; j++) {
+            p[j] = 0.0;
+            q[j] = 0.0;
+        }
         for (k = 0; k < count; k++) {
             const double *s = gsl_matrix_const_ptr(M[k], i, 0);
-            const double ck = c[k];
-            for (j = 0; j < n; j++)
-                d[j] += ck * s[j];
+            const double a = c1[k], b = c2[k];
+            for (j = 0; j < n; j++) {
+                p[j] += a * s[j];
+                q[j] += b * s[j];
+            }
         }
-        d[i] += c0;
+        p[i] += c10;
+        q[i] += c20;
     }
 }
 
@@ -173,10 +184,12 @@ static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B
     return RIGMAT_OK;
 }
 
-/* Form U and V of r_m(A) for m <= 9 into U, V; returns the product count. */
-static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4,
-                              gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U, gsl_matrix *V,
-                              gsl_matrix *T, unsigned *products, rigmat_error *err)
+/* Form U and V of r_m(A) for m <= 9 into U, V, adding the products to
+ * *products.  The powers A^2 .. A^have (have = 0, 2, 4 or 6) are already in
+ * A2, A4, A6. */
+static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matrix *A2,
+                              gsl_matrix *A4, gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U,
+                              gsl_matrix *V, gsl_matrix *T, unsigned *products, rigmat_error *err)
 {
     const double *b = m == 3 ? b3 : m == 5 ? b5 : m == 7 ? b7 : b9;
     gsl_matrix *pw[4];
@@ -184,13 +197,16 @@ static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_mat
     size_t k, npw;
     rigmat_status rc;
 
-    rc = mul(A2, A, A, err);
-    (*products)++;
-    if (rc == RIGMAT_OK && m >= 5) {
+    rc = RIGMAT_OK;
+    if (have < 2) {
+        rc = mul(A2, A, A, err);
+        (*products)++;
+    }
+    if (rc == RIGMAT_OK && m >= 5 && have < 4) {
         rc = mul(A4, A2, A2, err);
         (*products)++;
     }
-    if (rc == RIGMAT_OK && m >= 7) {
+    if (rc == RIGMAT_OK && m >= 7 && have < 6) {
         rc = mul(A6, A2, A4, err);
         (*products)++;
     }
@@ -209,14 +225,14 @@ static rigmat_status pade_low(unsigned m, gsl_matrix *A, gsl_matrix *A2, gsl_mat
         codd[k] = b[2 * k + 3];
         ceven[k] = b[2 * k + 2];
     }
-    lincomb(T, b[1], codd, pw, npw);
+    lincomb2(T, b[1], codd, V, b[0], ceven, pw, npw);
     rc = mul(U, A, T, err);
     (*products)++;
-    lincomb(V, b[0], ceven, pw, npw);
     return rc;
 }
 
-static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_matrix *A6,
+/* U and V of r_13(A); A2, A4, A6 already hold the powers when have. */
+static rigmat_status pade13(int have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_matrix *A6,
                             gsl_matrix *U, gsl_matrix *V, gsl_matrix *T, unsigned *products,
                             rigmat_error *err)
 {
@@ -227,16 +243,18 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
     const double vo[3] = { b13[2], b13[4], b13[6] };
     rigmat_status rc;
 
-    rc = mul(A2, A, A, err);
-    if (rc == RIGMAT_OK)
-        rc = mul(A4, A2, A2, err);
-    if (rc == RIGMAT_OK)
-        rc = mul(A6, A2, A4, err);
-    if (rc != RIGMAT_OK)
-        return rc;
+    if (!have) {
+        rc = mul(A2, A, A, err);
+        if (rc == RIGMAT_OK)
+            rc = mul(A4, A2, A2, err);
+        if (rc == RIGMAT_OK)
+            rc = mul(A6, A2, A4, err);
+        if (rc != RIGMAT_OK)
+            return rc;
+        *products += 3;
+    }
     /* U: T = b13 A6 + b11 A4 + b9 A2; V = A6 T + (b7 A6 + b5 A4 + b3 A2 + b1 I); U = A V */
-    lincomb(T, 0.0, ui, pw, 3);
-    lincomb(V, b13[1], uo, pw, 3);
+    lincomb2(T, 0.0, ui, V, b13[1], uo, pw, 3);
     rc = !RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) !=
                        GSL_SUCCESS)
                  ? RIGMAT_OK
@@ -246,22 +264,24 @@ static rigmat_status pade13(gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_m
     if (rc != RIGMAT_OK)
         return rc;
     /* V = A6 (b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I */
-    lincomb(T, 0.0, vi, pw, 3);
-    lincomb(V, b13[0], vo, pw, 3);
+    lincomb2(T, 0.0, vi, V, b13[0], vo, pw, 3);
     if (RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) != GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
-    *products += 6;
+    *products += 3;
     return RIGMAT_OK;
 }
 
 #ifdef RIGMAT_LAPACK_LU
-/* X = P^-1 V by dgetrf, with the pivots GSL's LU would choose.  LAPACK
- * stores by columns, so P is transposed in place first (O(n^2)) and the
- * column-major buffer then holds P itself: P = Pm L U with row
- * interchanges Pm.  Read row-major, the factored buffer holds L^T (unit
- * diagonal) above the diagonal and U^T on and below it, so
- * X = U^-1 L^-1 Pm^T V takes the interchanges in order, then the
- * transposed triangular solves. */
+/* X = P^-1 V by dgetrf, without transposing P.  LAPACK reads the row-major
+ * buffer by columns, that is as P^T, and factors P^T = Pm L U (row
+ * interchanges Pm, so partial pivoting on the columns of P: a backward
+ * stable factorization of P all the same).  Read row-major again, the
+ * factored buffer holds U^T on and below the diagonal and L^T (unit
+ * diagonal) above it, and P = U^T L^T Pm^T, so
+ *     X = Pm (L^T)^-1 (U^T)^-1 V:
+ * two triangular solves on the row-major view, then the interchanges in
+ * reverse order (Pm = P_1 P_2 ... P_n).  The in-place transpose this
+ * replaces cost about 3% of the exponential at n = 256 (perf). */
 static rigmat_status lapack_solve(gsl_matrix *V, gsl_matrix *P, gsl_matrix *X, int *ipiv,
                                   rigmat_error *err)
 {
@@ -270,9 +290,6 @@ static rigmat_status lapack_solve(gsl_matrix *V, gsl_matrix *P, gsl_matrix *X, i
     size_t i;
     int info = 0, gs;
 
-    gs = gsl_matrix_transpose(P);
-    if (RIGMAT_NEVER(gs != GSL_SUCCESS))
-        return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "transpose failed: %s", gsl_strerror(gs));
     dgetrf_(&ni, &ni, P->data, &lda, ipiv, &info);
     if (RIGMAT_NEVER(info < 0))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "dgetrf: argument %d is wrong", -info);
@@ -283,15 +300,15 @@ static rigmat_status lapack_solve(gsl_matrix *V, gsl_matrix *P, gsl_matrix *X, i
                                "the Pade denominator of the matrix exponential is singular");
     }
     gs = gsl_matrix_memcpy(X, V);
-    for (i = 0; i < n && gs == GSL_SUCCESS; i++) {
+    if (gs == GSL_SUCCESS)
+        gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasNoTrans, CblasNonUnit, 1.0, P, X);
+    if (gs == GSL_SUCCESS)
+        gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasNoTrans, CblasUnit, 1.0, P, X);
+    for (i = n; i-- > 0 && gs == GSL_SUCCESS;) {
         const size_t k = (size_t)(ipiv[i] - 1);
         if (k != i)
             gs = gsl_matrix_swap_rows(X, i, k);
     }
-    if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasTrans, CblasUnit, 1.0, P, X);
-    if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasTrans, CblasNonUnit, 1.0, P, X);
     if (RIGMAT_NEVER(gs != GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "triangular solve failed: %s", gsl_strerror(gs));
     return RIGMAT_OK;
@@ -309,17 +326,15 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
 
     for (i = 0; i < n; i++) {
         const double *u = gsl_matrix_const_ptr(U, i, 0);
-        const double *v = gsl_matrix_const_ptr(V, i, 0);
+        double *v = gsl_matrix_ptr(V, i, 0);
         double *p = gsl_matrix_ptr(P, i, 0);
         for (j = 0; j < n; j++) {
             p[j] = v[j] - u[j];
-            /* V + U overwrites V */
-            gsl_matrix_set(V, i, j, v[j] + u[j]);
+            v[j] += u[j]; /* V + U overwrites V */
         }
     }
 #ifdef RIGMAT_LAPACK_LU
-    if (dgetrf_ != NULL && n >= lapack_min && n <= (size_t)INT_MAX &&
-        P->tda <= (size_t)INT_MAX)
+    if (dgetrf_ != NULL && n >= lapack_min && n <= (size_t)INT_MAX && P->tda <= (size_t)INT_MAX)
         return lapack_solve(V, P, X, ipiv, err);
 #else
     (void)ipiv;
@@ -361,13 +376,67 @@ static unsigned ceil_log2(double x)
     return e > 0 ? (unsigned)e : 0u;
 }
 
+/* log2 ||B^p||_1 of a nonnegative B (B = |A|, formed by the caller) by p
+ * products of B^T with a vector (for a nonnegative matrix the 1-norm is
+ * the largest entry of e^T B^p), by dgemv, rescaled at every step so that
+ * nothing overflows; -HUGE_VAL when it is zero.  v and t hold n entries
+ * each.  Cost O(p n^2): with p = 27 the whole choice from the powers
+ * costs about 7% of the exponential at n = 256 with dgemv, against about
+ * 25% with the same products as a plain C loop (CPU time, busy machine). */
+static double log2_abs_power_norm(const gsl_matrix *B, unsigned p, double *v, double *t)
+{
+    const size_t n = B->size1;
+    gsl_vector_view vv = gsl_vector_view_array(v, n), tv = gsl_vector_view_array(t, n);
+    double l = 0.0;
+    size_t j;
+    unsigned k;
+
+    for (j = 0; j < n; j++)
+        v[j] = 1.0;
+    for (k = 0; k < p; k++) {
+        double big = 0.0;
+        if (RIGMAT_NEVER(gsl_blas_dgemv(CblasTrans, 1.0, B, &vv.vector, 0.0, &tv.vector) !=
+                         GSL_SUCCESS))
+            return HUGE_VAL; /* sizes agree: never */
+        for (j = 0; j < n; j++)
+            if (t[j] > big)
+                big = t[j];
+        if (big == 0.0)
+            return -HUGE_VAL;
+        l += log2(big);
+        for (j = 0; j < n; j++)
+            v[j] = t[j] / big;
+    }
+    return l;
+}
+
+/* ell(2^-s A, m) of Al-Mohy and Higham (2009), eq. (3.12)-(3.13): the extra
+ * squarings that keep the rounding in r_m at the unit roundoff, from
+ * alpha = |c_(2m+1)| ||(|A|)^(2m+1)||_1 / ||A||_1, c_(2m+1) =
+ * (m!)^2 / ((2m)! (2m+1)!) the leading coefficient of the backward error
+ * series (Higham 2005, eq. (2.6)).  Scaling A by 2^-s scales alpha by
+ * 2^(-2ms).  l2 = log2 ||(|A|)^(2m+1)||_1, nrm = ||A||_1 (unscaled). */
+static unsigned ell(unsigned m, unsigned s, double l2, double nrm)
+{
+    const double md = (double)m;
+    const double l2c =
+            (2.0 * lgamma(md + 1.0) - lgamma(2.0 * md + 1.0) - lgamma(2.0 * md + 2.0)) / log(2.0);
+    const double l2alpha = l2c + l2 - log2(nrm) - 2.0 * md * (double)s;
+    const double q = ceil((l2alpha + 53.0) / (2.0 * md)); /* u = 2^-53 */
+
+    if (!(q > 0.0) || l2 == -HUGE_VAL)
+        return 0u;
+    return q > 64.0 ? 64u : (unsigned)q;
+}
+
 rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, rigmat_expm_ws *w,
                           rigmat_expm_info *info, rigmat_error *err)
 {
     rigmat_expm_info inf;
     size_t n, i, j;
     double nrm;
-    unsigned m, s, k;
+    unsigned m = 0, s, k, have;
+    int by_norm;
     gsl_matrix_view As, A2, A4, A6, A8, U, V, T;
     gsl_matrix *X, *Y;
     gsl_permutation perm;
@@ -402,15 +471,20 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     /* a permutation of length n over the workspace's storage */
     perm.size = n;
     perm.data = w->perm->data;
-    for (i = 0; i < n; i++)
+    /* rows through raw pointers here and below: per-entry gsl_matrix_get and
+     * _set (range checks) with ldexp took about 20% of the instructions of
+     * the whole exponential at n = 64 (callgrind, bench/RESULTS.md) */
+    for (i = 0; i < n; i++) {
+        const double *a = gsl_matrix_const_ptr(A, i, 0);
+        double *d = gsl_matrix_ptr(&As.matrix, i, 0);
         for (j = 0; j < n; j++) {
-            const double a = gsl_matrix_get(A, i, j);
-            if (!isfinite(a))
+            if (!isfinite(a[j]))
                 return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
                                    "matrix exponential: entry (%zu, %zu) is not finite", i + 1,
                                    j + 1);
-            gsl_matrix_set(&As.matrix, i, j, a);
+            d[j] = a[j];
         }
+    }
     nrm = rigmat_expm_norm1(&As.matrix);
     if ((flags & RIGMAT_EXPM_BALANCE) && n > 1) {
         gsl_vector_view D = gsl_vector_subvector(w->scale, 0, n);
@@ -437,34 +511,125 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             *info = inf;
         return RIGMAT_OK;
     }
-    /* Higham (2005), Algorithm 2.3: the lowest degree whose theta covers ||A||_1 */
+    have = 0;
     s = 0;
-    if (nrm <= theta3)
-        m = 3;
-    else if (nrm <= theta5)
-        m = 5;
-    else if (nrm <= theta7)
-        m = 7;
-    else if (nrm <= theta9)
-        m = 9;
-    else {
-        m = 13;
-        if (nrm > theta13)
-            s = ceil_log2(nrm / theta13);
-        if (s > 0)
-            for (i = 0; i < n; i++)
-                for (j = 0; j < n; j++)
-                    gsl_matrix_set(&As.matrix, i, j,
-                                   ldexp(gsl_matrix_get(&As.matrix, i, j), -(int)s));
+    /* the norm rule for a 1x1 matrix (nothing to gain) and when a power of
+     * the unscaled matrix overflows */
+    by_norm = !(flags & RIGMAT_EXPM_POWERS) || n < 2;
+    if (!by_norm) {
+        /* Al-Mohy and Higham (2009), Algorithm 3.1, with the upper bounds
+         * of expm.h for the norms of the powers not formed; ell() only for
+         * a degree whose eta passes (O(m n^2) each) */
+        const unsigned degs[] = { 3, 5, 7, 9 };
+        const double ths[] = { theta3, theta5, theta7, theta9 };
+        double *v = gsl_matrix_ptr(&T.matrix, 0, 0), *t = v + n; /* 2n <= n^2 for n >= 2 */
+        const gsl_matrix *absA = &U.matrix; /* |A|, free until the approximant */
+        double n2, n4, n6, eta[4], d8, d10, eta5;
+        size_t q;
+        unsigned d;
+
+        for (i = 0; i < n; i++) {
+            const double *a = gsl_matrix_const_ptr(&As.matrix, i, 0);
+            double *r = gsl_matrix_ptr(&U.matrix, i, 0);
+            for (j = 0; j < n; j++)
+                r[j] = fabs(a[j]);
+        }
+        rc = mul(&A2.matrix, &As.matrix, &As.matrix, err);
+        if (rc != RIGMAT_OK)
+            return rc;
+        inf.products++;
+        have = 2;
+        n2 = rigmat_expm_norm1(&A2.matrix);
+        eta[0] = sqrt(n2); /* bounds d_4 and d_6 */
+        m = 0;
+        if (eta[0] <= theta3 && ell(3, 0, log2_abs_power_norm(absA, 7, v, t), nrm) == 0)
+            m = 3;
+        if (m == 0) {
+            rc = mul(&A4.matrix, &A2.matrix, &A2.matrix, err);
+            if (rc != RIGMAT_OK)
+                return rc;
+            inf.products++;
+            have = 4;
+            n4 = rigmat_expm_norm1(&A4.matrix);
+            eta[1] = fmax(pow(n4, 0.25), pow(n4 * n2, 1.0 / 6.0));
+            if (eta[1] <= theta5 && ell(5, 0, log2_abs_power_norm(absA, 11, v, t), nrm) == 0)
+                m = 5;
+        }
+        if (m == 0) {
+            rc = mul(&A6.matrix, &A2.matrix, &A4.matrix, err);
+            if (rc != RIGMAT_OK)
+                return rc;
+            inf.products++;
+            have = 6;
+            n6 = rigmat_expm_norm1(&A6.matrix);
+            d8 = pow(fmin(n4 * n4, n6 * n2), 0.125);
+            eta[2] = fmax(pow(n6, 1.0 / 6.0), d8);
+            for (d = 2; d < 4 && m == 0; d++)
+                if (eta[2] <= ths[d] &&
+                    ell(degs[d], 0, log2_abs_power_norm(absA, 2 * degs[d] + 1, v, t), nrm) == 0)
+                    m = degs[d];
+            if (!isfinite(n2 * n4 * n6)) {
+                by_norm = 1; /* a power overflowed: A2, A4, A6 are not usable */
+                have = 0;
+            } else if (m == 0) {
+                d10 = pow(n4 * n6, 0.1);
+                eta[3] = fmax(d8, d10);
+                eta5 = fmin(eta[2], eta[3]);
+                m = 13;
+                if (eta5 > theta13)
+                    s = ceil_log2(eta5 / theta13);
+                s += ell(13, s, log2_abs_power_norm(absA, 27, v, t), nrm);
+            }
+        }
+        if (!by_norm && m == 13 && s > 0) {
+            /* 2^-s A and its powers: exact factors */
+            gsl_matrix *const pw[4] = { &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix };
+            for (q = 0; q < 4; q++) {
+                const double f = ldexp(1.0, -(int)(s * (q == 0 ? 1u : 2u * (unsigned)q)));
+                for (i = 0; i < n; i++) {
+                    double *r = gsl_matrix_ptr(pw[q], i, 0);
+                    for (j = 0; j < n; j++)
+                        r[j] *= f;
+                }
+            }
+        }
+    }
+    if (by_norm) {
+        m = 0;
+        s = 0;
+        /* Higham (2005), Algorithm 2.3: the lowest degree whose theta covers ||A||_1 */
+        if (nrm <= theta3)
+            m = 3;
+        else if (nrm <= theta5)
+            m = 5;
+        else if (nrm <= theta7)
+            m = 7;
+        else if (nrm <= theta9)
+            m = 9;
+        else {
+            m = 13;
+            if (nrm > theta13)
+                s = ceil_log2(nrm / theta13);
+            if (s > 0) {
+                /* 2^-s is exact and so is every product, up to underflow, where
+                 * it rounds as ldexp does */
+                const double f = ldexp(1.0, -(int)s);
+                for (i = 0; i < n; i++) {
+                    double *d = gsl_matrix_ptr(&As.matrix, i, 0);
+                    for (j = 0; j < n; j++)
+                        d[j] *= f;
+                }
+            }
+        }
     }
     inf.degree = m;
     inf.squarings = s;
     if (m == 13)
-        rc = pade13(&As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix, &T.matrix,
-                    &inf.products, err);
+        rc = pade13(have != 0, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix,
+                    &T.matrix, &inf.products, err);
     else
-        rc = pade_low(m, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix, &U.matrix,
-                      &V.matrix, &T.matrix, &inf.products, err);
+        rc = pade_low(m, have, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix,
+                      &U.matrix, &V.matrix, &T.matrix, &inf.products, err);
     if (rc != RIGMAT_OK)
         return rc;
     /* X = r_m in A2 (free now); P = V - U in A4 */
@@ -489,18 +654,20 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
         /* e^A = D e^A' D^-1 */
         for (i = 0; i < n; i++) {
             const double di = gsl_vector_get(w->scale, i);
+            double *x = gsl_matrix_ptr(X, i, 0);
             for (j = 0; j < n; j++)
-                gsl_matrix_set(X, i, j, gsl_matrix_get(X, i, j) * di / gsl_vector_get(w->scale, j));
+                x[j] = x[j] * di / gsl_vector_get(w->scale, j);
         }
     }
-    for (i = 0; i < n; i++)
-        for (j = 0; j < n; j++) {
-            const double x = gsl_matrix_get(X, i, j);
-            if (!isfinite(x))
+    for (i = 0; i < n; i++) {
+        const double *x = gsl_matrix_const_ptr(X, i, 0);
+        for (j = 0; j < n; j++)
+            if (!isfinite(x[j]))
                 return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
                                    "matrix exponential overflows (||A||_1 = %.3g)", nrm);
-            gsl_matrix_set(eA, i, j, x);
-        }
+    }
+    for (i = 0; i < n; i++)
+        memcpy(gsl_matrix_ptr(eA, i, 0), gsl_matrix_const_ptr(X, i, 0), n * sizeof(double));
     if (info != NULL)
         *info = inf;
     return RIGMAT_OK;

@@ -7,7 +7,13 @@
  * degree m in {3, 5, 7, 9} is used when ||A||_1 <= theta_m; otherwise m = 13
  * on A/2^s with s = ceil(log2(||A||_1/theta_13)), and the result is squared
  * s times.  The theta_m bound the backward error by the unit roundoff
- * u = 2^-53 (Higham 2005, Table 2.3).  The numerator and denominator are
+ * u = 2^-53 (Higham 2005, Table 2.3).  With RIGMAT_EXPM_POWERS (the
+ * default of discretization) the degree and s come instead from
+ * ||A^k||_1^(1/k) of the powers A^2, A^4, A^6 the approximant needs anyway,
+ * plus the extra squarings ell() for rounding in r_m: Al-Mohy and Higham,
+ * "A new scaling and squaring algorithm for the matrix exponential", SIAM
+ * J. Matrix Anal. Appl. 31(3):970-989, 2009, Algorithm 3.1; a non-normal
+ * matrix whose powers shrink is then not overscaled.  The numerator and denominator are
  * formed with gsl_blas_dgemm; (V - U) X = V + U is solved by one LU
  * factorization and two triangular solves with n right-hand sides.
  *
@@ -31,7 +37,16 @@
 #include <gsl/gsl_permutation.h>
 
 enum rigmat_expm_flags {
-    RIGMAT_EXPM_BALANCE = 1 << 0 /* try a diagonal balancing first */
+    RIGMAT_EXPM_BALANCE = 1 << 0, /* try a diagonal balancing first */
+    /* choose the degree and the squarings from ||A^k||_1^(1/k) of the
+     * powers the approximant needs anyway (Al-Mohy and Higham, SIAM J.
+     * Matrix Anal. Appl. 31(3), 2009, Algorithm 3.1) instead of ||A||_1:
+     * fewer squarings for non-normal matrices whose powers shrink (no
+     * overscaling).  Where the paper estimates ||A^8|| and ||A^10|| this
+     * uses the upper bounds ||A^4||^2 and ||A^4|| ||A^6|| (so never fewer
+     * squarings than the paper) and ||(|A|)^(2m+1)||_1 exactly by vector
+     * products. */
+    RIGMAT_EXPM_POWERS = 1 << 1
 };
 
 /* Scratch space for matrices up to nmax x nmax: eight n x n buffers, a
