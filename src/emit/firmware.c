@@ -953,7 +953,11 @@ rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit
     fprintf(cf, " * C99; from libm only sin, cos and sqrt%s; no allocation, no recursion.\n"
                 " * The evaluator of the mechanism is written once for any scalar type and\n"
                 " * appears twice below: with %s (f, h) and with dual numbers (value,\n"
-                " * tangent), which give the Jacobians exactly, one direction at a time.\n */\n",
+                " * tangent), which give the Jacobians exactly, one direction at a time.\n"
+                " * Caution: the model and its filters hold near the operating point they\n"
+                " * were made at; try them on the rig with current limits, an emergency stop\n"
+                " * within reach and the machine restrained, and defer to local codes and\n"
+                " * licensed practice.\n */\n",
             fl ? " (float forms: sinf, cosf, sqrtf)" : "", fl ? "float" : "double");
     fprintf(cf, "#include \"%s.h\"\n\n#include <math.h>\n\n", low);
     fputs("/* the sizes of the model's layout (FW_NX ...) and of the evaluator's\n"
