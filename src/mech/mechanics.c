@@ -749,19 +749,17 @@ static double complex read_specific_force(rigmat_mech *s, const rigmat_sensor *s
     const double complex c = ccos(s->bth[se->body]), sn = csin(s->bth[se->body]);
     double complex ax, ay, bx, by, p[2], a[2];
     size_t r;
-    if (s->rec != NULL) {
+    if (s->rec != NULL)
         rigmat_rec_point_accel(s->rec, se->body, se->at_m, a);
-        ax = a[0] - gx;
-        ay = a[1] - gy;
-    } else {
+    else /* the bias acceleration; the Jacobian times qdd is added below */
         point_kin(s, se->body, se->at_m, p, s->tJa, NULL, a);
-        ax = a[0] - gx;
-        ay = a[1] - gy;
+    ax = a[0] - gx;
+    ay = a[1] - gy;
+    if (s->rec == NULL)
         for (r = 0; r < n; r++) {
             ax += s->tJa[r] * s->qdd[r];
             ay += s->tJa[n + r] * s->qdd[r];
         }
-    }
     /* R(th)^T: world into the body frame */
     bx = c * ax + sn * ay;
     by = -sn * ax + c * ay;
