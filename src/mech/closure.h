@@ -35,7 +35,7 @@
 
 /* The relative singular value of the dependent block of the constraint
  * Jacobian (smallest over largest) below which a configuration is a dead
- * centre (DESIGN.md, "Closed loops"). */
+ * centre (README.md, "Closed loops"). */
 #define RIGMAT_CLOSURE_SV_RTOL 1e-9
 
 /* During an evaluation (simulation, the complex step) a dependent block
