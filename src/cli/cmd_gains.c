@@ -159,17 +159,12 @@ static rigmat_result *gains_result(const rigmat_model *m, const rigmat_lti *l,
 {
     const rigmat_layout *L = &m->layout;
     const double T = d->period_s;
-    rigmat_result *r = rigmat_result_alloc("gains");
+    rigmat_result *r = rigmat_result_for_layout("gains", m->name, L);
     double mag, tau;
     size_t at, i;
 
     if (r == NULL)
         return NULL;
-    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
-            L->outputs, L->ny);
-    rigmat_result_dim(r, "state", L->states, L->nx);
-    rigmat_result_dim(r, "input", L->inputs, L->nu);
-    rigmat_result_dim(r, "output", L->outputs, L->ny);
     rigmat_result_text(r, "model: %s\norder hash: %s\n", cli_model_name(m), L->order_hash);
     rigmat_result_text(r,
             "sampled at %.6g Hz (period %.6g ms), method %s; gains act on deviations from "

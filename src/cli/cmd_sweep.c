@@ -309,17 +309,12 @@ static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
 {
     const rigmat_layout *L = &m->layout;
     const rigmat_signal *w = L->inputs + L->nu_control;
-    rigmat_result *r = rigmat_result_alloc(o->discretize ? "sweep-discrete" : "sweep");
+    rigmat_result *r = rigmat_result_for_layout(o->discretize ? "sweep-discrete" : "sweep", m->name, L);
     size_t p, k;
     char key[48];
 
     if (r == NULL)
         return NULL;
-    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
-            L->outputs, L->ny);
-    rigmat_result_dim(r, "state", L->states, L->nx);
-    rigmat_result_dim(r, "input", L->inputs, L->nu);
-    rigmat_result_dim(r, "output", L->outputs, L->ny);
     if (o->discretize) {
         rigmat_result_dim(r, "disturbance", w, s->nw);
         rigmat_result_key(r, "period");

@@ -644,15 +644,10 @@ static rigmat_result *data_result(const rigmat_fw_input *in, const gsl_matrix *c
     const rigmat_layout *L = &m->layout;
     const rigmat_dlti *d = in->d;
     const rigmat_noise *nz = in->nz;
-    rigmat_result *r = rigmat_result_alloc("firmware");
+    rigmat_result *r = rigmat_result_for_layout("firmware", m->name, L);
 
     if (r == NULL)
         return NULL;
-    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
-            L->outputs, L->ny);
-    rigmat_result_dim(r, "state", L->states, L->nx);
-    rigmat_result_dim(r, "input", L->inputs, L->nu);
-    rigmat_result_dim(r, "output", L->outputs, L->ny);
     rigmat_result_key(r, "period");
     rigmat_result_number(r, d->period_s, "s");
     rigmat_result_key(r, "method");

@@ -391,6 +391,21 @@ void rigmat_result_dim(rigmat_result *r, const char *word, const rigmat_signal *
     r->dims[r->ndims++].n = n;
 }
 
+rigmat_result *rigmat_result_for_layout(const char *kind, const char *model,
+        const rigmat_layout *L)
+{
+    rigmat_result *r = rigmat_result_alloc(kind);
+
+    if (r == NULL)
+        return NULL;
+    rigmat_result_head(r, model, L->order_hash, L->states, L->nx, L->inputs, L->nu,
+            L->outputs, L->ny);
+    rigmat_result_dim(r, "state", L->states, L->nx);
+    rigmat_result_dim(r, "input", L->inputs, L->nu);
+    rigmat_result_dim(r, "output", L->outputs, L->ny);
+    return r;
+}
+
 void rigmat_result_head(rigmat_result *r, const char *model, const char *order_hash,
         const rigmat_signal *states, size_t nx, const rigmat_signal *inputs, size_t nu,
         const rigmat_signal *outputs, size_t ny)

@@ -132,6 +132,11 @@ void rigmat_result_free(rigmat_result *r);
 void rigmat_result_head(rigmat_result *r, const char *model, const char *order_hash,
         const rigmat_signal *states, size_t nx, const rigmat_signal *inputs, size_t nu,
         const rigmat_signal *outputs, size_t ny);
+/* A new result of the given kind headed by a model's layout: the head
+ * above with the model's name, order hash and signals, and the state,
+ * input and output lists as dims.  NULL when out of memory. */
+rigmat_result *rigmat_result_for_layout(const char *kind, const char *model,
+        const rigmat_layout *L);
 /* Record a name list that sizes matrices (for the C header's enums). */
 void rigmat_result_dim(rigmat_result *r, const char *word, const rigmat_signal *sig, size_t n);
 

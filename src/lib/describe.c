@@ -48,15 +48,10 @@ rigmat_result *rigmat_describe_linear(const rigmat_model *m, const rigmat_lti *l
         const double *q)
 {
     const rigmat_layout *L = &m->layout;
-    rigmat_result *r = rigmat_result_alloc("continuous");
+    rigmat_result *r = rigmat_result_for_layout("continuous", m->name, L);
 
     if (r == NULL)
         return NULL;
-    rigmat_result_head(r, m->name, L->order_hash, L->states, L->nx, L->inputs, L->nu,
-            L->outputs, L->ny);
-    rigmat_result_dim(r, "state", L->states, L->nx);
-    rigmat_result_dim(r, "input", L->inputs, L->nu);
-    rigmat_result_dim(r, "output", L->outputs, L->ny);
     rigmat_result_text(r, "model: %s\norder hash: %s\n\n", rigmat_model_display_name(m),
             L->order_hash);
     rigmat_result_key(r, "A");
