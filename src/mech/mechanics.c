@@ -441,6 +441,29 @@ static const force_work force_works[RIGMAT_NFORCE_FORMS] = {
     [RIGMAT_FORCE_ACROSS] = across_work,
 };
 
+rigmat_status rigmat_mech_link_line(const rigmat_link *lk, int spring,
+        const double complex pa[2], const double complex pb[2], const double complex va[2],
+        const double complex vb[2], double complex *ex, double complex *ey,
+        double complex *length, double complex *rate, rigmat_error *err)
+{
+    const double complex dx = pb[0] - pa[0], dy = pb[1] - pa[1];
+    const double complex d2 = dx * dx + dy * dy;
+    double complex d;
+
+    if (!(creal(d2) > 0.0)) {
+        err != NULL ? (void)(err->where = lk->loc) : (void)0;
+        return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                "%s '%s' has zero length: its line of action is undefined",
+                spring ? "spring" : "damper", lk->name);
+    }
+    d = csqrt(d2); /* Re d2 > 0: the principal branch is analytic here */
+    *ex = dx / d;
+    *ey = dy / d;
+    *length = d;
+    *rate = *ex * (vb[0] - va[0]) + *ey * (vb[1] - va[1]);
+    return RIGMAT_OK;
+}
+
 /* Fill M, hb, Q and the motor currents from the state of the workspace
  * (q, qd, ueff and the current states in cur).  RIGMAT_ENUMERIC for a point
  * spring or damper of zero length. */
@@ -517,25 +540,15 @@ static rigmat_status assemble(rigmat_mech *s, rigmat_error *err)
             val = s->bth[lk->body_b] - s->bth[lk->body_a];
             rate = s->bom[lk->body_b] - s->bom[lk->body_a];
         } else {
-            double complex pa[2], pb[2], va[2], vb[2], dx, dy, d2, d, ex, ey;
+            double complex pa[2], pb[2], va[2], vb[2], ex, ey;
+            rigmat_status lst;
             point_kin(s, lk->body_a, lk->point_a_m, pa, s->tJa, va, NULL);
             point_kin(s, lk->body_b, lk->point_b_m, pb, s->tJb, vb, NULL);
-            dx = pb[0] - pa[0];
-            dy = pb[1] - pa[1];
-            d2 = dx * dx + dy * dy;
-            if (!(creal(d2) > 0.0)) {
-                err != NULL ? (void)(err->where = lk->loc) : (void)0;
-                return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                        "%s '%s' has zero length: its line of action is undefined",
-                        spring ? "spring" : "damper", lk->name);
-            }
-            d = csqrt(d2); /* Re d2 > 0: the principal branch is analytic here */
-            ex = dx / d;
-            ey = dy / d;
+            lst = rigmat_mech_link_line(lk, spring, pa, pb, va, vb, &ex, &ey, &val, &rate, err);
+            if (lst != RIGMAT_OK)
+                return lst;
             for (r = 0; r < n; r++)
                 s->tj[r] = ex * (s->tJb[r] - s->tJa[r]) + ey * (s->tJb[n + r] - s->tJa[n + r]);
-            val = d;
-            rate = ex * (vb[0] - va[0]) + ey * (vb[1] - va[1]);
         }
         gen = spring ? -lk->stiffness * (val - lk->rest) : -lk->coefficient * rate;
         for (r = 0; r < n; r++)

@@ -103,6 +103,16 @@ rigmat_status rigmat_mech_motor_currents(rigmat_mech *s, const double *x, const 
 rigmat_status rigmat_mech_jacobians(rigmat_mech *s, const double *x, const double *u, double *A,
         double *B, double *C, double *D, double *f0, double *y0, rigmat_error *err);
 
+/* The line of a point-to-point spring or damper lk from its end points pa,
+ * pb and their velocities va, vb (world frame): the unit vector (ex, ey)
+ * from a to b, the length and its rate.  RIGMAT_ENUMERIC (naming lk) at
+ * zero length, where the line is undefined.  Shared by the mass-matrix
+ * method and the recursive one (recursive.c), so both read one rule. */
+rigmat_status rigmat_mech_link_line(const rigmat_link *lk, int spring,
+        const double complex pa[2], const double complex pb[2], const double complex va[2],
+        const double complex vb[2], double complex *ex, double complex *ey,
+        double complex *length, double complex *rate, rigmat_error *err);
+
 /* The held residual g(x, u), canonical order, and its exact Jacobians Gx
  * (nx*nx) and Gu (nx*nu, either may be NULL) by the complex step.  For the
  * rate of a free coordinate c, g_c = (M qdd)_c / M_cc: the generalized-force

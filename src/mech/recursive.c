@@ -360,23 +360,13 @@ static rigmat_status forces(rigmat_rec *r, rigmat_error *err)
             r->fb[3 * lk->body_b] += gen;
             r->fb[3 * lk->body_a] -= gen;
         } else {
-            double complex pa[2], pb[2], va[2], vb[2], dx, dy, d2, d, ex, ey;
+            double complex pa[2], pb[2], va[2], vb[2], ex, ey;
+            rigmat_status lst;
             point(r, lk->body_a, lk->point_a_m, pa, va);
             point(r, lk->body_b, lk->point_b_m, pb, vb);
-            dx = pb[0] - pa[0];
-            dy = pb[1] - pa[1];
-            d2 = dx * dx + dy * dy;
-            if (!(creal(d2) > 0.0)) {
-                err != NULL ? (void)(err->where = lk->loc) : (void)0;
-                return RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                        "%s '%s' has zero length: its line of action is undefined",
-                        spring ? "spring" : "damper", lk->name);
-            }
-            d = csqrt(d2); /* Re d2 > 0: the principal branch is analytic here */
-            ex = dx / d;
-            ey = dy / d;
-            val = d;
-            rate = ex * (vb[0] - va[0]) + ey * (vb[1] - va[1]);
+            lst = rigmat_mech_link_line(lk, spring, pa, pb, va, vb, &ex, &ey, &val, &rate, err);
+            if (lst != RIGMAT_OK)
+                return lst;
             gen = spring ? -lk->stiffness * (val - lk->rest) : -lk->coefficient * rate;
             add_point_force(r, lk->body_b, pb[0], pb[1], gen * ex, gen * ey);
             add_point_force(r, lk->body_a, pa[0], pa[1], -gen * ex, -gen * ey);
