@@ -331,6 +331,7 @@ $(BUILD)/san/fuzz-replay-%: $(BUILD)/san/tests/fuzz/fuzz_%.o $(BUILD)/san/tests/
         $(BUILD)/san/librigmat.a
 	$(CC) $(SAN_FLAGS) $(LDFLAGS) -o $@ $^ $(LIBS)
 $(BUILD)/fuzz/src/lib/api.o: $(BUILD)/share_dir.h
+$(BUILD)/fuzz/src/emit/firmware.o: $(BUILD)/fwtext.h
 -include $(FUZZ_OBJ_LIB:.o=.d) $(wildcard $(BUILD)/fuzz/tests/fuzz/*.d $(BUILD)/san/tests/fuzz/*.d)
 # Keep the harness objects make would otherwise delete as intermediate.
 .SECONDARY: $(FUZZ_NAMES:%=$(BUILD)/fuzz/tests/fuzz/fuzz_%.o) \
