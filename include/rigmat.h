@@ -301,7 +301,9 @@ typedef struct rigmat_mode_view {
 /* Analyse l: eigenvalues sorted by |s|, a complex pair as two modes (Im > 0
  * first).  period_s > 0 adds the sampled eigenvalues z = e^{sT}; 0 leaves
  * them out.  RIGMAT_ENUMERIC when an iteration fails; RIGMAT_EUSAGE for a
- * negative period. */
+ * negative period; RIGMAT_EMODEL when the model is too large to analyse
+ * (work n^3 (n + inputs x outputs) above 1e9, about 170 states: README.md,
+ * "Rules worth knowing"). */
 rigmat_status rigmat_linear_analyze(const rigmat_linear *l, double period_s,
         rigmat_analysis **out, rigmat_diags *diags);
 void rigmat_analysis_free(rigmat_analysis *a);

@@ -362,7 +362,22 @@ EXPECT_S=${HOSTILE_LARGE_TIMEOUT:-120}
 expect "1024-link chain, linearize" 0 "" "$R" linearize "$T/chain-1024.yaml" --format mtx \
     -o "$T/chain-1024"
 expect "48-link chain with a rotor, linearize" 0 "" "$R" linearize "$T/chain-48-rotor.yaml"
+# the text of linearize and check ends in the modes summary, whose work
+# grows as n^3 (n + channels): above the limit it says it was not done
+# (it ran 15 min and more on a 300-link chain before the limit)
+expect "1024-link chain, linearize text" 0 "" "$R" linearize "$T/chain-1024.yaml" -o "$T/lin.txt"
+grep -q "^modes: not available: the mode analysis of 2048 states" "$T/lin.txt" ||
+    bad "1024-link chain, linearize text: no 'modes: not available' line"
+expect "1024-link chain, check" 0 "" "$R" check "$T/chain-1024.yaml"
 EXPECT_S=$save_s
+awk "BEGIN { N = 100; $chain }" >"$T/chain-100.yaml"
+expect "100-link chain, modes" 1 "the mode analysis of 200 states and 0 input/output channels is refused" \
+    "$R" modes "$T/chain-100.yaml"
+expect "100-link chain, report" 1 "the mode analysis of 200 states" \
+    "$R" report "$T/chain-100.yaml" --rate 100Hz -o "$T/chain-100.html"
+[ ! -e "$T/chain-100.html" ] || bad "100-link chain, report: a report was written"
+awk "BEGIN { N = 60; $chain }" >"$T/chain-60.yaml"
+expect "60-link chain, modes" 0 "" "$R" modes "$T/chain-60.yaml"
 # the section limit (1024 entries) meets the joint limit (1024) first
 expect "1025-link chain" 1 "more than 1024 entries in 'joints'" "$R" linearize \
     "$G/chain-1025.yaml"

@@ -107,6 +107,8 @@ typedef struct rigmat_modes_settings {
     double stab_rtol;    /* marginal band and zeros "at 0", relative to omega_b; default 1e-6 */
     double inf_rtol;     /* a feedthrough below this (scaled) is zero; default 1e-10 */
     double share_min;    /* states below this share are not listed in text/JSON; default 0.01 */
+    double max_work;     /* cost limit: refuse when n^3 (n + nu ny) exceeds it (README.md,
+                          * "Rules worth knowing"); default 1e9 */
 } rigmat_modes_settings;
 
 rigmat_modes_settings rigmat_modes_settings_default(void);
