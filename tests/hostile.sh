@@ -369,7 +369,16 @@ expect "1024-link chain, linearize text" 0 "" "$R" linearize "$T/chain-1024.yaml
 grep -q "^modes: not available: the mode analysis of 2048 states" "$T/lin.txt" ||
     bad "1024-link chain, linearize text: no 'modes: not available' line"
 expect "1024-link chain, check" 0 "" "$R" check "$T/chain-1024.yaml"
+# nothing in solve: every equation above the tolerance is unmet at once
+# (the search for the unmet ones re-solved 2048 times: over 200 s)
+expect "1024-link chain, trim" 3 "not a steady state and nothing is solved for" \
+    "$R" trim "$T/chain-1024.yaml"
 EXPECT_S=$save_s
+# the firmware evaluator's limits are checked before any computation (it
+# took 54 s to refuse the 1000-link chain after sampling it)
+expect "1024-link chain, firmware" 1 "the firmware evaluator takes at most 64" \
+    "$R" firmware "$T/chain-1024.yaml" --rate 100Hz -o "$T/fw-1024"
+[ ! -e "$T/fw-1024" ] || bad "1024-link chain, firmware: a folder was written"
 awk "BEGIN { N = 100; $chain }" >"$T/chain-100.yaml"
 expect "100-link chain, modes" 1 "the mode analysis of 200 states and 0 input/output channels is refused" \
     "$R" modes "$T/chain-100.yaml"

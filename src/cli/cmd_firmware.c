@@ -157,6 +157,9 @@ rigmat_status cmd_firmware(int argc, char **argv, struct cli_env *env)
         st = RIGMAT_EUSAGE;
         goto done;
     }
+    st = rigmat_firmware_fits(m, &e);
+    if (st != RIGMAT_OK)
+        goto report;
     st = cli_linearize(env, m, &lti);
     if (st != RIGMAT_OK)
         goto done;

@@ -82,6 +82,25 @@ static rigmat_status too_big(rigmat_error *err, const char *what, size_t n, size
     return RIGMAT_EMODEL;
 }
 
+rigmat_status rigmat_firmware_fits(const rigmat_model *m, rigmat_error *err)
+{
+    const rigmat_layout *L = &m->layout;
+    const size_t counts[] = { m->nbodies, m->njoints, m->nmotors, m->nsprings + m->ndampers,
+                              m->nforces, m->nsensors };
+    const char *const words[] = { "bodies (with ground)", "joints", "motors",
+                                  "springs and dampers", "forces", "sensors" };
+    size_t i;
+
+    for (i = 0; i < sizeof counts / sizeof counts[0]; i++)
+        if (counts[i] > RIGMAT_FW_MAX_ELEMENTS)
+            return too_big(err, words[i], counts[i], RIGMAT_FW_MAX_ELEMENTS);
+    if (L->nx > RIGMAT_FW_MAX_SIGNALS || L->nu > RIGMAT_FW_MAX_SIGNALS ||
+            L->ny > RIGMAT_FW_MAX_SIGNALS)
+        return too_big(err, "states, inputs or outputs (one group)",
+                GSL_MAX(L->nx, GSL_MAX(L->nu, L->ny)), RIGMAT_FW_MAX_SIGNALS);
+    return RIGMAT_OK;
+}
+
 /* The table of m (canonical order, from the equations mech). */
 static rigmat_status fill_table(const rigmat_model *m, const rigmat_mech *mech, struct fw_model *t,
         rigmat_error *err)

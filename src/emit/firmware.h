@@ -67,6 +67,11 @@ void rigmat_firmware_name(const rigmat_model *m, const char *name, char *buf, si
 rigmat_status rigmat_firmware_write(const rigmat_fw_input *in, const rigmat_emit_opts *o,
         FILE *hf, FILE *cf, rigmat_fw_counts *counts, rigmat_error *err);
 
+/* RIGMAT_EMODEL (naming the count) when m has more elements or signals
+ * than the evaluator takes; a check before any computation, so a model far
+ * beyond them is refused at once. */
+rigmat_status rigmat_firmware_fits(const rigmat_model *m, rigmat_error *err);
+
 /* The EKF's RK4 substeps over one period: the smallest k with
  * T rho(A) / k <= RIGMAT_FW_RK4_REACH, rho(A) the spectral radius of the
  * continuous Jacobian at the operating point (its infinity norm when the

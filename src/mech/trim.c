@@ -354,7 +354,7 @@ static void derivative_unit(const char *unit, char *out, size_t size)
 static rigmat_status resolve(rigmat_trim *t, double tol, size_t max_iter, int *ok,
         rigmat_error *err)
 {
-    rigmat_status st = evaluate(t, t->x, t->u, 1, &t->res, err);
+    rigmat_status st = evaluate(t, t->x, t->u, t->np > 0, &t->res, err);
     size_t it;
 
     t->moved = 1;
@@ -376,6 +376,15 @@ static rigmat_status search_unmet(rigmat_trim *t, double tol, size_t max_iter, r
     memset(t->active, 1, t->ne + 1);
     t->held = 1;
     st = resolve(t, tol, max_iter, &ok, err);
+    if (st == RIGMAT_OK && !ok && t->np == 0) {
+        /* nothing to solve for: no re-solve can move the point, so the
+         * unmet equations are exactly those above the tolerance (and the
+         * search below would cost ne evaluations for nothing) */
+        for (e = 0; e < t->ne; e++)
+            if (!(fabs(t->r[e]) <= tol))
+                t->active[e] = 0;
+        return st;
+    }
     /* drop the worst active equation at the least-squares point of the
      * active set, re-solve from there; each pass drops one, so at most ne */
     while (st == RIGMAT_OK && !ok && nd < t->ne) {
@@ -540,13 +549,23 @@ rigmat_status rigmat_trim_run(rigmat_mech *s, const rigmat_model *m, const rigma
             const size_t ns = t->S != NULL ? t->S->size : 0;
             const double smax = ns > 0 ? gsl_vector_get(t->S, 0) : 0.0;
             const double smin = ns > 0 ? gsl_vector_get(t->S, ns - 1) : 0.0;
-            st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
-                    "trim did not converge: residual %.3g after %zu steps (tolerance %.3g); "
-                    "Jacobian condition estimate %.3g; last iterate %s", t->res, t->iter,
-                    opt->trim_tol, smin > 0.0 ? smax / smin : HUGE_VAL, buf);
+            if (t->np == 0)
+                st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "the operating point is not a steady state and nothing is solved for: "
+                        "residual %.3g (tolerance %.3g)", t->res, opt->trim_tol);
+            else
+                st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC,
+                        "trim did not converge: residual %.3g after %zu steps (tolerance %.3g); "
+                        "Jacobian condition estimate %.3g; last iterate %s", t->res, t->iter,
+                        opt->trim_tol, smin > 0.0 ? smax / smin : HUGE_VAL, buf);
         }
-        rigmat_error_hint(err, "start the solved names nearer a steady state, or check that "
-                               "one exists (rigmat trim names the equations it cannot meet)");
+        if (t->np == 0)
+            rigmat_error_hint(err, "name the unknowns in operating_point.solve (README.md, "
+                                   "\"Trim: the residual per equation and the unmet "
+                                   "equations\")");
+        else
+            rigmat_error_hint(err, "start the solved names nearer a steady state, or check that "
+                                   "one exists (rigmat trim names the equations it cannot meet)");
     }
     rigmat_trim_free(t);
     return st;

@@ -419,8 +419,16 @@ static double log2_abs_power_norm(const gsl_matrix *B, unsigned p, double *v, do
 static unsigned ell(unsigned m, unsigned s, double l2, double nrm)
 {
     const double md = (double)m;
-    const double l2c =
-            (2.0 * lgamma(md + 1.0) - lgamma(2.0 * md + 1.0) - lgamma(2.0 * md + 2.0)) / log(2.0);
+    double l2c = 0.0;
+    unsigned k;
+
+    /* log2 c_(2m+1) = 2 log2 m! - log2 (2m)! - log2 (2m+1)!, summed term
+     * by term (lgamma would write the process-wide signgam: a data race
+     * between threads) */
+    for (k = 2; k <= 2 * m + 1; k++) {
+        const double lk = log2((double)k);
+        l2c += (k <= m ? 2.0 * lk : 0.0) - (k <= 2 * m ? lk : 0.0) - lk;
+    }
     const double l2alpha = l2c + l2 - log2(nrm) - 2.0 * md * (double)s;
     const double q = ceil((l2alpha + 53.0) / (2.0 * md)); /* u = 2^-53 */
 
