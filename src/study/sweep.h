@@ -67,6 +67,8 @@ typedef struct rigmat_sweep_opts {
     int discretize;              /* 1: sample every point with dopts */
     rigmat_discretize_opts dopts;
     unsigned threads;            /* >= 1 */
+    int reload;                  /* 1: reload the model at every point even where the fast
+                                  * path applies (to check the two agree) */
     /* called (under a lock, from any thread) after each point; may be NULL */
     void (*progress)(void *ctx, size_t done, size_t total);
     void *progress_ctx;
@@ -92,6 +94,7 @@ typedef struct rigmat_sweep {
     unsigned char *ok;        /* npoints */
     char (*reason)[256];      /* npoints; "" at good points */
     size_t nfailed;
+    int fast;                 /* the points took the fast path (see above) */
 } rigmat_sweep;
 
 /* The number of grid points of the axes; 0 when it exceeds
