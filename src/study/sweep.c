@@ -2,7 +2,8 @@
  *
  * Each point loads the model afresh with its overrides (the same loader,
  * the same text as a single `linearize --set` run), so the numbers agree
- * exactly; the load is cheap beside the Jacobian and the exponential.
+ * exactly; operating-point axes take the fast path of sweep.h instead
+ * (the reload cost about 85% of a point).
  * Threads take the next point from a shared counter; each writes only its
  * point's slot of s->data, s->ok and s->reason.
  */
