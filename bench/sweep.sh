@@ -7,12 +7,16 @@
 # difference of two sweep sizes, so the start-up cancels), in wall and CPU
 # time: on a shared machine the CPU time is the steadier figure.  Part of
 # `make bench`: it prints, it never fails on time.  SWEEP_POINTS overrides
-# the size.
+# the size (default 20000, so that the process start-up is spread thin).
+# Then bench/sweep_bench.c: the compute alone per point (rigmat_sweep_run,
+# no process, no output) on the fast path and by reloading the model at
+# every point, its linearize and sampling stages, and the counts behind an
+# estimate of the operations per point.
 set -eu
 D=$(mktemp -d)
 trap 'rm -rf "$D"' EXIT INT TERM
 RIGMAT=${RIGMAT:-build/rigmat} DEMO=$(dirname "$0")/../examples/balancer.yaml \
-    ${PYTHON:-/usr/bin/python3} - "$D" "${SWEEP_POINTS:-4000}" <<'PY'
+    ${PYTHON:-/usr/bin/python3} - "$D" "${SWEEP_POINTS:-20000}" <<'PY'
 import os
 import resource
 import subprocess
@@ -54,7 +58,7 @@ ts = (time.perf_counter() - start) / k
 same = all(open("%s/s1/%s" % (d, f), "rb").read() == open("%s/sn/%s" % (d, f), "rb").read()
            for f in os.listdir("%s/s1" % d))
 print("sweep: the demo (%d states), %d points, linearize + ZOH at 200 Hz, --format npy, "
-      "whole process (scipy %s)" % (A.shape[1], P, scipy.__version__))
+      "whole process, start-up included (scipy %s)" % (A.shape[1], P, scipy.__version__))
 print("  rigmat, 1 thread:   %8.0f points/s (%.3g s wall, %.3g s CPU)" % (P / t1, t1, c1))
 print("  rigmat, %d threads:  %8.0f points/s (%.3g s wall, %.3g s CPU)%s"
       % (NT, P / tn, tn, cn, ", same bytes" if same else ", OUTPUT DIFFERS FROM 1 THREAD"))
@@ -63,3 +67,32 @@ print("  ratio rigmat (1 thread) / scipy: %.2f (target >= 10)" % ((P / t1) * ts)
 print("  compute-only per point, 1 thread: %.0f us wall, %.0f us CPU (%d - %d points)"
       % (1e6 * (t1 - t0) / (P - P0), 1e6 * (c1 - c0) / (P - P0), P, P0))
 PY
+B=${BUILD:-build}
+if [ -x "$B/bench/sweep_bench" ]; then
+    DEMO=$(dirname "$0")/../examples/balancer.yaml
+    F=$("$B/bench/sweep_bench" "$DEMO" "tilt=-10deg:10deg:${SWEEP_POINTS:-20000}" 200)
+    R=$("$B/bench/sweep_bench" "$DEMO" "tilt=-10deg:10deg:1000" 200 --reload)
+    ${PYTHON:-/usr/bin/python3} - "$F" "$R" <<'PY'
+import sys
+f = dict(kv.split("=") for kv in sys.argv[1].split())
+r = dict(kv.split("=") for kv in sys.argv[2].split())
+n = int(f["expm_n"])
+prods = int(f["expm_products"])
+# ZOH: one exponential of the (nx + nu) block; a product of two n x n
+# matrices is 2 n^3 flops, the Pade solve (LU, 2 triangular solves with n
+# right-hand sides) 2/3 n^3 + 2 n^3 (G. H. Golub, C. F. Van Loan, Matrix
+# Computations, 4th ed. 2013, sec. 3.2 and 1.1)
+flops = prods * 2 * n ** 3 + (2.0 / 3.0 + 2.0) * n ** 3
+print("  compute only (rigmat_sweep_run, 1 thread, no process, no output):")
+print("    fast path (model loaded once, values written in place): %s us/point CPU"
+      " (%s us wall), %s points" % (f["sweep_us_cpu"], f["sweep_us_wall"], f["points"]))
+print("    reloading the model at every point:                       %s us/point CPU"
+      " (%s us wall), %s points" % (r["sweep_us_cpu"], r["sweep_us_wall"], r["points"]))
+print("    stages: linearize %s us (%s complex evaluations of f and h), ZOH %s us"
+      % (f["lin_us"], f["evals"], f["disc_us"]))
+print("    ZOH exponential: %dx%d, Pade degree %s, %s squarings, %d products: about %.0f"
+      " flops, i.e. %.2f GFLOP/s at the ZOH time"
+      % (n, n, f["expm_degree"], f["expm_squarings"], prods, flops,
+         flops / (1e3 * float(f["disc_us"]))))
+PY
+fi

@@ -5,7 +5,9 @@
 #include "sweep.h"
 
 #include <check.h>
+#include <dirent.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <gsl/gsl_math.h>
@@ -157,6 +159,131 @@ START_TEST(points_match_single_runs_and_do_not_depend_on_threads)
 }
 END_TEST
 
+/* Sweep one axis over file's model twice, by the fast path (when it
+ * applies) and by reloading the model at every point, on 1 and 2 threads:
+ * every number, ok flag and reason must be the same bytes.  Returns
+ * whether the fast path ran. */
+static int fast_equals_reload(const char *file, const char *axis, double period_s,
+        size_t want_failed)
+{
+    const rigmat_options opt = rigmat_options_default();
+    rigmat_model *m = NULL;
+    rigmat_sweep_axis ax;
+    rigmat_sweep_opts o;
+    rigmat_sweep sf, sr;
+    rigmat_diags d;
+    rigmat_error e;
+    int fast;
+
+    rigmat_diags_init(&d);
+    ck_assert_msg(rigmat_model_load(file, NULL, 0, &opt, &m, &d) == RIGMAT_OK, "%s", file);
+    ck_assert_msg(rigmat_model_check_equations(m, &d) == RIGMAT_OK, "%s", file);
+    rigmat_diags_release(&d);
+    memset(&e, 0, sizeof e);
+    ck_assert_msg(rigmat_sweep_axis_parse(axis, m, &ax, &e) == RIGMAT_OK, "%s: %s", file,
+            e.message);
+    memset(&o, 0, sizeof o);
+    o.file = file;
+    o.opt = &opt;
+    o.discretize = period_s > 0;
+    o.dopts = rigmat_discretize_opts_default();
+    if (period_s > 0)
+        o.dopts.period_s = period_s;
+    o.threads = 2;
+    ck_assert_int_eq(rigmat_sweep_run(m, &ax, 1, &o, &sf, &e), RIGMAT_OK);
+    o.threads = 1;
+    o.reload = 1;
+    ck_assert_int_eq(rigmat_sweep_run(m, &ax, 1, &o, &sr, &e), RIGMAT_OK);
+    ck_assert(!sr.fast);
+    ck_assert_uint_eq(sf.npoints, sr.npoints);
+    ck_assert_msg(sf.nfailed == want_failed, "%s %s: %zu failed (first: %s)", file, axis,
+            sf.nfailed, sf.reason[0]);
+    ck_assert_msg(memcmp(sf.data, sr.data, sf.npoints * sf.stride * sizeof *sf.data) == 0,
+            "%s %s: the fast path's numbers differ from the reloads'", file, axis);
+    ck_assert(memcmp(sf.ok, sr.ok, sf.npoints) == 0);
+    ck_assert_msg(memcmp(sf.reason, sr.reason, sf.npoints * sizeof *sf.reason) == 0,
+            "%s %s: reasons differ: '%s' vs '%s'", file, axis, sf.reason[0], sr.reason[0]);
+    fast = sf.fast;
+    rigmat_sweep_release(&sf);
+    rigmat_sweep_release(&sr);
+    rigmat_sweep_axis_release(&ax);
+    rigmat_model_free(m);
+    return fast;
+}
+
+/* The fast path (an operating-point axis: each thread loads the model
+ * once and rewrites the value) against reloading the model at every point,
+ * on every example: a coordinate, a rate and an input axis, sampled and
+ * not; a model with closures keeps the reload path. */
+START_TEST(the_fast_path_equals_reloading_on_every_example)
+{
+    const rigmat_options opt = rigmat_options_default();
+    DIR *dir = opendir("../examples");
+    struct dirent *de;
+    size_t nfiles = 0;
+
+    ck_assert(dir != NULL);
+    while ((de = readdir(dir)) != NULL) {
+        const size_t len = strlen(de->d_name);
+        char file[512], axis[256];
+        rigmat_model *m = NULL;
+        rigmat_diags d;
+        size_t k, kc = RIGMAT_NONE, kr = RIGMAT_NONE;
+        int closed;
+        if (len < 6 || strcmp(de->d_name + len - 5, ".yaml") != 0)
+            continue;
+        snprintf(file, sizeof file, "../examples/%s", de->d_name);
+        rigmat_diags_init(&d);
+        ck_assert_int_eq(rigmat_model_load(file, NULL, 0, &opt, &m, &d), RIGMAT_OK);
+        ck_assert_int_eq(rigmat_model_check_equations(m, &d), RIGMAT_OK);
+        rigmat_diags_release(&d);
+        closed = m->nclosures > 0;
+        for (k = 0; k < m->layout.nx; k++) {
+            if (m->layout.states[k].kind == RIGMAT_SIG_COORD && kc == RIGMAT_NONE)
+                kc = k;
+            if (m->layout.states[k].kind == RIGMAT_SIG_RATE && kr == RIGMAT_NONE)
+                kr = k;
+        }
+        /* a coordinate, in SI (a bare number is read in the field's unit) */
+        ck_assert(kc != RIGMAT_NONE);
+        snprintf(axis, sizeof axis, "%s=-0.02:0.03:4", m->joints[m->layout.states[kc].index].name);
+        ck_assert_msg(fast_equals_reload(file, axis, 0.005, 0) == !closed, "%s", file);
+        /* a rate, as a --set path, sampled */
+        if (kr != RIGMAT_NONE && !closed) {
+            snprintf(axis, sizeof axis, "operating_point.rates.%s=-0.1:0.2:3",
+                    m->joints[m->layout.states[kr].index].name);
+            ck_assert_msg(fast_equals_reload(file, axis, 0.01, 0), "%s", file);
+        }
+        /* the first input, continuous only */
+        if (m->layout.nu > 0) {
+            snprintf(axis, sizeof axis, "%s=-0.01:0.01:3", m->layout.inputs[0].name);
+            ck_assert_msg(fast_equals_reload(file, axis, 0, 0) == !closed, "%s", file);
+        }
+        rigmat_model_free(m);
+        nfiles++;
+    }
+    closedir(dir);
+    ck_assert_uint_ge(nfiles, 10);
+}
+END_TEST
+
+/* A point beyond an input's limit fails with the loader's own reason on
+ * both paths; a trim at every point (solve: [drive]); a parameter axis
+ * keeps the reload path. */
+START_TEST(the_fast_path_fails_limits_trims_and_leaves_parameters_to_reloads)
+{
+    ck_assert(fast_equals_reload(demo, "drive=-1.5:1.5:4", 0.005, 2));
+    ck_assert(fast_equals_reload(demo, "drive=-1.5:1.5:4", 0, 2));
+    ck_assert(fast_equals_reload("../examples/pendulum-motor.yaml", "shoulder=10deg:40deg:4",
+            0.005, 0));
+    ck_assert(fast_equals_reload("../examples/quarter-car.yaml",
+            "operating_point.inputs.road=-0.01:0.01:3", 0.002, 0));
+    ck_assert(!fast_equals_reload(demo, "bodies.chassis.mass=3kg:5kg:3", 0.005, 0));
+    /* a unit the field does not take: every point refused, by the loader */
+    ck_assert(!fast_equals_reload(demo, "tilt=0kg:1kg:2", 0, 2));
+}
+END_TEST
+
 Suite *sweep_suite(void);
 Suite *sweep_suite(void)
 {
@@ -167,6 +294,9 @@ Suite *sweep_suite(void)
     tcase_add_test(tc, malformed_axes_are_usage_errors);
     tcase_add_test(tc, the_point_cap_refuses_a_grid_beyond_it);
     tcase_add_test(tc, points_match_single_runs_and_do_not_depend_on_threads);
+    tcase_add_test(tc, the_fast_path_equals_reloading_on_every_example);
+    tcase_add_test(tc, the_fast_path_fails_limits_trims_and_leaves_parameters_to_reloads);
+    tcase_set_timeout(tc, 60);
     suite_add_tcase(s, tc);
     return s;
 }

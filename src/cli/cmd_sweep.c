@@ -82,36 +82,52 @@ static void progress_cb(void *ctx, size_t done, size_t total)
 
 /* ------------------------------------------------------------ npy */
 
-/* n doubles as little-endian IEEE 754 binary64, whatever the host's order. */
-static void put_doubles(FILE *f, const double *v, size_t n)
-{
-    unsigned char b[8];
-    uint64_t bits;
-    size_t i, j;
-
-    for (i = 0; i < n; i++) {
-        memcpy(&bits, &v[i], sizeof bits);
-        for (j = 0; j < 8; j++)
-            b[j] = (unsigned char)(bits >> (8 * j));
-        fwrite(b, 1, 8, f);
-    }
-}
-
 static int is_vector(size_t b)
 {
     return b == RIGMAT_SB_X0 || b == RIGMAT_SB_U0 || b == RIGMAT_SB_Y0;
+}
+
+/* A file of the folder whose bytes are built whole (buf taken, freed on
+ * failure): no stream, so no copying as it grows.  0, or -1 when out of
+ * memory. */
+static int add_file_bytes(struct cli_env *env, const char *name, char *buf, size_t len)
+{
+    struct cli_files *files = &env->files;
+    struct cli_file *cf;
+
+    if (files->n == sizeof files->items / sizeof files->items[0]) {
+        free(buf);
+        return -1;
+    }
+    cf = &files->items[files->n];
+    memset(cf, 0, sizeof *cf);
+    cf->name = malloc(strlen(name) + 1);
+    if (cf->name == NULL) {
+        free(buf);
+        return -1;
+    }
+    strcpy(cf->name, name);
+    cf->buf = buf;
+    cf->len = len;
+    files->n++;
+    return 0;
 }
 
 /* One array in NumPy's .npy format, version 1.0 (NumPy documentation,
  * "numpy.lib.format"): the magic "\x93NUMPY", version 1 0, a little-endian
  * 16-bit header length, the header dict padded with spaces and ended by a
  * newline so the data starts at a multiple of 64 bytes, then the data,
- * little-endian IEEE doubles in C order. */
-static void npy_write(FILE *f, const double *data, size_t count, const size_t *shape,
-        size_t ndim)
+ * little-endian IEEE doubles in C order (whatever the host's order).  The
+ * data are nchunks runs of chunk doubles, run k at data + k * stride: a
+ * block of every point's slot, or one contiguous array (nchunks 1).
+ * 0, or -1 when out of memory. */
+static int add_npy(struct cli_env *env, const char *name, const size_t *shape, size_t ndim,
+        const double *data, size_t chunk, size_t stride, size_t nchunks)
 {
-    char head[256];
-    size_t used, total, i, k;
+    char head[256], *buf;
+    unsigned char *at;
+    size_t used, total, i, j, k;
+    uint64_t bits;
     int w;
 
     w = snprintf(head, sizeof head, "{'descr': '<f8', 'fortran_order': False, 'shape': (");
@@ -124,14 +140,24 @@ static void npy_write(FILE *f, const double *data, size_t count, const size_t *s
     w = snprintf(head + used, sizeof head - used, "), }");
     used += (size_t)w;
     total = (10 + used + 1 + 63) / 64 * 64;
-    fwrite("\x93NUMPY\x01\x00", 1, 8, f);
-    fputc((int)((total - 10) & 0xff), f);
-    fputc((int)((total - 10) >> 8), f);
-    fwrite(head, 1, used, f);
-    for (i = 10 + used + 1; i < total; i++)
-        fputc(' ', f);
-    fputc('\n', f);
-    put_doubles(f, data, count);
+    /* chunk x nchunks is at most the sweep's numbers (RIGMAT_SWEEP_MAX_DOUBLES) */
+    buf = malloc(total + 8 * chunk * nchunks + 1);
+    if (buf == NULL)
+        return -1;
+    memcpy(buf, "\x93NUMPY\x01\x00", 8);
+    buf[8] = (char)((total - 10) & 0xff);
+    buf[9] = (char)((total - 10) >> 8);
+    memcpy(buf + 10, head, used);
+    memset(buf + 10 + used, ' ', total - 11 - used);
+    buf[total - 1] = '\n';
+    at = (unsigned char *)buf + total;
+    for (k = 0; k < nchunks; k++)
+        for (i = 0; i < chunk; i++) {
+            memcpy(&bits, &data[k * stride + i], sizeof bits);
+            for (j = 0; j < 8; j++)
+                *at++ = (unsigned char)(bits >> (8 * j));
+        }
+    return add_file_bytes(env, name, buf, total + 8 * chunk * nchunks);
 }
 
 static FILE *add_file(struct cli_env *env, const char *name)
@@ -199,24 +225,19 @@ static rigmat_status write_npy(struct cli_env *env, const rigmat_model *m, const
         if (!s->has[b])
             continue;
         snprintf(name, sizeof name, "%s.npy", block_name[b]);
-        if ((f = add_file(env, name)) == NULL)
-            return RIGMAT_ENOMEM;
         shape[0] = s->npoints;
         shape[1] = s->rows[b];
         shape[2] = s->cols[b];
-        /* the header, then each point's block (contiguous in its slot) in turn */
-        npy_write(f, NULL, 0, shape, is_vector(b) ? 2 : 3);
-        for (p = 0; p < s->npoints; p++)
-            put_doubles(f, s->data + p * s->stride + s->off[b], s->rows[b] * s->cols[b]);
+        /* each point's block (contiguous in its slot) in turn */
+        if (add_npy(env, name, shape, is_vector(b) ? 2 : 3, s->data + s->off[b],
+                    s->rows[b] * s->cols[b], s->stride, s->npoints) != 0)
+            return RIGMAT_ENOMEM;
     }
-    if ((f = add_file(env, "grid.npy")) == NULL)
-        return RIGMAT_ENOMEM;
     shape[0] = s->npoints;
     shape[1] = s->naxes;
-    npy_write(f, grid, s->npoints * s->naxes, shape, 2);
-    if ((f = add_file(env, "ok.npy")) == NULL)
+    if (add_npy(env, "grid.npy", shape, 2, grid, s->npoints * s->naxes, 0, 1) != 0 ||
+            add_npy(env, "ok.npy", shape, 1, okv, s->npoints, 0, 1) != 0)
         return RIGMAT_ENOMEM;
-    npy_write(f, okv, s->npoints, shape, 1);
     if ((f = add_file(env, "index.json")) == NULL)
         return RIGMAT_ENOMEM;
     rigmat_json_begin(&j, f);

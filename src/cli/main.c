@@ -100,7 +100,7 @@ static rigmat_status emit_folder(struct cli_env *env)
     memset(&e, 0, sizeof e);
     for (i = 0; i < env->files.n; i++) {
         struct cli_file *cf = &env->files.items[i];
-        const int bad = fclose(cf->f) != 0;
+        const int bad = cf->f != NULL && fclose(cf->f) != 0; /* NULL: bytes given whole */
         cf->f = NULL;
         if (bad) {
             fprintf(stderr, "rigmat %s: out of memory while writing the result\n", env->command);

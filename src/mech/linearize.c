@@ -61,7 +61,9 @@ void rigmat_system_set_base(rigmat_system *s, const double *x_canon)
     memcpy(s->xc, x_canon, s->cnx * sizeof *s->xc);
 }
 
-rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, rigmat_error *err)
+/* The system of m without a point: the equations, the maps between the
+ * layout and the canonical order, scratch. */
+static rigmat_status system_build(const rigmat_model *m, rigmat_system **out, rigmat_error *err)
 {
     rigmat_system *s = calloc(1, sizeof *s);
     const rigmat_layout *L = &m->layout, *C;
@@ -124,9 +126,24 @@ rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, ri
             goto fail;
         }
     }
-    /* states the layout leaves out sit at the operating point; they must be
-     * cyclic coordinates (rigmat_model_check_equations reports every one) */
-    k = 0;
+    *out = s;
+    return RIGMAT_OK;
+fail:
+    rigmat_system_free(s);
+    return st;
+}
+
+/* Set s at the model's operating point as it stands now: the states the
+ * layout leaves out must be cyclic coordinates there (a check that reads
+ * the point; rigmat_model_check_equations reports every one), then the
+ * point itself into s->xc, s->uc. */
+static rigmat_status system_at_point(rigmat_system *s, rigmat_error *err)
+{
+    const rigmat_model *m = s->m;
+    const rigmat_layout *C = rigmat_mech_canonical(s->mech);
+    rigmat_status st;
+    size_t k = 0;
+
     st = rigmat_mech_next_noncyclic(m, s->mech, &k, err);
     if (st == RIGMAT_OK && k != RIGMAT_NONE) {
         st = RIGMAT_FAIL(err, RIGMAT_EMODEL,
@@ -138,15 +155,24 @@ rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, ri
             err->where = m->order_states.locs[0];
     }
     if (st != RIGMAT_OK)
-        goto fail;
-    st = rigmat_mech_operating_point(s->mech, s->xc, s->uc, err);
-    if (st != RIGMAT_OK)
-        goto fail;
+        return st;
+    return rigmat_mech_operating_point(s->mech, s->xc, s->uc, err);
+}
+
+rigmat_status rigmat_system_alloc(const rigmat_model *m, rigmat_system **out, rigmat_error *err)
+{
+    rigmat_system *s = NULL;
+    rigmat_status st = system_build(m, &s, err);
+
+    *out = NULL;
+    if (st == RIGMAT_OK)
+        st = system_at_point(s, err);
+    if (st != RIGMAT_OK) {
+        rigmat_system_free(s);
+        return st;
+    }
     *out = s;
     return RIGMAT_OK;
-fail:
-    rigmat_system_free(s);
-    return st;
 }
 
 static void scatter(rigmat_system *s, const double *x, const double *u)
@@ -324,12 +350,12 @@ static rigmat_status warn_steady_motion(const rigmat_system *s, const rigmat_lay
 }
 
 /* The winding current per motor of each layout input at the canonical point
- * in s (0 for inputs that are not motors), into cur (length s->nu). */
-static rigmat_status input_currents(rigmat_system *s, double *cur, rigmat_error *err)
+ * in s (0 for inputs that are not motors), into cur (length s->nu); mc is
+ * scratch of m->nmotors entries (NULL when there are none). */
+static rigmat_status input_currents(rigmat_system *s, double *mc, double *cur, rigmat_error *err)
 {
     const rigmat_model *m = s->m;
     const rigmat_layout *L = &m->layout;
-    double *mc;
     rigmat_status st;
     size_t k;
 
@@ -337,14 +363,10 @@ static rigmat_status input_currents(rigmat_system *s, double *cur, rigmat_error 
         cur[k] = 0.0;
     if (m->nmotors == 0)
         return RIGMAT_OK;
-    mc = calloc(m->nmotors, sizeof *mc);
-    if (mc == NULL)
-        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
     st = rigmat_mech_motor_currents(s->mech, s->xc, s->uc, mc, err);
     for (k = 0; k < s->nu && st == RIGMAT_OK; k++)
         if (L->inputs[k].kind == RIGMAT_SIG_MOTOR)
             cur[k] = mc[L->inputs[k].index];
-    free(mc);
     return st;
 }
 
@@ -461,30 +483,82 @@ static void fill_noise(const rigmat_model *m, const rigmat_layout *L, rigmat_lti
     }
 }
 
-rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt, rigmat_lti **out,
+struct rigmat_linearizer {
+    rigmat_system *s;
+    rigmat_lti *lti; /* the result of the last run; NULL once taken */
+    double *mc;      /* per motor: winding currents (scratch) */
+};
+
+void rigmat_linearizer_free(rigmat_linearizer *z)
+{
+    if (z == NULL)
+        return;
+    rigmat_system_free(z->s);
+    rigmat_lti_free(z->lti);
+    free(z->mc);
+    free(z);
+}
+
+rigmat_status rigmat_linearizer_alloc(const rigmat_model *m, rigmat_linearizer **out,
+        rigmat_error *err)
+{
+    rigmat_linearizer *z;
+    const rigmat_layout *L;
+    rigmat_status st;
+
+    *out = NULL;
+    if (RIGMAT_NEVER(m == NULL))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "linearize: missing argument");
+    L = &m->layout;
+    z = calloc(1, sizeof *z);
+    if (z == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    st = system_build(m, &z->s, err);
+    if (st != RIGMAT_OK)
+        goto fail;
+    /* the system was built from this layout: same sizes, control first */
+    if (RIGMAT_NEVER(z->s->nx != L->nx || z->s->nu != L->nu || z->s->ny != L->ny ||
+                L->nu_control > L->nu || z->s->cnx < z->s->nx || z->s->cnu < z->s->nu)) {
+        st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "the layout does not match the system");
+        goto fail;
+    }
+    z->lti = rigmat_lti_alloc(L->nx, L->nu, L->ny, L->nu_control);
+    z->mc = calloc(m->nmotors + 1, sizeof *z->mc);
+    if (z->lti == NULL || z->mc == NULL ||
+            rigmat_lti_set_signals(z->lti, L->states, L->inputs, L->outputs) != RIGMAT_OK) {
+        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        goto fail;
+    }
+    /* the noise figures are the model's constants: none depends on the point */
+    fill_noise(m, L, z->lti);
+    *out = z;
+    return RIGMAT_OK;
+fail:
+    rigmat_linearizer_free(z);
+    return st;
+}
+
+rigmat_status rigmat_linearizer_run(rigmat_linearizer *z, const rigmat_options *opt,
         rigmat_diags *warnings, rigmat_error *err)
 {
-    rigmat_system *s = NULL;
-    rigmat_lti *lti = NULL;
+    rigmat_system *s;
+    rigmat_lti *lti;
+    const rigmat_model *m;
     const rigmat_layout *L, *CL;
     rigmat_status st;
     double residual = 0.0;
     size_t k;
 
-    if (RIGMAT_NEVER(m == NULL || opt == NULL || out == NULL))
+    if (RIGMAT_NEVER(z == NULL || z->lti == NULL || opt == NULL))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "linearize: missing argument");
+    s = z->s;
+    lti = z->lti;
+    m = s->m;
     L = &m->layout;
-    *out = NULL;
-    st = rigmat_system_alloc(m, &s, err);
+    CL = rigmat_mech_canonical(s->mech);
+    st = system_at_point(s, err);
     if (st != RIGMAT_OK)
         return st;
-    CL = rigmat_mech_canonical(s->mech);
-    /* the system was built from this layout: same sizes, control first */
-    if (RIGMAT_NEVER(s->nx != L->nx || s->nu != L->nu || s->ny != L->ny ||
-                L->nu_control > L->nu || s->cnx < s->nx || s->cnu < s->nu)) {
-        st = RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "the layout does not match the system");
-        goto done;
-    }
     if (m->op_solve.count > 0) {
         /* names in solve that the equations leave free keep their given
          * values: say so, as trim does */
@@ -512,28 +586,17 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
         }
         rigmat_trim_result_release(&tr);
         if (st != RIGMAT_OK)
-            goto done;
+            return st;
     }
     st = rigmat_mech_jacobians(s->mech, s->xc, s->uc, s->A, s->B, s->C, s->D, s->fc, s->yc, err);
     if (st != RIGMAT_OK)
-        goto done;
+        return st;
     st = warn_steady_motion(s, CL, warnings);
-    if (st != RIGMAT_OK) {
-        (void)RIGMAT_FAIL(err, st, "out of memory");
-        goto done;
-    }
+    if (st != RIGMAT_OK)
+        return RIGMAT_FAIL(err, st, "out of memory");
     for (k = 0; k < CL->nx; k++)
         if (rigmat_mech_is_balance_row(s->mech, k) && fabs(s->fc[k]) > residual)
             residual = fabs(s->fc[k]);
-    lti = rigmat_lti_alloc(L->nx, L->nu, L->ny, L->nu_control);
-    if (lti == NULL) {
-        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
-        goto done;
-    }
-    if (rigmat_lti_set_signals(lti, L->states, L->inputs, L->outputs) != RIGMAT_OK) {
-        st = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
-        goto done;
-    }
     pick(s, lti->A, lti->B, lti->C, lti->D);
     for (k = 0; k < L->nx; k++) {
         gsl_vector_set(lti->x0, k, s->xc[s->xmap[k]]);
@@ -545,25 +608,44 @@ rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt,
         gsl_vector_set(lti->y0, k, s->yc[s->ymap[k]]);
     lti->residual = residual;
     lti->is_steady = residual <= opt->trim_tol;
-    fill_noise(m, L, lti);
-    st = input_currents(s, lti->input_current, err);
+    st = input_currents(s, z->mc, lti->input_current, err);
     if (st == RIGMAT_OK && opt->limits_refuse)
         st = rigmat_limits_check(m, L->inputs, L->nu, lti->u0 != NULL ? lti->u0->data : NULL,
                 lti->input_current, err);
     if (st != RIGMAT_OK)
-        goto done;
+        return st;
     if (!isfinite(residual) || !all_finite(lti->A) || !all_finite(lti->B) ||
             !all_finite(lti->C) || !all_finite(lti->D) || !vec_finite(lti->x0) ||
             !vec_finite(lti->u0) || !vec_finite(lti->y0) || !vec_finite(lti->f0)) {
         st = RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the linear model is not finite (NaN or Inf)");
         rigmat_error_hint(err, "check the model's parameters and operating point");
-        goto done;
+        return st;
     }
-    *out = lti;
-    lti = NULL;
-done:
-    rigmat_lti_free(lti);
-    rigmat_system_free(s);
+    return RIGMAT_OK;
+}
+
+const rigmat_lti *rigmat_linearizer_lti(const rigmat_linearizer *z)
+{
+    return z->lti;
+}
+
+rigmat_status rigmat_linearize(const rigmat_model *m, const rigmat_options *opt, rigmat_lti **out,
+        rigmat_diags *warnings, rigmat_error *err)
+{
+    rigmat_linearizer *z = NULL;
+    rigmat_status st;
+
+    if (RIGMAT_NEVER(m == NULL || opt == NULL || out == NULL))
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "linearize: missing argument");
+    *out = NULL;
+    st = rigmat_linearizer_alloc(m, &z, err);
+    if (st == RIGMAT_OK)
+        st = rigmat_linearizer_run(z, opt, warnings, err);
+    if (st == RIGMAT_OK) {
+        *out = z->lti;
+        z->lti = NULL;
+    }
+    rigmat_linearizer_free(z);
     return st;
 }
 
@@ -592,12 +674,13 @@ rigmat_status rigmat_trim_model(const rigmat_model *m, const rigmat_options *opt
     for (k = 0; k < s->nu; k++)
         r->u[k] = s->uc[s->umap[k]];
     if (st == RIGMAT_OK && opt->limits_refuse) {
-        double *cur = calloc(s->nu + 1, sizeof *cur);
-        st = cur == NULL ? RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory")
-                         : input_currents(s, cur, err);
+        double *cur = calloc(s->nu + 1, sizeof *cur), *mc = calloc(m->nmotors + 1, sizeof *mc);
+        st = cur == NULL || mc == NULL ? RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory")
+                                       : input_currents(s, mc, cur, err);
         if (st == RIGMAT_OK)
             st = rigmat_limits_check(m, m->layout.inputs, s->nu, r->u, cur, err);
         free(cur);
+        free(mc);
     }
     st2 = st;
     rigmat_system_free(s);

@@ -26,6 +26,23 @@ size_t rigmat_system_input_canon(const rigmat_system *s, size_t k);
 void rigmat_system_set_base(rigmat_system *s, const double *x_canon);
 
 
+/* The linearization of one model, reusable at many operating points (the
+ * sweep's fast path, src/study/sweep.c): the system, the result and the
+ * scratch are allocated once; each run reads the model's operating point
+ * as it stands (m->op_coordinates, op_rates, op_inputs, which the caller
+ * may rewrite between runs, one thread per linearizer and its model) and
+ * computes exactly what rigmat_linearize computes, which is alloc, one run
+ * and taking the result.  Statuses and messages as rigmat_linearize's;
+ * after a failed run the result is stale.  The result is owned by the
+ * linearizer and rewritten by the next run. */
+typedef struct rigmat_linearizer rigmat_linearizer;
+rigmat_status rigmat_linearizer_alloc(const rigmat_model *m, rigmat_linearizer **out,
+        rigmat_error *err);
+rigmat_status rigmat_linearizer_run(rigmat_linearizer *z, const rigmat_options *opt,
+        rigmat_diags *warnings, rigmat_error *err);
+const rigmat_lti *rigmat_linearizer_lti(const rigmat_linearizer *z);
+void rigmat_linearizer_free(rigmat_linearizer *z);
+
 /* The first non-zero response of one row to a positive step in input k:
  * the smallest order r with a non-zero entry of d (r = 0) or
  * row A^(r-1) B[:, k] (r >= 1), up to nx; entries that are rounding

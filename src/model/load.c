@@ -1996,6 +1996,19 @@ static int input_limit(const rigmat_model *m, const char *name, double lim[2])
     return 1;
 }
 
+int rigmat_load_op_input_outside(const rigmat_model *m, const char *name, double value,
+        rigmat_error *err)
+{
+    double lim[2];
+
+    if (!input_limit(m, name, lim) || (value >= lim[0] && value <= lim[1]))
+        return 0;
+    (void)RIGMAT_FAIL(err, RIGMAT_EMODEL, "operating-point input '%s' is %.6g, outside its "
+            "limit [%.6g, %.6g] (SI units)", name, value, lim[0], lim[1]);
+    rigmat_error_hint(err, "lower the input, or widen its 'limit' if the hardware allows it");
+    return 1;
+}
+
 static size_t input_names(const rigmat_model *m, const char **names, size_t max)
 {
     size_t i, n = 0;
@@ -2089,6 +2102,84 @@ static void read_settings(struct ld *L, const struct ent *op, const char *key, i
     }
 }
 
+/* The unit kind read_settings gives the key of section which (0
+ * coordinates, 1 rates, 2 inputs) when it accepts the key: 1 with *q set,
+ * 0 when it would refuse it. */
+static int setting_kind(const rigmat_model *m, int which, const char *key, rigmat_kind *q)
+{
+    size_t j;
+
+    if (which == 2)
+        return input_kind(m, key, q) == 1;
+    j = find_joint(m, key);
+    if (j == RIGMAT_NONE || !joint_moves(&m->joints[j]) ||
+            ((int)m->joints[j].driven > 0 && which + 1 >= (int)m->joints[j].driven))
+        return 0;
+    *q = joint_kind(&m->joints[j], which);
+    return 1;
+}
+
+rigmat_status rigmat_load_op_value(const rigmat_model *m, const char *set,
+        const rigmat_options *opt, int *which, char *name, size_t name_len, double *value)
+{
+    static const char *const sections[] = { "coordinates", "rates", "inputs" };
+    static const char head[] = "operating_point.";
+    const char *p = set, *eq = strchr(set, '=');
+    rigmat_diags files, d;
+    rigmat_node *node = NULL;
+    rigmat_kind q = RIGMAT_Q_NUMBER;
+    rigmat_status st;
+    size_t k, len;
+    struct ld L;
+    struct ent e;
+
+    if (eq == NULL || strncmp(p, head, sizeof head - 1) != 0)
+        return RIGMAT_EMODEL;
+    p += sizeof head - 1;
+    for (k = 0; k < NW(sections); k++) {
+        len = strlen(sections[k]);
+        if (strncmp(p, sections[k], len) == 0 && p[len] == '.')
+            break;
+    }
+    if (k == NW(sections))
+        return RIGMAT_EMODEL;
+    *which = (int)k;
+    p += strlen(sections[k]) + 1;
+    len = (size_t)(eq - p);
+    if (len == 0 || len >= name_len)
+        return RIGMAT_EMODEL;
+    for (k = 0; k < len; k++)
+        if (!((p[k] >= 'a' && p[k] <= 'z') || (p[k] >= 'A' && p[k] <= 'Z') ||
+                    (p[k] >= '0' && p[k] <= '9') || p[k] == '_' || p[k] == '-'))
+            return RIGMAT_EMODEL; /* a list element or a deeper path: not a setting */
+    memcpy(name, p, len);
+    name[len] = '\0';
+    if (!setting_kind(m, *which, name, &q))
+        return RIGMAT_EMODEL;
+    /* the value as rigmat_load_sets parses it, then as read_settings reads it */
+    rigmat_diags_init(&files);
+    rigmat_diags_init(&d);
+    st = rigmat_load_yaml_text(eq + 1, strlen(eq + 1), "--set", 1,
+            (unsigned long)(eq - set) + 2, opt, &files, &d, &node);
+    if (st == RIGMAT_OK && node == NULL)
+        st = RIGMAT_EMODEL;
+    if (st == RIGMAT_OK) {
+        memset(&L, 0, sizeof L);
+        L.d = &d;
+        L.opt = opt;
+        memset(&e, 0, sizeof e);
+        e.name = "operating_point";
+        if (!num_node(&L, &e, node, q, 0, value))
+            st = L.nomem ? RIGMAT_ENOMEM : RIGMAT_EMODEL;
+    }
+    if (st == RIGMAT_OK && d.errors > 0)
+        st = RIGMAT_EMODEL;
+    rigmat_node_free(node);
+    rigmat_diags_release(&d);
+    rigmat_diags_release(&files);
+    return st;
+}
+
 static void read_namelist(struct ld *L, const struct ent *e, const rigmat_node *n,
         rigmat_namelist *out)
 {
@@ -2138,7 +2229,7 @@ static void read_operating_point(struct ld *L, const rigmat_node *root)
     e.name = "operating_point";
     e.loc = f->key_loc;
     e.map = f->value;
-    snprintf(e.words, sizeof e.words, "the operating point");
+    snprintf(e.words, sizeof e.words, "%s", RIGMAT_LOAD_OP_WORDS);
     if (f->value->type != RIGMAT_NODE_MAP) {
         lerr(L, NULL, f->value->loc, NULL, "expected a mapping (coordinates, rates, inputs, "
                 "solve), got %s", rigmat_node_type_words(f->value->type));
@@ -2152,13 +2243,11 @@ static void read_operating_point(struct ld *L, const rigmat_node *root)
      * "Limits"): the hardware cannot hold that point */
     for (i = 0; i < m->nop_inputs; i++) {
         const rigmat_setting *st = &m->op_inputs[i];
-        double lim[2];
+        rigmat_error le;
         if (st->name == NULL)
             continue; /* its copy ran out of memory, recorded already */
-        if (input_limit(m, st->name, lim) && (st->value < lim[0] || st->value > lim[1]))
-            lerr(L, &e, st->loc, "lower the input, or widen its 'limit' if the hardware "
-                    "allows it", "operating-point input '%s' is %.6g, outside its limit "
-                    "[%.6g, %.6g] (SI units)", st->name, st->value, lim[0], lim[1]);
+        if (rigmat_load_op_input_outside(m, st->name, st->value, &le))
+            lerr(L, &e, st->loc, le.hint, "%s", le.message);
     }
     f = field(&e, "solve");
     if (f == NULL)

@@ -146,4 +146,25 @@ rigmat_status rigmat_load_sets(rigmat_node *root, const char *const *sets, size_
 rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
         const rigmat_options *opt, rigmat_diags *d);
 
+/* The words that place an operating-point error ("the operating point:
+ * ..."), shared with the sweep's fast path (src/study/sweep.c). */
+#define RIGMAT_LOAD_OP_WORDS "the operating point"
+
+/* 1 when value (SI) of the operating-point input called name lies outside
+ * that control input's `limit` (README.md, "Limits"), with err's message
+ * and hint the loader's diagnostic of it; 0 when it holds or there is none. */
+int rigmat_load_op_input_outside(const rigmat_model *m, const char *name, double value,
+        rigmat_error *err);
+
+/* The SI value an override "operating_point.SECTION.NAME=VALUE" (SECTION
+ * coordinates, rates or inputs) gives its setting when m is loaded with
+ * it: VALUE parsed as rigmat_load_sets parses it and read by the same
+ * function as the schema reads it, so the double is the loader's to the
+ * bit.  *which is 0, 1, 2 for the section and name (name_len bytes) the
+ * setting's name.  RIGMAT_EMODEL when the override is no such setting or
+ * the loader would refuse it (its diagnostics come from a real load);
+ * RIGMAT_ENOMEM.  Loads nothing: m supplies the kinds. */
+rigmat_status rigmat_load_op_value(const rigmat_model *m, const char *set,
+        const rigmat_options *opt, int *which, char *name, size_t name_len, double *value);
+
 #endif /* RIGMAT_LOAD_H */

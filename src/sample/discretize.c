@@ -465,8 +465,41 @@ static int finite_all(const gsl_matrix *m)
     return 1;
 }
 
+/* 1 when d has the sizes of a result of s and o (n plant states, L delay
+ * stages): it can be refilled in place. */
+static int dlti_fits(const rigmat_dlti *d, const rigmat_lti *s, size_t L)
+{
+    return d->nx_plant == s->nx && d->nu == s->nu_control && d->nw == s->nu - s->nu_control &&
+           d->ny == s->ny && d->ndelay == L && d->delay_states == NULL;
+}
+
+static void zero_if(gsl_matrix *m)
+{
+    if (m != NULL)
+        gsl_matrix_set_zero(m);
+}
+
 rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opts *o,
                                 rigmat_discretize_ws *w, rigmat_dlti **out, rigmat_error *err)
+{
+    rigmat_dlti *d = NULL;
+    rigmat_status rc;
+
+    if (out != NULL)
+        *out = NULL;
+    if (out == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "discretize: missing argument");
+    rc = rigmat_discretize_reuse(s, o, w, &d, err);
+    if (rc != RIGMAT_OK)
+        rigmat_dlti_free(d);
+    else
+        *out = d;
+    return rc;
+}
+
+rigmat_status rigmat_discretize_reuse(const rigmat_lti *s, const rigmat_discretize_opts *o,
+                                      rigmat_discretize_ws *w, rigmat_dlti **io,
+                                      rigmat_error *err)
 {
     rigmat_dlti *d = NULL;
     gsl_matrix_view Cv, Dv, Pv;
@@ -476,9 +509,7 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
     rigmat_status rc;
     int bad = 0;
 
-    if (out != NULL)
-        *out = NULL;
-    if (out == NULL)
+    if (io == NULL)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "discretize: missing argument");
     rc = check_opts(s, o, w, err);
     if (rc != RIGMAT_OK)
@@ -510,7 +541,19 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
             return rc;
         }
     }
-    d = calloc(1, sizeof *d);
+    if (*io != NULL && dlti_fits(*io, s, L)) {
+        /* refilled in place: every block starts from zero, as a new one */
+        d = *io;
+        zero_if(d->Ad);
+        zero_if(d->Bd);
+        zero_if(d->Gd);
+        zero_if(d->Cd);
+        zero_if(d->Dd);
+        zero_if(d->Ed);
+        goto fill;
+    }
+    rigmat_dlti_free(*io);
+    *io = d = calloc(1, sizeof *d);
     if (d == NULL)
         return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
     d->method = o->method;
@@ -529,10 +572,13 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
     d->Cd = zeros(ny, d->nx, &bad);
     d->Dd = zeros(ny, mc, &bad);
     d->Ed = zeros(ny, mw, &bad);
-    if (bad) {
-        rc = RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
-        goto done;
-    }
+    if (bad)
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+fill:
+    d->method = o->method;
+    d->period_s = o->period_s;
+    d->prewarp_hz = o->prewarp_hz;
+    d->delay_samples = o->delay_samples;
     /* the method writes Ad and Cd in place (their plant blocks), Dm into w->Dm */
     Pv = lead(d->Ad, n, n);
     Phi = &Pv.matrix;
@@ -546,7 +592,7 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
     }
     rc = method_core(s, o, w, Phi, Cm, Dm, err);
     if (rc != RIGMAT_OK)
-        goto done;
+        return rc;
     if (mw > 0)
         put(d->Gd, 0, 0, w->Gf, 0, mc, n, mw, 1.0);
     if (ny > 0) {
@@ -563,7 +609,7 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
         /* stage j (1-based) holds u[k-j] in columns n + (j-1) mc ... */
         rc = delay_gammas(s, o, frac, w, err);
         if (rc != RIGMAT_OK)
-            goto done;
+            return rc;
         if (whole == 0)
             put(d->Bd, 0, 0, w->G0, 0, 0, n, mc, 1.0); /* u[k-0] */
         else
@@ -577,16 +623,11 @@ rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opt
             put(d->Cd, 0, n + (L - 1) * mc, Dm, 0, 0, ny, mc, 1.0);
         rc = name_delays(s, d, err);
         if (rc != RIGMAT_OK)
-            goto done;
+            return rc;
     }
     if (!finite_all(d->Ad) || !finite_all(d->Bd) || !finite_all(d->Gd) || !finite_all(d->Cd) ||
             !finite_all(d->Dd) || !finite_all(d->Ed))
         rc = RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "the sampled model is not finite");
-done:
-    if (rc != RIGMAT_OK)
-        rigmat_dlti_free(d);
-    else
-        *out = d;
     return rc;
 }
 

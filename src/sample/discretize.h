@@ -123,6 +123,16 @@ void rigmat_discretize_ws_free(rigmat_discretize_ws *w);
 rigmat_status rigmat_discretize(const rigmat_lti *s, const rigmat_discretize_opts *o,
                                 rigmat_discretize_ws *w, rigmat_dlti **out, rigmat_error *err);
 
+/* The same into *io, for many models of one shape (the sweep): when *io
+ * holds a result of the sizes s and o give (and no delay states), it is
+ * refilled in place, starting from zero as a new one does, so the numbers
+ * are rigmat_discretize's to the bit; otherwise it is freed and a new one
+ * allocated.  *io (NULL or a result) stays the caller's, whatever the
+ * status; after a failure its numbers are stale. */
+rigmat_status rigmat_discretize_reuse(const rigmat_lti *s, const rigmat_discretize_opts *o,
+                                      rigmat_discretize_ws *w, rigmat_dlti **io,
+                                      rigmat_error *err);
+
 /* ------------------------------------------------------------ sampling advice */
 
 /* Thresholds of the advice below, with their documented defaults. */

@@ -2,13 +2,17 @@
  *
  * Each point loads the model afresh with its overrides (the same loader,
  * the same text as a single `linearize --set` run), so the numbers agree
- * exactly; the load is cheap beside the Jacobian and the exponential.
+ * exactly; operating-point axes take the fast path of sweep.h instead
+ * (the reload cost about 85% of a point).
  * Threads take the next point from a shared counter; each writes only its
  * point's slot of s->data, s->ok and s->reason.
  */
 #include "sweep.h"
 #include "units.h"
 #include "reentrant.h"
+#include "load.h"
+#include "linearize.h"
+#include "invariant.h"
 
 #include <errno.h>
 #include <math.h>
@@ -228,6 +232,28 @@ struct shared {
     pthread_mutex_t lock;
     size_t next, done;
     rigmat_status fatal; /* out of memory in a worker */
+    /* the fast path (fast = 1): per axis, its values as the loader reads
+     * them (SI) and the setting's section and name; the overrides of the
+     * model each thread loads once; that model loaded by the main thread,
+     * taken by the first worker */
+    int fast;
+    double *fsi[RIGMAT_SWEEP_MAX_AXES];
+    int fwhich[RIGMAT_SWEEP_MAX_AXES];
+    char fname[RIGMAT_SWEEP_MAX_AXES][128];
+    const char *tsets[64 + RIGMAT_SWEEP_MAX_AXES];
+    size_t ntsets;
+    rigmat_model *first;
+};
+
+/* What one thread keeps from point to point. */
+struct worker_state {
+    rigmat_discretize_ws *ws;
+    rigmat_dlti *d;
+    /* the fast path: the thread's own model, its linearizer, and per axis
+     * the setting its values are written into */
+    rigmat_model *m;
+    rigmat_linearizer *z;
+    rigmat_setting *set[RIGMAT_SWEEP_MAX_AXES];
 };
 
 static void put_matrix(double *dst, const gsl_matrix *m, size_t rows, size_t cols)
@@ -247,6 +273,21 @@ static void put_vector(double *dst, const gsl_vector *v, size_t n)
         dst[i] = v != NULL ? gsl_vector_get(v, i) : 0.0;
 }
 
+/* The reason of a point the loader refuses, for an error placed within
+ * within (may be NULL). */
+static void refused_reason(char *reason, size_t len, const char *within, const char *message)
+{
+    const char *const parts[] = { "the model is refused: ", within != NULL ? within : "",
+        within != NULL ? ": " : "", message };
+    size_t used = 0, k, i;
+
+    /* as snprintf would, cutting a long message to the reason's size */
+    for (k = 0; k < sizeof parts / sizeof parts[0]; k++)
+        for (i = 0; parts[k][i] != '\0' && used + 1 < len; i++)
+            reason[used++] = parts[k][i];
+    reason[used] = '\0';
+}
+
 /* The first error of d as a reason. */
 static void diag_reason(char *reason, size_t len, const rigmat_diags *d)
 {
@@ -254,31 +295,116 @@ static void diag_reason(char *reason, size_t len, const rigmat_diags *d)
 
     for (i = 0; i < d->count; i++)
         if (d->items[i].severity == RIGMAT_ERROR) {
-            snprintf(reason, len, "the model is refused: %s%s%s",
-                    d->items[i].within_what != NULL ? d->items[i].within_what : "",
-                    d->items[i].within_what != NULL ? ": " : "", d->items[i].message);
+            refused_reason(reason, len, d->items[i].within_what, d->items[i].message);
             return;
         }
     snprintf(reason, len, "the model is refused");
 }
 
-/* Compute point p into its slot; returns RIGMAT_ENOMEM only when memory
- * ran out (any other failure marks the point). */
-static rigmat_status run_point(struct shared *sh, size_t p, rigmat_discretize_ws **ws)
+/* The point's slot from its linear model l (of model m) and, with a rate,
+ * its sampled model: 0 when the point is good, else -1 with the reason
+ * written, or RIGMAT_ENOMEM in *rc. */
+static int finish_point(struct shared *sh, size_t p, const rigmat_model *m, const rigmat_lti *l,
+        struct worker_state *w, rigmat_status *rc)
+{
+    rigmat_sweep *s = sh->s;
+    const rigmat_sweep_opts *o = sh->o;
+    double *slot = s->data + p * s->stride;
+    char *reason = s->reason[p];
+    const size_t reason_len = sizeof s->reason[p];
+    rigmat_error e;
+    rigmat_status st;
+    size_t i;
+
+    memset(&e, 0, sizeof e);
+    /* a backstop: linearize already refuses a point beyond an input limit
+     * (README.md, "Limits"); a duty cycle lies in [-1, 1] whatever it says */
+    for (i = 0; i < m->layout.nu; i++) {
+        const rigmat_signal *in = &m->layout.inputs[i];
+        const double u = gsl_vector_get(l->u0, i);
+        if (in->kind == RIGMAT_SIG_MOTOR && m->motors[in->index].drive == RIGMAT_DRIVE_DUTY &&
+                !(fabs(u) <= 1.0)) {
+            snprintf(reason, reason_len, "input '%s' is %.6g, beyond its duty limit of 1",
+                    in->name, u);
+            return -1;
+        }
+    }
+    put_matrix(slot + s->off[RIGMAT_SB_A], l->A, s->nx, s->nx);
+    put_matrix(slot + s->off[RIGMAT_SB_B], l->B, s->nx, s->nu);
+    put_matrix(slot + s->off[RIGMAT_SB_C], l->C, s->ny, s->nx);
+    put_matrix(slot + s->off[RIGMAT_SB_D], l->D, s->ny, s->nu);
+    put_vector(slot + s->off[RIGMAT_SB_X0], l->x0, s->nx);
+    put_vector(slot + s->off[RIGMAT_SB_U0], l->u0, s->nu);
+    put_vector(slot + s->off[RIGMAT_SB_Y0], l->y0, s->ny);
+    if (o->discretize) {
+        if (w->ws == NULL) {
+            w->ws = rigmat_discretize_ws_alloc(s->nx, s->nu, s->ny);
+            if (w->ws == NULL) {
+                *rc = RIGMAT_ENOMEM;
+                return -1;
+            }
+        }
+        st = rigmat_discretize_reuse(l, &o->dopts, w->ws, &w->d, &e);
+        if (st == RIGMAT_ENOMEM) {
+            *rc = st;
+            return -1;
+        }
+        if (st != RIGMAT_OK) {
+            snprintf(reason, reason_len, "%s", e.message);
+            return -1;
+        }
+        put_matrix(slot + s->off[RIGMAT_SB_AD], w->d->Ad, s->nx, s->nx);
+        put_matrix(slot + s->off[RIGMAT_SB_BD], w->d->Bd, s->nx, s->nuc);
+        put_matrix(slot + s->off[RIGMAT_SB_GD], w->d->Gd, s->nx, s->nw);
+        put_matrix(slot + s->off[RIGMAT_SB_CD], w->d->Cd, s->ny, s->nx);
+        put_matrix(slot + s->off[RIGMAT_SB_DD], w->d->Dd, s->ny, s->nuc);
+        put_matrix(slot + s->off[RIGMAT_SB_ED], w->d->Ed, s->ny, s->nw);
+    }
+    for (i = 0; i < s->stride; i++)
+        if (!isfinite(slot[i])) {
+            snprintf(reason, reason_len, "a result is not finite");
+            return -1;
+        }
+    return 0;
+}
+
+/* Mark point p good, or failed with its reason (NaN numbers). */
+static void mark_point(rigmat_sweep *s, size_t p, int good, rigmat_status rc)
+{
+    double *slot = s->data + p * s->stride;
+    char *reason = s->reason[p];
+    size_t i;
+
+    if (good) {
+        s->ok[p] = 1;
+        reason[0] = '\0';
+        return;
+    }
+    s->ok[p] = 0;
+    if (reason[0] == '\0')
+        snprintf(reason, sizeof s->reason[p], "%s",
+                rc == RIGMAT_ENOMEM ? "out of memory" : "failed");
+    for (i = 0; i < s->stride; i++)
+        slot[i] = (double)NAN;
+}
+
+/* Point p by reloading the model with its overrides: the general path.
+ * Returns RIGMAT_ENOMEM only when memory ran out (any other failure marks
+ * the point). */
+static rigmat_status reload_point(struct shared *sh, size_t p, struct worker_state *w)
 {
     rigmat_sweep *s = sh->s;
     const rigmat_sweep_opts *o = sh->o;
     const char *sets[64 + RIGMAT_SWEEP_MAX_AXES];
-    double *slot = s->data + p * s->stride;
     char *reason = s->reason[p];
     const size_t reason_len = sizeof s->reason[p];
     rigmat_model *m = NULL;
     rigmat_lti *l = NULL;
-    rigmat_dlti *d = NULL;
     rigmat_diags diags;
     rigmat_error e;
     rigmat_status st, rc = RIGMAT_OK;
     size_t i, k, nsets = 0;
+    int good = 0;
 
     memset(&e, 0, sizeof e);
     for (i = 0; i < o->nsets && i < 64; i++)
@@ -292,105 +418,154 @@ static rigmat_status run_point(struct shared *sh, size_t p, rigmat_discretize_ws
         st = rigmat_model_check_equations(m, &diags);
     if (st == RIGMAT_ENOMEM) {
         rc = st;
-        goto fail;
+        goto out;
     }
     if (st != RIGMAT_OK) {
         diag_reason(reason, reason_len, &diags);
-        goto fail;
+        goto out;
     }
     if (strcmp(m->layout.order_hash, sh->base->layout.order_hash) != 0) {
         snprintf(reason, reason_len, "the values change the model's layout (order hash %s, "
                 "not %s)", m->layout.order_hash, sh->base->layout.order_hash);
-        goto fail;
+        goto out;
     }
     st = rigmat_linearize(m, o->opt, &l, NULL, &e);
     if (st == RIGMAT_ENOMEM) {
         rc = st;
-        goto fail;
+        goto out;
     }
     if (st != RIGMAT_OK) {
         snprintf(reason, reason_len, "%s", e.message);
-        goto fail;
+        goto out;
     }
-    /* a backstop: linearize already refuses a point beyond an input limit
-     * (README.md, "Limits"); a duty cycle lies in [-1, 1] whatever it says */
-    for (i = 0; i < m->layout.nu; i++) {
-        const rigmat_signal *in = &m->layout.inputs[i];
-        const double u = gsl_vector_get(l->u0, i);
-        if (in->kind == RIGMAT_SIG_MOTOR && m->motors[in->index].drive == RIGMAT_DRIVE_DUTY &&
-                !(fabs(u) <= 1.0)) {
-            snprintf(reason, reason_len, "input '%s' is %.6g, beyond its duty limit of 1",
-                    in->name, u);
-            goto fail;
-        }
-    }
-    put_matrix(slot + s->off[RIGMAT_SB_A], l->A, s->nx, s->nx);
-    put_matrix(slot + s->off[RIGMAT_SB_B], l->B, s->nx, s->nu);
-    put_matrix(slot + s->off[RIGMAT_SB_C], l->C, s->ny, s->nx);
-    put_matrix(slot + s->off[RIGMAT_SB_D], l->D, s->ny, s->nu);
-    put_vector(slot + s->off[RIGMAT_SB_X0], l->x0, s->nx);
-    put_vector(slot + s->off[RIGMAT_SB_U0], l->u0, s->nu);
-    put_vector(slot + s->off[RIGMAT_SB_Y0], l->y0, s->ny);
-    if (o->discretize) {
-        if (*ws == NULL) {
-            *ws = rigmat_discretize_ws_alloc(s->nx, s->nu, s->ny);
-            if (*ws == NULL) {
-                rc = RIGMAT_ENOMEM;
-                goto fail;
-            }
-        }
-        st = rigmat_discretize(l, &o->dopts, *ws, &d, &e);
-        if (st == RIGMAT_ENOMEM) {
-            rc = st;
-            goto fail;
-        }
-        if (st != RIGMAT_OK) {
-            snprintf(reason, reason_len, "%s", e.message);
-            goto fail;
-        }
-        put_matrix(slot + s->off[RIGMAT_SB_AD], d->Ad, s->nx, s->nx);
-        put_matrix(slot + s->off[RIGMAT_SB_BD], d->Bd, s->nx, s->nuc);
-        put_matrix(slot + s->off[RIGMAT_SB_GD], d->Gd, s->nx, s->nw);
-        put_matrix(slot + s->off[RIGMAT_SB_CD], d->Cd, s->ny, s->nx);
-        put_matrix(slot + s->off[RIGMAT_SB_DD], d->Dd, s->ny, s->nuc);
-        put_matrix(slot + s->off[RIGMAT_SB_ED], d->Ed, s->ny, s->nw);
-    }
-    for (i = 0; i < s->stride; i++)
-        if (!isfinite(slot[i])) {
-            snprintf(reason, reason_len, "a result is not finite");
-            goto fail;
-        }
-    s->ok[p] = 1;
-    reason[0] = '\0';
-    goto out;
-fail:
-    s->ok[p] = 0;
-    if (reason[0] == '\0')
-        snprintf(reason, reason_len, "%s", rc == RIGMAT_ENOMEM ? "out of memory" : "failed");
-    for (i = 0; i < s->stride; i++)
-        slot[i] = (double)NAN;
+    good = finish_point(sh, p, m, l, w, &rc) == 0;
 out:
-    rigmat_dlti_free(d);
+    mark_point(s, p, good, rc);
     rigmat_lti_free(l);
     rigmat_model_free(m);
     rigmat_diags_release(&diags);
     return rc;
 }
 
+/* The thread's model for the fast path: the one the main thread loaded,
+ * or its own load of the same overrides; its linearizer, and the setting
+ * of each axis.  RIGMAT_ENOMEM, or another status when the load fails
+ * (it did not in the main thread: only memory can make it fail here). */
+static rigmat_status fast_begin(struct shared *sh, struct worker_state *w)
+{
+    const rigmat_sweep_opts *o = sh->o;
+    rigmat_diags diags;
+    rigmat_error e;
+    rigmat_status st = RIGMAT_OK;
+    size_t k, i;
+
+    pthread_mutex_lock(&sh->lock);
+    w->m = sh->first;
+    sh->first = NULL;
+    pthread_mutex_unlock(&sh->lock);
+    if (w->m == NULL) {
+        rigmat_diags_init(&diags);
+        diags.max_errors = o->opt->max_errors;
+        st = rigmat_model_load(o->file, sh->tsets, sh->ntsets, o->opt, &w->m, &diags);
+        if (st == RIGMAT_OK)
+            st = rigmat_model_check_equations(w->m, &diags);
+        rigmat_diags_release(&diags);
+        if (st != RIGMAT_OK)
+            return st;
+    }
+    memset(&e, 0, sizeof e);
+    st = rigmat_linearizer_alloc(w->m, &w->z, &e);
+    if (st != RIGMAT_OK)
+        return st;
+    for (k = 0; k < sh->s->naxes; k++) {
+        rigmat_setting *set = sh->fwhich[k] == 0 ? w->m->op_coordinates :
+                              sh->fwhich[k] == 1 ? w->m->op_rates : w->m->op_inputs;
+        const size_t n = sh->fwhich[k] == 0 ? w->m->nop_coordinates :
+                         sh->fwhich[k] == 1 ? w->m->nop_rates : w->m->nop_inputs;
+        for (i = 0; i < n && w->set[k] == NULL; i++)
+            if (strcmp(set[i].name, sh->fname[k]) == 0)
+                w->set[k] = &set[i];
+        if (RIGMAT_NEVER(w->set[k] == NULL)) /* the load wrote every axis's setting */
+            return RIGMAT_EINTERNAL;
+    }
+    return RIGMAT_OK;
+}
+
+/* Point p on the thread's loaded model: its values written into the
+ * settings, then what reads them, as a load with the point's overrides
+ * would: the loader's input-limit check, the equation checks that read
+ * the point (a states list), the linearization (trim included) and the
+ * rest as reload_point.  Returns as reload_point. */
+static rigmat_status fast_point(struct shared *sh, size_t p, struct worker_state *w)
+{
+    rigmat_sweep *s = sh->s;
+    rigmat_model *m = w->m;
+    char *reason = s->reason[p];
+    const size_t reason_len = sizeof s->reason[p];
+    rigmat_error e;
+    rigmat_status st, rc = RIGMAT_OK;
+    size_t i, k;
+    int good = 0;
+
+    for (k = 0; k < s->naxes; k++)
+        w->set[k]->value = sh->fsi[k][rigmat_sweep_index(s, p, k)];
+    memset(&e, 0, sizeof e);
+    for (i = 0; i < m->nop_inputs; i++)
+        if (rigmat_load_op_input_outside(m, m->op_inputs[i].name, m->op_inputs[i].value, &e)) {
+            refused_reason(reason, reason_len, RIGMAT_LOAD_OP_WORDS, e.message);
+            goto out;
+        }
+    if (m->order_states.count > 0) {
+        rigmat_diags diags;
+        rigmat_diags_init(&diags);
+        diags.max_errors = sh->o->opt->max_errors;
+        st = rigmat_model_check_equations(m, &diags);
+        if (st != RIGMAT_OK && st != RIGMAT_ENOMEM)
+            diag_reason(reason, reason_len, &diags);
+        rigmat_diags_release(&diags);
+        if (st == RIGMAT_ENOMEM)
+            rc = st;
+        if (st != RIGMAT_OK)
+            goto out;
+    }
+    st = rigmat_linearizer_run(w->z, sh->o->opt, NULL, &e);
+    if (st == RIGMAT_ENOMEM) {
+        rc = st;
+        goto out;
+    }
+    if (st != RIGMAT_OK) {
+        snprintf(reason, reason_len, "%s", e.message);
+        goto out;
+    }
+    good = finish_point(sh, p, m, rigmat_linearizer_lti(w->z), w, &rc) == 0;
+out:
+    mark_point(s, p, good, rc);
+    return rc;
+}
+
 static void *worker(void *arg)
 {
     struct shared *sh = arg;
-    rigmat_discretize_ws *ws = NULL;
+    struct worker_state w;
     size_t p;
-    rigmat_status st;
+    rigmat_status st = RIGMAT_OK;
 
+    memset(&w, 0, sizeof w);
+    if (sh->fast) {
+        st = fast_begin(sh, &w);
+        if (st != RIGMAT_OK) {
+            pthread_mutex_lock(&sh->lock);
+            sh->fatal = st == RIGMAT_ENOMEM ? st : RIGMAT_EINTERNAL;
+            pthread_mutex_unlock(&sh->lock);
+        }
+    }
     for (;;) {
         pthread_mutex_lock(&sh->lock);
         p = sh->fatal == RIGMAT_OK ? sh->next++ : sh->s->npoints;
         pthread_mutex_unlock(&sh->lock);
         if (p >= sh->s->npoints)
             break;
-        st = run_point(sh, p, &ws);
+        st = sh->fast ? fast_point(sh, p, &w) : reload_point(sh, p, &w);
         pthread_mutex_lock(&sh->lock);
         if (st != RIGMAT_OK)
             sh->fatal = st;
@@ -399,8 +574,86 @@ static void *worker(void *arg)
             sh->o->progress(sh->o->progress_ctx, sh->done, sh->s->npoints);
         pthread_mutex_unlock(&sh->lock);
     }
-    rigmat_discretize_ws_free(ws);
+    rigmat_linearizer_free(w.z);
+    rigmat_model_free(w.m);
+    rigmat_dlti_free(w.d);
+    rigmat_discretize_ws_free(w.ws);
     return NULL;
+}
+
+/* Whether the sweep can take the fast path, and what it needs: every axis
+ * an operating-point setting whose every value the loader accepts, no
+ * closed loop (the assembly reads the point), and the model loads with
+ * the common overrides and, per axis, its first value within the input's
+ * limit (so every varied setting exists) with the layout of base.  Sets
+ * sh->fast; RIGMAT_ENOMEM, else RIGMAT_OK (fast or not). */
+static rigmat_status fast_prepare(struct shared *sh)
+{
+    const rigmat_sweep_opts *o = sh->o;
+    const rigmat_sweep *s = sh->s;
+    rigmat_diags diags;
+    rigmat_model *m = NULL;
+    rigmat_status st;
+    size_t i, k;
+
+    sh->fast = 0;
+    if (o->reload || sh->base->nclosures > 0)
+        return RIGMAT_OK;
+    sh->ntsets = 0;
+    for (i = 0; i < o->nsets; i++)
+        sh->tsets[sh->ntsets++] = o->sets[i];
+    for (k = 0; k < s->naxes; k++) {
+        const rigmat_sweep_axis *a = &s->axes[k];
+        size_t first = a->count;
+        sh->fsi[k] = malloc(a->count * sizeof *sh->fsi[k]);
+        if (sh->fsi[k] == NULL)
+            return RIGMAT_ENOMEM;
+        for (i = 0; i < a->count; i++) {
+            int which;
+            char name[sizeof sh->fname[k]];
+            st = rigmat_load_op_value(sh->base, a->text[i], o->opt, &which, name, sizeof name,
+                    &sh->fsi[k][i]);
+            if (st == RIGMAT_ENOMEM)
+                return st;
+            if (st != RIGMAT_OK)
+                return RIGMAT_OK; /* not a setting, or a value the loader refuses */
+            if (i == 0) {
+                sh->fwhich[k] = which;
+                memcpy(sh->fname[k], name, sizeof name);
+            }
+            if (first == a->count && (which != 2 ||
+                        !rigmat_load_op_input_outside(sh->base, name, sh->fsi[k][i], NULL)))
+                first = i;
+        }
+        if (first == a->count)
+            return RIGMAT_OK; /* every value beyond the limit: every point fails */
+        sh->tsets[sh->ntsets++] = a->text[first];
+    }
+    rigmat_diags_init(&diags);
+    diags.max_errors = o->opt->max_errors;
+    st = rigmat_model_load(o->file, sh->tsets, sh->ntsets, o->opt, &m, &diags);
+    if (st == RIGMAT_OK)
+        st = rigmat_model_check_equations(m, &diags);
+    rigmat_diags_release(&diags);
+    if (st == RIGMAT_ENOMEM)
+        return st;
+    if (st != RIGMAT_OK || strcmp(m->layout.order_hash, sh->base->layout.order_hash) != 0 ||
+            m->nclosures > 0) {
+        rigmat_model_free(m);
+        return RIGMAT_OK;
+    }
+    sh->first = m;
+    sh->fast = 1;
+    return RIGMAT_OK;
+}
+
+static void fast_release(struct shared *sh)
+{
+    size_t k;
+
+    for (k = 0; k < RIGMAT_SWEEP_MAX_AXES; k++)
+        free(sh->fsi[k]);
+    rigmat_model_free(sh->first);
 }
 
 rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes, size_t naxes,
@@ -466,8 +719,15 @@ rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes
     sh.base = base;
     sh.o = o;
     sh.s = s;
-    if (pthread_mutex_init(&sh.lock, NULL) != 0)
+    if (fast_prepare(&sh) != RIGMAT_OK) {
+        fast_release(&sh);
+        return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+    }
+    s->fast = sh.fast;
+    if (pthread_mutex_init(&sh.lock, NULL) != 0) {
+        fast_release(&sh);
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "cannot create a lock");
+    }
     nthreads = o->threads < 1 ? 1 : o->threads;
     if (nthreads > RIGMAT_SWEEP_MAX_THREADS)
         nthreads = RIGMAT_SWEEP_MAX_THREADS;
@@ -485,8 +745,11 @@ rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes
             pthread_join(tid[p], NULL);
     }
     pthread_mutex_destroy(&sh.lock);
-    if (sh.fatal != RIGMAT_OK)
+    fast_release(&sh);
+    if (sh.fatal == RIGMAT_ENOMEM)
         return RIGMAT_FAIL(err, sh.fatal, "out of memory during the sweep");
+    if (sh.fatal != RIGMAT_OK)
+        return RIGMAT_FAIL(err, sh.fatal, "the sweep's model did not load again in a thread");
     for (p = 0; p < s->npoints; p++)
         s->nfailed += !s->ok[p];
     return RIGMAT_OK;

@@ -13,6 +13,19 @@
  * (inside rigmat_linearize), linearize, and discretize when a rate is
  * given.
  *
+ * Fast path: when every axis is an operating-point setting (a coordinate,
+ * rate or input), the model has no closure and every axis value is one the
+ * loader accepts, each thread loads the model once (with a first value per
+ * axis, so every varied setting exists) and then, per point, writes the
+ * axis values into the settings, as SI values read from the same override
+ * text by the loader's own code (rigmat_load_op_value), and runs what reads
+ * them: the loader's input-limit check (the same function and message),
+ * the equation checks that read the point (a `states` list), the trim and
+ * linearization (a reusable rigmat_linearizer) and the sampling (a
+ * refilled result).  The numbers and reasons equal the reload's byte for
+ * byte (tests/check_sweep.c on every example); rigmat_sweep_opts.reload
+ * forces the reload path.
+ *
  * Failed points: the load refuses the value, the trim does not converge,
  * a number is not finite, the layout (order hash) differs from the base
  * model's, or a duty input lies beyond +-1 (the only input limit the
@@ -24,8 +37,8 @@
  * its own.  Every point writes only its own slot, so the numbers do not
  * depend on the thread count.
  *
- * Cost: one model load, linearization and (optionally) matrix exponential
- * per point.  Memory: npoints x (the point's numbers) doubles, capped by
+ * Cost: one model load (fast path: one per thread), linearization and
+ * (optionally) matrix exponential per point.  Memory: npoints x (the point's numbers) doubles, capped by
  * RIGMAT_SWEEP_MAX_POINTS and RIGMAT_SWEEP_MAX_DOUBLES.
  */
 #ifndef RIGMAT_SWEEP_H
@@ -67,6 +80,8 @@ typedef struct rigmat_sweep_opts {
     int discretize;              /* 1: sample every point with dopts */
     rigmat_discretize_opts dopts;
     unsigned threads;            /* >= 1 */
+    int reload;                  /* 1: reload the model at every point even where the fast
+                                  * path applies (to check the two agree) */
     /* called (under a lock, from any thread) after each point; may be NULL */
     void (*progress)(void *ctx, size_t done, size_t total);
     void *progress_ctx;
@@ -92,6 +107,7 @@ typedef struct rigmat_sweep {
     unsigned char *ok;        /* npoints */
     char (*reason)[256];      /* npoints; "" at good points */
     size_t nfailed;
+    int fast;                 /* the points took the fast path (see above) */
 } rigmat_sweep;
 
 /* The number of grid points of the axes; 0 when it exceeds

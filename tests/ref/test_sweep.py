@@ -9,6 +9,10 @@
   header length, header padded so the data starts at a multiple of 64
   bytes) and load with numpy.load.
 - Thread counts 1, 2 and 4 give byte-identical outputs (JSON and npy).
+- An operating-point axis (the fast path: the model loaded once per
+  thread, each point's value written in place) gives the same bytes as
+  the single runs too, with a trim at every point; a point beyond an
+  input's limit carries the single run's diagnostic as its reason.
 - A point whose trim has no solution is reported, and the single run
   of the same values fails too (exit 3).
 - The numpy export holds the good points' matrices (p<i>_A, ...) equal
@@ -146,6 +150,13 @@ def main():
                              ["shoulder=10deg:40deg:4", "bodies.arm.mass=0.1kg:0.3kg:3"],
                              "200Hz", tmp)
         check(good == 12 and j["failed"] == 0, "pendulum-motor: 12 good points")
+        # the fast path (the axis an operating-point value, the model
+        # loaded once per thread): a trim at every point, sampled
+        shutil.rmtree(os.path.join(tmp, "npy1"))
+        shutil.rmtree(os.path.join(tmp, "npy4"))
+        jf, goodf = sweep_case(os.path.join(EX, "pendulum-motor.yaml"),
+                               ["shoulder=10deg:40deg:5"], "200Hz", tmp)
+        check(goodf == 5 and jf["failed"] == 0, "pendulum-motor fast path: 5 good points")
         # the same grid values: the last is TO exactly, in SI
         check(j["grid"]["axes"][0]["values"][-1] == np.deg2rad(40.0) or
               abs(j["grid"]["axes"][0]["values"][-1] - np.deg2rad(40.0)) < 1e-16,
@@ -158,6 +169,14 @@ def main():
         check(good == 2 and j["failed"] == 2, "balancer: 2 good, 2 failed points")
         check(all("outside its limit" in p["reason"] for p in j["points"] if not p["ok"]),
               "balancer: the reason names the input limit")
+        # the fast path (an operating-point axis) refuses the point with the
+        # loader's own message: the single run's diagnostic, word for word
+        for q in j["points"]:
+            if not q["ok"]:
+                err = run(["linearize", bal, "--set"] + q["sets"], 1).stderr.decode()
+                msg = err.split("error: ", 1)[1].split("\n", 1)[0] if "error: " in err else "?"
+                check(q["reason"] == "the model is refused: the operating point: " + msg,
+                      "balancer: reason %r is the loader's %r" % (q["reason"], msg))
         # the numpy module holds the good points' matrices, the grid and ok
         mod = {}
         exec(run(["sweep", bal, "--vary", "drive=-1.5:1.5:4", "--format", "numpy"]).stdout, mod)
