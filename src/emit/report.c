@@ -640,21 +640,38 @@ static void write_head(FILE *f, const struct report *R)
             f);
 
     section(f, "summary", "1. Model summary and cautions");
-    fprintf(f, "<p>%zu bodies besides ground, %zu joints, %zu motors, %zu forces, %zu sensors. "
-               "%zu states, %zu inputs (%zu control, %zu disturbance), %zu outputs.</p>\n",
-            m->nbodies > 0 ? m->nbodies - 1 : 0, m->njoints, m->nmotors, m->nforces,
-            m->nsensors, L->nx, L->nu, L->nu_control, L->nu - L->nu_control, L->ny);
+    {
+        /* "1 motor", "2 motors", "1 body", "3 bodies" */
+        const size_t nb = m->nbodies > 0 ? m->nbodies - 1 : 0;
+        const size_t nd = L->nu - L->nu_control;
+        fprintf(f, "<p>%zu bod%s besides ground, %zu joint%s, %zu motor%s, %zu force%s, "
+                   "%zu sensor%s. %zu state%s, %zu input%s (%zu control, %zu disturbance%s), "
+                   "%zu output%s.</p>\n",
+                nb, nb == 1 ? "y" : "ies", m->njoints, m->njoints == 1 ? "" : "s",
+                m->nmotors, m->nmotors == 1 ? "" : "s", m->nforces, m->nforces == 1 ? "" : "s",
+                m->nsensors, m->nsensors == 1 ? "" : "s", L->nx, L->nx == 1 ? "" : "s",
+                L->nu, L->nu == 1 ? "" : "s", L->nu_control, nd, nd == 1 ? "" : "s",
+                L->ny, L->ny == 1 ? "" : "s");
+    }
     fputs("<table><tr><th>vector</th><th>name</th><th>unit</th><th>what it is</th></tr>\n", f);
     for (i = 0; i < L->nx; i++) {
-        static const char *const what[] = { "coordinate", "rate", "motor current",
-            "shaping filter", "delayed input" };
         const rigmat_signal *s = sig_x(m, i);
+        const char *what;
+        switch (s->kind) {
+        case RIGMAT_SIG_COORD: what = "coordinate"; break;
+        case RIGMAT_SIG_RATE: what = "rate"; break;
+        case RIGMAT_SIG_CURRENT: what = "motor current"; break;
+        case RIGMAT_SIG_SHAPING: what = "shaping filter"; break;
+        case RIGMAT_SIG_DELAY: what = "delayed input"; break;
+        case RIGMAT_SIG_BIAS: what = "sensor bias"; break;
+        case RIGMAT_SIG_FILTERED: what = "sensor filter"; break;
+        default: what = "state"; break;
+        }
         fprintf(f, "<tr><th>x%zu</th><td class=\"t\">", i + 1);
         esc(f, s->name);
         fputs("</td><td class=\"t\">", f);
         esc(f, s->unit);
-        fprintf(f, "</td><td class=\"t\">%s</td></tr>\n",
-                (size_t)s->kind < 5 ? what[s->kind] : "state");
+        fprintf(f, "</td><td class=\"t\">%s</td></tr>\n", what);
     }
     for (i = 0; i < L->nu; i++) {
         const rigmat_signal *s = sig_u(m, i);
