@@ -1,0 +1,96 @@
+/* fastblas.c - OpenBLAS opened with dlopen for large products and LUs.
+ *
+ * The thresholds of fastblas.h, measured on the 2-core build machine
+ * (bench/scale_bench --blas, one OpenBLAS thread and its default two;
+ * bench/RESULTS.md, "lazyblas"): see the figures beside the enum there
+ * and in RESULTS.md.  Loading costs about 10 ms of CPU once per process
+ * (bench/startup.sh, a trivial program with and without OpenBLAS), so a
+ * product is sent to it only where it is clearly faster per call.
+ */
+#include "fastblas.h"
+
+#include <dlfcn.h>
+#include <gsl/gsl_errno.h>
+#include <limits.h>
+#include <string.h>
+
+const char *const rigmat_fastblas_names[] = { "libopenblas.so.0", "libopenblas.so", NULL };
+
+void rigmat_fastblas_init(rigmat_fastblas *fb)
+{
+    memset(fb, 0, sizeof *fb);
+}
+
+void rigmat_fastblas_release(rigmat_fastblas *fb)
+{
+    if (fb == NULL)
+        return;
+    if (fb->handle != NULL)
+        (void)dlclose(fb->handle);
+    rigmat_fastblas_init(fb);
+}
+
+int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
+{
+    const char *const *p;
+
+    if (fb == NULL)
+        return 0;
+    if (fb->tried)
+        return fb->dgemm != NULL;
+    fb->tried = 1;
+    for (p = names != NULL ? names : rigmat_fastblas_names; *p != NULL; p++) {
+        void *h = dlopen(*p, RTLD_NOW | RTLD_LOCAL | RTLD_NODELETE);
+        void *g, *f;
+        if (h == NULL)
+            continue;
+        g = dlsym(h, "cblas_dgemm");
+        if (g == NULL) {
+            (void)dlclose(h);
+            continue;
+        }
+        f = dlsym(h, "dgetrf_");
+        fb->handle = h;
+        /* ISO C has no conversion from void * to a function pointer; POSIX
+         * guarantees the representation, so the bytes are copied */
+        memcpy(&fb->dgemm, &g, sizeof fb->dgemm);
+        if (f != NULL)
+            memcpy(&fb->dgetrf, &f, sizeof fb->dgetrf);
+        return 1;
+    }
+    (void)dlerror(); /* the failure is data (tried, no dgemm), not a message */
+    return 0;
+}
+
+static int fits_int(size_t v)
+{
+    return v <= (size_t)INT_MAX;
+}
+
+int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb, double alpha,
+                 const gsl_matrix *A, const gsl_matrix *B, double beta, gsl_matrix *C)
+{
+    const size_t m = C->size1, n = C->size2;
+    const size_t k = ta == CblasNoTrans ? A->size2 : A->size1;
+    const size_t am = ta == CblasNoTrans ? A->size1 : A->size2;
+    const size_t bk = tb == CblasNoTrans ? B->size1 : B->size2;
+    const size_t bn = tb == CblasNoTrans ? B->size2 : B->size1;
+    const double lim = (double)RIGMAT_FASTBLAS_GEMM_MIN;
+
+    if (fb == NULL || am != m || bk != k || bn != n || k == 0 ||
+        (double)m * (double)n * (double)k < lim * lim * lim || !fits_int(m) || !fits_int(n) ||
+        !fits_int(k) || !fits_int(A->tda) || !fits_int(B->tda) || !fits_int(C->tda) ||
+        !rigmat_fastblas_load(fb, NULL))
+        return gsl_blas_dgemm(ta, tb, alpha, A, B, beta, C);
+    fb->dgemm((int)CblasRowMajor, (int)ta, (int)tb, (int)m, (int)n, (int)k, alpha, A->data,
+              (int)A->tda, B->data, (int)B->tda, beta, C->data, (int)C->tda);
+    return GSL_SUCCESS;
+}
+
+rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n)
+{
+    if (fb == NULL || n < (size_t)RIGMAT_FASTBLAS_LU_MIN || !fits_int(n) ||
+        !rigmat_fastblas_load(fb, NULL))
+        return NULL;
+    return fb->dgetrf;
+}
