@@ -276,8 +276,8 @@ static rigmat_status pade13(int have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix 
  * two triangular solves on the row-major view, then the interchanges in
  * reverse order (Pm = P_1 P_2 ... P_n).  The in-place transpose this
  * replaces cost about 3% of the exponential at n = 256 (perf). */
-static rigmat_status lapack_solve(rigmat_dgetrf_fn dgetrf, gsl_matrix *V, gsl_matrix *P,
-                                  gsl_matrix *X, int *ipiv, rigmat_error *err)
+static rigmat_status lapack_solve(rigmat_fastblas *fb, rigmat_dgetrf_fn dgetrf, gsl_matrix *V,
+                                  gsl_matrix *P, gsl_matrix *X, int *ipiv, rigmat_error *err)
 {
     const size_t n = P->size1;
     const int ni = (int)n, lda = (int)P->tda;
@@ -295,9 +295,9 @@ static rigmat_status lapack_solve(rigmat_dgetrf_fn dgetrf, gsl_matrix *V, gsl_ma
     }
     gs = gsl_matrix_memcpy(X, V);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasNoTrans, CblasNonUnit, 1.0, P, X);
+        gs = rigmat_dtrsm(fb, CblasLeft, CblasLower, CblasNoTrans, CblasNonUnit, 1.0, P, X);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasNoTrans, CblasUnit, 1.0, P, X);
+        gs = rigmat_dtrsm(fb, CblasLeft, CblasUpper, CblasNoTrans, CblasUnit, 1.0, P, X);
     for (i = n; i-- > 0 && gs == GSL_SUCCESS;) {
         const size_t k = (size_t)(ipiv[i] - 1);
         if (k != i)
@@ -330,7 +330,7 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
     }
     dgetrf = P->tda <= (size_t)INT_MAX ? rigmat_fastblas_dgetrf(fb, n) : NULL;
     if (dgetrf != NULL)
-        return lapack_solve(dgetrf, V, P, X, ipiv, err);
+        return lapack_solve(fb, dgetrf, V, P, X, ipiv, err);
     gs = gsl_linalg_LU_decomp(P, perm, &signum);
     if (gs != GSL_SUCCESS)
         return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "LU of the Pade denominator failed: %s",
@@ -349,9 +349,9 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
         if (RIGMAT_NEVER(gs != GSL_SUCCESS))
             return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "row copy failed: %s", gsl_strerror(gs));
     }
-    gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasNoTrans, CblasUnit, 1.0, P, X);
+    gs = rigmat_dtrsm(fb, CblasLeft, CblasLower, CblasNoTrans, CblasUnit, 1.0, P, X);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, P, X);
+        gs = rigmat_dtrsm(fb, CblasLeft, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, P, X);
     if (RIGMAT_NEVER(gs != GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "triangular solve failed: %s", gsl_strerror(gs));
     return RIGMAT_OK;

@@ -1,12 +1,5 @@
-/* fastblas.c - OpenBLAS opened with dlopen for large products and LUs.
- *
- * The thresholds of fastblas.h, measured on the 2-core build machine
- * (bench/scale_bench --blas, one OpenBLAS thread and its default two;
- * bench/RESULTS.md, "lazyblas"): see the figures beside the enum there
- * and in RESULTS.md.  Loading costs about 10 ms of CPU once per process
- * (bench/startup.sh, a trivial program with and without OpenBLAS), so a
- * product is sent to it only where it is clearly faster per call.
- */
+/* fastblas.c - OpenBLAS opened with dlopen for large products and LUs
+ * (fastblas.h: the rule and its measured threshold). */
 #include "fastblas.h"
 
 #include <dlfcn.h>
@@ -41,7 +34,7 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
     fb->tried = 1;
     for (p = names != NULL ? names : rigmat_fastblas_names; *p != NULL; p++) {
         void *h = dlopen(*p, RTLD_NOW | RTLD_LOCAL | RTLD_NODELETE);
-        void *g, *f;
+        void *g, *f, *t;
         if (h == NULL)
             continue;
         g = dlsym(h, "cblas_dgemm");
@@ -50,12 +43,15 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
             continue;
         }
         f = dlsym(h, "dgetrf_");
+        t = dlsym(h, "cblas_dtrsm");
         fb->handle = h;
         /* ISO C has no conversion from void * to a function pointer; POSIX
          * guarantees the representation, so the bytes are copied */
         memcpy(&fb->dgemm, &g, sizeof fb->dgemm);
         if (f != NULL)
             memcpy(&fb->dgetrf, &f, sizeof fb->dgetrf);
+        if (t != NULL)
+            memcpy(&fb->dtrsm, &t, sizeof fb->dtrsm);
         return 1;
     }
     (void)dlerror(); /* the failure is data (tried, no dgemm), not a message */
@@ -67,6 +63,14 @@ static int fits_int(size_t v)
     return v <= (size_t)INT_MAX;
 }
 
+/* a call of m n k multiply-adds is large enough for the loaded BLAS */
+static int large(double m, double n, double k)
+{
+    const double lim = (double)RIGMAT_FASTBLAS_MIN_N;
+
+    return m * n * k >= lim * lim * lim;
+}
+
 int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb, double alpha,
                  const gsl_matrix *A, const gsl_matrix *B, double beta, gsl_matrix *C)
 {
@@ -75,10 +79,9 @@ int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb
     const size_t am = ta == CblasNoTrans ? A->size1 : A->size2;
     const size_t bk = tb == CblasNoTrans ? B->size1 : B->size2;
     const size_t bn = tb == CblasNoTrans ? B->size2 : B->size1;
-    const double lim = (double)RIGMAT_FASTBLAS_GEMM_MIN;
 
     if (fb == NULL || am != m || bk != k || bn != n || k == 0 ||
-        (double)m * (double)n * (double)k < lim * lim * lim || !fits_int(m) || !fits_int(n) ||
+        !large((double)m, (double)n, (double)k) || !fits_int(m) || !fits_int(n) ||
         !fits_int(k) || !fits_int(A->tda) || !fits_int(B->tda) || !fits_int(C->tda) ||
         !rigmat_fastblas_load(fb, NULL))
         return gsl_blas_dgemm(ta, tb, alpha, A, B, beta, C);
@@ -87,9 +90,24 @@ int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb
     return GSL_SUCCESS;
 }
 
+int rigmat_dtrsm(rigmat_fastblas *fb, CBLAS_SIDE_t side, CBLAS_UPLO_t uplo, CBLAS_TRANSPOSE_t ta,
+                 CBLAS_DIAG_t diag, double alpha, const gsl_matrix *A, gsl_matrix *B)
+{
+    const size_t m = B->size1, n = B->size2, na = side == CblasLeft ? m : n;
+
+    if (fb == NULL || A->size1 != na || A->size2 != na || na == 0 ||
+        !large((double)m, (double)n, (double)na) || !fits_int(m) || !fits_int(n) ||
+        !fits_int(A->tda) || !fits_int(B->tda) || !rigmat_fastblas_load(fb, NULL) ||
+        fb->dtrsm == NULL)
+        return gsl_blas_dtrsm(side, uplo, ta, diag, alpha, A, B);
+    fb->dtrsm((int)CblasRowMajor, (int)side, (int)uplo, (int)ta, (int)diag, (int)m, (int)n, alpha,
+              A->data, (int)A->tda, B->data, (int)B->tda);
+    return GSL_SUCCESS;
+}
+
 rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n)
 {
-    if (fb == NULL || n < (size_t)RIGMAT_FASTBLAS_LU_MIN || !fits_int(n) ||
+    if (fb == NULL || n < (size_t)RIGMAT_FASTBLAS_MIN_N || !fits_int(n) ||
         !rigmat_fastblas_load(fb, NULL))
         return NULL;
     return fb->dgetrf;

@@ -19,9 +19,12 @@
  * (not installed), the object remembers it and every call takes GSL's
  * CBLAS or GSL's LU: the same results up to rounding, slower, silent.
  *
- * Sizes: rigmat_dgemm takes the loaded BLAS when m n k >= RIGMAT_FASTBLAS_GEMM_MIN^3;
- * rigmat_fastblas_dgetrf returns dgetrf_ from n >= RIGMAT_FASTBLAS_LU_MIN.
- * Both thresholds are measured (fastblas.c says how).
+ * Sizes: the rule is the call's own size, never what ran before, so a
+ * result does not depend on the history of its workspace (a sweep's
+ * bytes do not depend on how points fall to threads).  rigmat_dgemm and
+ * rigmat_dtrsm take the loaded BLAS when the multiply-adds m n k reach
+ * RIGMAT_FASTBLAS_MIN_N^3, rigmat_fastblas_dgetrf from n >=
+ * RIGMAT_FASTBLAS_MIN_N; below, GSL.  The threshold is measured (below).
  */
 #ifndef RIGMAT_FASTBLAS_H
 #define RIGMAT_FASTBLAS_H
@@ -30,10 +33,15 @@
 #include <gsl/gsl_blas.h>
 #include <gsl/gsl_matrix.h>
 
-/* OpenBLAS's cblas_dgemm (32-bit integers; CBLAS enum values as GSL's) */
+/* OpenBLAS's cblas_dgemm (32-bit integers; the CBLAS enum values, the
+ * same as GSL's) */
 typedef void (*rigmat_cblas_dgemm_fn)(int order, int transa, int transb, int m, int n, int k,
                                       double alpha, const double *a, int lda, const double *b,
                                       int ldb, double beta, double *c, int ldc);
+/* OpenBLAS's cblas_dtrsm */
+typedef void (*rigmat_cblas_dtrsm_fn)(int order, int side, int uplo, int transa, int diag, int m,
+                                      int n, double alpha, const double *a, int lda, double *b,
+                                      int ldb);
 /* LAPACK's dgetrf_ (column-major LU with partial pivoting) */
 typedef void (*rigmat_dgetrf_fn)(const int *m, const int *n, double *a, const int *lda, int *ipiv,
                                  int *info);
@@ -42,6 +50,7 @@ typedef struct rigmat_fastblas {
     void *handle; /* dlopen handle; NULL until loaded, or when none opened */
     int tried;    /* 1 once a load was attempted (a failure is not retried) */
     rigmat_cblas_dgemm_fn dgemm;
+    rigmat_cblas_dtrsm_fn dtrsm;
     rigmat_dgetrf_fn dgetrf; /* NULL when the library has no LAPACK */
 } rigmat_fastblas;
 
@@ -65,14 +74,31 @@ extern const char *const rigmat_fastblas_names[];
 int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb, double alpha,
                  const gsl_matrix *A, const gsl_matrix *B, double beta, gsl_matrix *C);
 
+/* B = alpha op(A)^-1 B (side left) or alpha B op(A)^-1 (right), A
+ * triangular, as gsl_blas_dtrsm, by the loaded BLAS when fb is not NULL
+ * and the solve is large (n^2 right-hand-side entries, as a product). */
+int rigmat_dtrsm(rigmat_fastblas *fb, CBLAS_SIDE_t side, CBLAS_UPLO_t uplo, CBLAS_TRANSPOSE_t ta,
+                 CBLAS_DIAG_t diag, double alpha, const gsl_matrix *A, gsl_matrix *B);
+
 /* dgetrf_ of the loaded BLAS for an n x n LU when n is large enough and
  * the library has one (loading it if need be); NULL otherwise (use GSL's
  * LU).  fb may be NULL. */
 rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n);
 
-enum {
-    RIGMAT_FASTBLAS_GEMM_MIN = 96, /* n of the smallest square product sent to the loaded BLAS */
-    RIGMAT_FASTBLAS_LU_MIN = 96    /* n of the smallest LU sent to dgetrf_ */
-};
+/* The threshold, measured on the 2-core build machine, shared (bench/scale_bench
+ * --blas; bench/RESULTS.md, "lazyblas"), seconds per square call, GSL's
+ * CBLAS / OpenBLAS (one thread):
+ *     n = 8: 2.9e-7 / 1.7e-7     n = 16: 1.8e-6 / 4.2e-7    n = 32: 1.5e-5 / 2.5e-6
+ *     n = 48: 4.1e-5 / 6.9e-6    n = 64: 9.9e-5 / 1.3e-5    n = 128: 7.3e-4 / 1.7e-4
+ *     n = 256: 7.9e-3 / 1.0e-3; LU n = 48: 2.5e-5 / 1.4e-5, n = 256: 3.0e-3 / 5.1e-4.
+ * OpenBLAS wins every call, but opening it costs 8-13 ms of CPU once per
+ * process (dlopen + first call, measured the same day).  Below n = 48 a
+ * product costs under 50 us with GSL's CBLAS, so a whole exponential of
+ * that size (8 products and an LU) stays under half a millisecond and
+ * a one-shot run would pay ~20 times its arithmetic for the load; from
+ * n = 48 on OpenBLAS is 6-8 times faster per product, which a sweep or
+ * a repeated exponential earns back, and the exponential at n = 64 stays
+ * as fast as scipy's (bench/expm.sh). */
+enum { RIGMAT_FASTBLAS_MIN_N = 48 };
 
 #endif /* RIGMAT_FASTBLAS_H */
