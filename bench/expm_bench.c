@@ -77,8 +77,7 @@ static int time_expm(const gsl_matrix *A, gsl_matrix *E, rigmat_expm_ws *w, doub
 }
 
 static int time_products(rigmat_fastblas *fb, const gsl_matrix *A, gsl_matrix *B, gsl_matrix *C,
-                         unsigned products,
-                         double *best, double *best_cpu)
+                         unsigned products, double *best, double *best_cpu)
 {
     int r;
     long k, reps = 1;
@@ -93,7 +92,7 @@ static int time_products(rigmat_fastblas *fb, const gsl_matrix *A, gsl_matrix *B
             for (k = 0; k < reps; k++)
                 for (p = 0; p < products; p++)
                     if (rigmat_dgemm(fb, CblasNoTrans, CblasNoTrans, 1.0, A, p % 2 ? C : B, 0.0,
-                                       p % 2 ? B : C) != GSL_SUCCESS)
+                                     p % 2 ? B : C) != GSL_SUCCESS)
                         return -1;
             dt = now_s() - t0;
             dc = cpu_s() - c0;

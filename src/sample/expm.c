@@ -260,7 +260,8 @@ static rigmat_status pade13(int have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix 
         return rc;
     /* V = A6 (b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I */
     lincomb2(T, 0.0, vi, V, b13[0], vo, pw, 3);
-    if (RIGMAT_NEVER(rigmat_dgemm(fb, CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) != GSL_SUCCESS))
+    if (RIGMAT_NEVER(rigmat_dgemm(fb, CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) !=
+                     GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
     *products += 3;
     return RIGMAT_OK;

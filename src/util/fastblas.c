@@ -81,8 +81,8 @@ int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb
     const size_t bn = tb == CblasNoTrans ? B->size2 : B->size1;
 
     if (fb == NULL || am != m || bk != k || bn != n || k == 0 ||
-        !large((double)m, (double)n, (double)k) || !fits_int(m) || !fits_int(n) ||
-        !fits_int(k) || !fits_int(A->tda) || !fits_int(B->tda) || !fits_int(C->tda) ||
+        !large((double)m, (double)n, (double)k) || !fits_int(m) || !fits_int(n) || !fits_int(k) ||
+        !fits_int(A->tda) || !fits_int(B->tda) || !fits_int(C->tda) ||
         !rigmat_fastblas_load(fb, NULL))
         return gsl_blas_dgemm(ta, tb, alpha, A, B, beta, C);
     fb->dgemm((int)CblasRowMajor, (int)ta, (int)tb, (int)m, (int)n, (int)k, alpha, A->data,
