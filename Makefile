@@ -17,7 +17,10 @@ WERROR  ?= 0
 # it is installed (BUILD_PROBES, TEST_PROBES); a missing one installs the
 # set with apt-get when run as root (see deps-build / deps-test below).
 BUILD_PKGS = gcc make libc6-dev pkg-config libgsl-dev libyaml-dev libopenblas0
-BUILD_PROBES = /usr/bin/pkg-config /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h
+# libopenblas0 is not linked: src/util/fastblas.c opens it for large problems
+# (rigmat runs without it, slower on those).
+BUILD_PROBES = /usr/bin/pkg-config /usr/include/gsl/gsl_matrix.h /usr/include/yaml.h \
+               /usr/lib/$(shell $(CC) -dumpmachine 2>/dev/null)/libopenblas.so.0
 TEST_PKGS = check libsubunit-dev python3-numpy python3-scipy python3-sympy python3-mpmath \
             time valgrind clang libclang-rt-14-dev locales groff-base \
             libxml2-utils chromium imagemagick gcc-arm-none-eabi libnewlib-arm-none-eabi
