@@ -209,8 +209,8 @@ static rigmat_status vanloan_doubling(const gsl_matrix *A, const gsl_matrix *W, 
         gs = rigmat_dgemm(&w->expm->blas, CblasTrans, CblasNoTrans, 1.0, &F22.matrix, &F12.matrix,
                           0.0, Q);
         p = nrm(&Phi.matrix);
-        eP = 8.0 * (double)n * u * p;
-        eQ = 8.0 * (double)n * u * p * nrm(&F12.matrix) + gam * nrm(Q);
+        eP = 8.0 * (double)(2 * n) * u * p;
+        eQ = 8.0 * (double)(2 * n) * u * p * nrm(&F12.matrix) + gam * nrm(Q);
     }
     if (gs != GSL_SUCCESS)
         return gsl_fail(err, "matrix product", gs);
