@@ -56,13 +56,35 @@ static void check_product(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANS
     gsl_matrix_free(C);
 }
 
+/* y = A^T x, A 64 x 64 (4096 >= 16^2 entries), exact integer values */
+static void check_gemv(rigmat_fastblas *fb)
+{
+    gsl_matrix *A = int_matrix(64, 64, 5);
+    gsl_vector *x = gsl_vector_alloc(64), *y = gsl_vector_alloc(64);
+    size_t i, q;
+
+    ck_assert(x != NULL && y != NULL);
+    for (i = 0; i < 64; i++)
+        gsl_vector_set(x, i, (double)(i % 5) - 2.0);
+    ck_assert_int_eq(rigmat_dgemv(fb, CblasTrans, 1.0, A, x, 0.0, y), GSL_SUCCESS);
+    for (i = 0; i < 64; i++) {
+        double s = 0.0;
+        for (q = 0; q < 64; q++)
+            s += gsl_matrix_get(A, q, i) * gsl_vector_get(x, q);
+        ck_assert_double_eq(gsl_vector_get(y, i), s);
+    }
+    gsl_matrix_free(A);
+    gsl_vector_free(x);
+    gsl_vector_free(y);
+}
+
 START_TEST(small_products_do_not_open_the_library)
 {
     rigmat_fastblas fb;
 
     rigmat_fastblas_init(&fb);
-    check_product(&fb, CblasNoTrans, CblasNoTrans, 47, 47, 47);
-    check_product(&fb, CblasTrans, CblasNoTrans, 200, 200, 2); /* many entries, little work */
+    check_product(&fb, CblasNoTrans, CblasNoTrans, 15, 15, 15);
+    check_product(&fb, CblasTrans, CblasNoTrans, 60, 60, 1); /* many entries, little work */
     ck_assert_int_eq(fb.tried, 0);
     ck_assert_ptr_null(fb.handle);
     rigmat_fastblas_release(&fb);
@@ -78,15 +100,17 @@ START_TEST(large_products_open_openblas_and_agree_exactly)
     rigmat_fastblas_init(&fb);
     for (a = 0; a < 2; a++)
         for (b = 0; b < 2; b++)
-            check_product(&fb, t[a], t[b], 60, 50, 70); /* 210000 >= 48^3 multiply-adds */
+            check_product(&fb, t[a], t[b], 17, 13, 19); /* 4199 >= 16^3 multiply-adds */
+    check_gemv(&fb);
     /* the build installs libopenblas0 (Makefile BUILD_PKGS): a silent
      * fallback here would be a broken soname or symbol */
     ck_assert_msg(fb.tried == 1 && fb.handle != NULL && fb.dgemm != NULL,
                   "OpenBLAS did not open (is libopenblas0 installed?)");
     ck_assert(fb.dtrsm != NULL);
+    ck_assert(fb.dgemv != NULL);
     ck_assert(fb.dgetrf != NULL);
-    ck_assert(rigmat_fastblas_dgetrf(&fb, RIGMAT_FASTBLAS_MIN_N) != NULL);
-    ck_assert(rigmat_fastblas_dgetrf(&fb, RIGMAT_FASTBLAS_MIN_N - 1) == NULL);
+    ck_assert(rigmat_fastblas_dgetrf(&fb, RIGMAT_FASTBLAS_LU_MIN_N) != NULL);
+    ck_assert(rigmat_fastblas_dgetrf(&fb, RIGMAT_FASTBLAS_LU_MIN_N - 1) == NULL);
     rigmat_fastblas_release(&fb);
     ck_assert_ptr_null(fb.handle);
     ck_assert_int_eq(fb.tried, 0);
@@ -104,6 +128,7 @@ START_TEST(a_library_that_does_not_open_falls_back_silently)
     ck_assert_ptr_null(fb.handle);
     /* not retried: the large product and the LU go to GSL */
     check_product(&fb, CblasNoTrans, CblasTrans, 64, 64, 64);
+    check_gemv(&fb);
     ck_assert(rigmat_fastblas_dgetrf(&fb, 200) == NULL);
     ck_assert_ptr_null(fb.handle);
     rigmat_fastblas_release(&fb);

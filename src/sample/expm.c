@@ -376,7 +376,8 @@ static unsigned ceil_log2(double x)
  * each.  Cost O(p n^2): with p = 27 the whole choice from the powers
  * costs about 7% of the exponential at n = 256 with dgemv, against about
  * 25% with the same products as a plain C loop (CPU time, busy machine). */
-static double log2_abs_power_norm(const gsl_matrix *B, unsigned p, double *v, double *t)
+static double log2_abs_power_norm(rigmat_fastblas *fb, const gsl_matrix *B, unsigned p, double *v,
+                                  double *t)
 {
     const size_t n = B->size1;
     gsl_vector_view vv = gsl_vector_view_array(v, n), tv = gsl_vector_view_array(t, n);
@@ -388,7 +389,7 @@ static double log2_abs_power_norm(const gsl_matrix *B, unsigned p, double *v, do
         v[j] = 1.0;
     for (k = 0; k < p; k++) {
         double big = 0.0;
-        if (RIGMAT_NEVER(gsl_blas_dgemv(CblasTrans, 1.0, B, &vv.vector, 0.0, &tv.vector) !=
+        if (RIGMAT_NEVER(rigmat_dgemv(fb, CblasTrans, 1.0, B, &vv.vector, 0.0, &tv.vector) !=
                          GSL_SUCCESS))
             return HUGE_VAL; /* sizes agree: never */
         for (j = 0; j < n; j++)
@@ -537,7 +538,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
         n2 = rigmat_expm_norm1(&A2.matrix);
         eta[0] = sqrt(n2); /* bounds d_4 and d_6 */
         m = 0;
-        if (eta[0] <= theta3 && ell(3, 0, log2_abs_power_norm(absA, 7, v, t), nrm) == 0)
+        if (eta[0] <= theta3 && ell(3, 0, log2_abs_power_norm(fb, absA, 7, v, t), nrm) == 0)
             m = 3;
         if (m == 0) {
             rc = mul(fb, &A4.matrix, &A2.matrix, &A2.matrix, err);
@@ -547,7 +548,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             have = 4;
             n4 = rigmat_expm_norm1(&A4.matrix);
             eta[1] = fmax(pow(n4, 0.25), pow(n4 * n2, 1.0 / 6.0));
-            if (eta[1] <= theta5 && ell(5, 0, log2_abs_power_norm(absA, 11, v, t), nrm) == 0)
+            if (eta[1] <= theta5 && ell(5, 0, log2_abs_power_norm(fb, absA, 11, v, t), nrm) == 0)
                 m = 5;
         }
         if (m == 0) {
@@ -561,7 +562,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             eta[2] = fmax(pow(n6, 1.0 / 6.0), d8);
             for (d = 2; d < 4 && m == 0; d++)
                 if (eta[2] <= ths[d] &&
-                    ell(degs[d], 0, log2_abs_power_norm(absA, 2 * degs[d] + 1, v, t), nrm) == 0)
+                    ell(degs[d], 0, log2_abs_power_norm(fb, absA, 2 * degs[d] + 1, v, t), nrm) == 0)
                     m = degs[d];
             if (!isfinite(n2 * n4 * n6)) {
                 by_norm = 1; /* a power overflowed: A2, A4, A6 are not usable */
@@ -573,7 +574,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
                 m = 13;
                 if (eta5 > theta13)
                     s = ceil_log2(eta5 / theta13);
-                s += ell(13, s, log2_abs_power_norm(absA, 27, v, t), nrm);
+                s += ell(13, s, log2_abs_power_norm(fb, absA, 27, v, t), nrm);
             }
         }
         if (!by_norm && m == 13 && s > 0) {

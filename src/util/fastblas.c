@@ -34,7 +34,7 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
     fb->tried = 1;
     for (p = names != NULL ? names : rigmat_fastblas_names; *p != NULL; p++) {
         void *h = dlopen(*p, RTLD_NOW | RTLD_LOCAL | RTLD_NODELETE);
-        void *g, *f, *t;
+        void *g, *f, *t, *v;
         if (h == NULL)
             continue;
         g = dlsym(h, "cblas_dgemm");
@@ -44,6 +44,7 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
         }
         f = dlsym(h, "dgetrf_");
         t = dlsym(h, "cblas_dtrsm");
+        v = dlsym(h, "cblas_dgemv");
         fb->handle = h;
         /* ISO C has no conversion from void * to a function pointer; POSIX
          * guarantees the representation, so the bytes are copied */
@@ -52,6 +53,8 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
             memcpy(&fb->dgetrf, &f, sizeof fb->dgetrf);
         if (t != NULL)
             memcpy(&fb->dtrsm, &t, sizeof fb->dtrsm);
+        if (v != NULL)
+            memcpy(&fb->dgemv, &v, sizeof fb->dgemv);
         return 1;
     }
     (void)dlerror(); /* the failure is data (tried, no dgemm), not a message */
@@ -105,9 +108,25 @@ int rigmat_dtrsm(rigmat_fastblas *fb, CBLAS_SIDE_t side, CBLAS_UPLO_t uplo, CBLA
     return GSL_SUCCESS;
 }
 
+int rigmat_dgemv(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, double alpha, const gsl_matrix *A,
+                 const gsl_vector *x, double beta, gsl_vector *y)
+{
+    const size_t m = A->size1, n = A->size2;
+    const size_t nx = ta == CblasNoTrans ? n : m, ny = ta == CblasNoTrans ? m : n;
+    const double lim = (double)RIGMAT_FASTBLAS_MIN_N;
+
+    if (fb == NULL || x->size != nx || y->size != ny || (double)m * (double)n < lim * lim ||
+        !fits_int(m) || !fits_int(n) || !fits_int(A->tda) || !fits_int(x->stride) ||
+        !fits_int(y->stride) || !rigmat_fastblas_load(fb, NULL) || fb->dgemv == NULL)
+        return gsl_blas_dgemv(ta, alpha, A, x, beta, y);
+    fb->dgemv((int)CblasRowMajor, (int)ta, (int)m, (int)n, alpha, A->data, (int)A->tda, x->data,
+              (int)x->stride, beta, y->data, (int)y->stride);
+    return GSL_SUCCESS;
+}
+
 rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n)
 {
-    if (fb == NULL || n < (size_t)RIGMAT_FASTBLAS_MIN_N || !fits_int(n) ||
+    if (fb == NULL || n < (size_t)RIGMAT_FASTBLAS_LU_MIN_N || !fits_int(n) ||
         !rigmat_fastblas_load(fb, NULL))
         return NULL;
     return fb->dgetrf;

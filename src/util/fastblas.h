@@ -24,7 +24,8 @@
  * bytes do not depend on how points fall to threads).  rigmat_dgemm and
  * rigmat_dtrsm take the loaded BLAS when the multiply-adds m n k reach
  * RIGMAT_FASTBLAS_MIN_N^3, rigmat_fastblas_dgetrf from n >=
- * RIGMAT_FASTBLAS_MIN_N; below, GSL.  The threshold is measured (below).
+ * RIGMAT_FASTBLAS_LU_MIN_N; below, GSL.  The thresholds are measured
+ * (below).
  */
 #ifndef RIGMAT_FASTBLAS_H
 #define RIGMAT_FASTBLAS_H
@@ -42,6 +43,10 @@ typedef void (*rigmat_cblas_dgemm_fn)(int order, int transa, int transb, int m, 
 typedef void (*rigmat_cblas_dtrsm_fn)(int order, int side, int uplo, int transa, int diag, int m,
                                       int n, double alpha, const double *a, int lda, double *b,
                                       int ldb);
+/* OpenBLAS's cblas_dgemv */
+typedef void (*rigmat_cblas_dgemv_fn)(int order, int trans, int m, int n, double alpha,
+                                      const double *a, int lda, const double *x, int incx,
+                                      double beta, double *y, int incy);
 /* LAPACK's dgetrf_ (column-major LU with partial pivoting) */
 typedef void (*rigmat_dgetrf_fn)(const int *m, const int *n, double *a, const int *lda, int *ipiv,
                                  int *info);
@@ -51,6 +56,7 @@ typedef struct rigmat_fastblas {
     int tried;    /* 1 once a load was attempted (a failure is not retried) */
     rigmat_cblas_dgemm_fn dgemm;
     rigmat_cblas_dtrsm_fn dtrsm;
+    rigmat_cblas_dgemv_fn dgemv;
     rigmat_dgetrf_fn dgetrf; /* NULL when the library has no LAPACK */
 } rigmat_fastblas;
 
@@ -80,25 +86,35 @@ int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb
 int rigmat_dtrsm(rigmat_fastblas *fb, CBLAS_SIDE_t side, CBLAS_UPLO_t uplo, CBLAS_TRANSPOSE_t ta,
                  CBLAS_DIAG_t diag, double alpha, const gsl_matrix *A, gsl_matrix *B);
 
+/* y = alpha op(A) x + beta y, as gsl_blas_dgemv, by the loaded BLAS when
+ * fb is not NULL and A has at least RIGMAT_FASTBLAS_MIN_N^2 entries (the
+ * matrix of a call whose products take that BLAS too). */
+int rigmat_dgemv(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, double alpha, const gsl_matrix *A,
+                 const gsl_vector *x, double beta, gsl_vector *y);
+
 /* dgetrf_ of the loaded BLAS for an n x n LU when n is large enough and
  * the library has one (loading it if need be); NULL otherwise (use GSL's
  * LU).  fb may be NULL. */
 rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n);
 
-/* The threshold, measured on the 2-core build machine, shared (bench/scale_bench
- * --blas; bench/RESULTS.md, "lazyblas"), seconds per square call, GSL's
- * CBLAS / OpenBLAS (one thread):
+/* The thresholds, measured on the 2-core build machine, shared
+ * (build/bench/scale_bench --blas; bench/RESULTS.md, "lazyblas"), seconds
+ * per square call, GSL's CBLAS / OpenBLAS (one thread):
  *     n = 8: 2.9e-7 / 1.7e-7     n = 16: 1.8e-6 / 4.2e-7    n = 32: 1.5e-5 / 2.5e-6
  *     n = 48: 4.1e-5 / 6.9e-6    n = 64: 9.9e-5 / 1.3e-5    n = 128: 7.3e-4 / 1.7e-4
  *     n = 256: 7.9e-3 / 1.0e-3; LU n = 48: 2.5e-5 / 1.4e-5, n = 256: 3.0e-3 / 5.1e-4.
- * OpenBLAS wins every call, but opening it costs 8-13 ms of CPU once per
- * process (dlopen + first call, measured the same day).  Below n = 48 a
- * product costs under 50 us with GSL's CBLAS, so a whole exponential of
- * that size (8 products and an LU) stays under half a millisecond and
- * a one-shot run would pay ~20 times its arithmetic for the load; from
- * n = 48 on OpenBLAS is 6-8 times faster per product, which a sweep or
- * a repeated exponential earns back, and the exponential at n = 64 stays
- * as fast as scipy's (bench/expm.sh). */
-enum { RIGMAT_FASTBLAS_MIN_N = 48 };
+ * OpenBLAS wins every call, by 4 times and more from n = 16, but opening
+ * it costs 8-13 ms of CPU once per process (dlopen + first call, measured
+ * the same day).  Products from 16^3 multiply-adds take it: the
+ * exponential at n = 16 with GSL's products took 1.7 times scipy's
+ * (bench/expm.sh: 40 us against 23 us of CPU), and every product of the
+ * demo stays below (its largest, Van Loan's 12 x 12 blocks, is 12^3), so
+ * the demo never opens it (tests/cli.sh).  A model between 16 and 48
+ * states pays the load in a one-shot run, as every process did when
+ * OpenBLAS was linked.  LAPACK's LU from n = 48: below, the call overhead
+ * lost inside the whole exponential (0.26 ms with dgetrf against 0.18 ms
+ * with GSL's LU at n = 32, 0.87 against 1.21 at n = 48; src/sample/expm.c
+ * before this module). */
+enum { RIGMAT_FASTBLAS_MIN_N = 16, RIGMAT_FASTBLAS_LU_MIN_N = 48 };
 
 #endif /* RIGMAT_FASTBLAS_H */
