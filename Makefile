@@ -258,9 +258,13 @@ $(BUILD)/shim/writefail.so: tests/shim/writefail.c | deps-build
 $(BUILD)/tsan/threads: $(BUILD)/tsan/tests/threads.o $(BUILD)/tsan/tests/pipeline.o \
         $(BUILD)/tsan/librigmat.a
 	$(CC) $(TSAN_FLAGS) $(LDFLAGS) -o $@ $^ $(LIBS) -lpthread
-check-tsan: $(BUILD)/tsan/threads
+# A 10-mass chain (20 states, bench/chains.py) joins the examples: its
+# products are large enough to open OpenBLAS (src/util/fastblas.h), so
+# the dlopen runs on four threads at once too; no example opens it.
+check-tsan: $(BUILD)/tsan/threads deps-test
+	$(PYTHON) bench/chains.py mass 10 > $(BUILD)/tsan/chain10.yaml
 	OPENBLAS_NUM_THREADS=1 TSAN_OPTIONS=halt_on_error=1:exitcode=66 \
-	    $(BUILD)/tsan/threads catalog examples/*.yaml
+	    $(BUILD)/tsan/threads catalog examples/*.yaml $(BUILD)/tsan/chain10.yaml
 
 # check-oom: a full load + trim + linearize + discretize + noise run in
 # which the n-th allocation fails, for every n until the run succeeds:
