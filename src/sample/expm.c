@@ -410,11 +410,23 @@ static double log2_abs_power_norm(rigmat_fastblas *fb, const gsl_matrix *B, unsi
  * (m!)^2 / ((2m)! (2m+1)!) the leading coefficient of the backward error
  * series (Higham 2005, eq. (2.6)).  Scaling A by 2^-s scales alpha by
  * 2^(-2ms).  l2 = log2 ||(|A|)^(2m+1)||_1, nrm = ||A||_1 (unscaled). */
+/* log2 k! as a sum of logarithms: lgamma writes the global signgam, a
+ * data race when two threads take it (ThreadSanitizer, make check-tsan) */
+static double log2_factorial(unsigned k)
+{
+    double l = 0.0;
+    unsigned i;
+
+    for (i = 2; i <= k; i++)
+        l += log2((double)i);
+    return l;
+}
+
 static unsigned ell(unsigned m, unsigned s, double l2, double nrm)
 {
     const double md = (double)m;
     const double l2c =
-            (2.0 * lgamma(md + 1.0) - lgamma(2.0 * md + 1.0) - lgamma(2.0 * md + 2.0)) / log(2.0);
+            2.0 * log2_factorial(m) - log2_factorial(2 * m) - log2_factorial(2 * m + 1);
     const double l2alpha = l2c + l2 - log2(nrm) - 2.0 * md * (double)s;
     const double q = ceil((l2alpha + 53.0) / (2.0 * md)); /* u = 2^-53 */
 
