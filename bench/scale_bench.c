@@ -5,16 +5,24 @@
  *
  *   scale_bench FILE RATE_HZ   prints: states linearize_s discretize_s
  *   scale_bench --dgemm N      prints: seconds of one N x N DGEMM (best of 3)
+ *                              by OpenBLAS (opened as the library does,
+ *                              src/util/fastblas.h; GSL's CBLAS without it)
  *   scale_bench --expm N       prints: seconds of rigmat_expm on an N x N
  *                              matrix with ||A||_1 = 20, of its matrix
- *                              products alone, of GSL's LU and of LAPACK's
- *                              dgetrf (0 when the BLAS has no LAPACK), and
- *                              the number of products
+ *                              products alone (as the library makes them),
+ *                              of GSL's LU and of LAPACK's dgetrf (0 when
+ *                              OpenBLAS did not open), and the number of
+ *                              products
+ *   scale_bench --blas         prints a table: square DGEMM and LU at
+ *                              n = 8 .. 256 by GSL's CBLAS and GSL's LU
+ *                              against OpenBLAS's, seconds per call (the
+ *                              measurement behind fastblas.h's thresholds)
  *
  * Part of `make bench` (bench/scale.sh); never fails on time. */
 #include "rigmat_internal.h"
 #include "discretize.h"
 #include "expm.h"
+#include "fastblas.h"
 
 #include <stdio.h>
 #include <stdlib.h>
@@ -22,11 +30,6 @@
 #include <time.h>
 #include <gsl/gsl_blas.h>
 #include <gsl/gsl_linalg.h>
-
-#if defined(RIGMAT_HAVE_LAPACK) && defined(__GNUC__)
-extern void dgetrf_(const int *m, const int *n, double *a, const int *lda, int *ipiv,
-                    int *info) __attribute__((weak));
-#endif
 
 static double now_s(void)
 {
@@ -40,6 +43,7 @@ static int dgemm(size_t n)
 {
     gsl_matrix *A = gsl_matrix_alloc(n, n), *B = gsl_matrix_alloc(n, n), *C = gsl_matrix_alloc(n, n);
     double best = 1e300;
+    rigmat_fastblas fb;
     size_t i;
     int r;
 
@@ -49,13 +53,15 @@ static int dgemm(size_t n)
         A->data[i] = (double)(i % 7) - 3.0;
         B->data[i] = (double)(i % 5) - 2.0;
     }
+    rigmat_fastblas_init(&fb);
     for (r = 0; r < 3; r++) {
         const double t0 = now_s();
-        gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A, B, 0.0, C);
+        rigmat_dgemm(&fb, CblasNoTrans, CblasNoTrans, 1.0, A, B, 0.0, C);
         if (now_s() - t0 < best)
             best = now_s() - t0;
     }
     printf("%.6g\n", best);
+    rigmat_fastblas_release(&fb);
     gsl_matrix_free(A);
     gsl_matrix_free(B);
     gsl_matrix_free(C);
@@ -82,6 +88,8 @@ static int expm_parts(size_t n)
     int *ipiv = malloc(n * sizeof *ipiv), signum;
     rigmat_expm_info info;
     double t0, te, tp, tg, tl = 0.0;
+    rigmat_fastblas fb;
+    rigmat_dgetrf_fn dgetrf;
     unsigned k;
 
     if (A == NULL || E == NULL || C == NULL || p == NULL || w == NULL || ipiv == NULL)
@@ -92,24 +100,25 @@ static int expm_parts(size_t n)
     if (rigmat_expm(A, E, 0, w, &info, NULL) != RIGMAT_OK)
         return 3;
     te = now_s() - t0;
+    rigmat_fastblas_init(&fb);
     t0 = now_s();
     for (k = 0; k < info.products; k++)
-        gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A, k % 2 ? C : E, 0.0, k % 2 ? E : C);
+        rigmat_dgemm(&fb, CblasNoTrans, CblasNoTrans, 1.0, A, k % 2 ? C : E, 0.0, k % 2 ? E : C);
     tp = now_s() - t0;
     gsl_matrix_memcpy(C, A);
     t0 = now_s();
     gsl_linalg_LU_decomp(C, p, &signum);
     tg = now_s() - t0;
-#if defined(RIGMAT_HAVE_LAPACK) && defined(__GNUC__)
-    if (dgetrf_ != NULL) {
+    dgetrf = rigmat_fastblas_load(&fb, NULL) ? fb.dgetrf : NULL;
+    if (dgetrf != NULL) {
         const int ni = (int)n;
         int inf = 0;
         gsl_matrix_memcpy(C, A);
         t0 = now_s();
-        dgetrf_(&ni, &ni, C->data, &ni, ipiv, &inf);
+        dgetrf(&ni, &ni, C->data, &ni, ipiv, &inf);
         tl = now_s() - t0;
     }
-#endif
+    rigmat_fastblas_release(&fb);
     printf("%.6g %.6g %.6g %.6g %u\n", te, tp, tg, tl, info.products);
     gsl_matrix_free(A);
     gsl_matrix_free(E);
@@ -117,6 +126,86 @@ static int expm_parts(size_t n)
     gsl_permutation_free(p);
     rigmat_expm_ws_free(w);
     free(ipiv);
+    return 0;
+}
+
+/* best of `reps` batches of calls lasting >= 20 ms each: seconds per call */
+static double per_call(int which, rigmat_fastblas *fb, gsl_matrix *A, gsl_matrix *B, gsl_matrix *C,
+                       gsl_permutation *p, int *ipiv)
+{
+    const size_t n = A->size1;
+    const int ni = (int)n;
+    double best = 1e300;
+    int r;
+
+    for (r = 0; r < 5; r++) {
+        const double t0 = now_s();
+        long calls = 0;
+        double t;
+        do {
+            int sg = 0, inf = 0;
+            switch (which) {
+            case 0:
+                gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A, B, 0.0, C);
+                break;
+            case 1:
+                fb->dgemm((int)CblasRowMajor, (int)CblasNoTrans, (int)CblasNoTrans, ni, ni, ni, 1.0,
+                          A->data, ni, B->data, ni, 0.0, C->data, ni);
+                break;
+            case 2:
+                gsl_matrix_memcpy(C, A);
+                gsl_linalg_LU_decomp(C, p, &sg);
+                break;
+            default:
+                gsl_matrix_memcpy(C, A);
+                fb->dgetrf(&ni, &ni, C->data, &ni, ipiv, &inf);
+                break;
+            }
+            calls++;
+            t = now_s() - t0;
+        } while (t < 0.02);
+        if (t / (double)calls < best)
+            best = t / (double)calls;
+    }
+    return best;
+}
+
+static int blas_table(void)
+{
+    static const size_t ns[] = { 8, 16, 32, 48, 64, 96, 128, 192, 256 };
+    rigmat_fastblas fb;
+    size_t q;
+
+    rigmat_fastblas_init(&fb);
+    if (!rigmat_fastblas_load(&fb, NULL) || fb.dgetrf == NULL) {
+        fprintf(stderr, "scale_bench: OpenBLAS did not open\n");
+        return 3;
+    }
+    printf("%6s %12s %12s %8s %12s %12s %8s\n", "n", "gsl dgemm", "openblas", "ratio", "gsl LU",
+           "dgetrf", "ratio");
+    for (q = 0; q < sizeof ns / sizeof ns[0]; q++) {
+        const size_t n = ns[q];
+        gsl_matrix *A = gsl_matrix_alloc(n, n), *B = gsl_matrix_alloc(n, n);
+        gsl_matrix *C = gsl_matrix_alloc(n, n);
+        gsl_permutation *p = gsl_permutation_alloc(n);
+        int *ipiv = malloc(n * sizeof *ipiv);
+        double t[4];
+        int k;
+        if (A == NULL || B == NULL || C == NULL || p == NULL || ipiv == NULL)
+            return 4;
+        fill(A);
+        fill(B);
+        for (k = 0; k < 4; k++)
+            t[k] = per_call(k, &fb, A, B, C, p, ipiv);
+        printf("%6zu %12.4g %12.4g %8.2f %12.4g %12.4g %8.2f\n", n, t[0], t[1], t[0] / t[1], t[2],
+               t[3], t[2] / t[3]);
+        gsl_matrix_free(A);
+        gsl_matrix_free(B);
+        gsl_matrix_free(C);
+        gsl_permutation_free(p);
+        free(ipiv);
+    }
+    rigmat_fastblas_release(&fb);
     return 0;
 }
 
@@ -137,8 +226,10 @@ int main(int argc, char **argv)
         return dgemm((size_t)strtoul(argv[2], NULL, 10));
     if (argc == 3 && strcmp(argv[1], "--expm") == 0)
         return expm_parts((size_t)strtoul(argv[2], NULL, 10));
+    if (argc == 2 && strcmp(argv[1], "--blas") == 0)
+        return blas_table();
     if (argc != 3) {
-        fprintf(stderr, "usage: scale_bench FILE RATE_HZ | --dgemm N | --expm N\n");
+        fprintf(stderr, "usage: scale_bench FILE RATE_HZ | --dgemm N | --expm N | --blas\n");
         return 2;
     }
     opt.max_entries = opt.max_joints = 100000;

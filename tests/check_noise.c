@@ -272,14 +272,28 @@ START_TEST(stiff_oscillators_right_or_refused)
                                     &want[3]), 4);
             ck_assert_msg(st == RIGMAT_OK, "m = %g: %s", m, err.message);
             ck_assert(w->bound > 0.0 && w->bound <= o.rtol);
-            /* each entry within the bound, relative to sqrt(Qii Qjj) (a covariance's
-             * own scale; the bound is normwise in balanced coordinates) */
-            for (i = 0; i < 2; i++)
-                for (j = 0; j < 2; j++) {
-                    const double e = fabs(gsl_matrix_get(Q, i, j) - want[2 * i + j]) /
-                                     sqrt(want[3 * i] * want[3 * j]);
-                    worst = fmax(worst, e);
+            /* what the bound promises (noise.h): the normwise error
+             * ||Q'_computed - Q'|| / ||Q'|| in the balanced coordinates
+             * Q' = D^-1 Q D^-1 (w->D, powers of two: exact), with the norm
+             * max(||.||_1, ||.||_inf) (one norm: both matrices are symmetric).
+             * An entrywise error relative to sqrt(Qii Qjj), checked here
+             * before, is not promised: it exceeds the normwise one where the
+             * balanced variances differ (the m = 1e-9, c = 1e3 case with GSL's
+             * CBLAS: 2.05e-11 entrywise against a normwise bound of 1.41e-11) */
+            {
+                double den = 0.0, num = 0.0;
+                for (i = 0; i < 2; i++) {
+                    double rn = 0.0, rd = 0.0;
+                    for (j = 0; j < 2; j++) {
+                        const double dd = gsl_vector_get(w->D, i) * gsl_vector_get(w->D, j);
+                        rn += fabs(gsl_matrix_get(Q, i, j) - want[2 * i + j]) / dd;
+                        rd += fabs(want[2 * i + j]) / dd;
+                    }
+                    num = fmax(num, rn);
+                    den = fmax(den, rd);
                 }
+                worst = num / den;
+            }
             ck_assert_msg(worst <= w->bound, "m = %g: error %.3g above its bound %.3g", m, worst,
                           w->bound);
             ck_assert_rel(gsl_matrix_get(Q, 0, 0), want[0], 1e-9);

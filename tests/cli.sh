@@ -772,5 +772,17 @@ for f in examples/*.yaml; do
     expect 0 "example $f modes" -- "$R" modes "$f" --rate 500Hz --format json
 done
 
+# start-up (DEVELOPERS.md, "BLAS"): a small problem never loads OpenBLAS;
+# the dynamic loader's own log (LD_DEBUG=files) names every file it maps
+for args in "--help" "discretize $DEMO --rate 200Hz"; do
+    # shellcheck disable=SC2086
+    LD_DEBUG=files "$R" $args >/dev/null 2>"$T/ld" || true
+    if grep -q "file=" "$T/ld"; then
+        if grep -qi "openblas" "$T/ld"; then bad "rigmat $args loaded OpenBLAS"; else ok; fi
+    else
+        bad "LD_DEBUG=files printed nothing for rigmat $args"
+    fi
+done
+
 echo "cli: $pass passed, $fail failed"
 [ "$fail" = 0 ]

@@ -253,9 +253,11 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
                                        gsl_matrix_get(&E.matrix, i, n + m + j));
         {
             gsl_matrix_const_view G2 = gsl_matrix_const_submatrix(&E.matrix, 0, n + m, n, m);
-            gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, Ad, &G2.matrix, 1.0, &Gam.matrix);
+            gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, 1.0, Ad, &G2.matrix, 1.0,
+                              &Gam.matrix);
             if (gs == GSL_SUCCESS && ny > 0)
-                gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, s->C, &G2.matrix, 1.0, Dm);
+                gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, 1.0, s->C, &G2.matrix,
+                                  1.0, Dm);
             if (gs != GSL_SUCCESS)
                 return gsl_bug(err, "matrix product", gs);
         }
@@ -316,16 +318,17 @@ static rigmat_status method_core(const rigmat_lti *s, const rigmat_discretize_op
             return RIGMAT_OK;
         /* Dm = D + alpha C Gam, with Gam = (I - alpha h A)^-1 B h */
         if (m > 0) {
-            gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, alpha, s->C, &Gam.matrix, 1.0, Dm);
+            gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, alpha, s->C, &Gam.matrix,
+                              1.0, Dm);
             if (gs != GSL_SUCCESS)
                 return gsl_bug(err, "matrix product", gs);
         }
         /* Cm = C (I - alpha h A)^-1: with P M = L U, Z = Cm P^T solves Z L U = C */
-        gs = gsl_blas_dtrsm(CblasRight, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, &LU.matrix,
-                            Cm);
+        gs = rigmat_dtrsm(&w->expm->blas, CblasRight, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0,
+                          &LU.matrix, Cm);
         if (gs == GSL_SUCCESS)
-            gs = gsl_blas_dtrsm(CblasRight, CblasLower, CblasNoTrans, CblasUnit, 1.0, &LU.matrix,
-                                Cm);
+            gs = rigmat_dtrsm(&w->expm->blas, CblasRight, CblasLower, CblasNoTrans, CblasUnit, 1.0,
+                              &LU.matrix, Cm);
         if (gs != GSL_SUCCESS)
             return gsl_bug(err, "triangular solve", gs);
         for (i = 0; i < ny; i++) {
@@ -445,8 +448,8 @@ static rigmat_status delay_gammas(const rigmat_lti *s, const rigmat_discretize_o
         return rc;
     {
         gsl_matrix_const_view Gf = gsl_matrix_const_submatrix(&E.matrix, 0, n, n, mc);
-        gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Phi1.matrix, &Gf.matrix, 0.0,
-                            &G1.matrix);
+        gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, 1.0, &Phi1.matrix, &Gf.matrix,
+                          0.0, &G1.matrix);
     }
     if (gs != GSL_SUCCESS)
         return gsl_bug(err, "matrix product", gs);

@@ -9,6 +9,7 @@
  */
 #include "invariant.h"
 #include "expm.h"
+#include "fastblas.h"
 #include "sizes.h"
 
 #include <limits.h>
@@ -19,22 +20,12 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_linalg.h>
 
-/* LAPACK's blocked LU (dgetrf) from the BLAS library when it has one:
- * OpenBLAS ships LAPACK, and the Makefile defines RIGMAT_HAVE_LAPACK when it
- * links OpenBLAS.  The reference is weak, so a program that links the
- * library with a BLAS without LAPACK (GSL's own CBLAS: rigmat.pc) still
- * links, finds it NULL and uses GSL's LU.  Measured at n = 2000 on the
- * shared build machine, one thread: dgetrf 0.95 s, gsl_linalg_LU_decomp
- * 1.46 s; with both cores 0.57 s against 3.4 s (GSL's is serial).  Below
- * lapack_min the call overhead loses: the whole expm (one thread, norm 20)
- * took 0.26 ms with dgetrf against 0.18 ms with GSL's LU at n = 32, and
- * 0.87 ms against 1.21 ms at n = 48. */
-#if defined(RIGMAT_HAVE_LAPACK) && defined(__GNUC__)
-extern void dgetrf_(const int *m, const int *n, double *a, const int *lda, int *ipiv, int *info)
-        __attribute__((weak));
-#define RIGMAT_LAPACK_LU 1
-static const size_t lapack_min = 48;
-#endif
+/* Products and the LU of the Pade denominator go to OpenBLAS, opened on
+ * first large use (src/util/fastblas.h), from the sizes measured there;
+ * below them GSL's CBLAS and GSL's LU.  Earlier measurements with OpenBLAS
+ * linked at build time: at n = 2000 on the shared build machine, one
+ * thread, dgetrf 0.95 s against gsl_linalg_LU_decomp 1.46 s; with both
+ * cores 0.57 s against 3.4 s (GSL's is serial). */
 
 /* theta_m for m = 3, 5, 7, 9, 13: Higham (2005), Table 2.3, u = 2^-53. */
 static const double theta3 = 1.495585217958292e-2;
@@ -105,6 +96,7 @@ rigmat_expm_ws *rigmat_expm_ws_alloc(size_t nmax)
     if (w == NULL)
         return NULL;
     w->nmax = nmax;
+    rigmat_fastblas_init(&w->blas);
     w->As = alloc_or_flag(nmax, &bad);
     w->A2 = alloc_or_flag(nmax, &bad);
     w->A4 = alloc_or_flag(nmax, &bad);
@@ -138,6 +130,7 @@ void rigmat_expm_ws_free(rigmat_expm_ws *w)
         gsl_permutation_free(w->perm);
     if (w->scale != NULL)
         gsl_vector_free(w->scale);
+    rigmat_fastblas_release(&w->blas);
     free(w);
 }
 
@@ -175,9 +168,10 @@ static void lincomb2(gsl_matrix *d1, double c10, const double *c1, gsl_matrix *d
     }
 }
 
-static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B, rigmat_error *err)
+static rigmat_status mul(rigmat_fastblas *fb, gsl_matrix *C, const gsl_matrix *A,
+                         const gsl_matrix *B, rigmat_error *err)
 {
-    const int gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A, B, 0.0, C);
+    const int gs = rigmat_dgemm(fb, CblasNoTrans, CblasNoTrans, 1.0, A, B, 0.0, C);
 
     if (RIGMAT_NEVER(gs != GSL_SUCCESS)) /* only for sizes that disagree */
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed: %s", gsl_strerror(gs));
@@ -189,7 +183,8 @@ static rigmat_status mul(gsl_matrix *C, const gsl_matrix *A, const gsl_matrix *B
  * A2, A4, A6. */
 static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matrix *A2,
                               gsl_matrix *A4, gsl_matrix *A6, gsl_matrix *A8, gsl_matrix *U,
-                              gsl_matrix *V, gsl_matrix *T, unsigned *products, rigmat_error *err)
+                              gsl_matrix *V, gsl_matrix *T, unsigned *products, rigmat_fastblas *fb,
+                              rigmat_error *err)
 {
     const double *b = m == 3 ? b3 : m == 5 ? b5 : m == 7 ? b7 : b9;
     gsl_matrix *pw[4];
@@ -199,19 +194,19 @@ static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matr
 
     rc = RIGMAT_OK;
     if (have < 2) {
-        rc = mul(A2, A, A, err);
+        rc = mul(fb, A2, A, A, err);
         (*products)++;
     }
     if (rc == RIGMAT_OK && m >= 5 && have < 4) {
-        rc = mul(A4, A2, A2, err);
+        rc = mul(fb, A4, A2, A2, err);
         (*products)++;
     }
     if (rc == RIGMAT_OK && m >= 7 && have < 6) {
-        rc = mul(A6, A2, A4, err);
+        rc = mul(fb, A6, A2, A4, err);
         (*products)++;
     }
     if (rc == RIGMAT_OK && m >= 9) {
-        rc = mul(A8, A4, A4, err);
+        rc = mul(fb, A8, A4, A4, err);
         (*products)++;
     }
     if (rc != RIGMAT_OK)
@@ -226,7 +221,7 @@ static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matr
         ceven[k] = b[2 * k + 2];
     }
     lincomb2(T, b[1], codd, V, b[0], ceven, pw, npw);
-    rc = mul(U, A, T, err);
+    rc = mul(fb, U, A, T, err);
     (*products)++;
     return rc;
 }
@@ -234,7 +229,7 @@ static rigmat_status pade_low(unsigned m, unsigned have, gsl_matrix *A, gsl_matr
 /* U and V of r_13(A); A2, A4, A6 already hold the powers when have. */
 static rigmat_status pade13(int have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix *A4, gsl_matrix *A6,
                             gsl_matrix *U, gsl_matrix *V, gsl_matrix *T, unsigned *products,
-                            rigmat_error *err)
+                            rigmat_fastblas *fb, rigmat_error *err)
 {
     gsl_matrix *const pw[3] = { A2, A4, A6 };
     const double ui[3] = { b13[9], b13[11], b13[13] };
@@ -244,34 +239,34 @@ static rigmat_status pade13(int have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix 
     rigmat_status rc;
 
     if (!have) {
-        rc = mul(A2, A, A, err);
+        rc = mul(fb, A2, A, A, err);
         if (rc == RIGMAT_OK)
-            rc = mul(A4, A2, A2, err);
+            rc = mul(fb, A4, A2, A2, err);
         if (rc == RIGMAT_OK)
-            rc = mul(A6, A2, A4, err);
+            rc = mul(fb, A6, A2, A4, err);
         if (rc != RIGMAT_OK)
             return rc;
         *products += 3;
     }
     /* U: T = b13 A6 + b11 A4 + b9 A2; V = A6 T + (b7 A6 + b5 A4 + b3 A2 + b1 I); U = A V */
     lincomb2(T, 0.0, ui, V, b13[1], uo, pw, 3);
-    rc = !RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) !=
+    rc = !RIGMAT_NEVER(rigmat_dgemm(fb, CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) !=
                        GSL_SUCCESS)
                  ? RIGMAT_OK
                  : RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
     if (rc == RIGMAT_OK)
-        rc = mul(U, A, V, err);
+        rc = mul(fb, U, A, V, err);
     if (rc != RIGMAT_OK)
         return rc;
     /* V = A6 (b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I */
     lincomb2(T, 0.0, vi, V, b13[0], vo, pw, 3);
-    if (RIGMAT_NEVER(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) != GSL_SUCCESS))
+    if (RIGMAT_NEVER(rigmat_dgemm(fb, CblasNoTrans, CblasNoTrans, 1.0, A6, T, 1.0, V) !=
+                     GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "matrix product failed");
     *products += 3;
     return RIGMAT_OK;
 }
 
-#ifdef RIGMAT_LAPACK_LU
 /* X = P^-1 V by dgetrf, without transposing P.  LAPACK reads the row-major
  * buffer by columns, that is as P^T, and factors P^T = Pm L U (row
  * interchanges Pm, so partial pivoting on the columns of P: a backward
@@ -282,15 +277,15 @@ static rigmat_status pade13(int have, gsl_matrix *A, gsl_matrix *A2, gsl_matrix 
  * two triangular solves on the row-major view, then the interchanges in
  * reverse order (Pm = P_1 P_2 ... P_n).  The in-place transpose this
  * replaces cost about 3% of the exponential at n = 256 (perf). */
-static rigmat_status lapack_solve(gsl_matrix *V, gsl_matrix *P, gsl_matrix *X, int *ipiv,
-                                  rigmat_error *err)
+static rigmat_status lapack_solve(rigmat_fastblas *fb, rigmat_dgetrf_fn dgetrf, gsl_matrix *V,
+                                  gsl_matrix *P, gsl_matrix *X, int *ipiv, rigmat_error *err)
 {
     const size_t n = P->size1;
     const int ni = (int)n, lda = (int)P->tda;
     size_t i;
     int info = 0, gs;
 
-    dgetrf_(&ni, &ni, P->data, &lda, ipiv, &info);
+    dgetrf(&ni, &ni, P->data, &lda, ipiv, &info);
     if (RIGMAT_NEVER(info < 0))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "dgetrf: argument %d is wrong", -info);
     for (i = 0; i < n; i++) {
@@ -301,9 +296,9 @@ static rigmat_status lapack_solve(gsl_matrix *V, gsl_matrix *P, gsl_matrix *X, i
     }
     gs = gsl_matrix_memcpy(X, V);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasNoTrans, CblasNonUnit, 1.0, P, X);
+        gs = rigmat_dtrsm(fb, CblasLeft, CblasLower, CblasNoTrans, CblasNonUnit, 1.0, P, X);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasNoTrans, CblasUnit, 1.0, P, X);
+        gs = rigmat_dtrsm(fb, CblasLeft, CblasUpper, CblasNoTrans, CblasUnit, 1.0, P, X);
     for (i = n; i-- > 0 && gs == GSL_SUCCESS;) {
         const size_t k = (size_t)(ipiv[i] - 1);
         if (k != i)
@@ -313,14 +308,15 @@ static rigmat_status lapack_solve(gsl_matrix *V, gsl_matrix *P, gsl_matrix *X, i
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "triangular solve failed: %s", gsl_strerror(gs));
     return RIGMAT_OK;
 }
-#endif
 
 /* X = (V - U)^-1 (V + U).  P receives V - U and its LU factors; X must be
  * distinct from U, V and P.  ipiv has n entries (LAPACK's pivots). */
 static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl_matrix *X,
-                                gsl_permutation *perm, int *ipiv, rigmat_error *err)
+                                gsl_permutation *perm, int *ipiv, rigmat_fastblas *fb,
+                                rigmat_error *err)
 {
     const size_t n = U->size1;
+    rigmat_dgetrf_fn dgetrf;
     size_t i, j;
     int signum, gs;
 
@@ -333,12 +329,9 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
             v[j] += u[j]; /* V + U overwrites V */
         }
     }
-#ifdef RIGMAT_LAPACK_LU
-    if (dgetrf_ != NULL && n >= lapack_min && n <= (size_t)INT_MAX && P->tda <= (size_t)INT_MAX)
-        return lapack_solve(V, P, X, ipiv, err);
-#else
-    (void)ipiv;
-#endif
+    dgetrf = P->tda <= (size_t)INT_MAX ? rigmat_fastblas_dgetrf(fb, n) : NULL;
+    if (dgetrf != NULL)
+        return lapack_solve(fb, dgetrf, V, P, X, ipiv, err);
     gs = gsl_linalg_LU_decomp(P, perm, &signum);
     if (gs != GSL_SUCCESS)
         return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "LU of the Pade denominator failed: %s",
@@ -357,9 +350,9 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
         if (RIGMAT_NEVER(gs != GSL_SUCCESS))
             return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "row copy failed: %s", gsl_strerror(gs));
     }
-    gs = gsl_blas_dtrsm(CblasLeft, CblasLower, CblasNoTrans, CblasUnit, 1.0, P, X);
+    gs = rigmat_dtrsm(fb, CblasLeft, CblasLower, CblasNoTrans, CblasUnit, 1.0, P, X);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dtrsm(CblasLeft, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, P, X);
+        gs = rigmat_dtrsm(fb, CblasLeft, CblasUpper, CblasNoTrans, CblasNonUnit, 1.0, P, X);
     if (RIGMAT_NEVER(gs != GSL_SUCCESS))
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "triangular solve failed: %s", gsl_strerror(gs));
     return RIGMAT_OK;
@@ -383,7 +376,8 @@ static unsigned ceil_log2(double x)
  * each.  Cost O(p n^2): with p = 27 the whole choice from the powers
  * costs about 7% of the exponential at n = 256 with dgemv, against about
  * 25% with the same products as a plain C loop (CPU time, busy machine). */
-static double log2_abs_power_norm(const gsl_matrix *B, unsigned p, double *v, double *t)
+static double log2_abs_power_norm(rigmat_fastblas *fb, const gsl_matrix *B, unsigned p, double *v,
+                                  double *t)
 {
     const size_t n = B->size1;
     gsl_vector_view vv = gsl_vector_view_array(v, n), tv = gsl_vector_view_array(t, n);
@@ -395,7 +389,7 @@ static double log2_abs_power_norm(const gsl_matrix *B, unsigned p, double *v, do
         v[j] = 1.0;
     for (k = 0; k < p; k++) {
         double big = 0.0;
-        if (RIGMAT_NEVER(gsl_blas_dgemv(CblasTrans, 1.0, B, &vv.vector, 0.0, &tv.vector) !=
+        if (RIGMAT_NEVER(rigmat_dgemv(fb, CblasTrans, 1.0, B, &vv.vector, 0.0, &tv.vector) !=
                          GSL_SUCCESS))
             return HUGE_VAL; /* sizes agree: never */
         for (j = 0; j < n; j++)
@@ -416,19 +410,23 @@ static double log2_abs_power_norm(const gsl_matrix *B, unsigned p, double *v, do
  * (m!)^2 / ((2m)! (2m+1)!) the leading coefficient of the backward error
  * series (Higham 2005, eq. (2.6)).  Scaling A by 2^-s scales alpha by
  * 2^(-2ms).  l2 = log2 ||(|A|)^(2m+1)||_1, nrm = ||A||_1 (unscaled). */
+/* log2 k! as a sum of logarithms: lgamma writes the global signgam, a
+ * data race when two threads take it (ThreadSanitizer, make check-tsan) */
+static double log2_factorial(unsigned k)
+{
+    double l = 0.0;
+    unsigned i;
+
+    for (i = 2; i <= k; i++)
+        l += log2((double)i);
+    return l;
+}
+
 static unsigned ell(unsigned m, unsigned s, double l2, double nrm)
 {
     const double md = (double)m;
-    double l2c = 0.0;
-    unsigned k;
-
-    /* log2 c_(2m+1) = 2 log2 m! - log2 (2m)! - log2 (2m+1)!, summed term
-     * by term (lgamma would write the process-wide signgam: a data race
-     * between threads) */
-    for (k = 2; k <= 2 * m + 1; k++) {
-        const double lk = log2((double)k);
-        l2c += (k <= m ? 2.0 * lk : 0.0) - (k <= 2 * m ? lk : 0.0) - lk;
-    }
+    const double l2c =
+            2.0 * log2_factorial(m) - log2_factorial(2 * m) - log2_factorial(2 * m + 1);
     const double l2alpha = l2c + l2 - log2(nrm) - 2.0 * md * (double)s;
     const double q = ceil((l2alpha + 53.0) / (2.0 * md)); /* u = 2^-53 */
 
@@ -448,6 +446,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     gsl_matrix_view As, A2, A4, A6, A8, U, V, T;
     gsl_matrix *X, *Y;
     gsl_permutation perm;
+    rigmat_fastblas *fb;
     rigmat_status rc;
     int gs;
 
@@ -468,6 +467,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
                            "matrix exponential: workspace holds %zux%zu, matrix is %zux%zu",
                            w->nmax, w->nmax, n, n);
+    fb = &w->blas;
     As = block(w->As, n);
     A2 = block(w->A2, n);
     A4 = block(w->A4, n);
@@ -542,7 +542,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             for (j = 0; j < n; j++)
                 r[j] = fabs(a[j]);
         }
-        rc = mul(&A2.matrix, &As.matrix, &As.matrix, err);
+        rc = mul(fb, &A2.matrix, &As.matrix, &As.matrix, err);
         if (rc != RIGMAT_OK)
             return rc;
         inf.products++;
@@ -550,21 +550,21 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
         n2 = rigmat_expm_norm1(&A2.matrix);
         eta[0] = sqrt(n2); /* bounds d_4 and d_6 */
         m = 0;
-        if (eta[0] <= theta3 && ell(3, 0, log2_abs_power_norm(absA, 7, v, t), nrm) == 0)
+        if (eta[0] <= theta3 && ell(3, 0, log2_abs_power_norm(fb, absA, 7, v, t), nrm) == 0)
             m = 3;
         if (m == 0) {
-            rc = mul(&A4.matrix, &A2.matrix, &A2.matrix, err);
+            rc = mul(fb, &A4.matrix, &A2.matrix, &A2.matrix, err);
             if (rc != RIGMAT_OK)
                 return rc;
             inf.products++;
             have = 4;
             n4 = rigmat_expm_norm1(&A4.matrix);
             eta[1] = fmax(pow(n4, 0.25), pow(n4 * n2, 1.0 / 6.0));
-            if (eta[1] <= theta5 && ell(5, 0, log2_abs_power_norm(absA, 11, v, t), nrm) == 0)
+            if (eta[1] <= theta5 && ell(5, 0, log2_abs_power_norm(fb, absA, 11, v, t), nrm) == 0)
                 m = 5;
         }
         if (m == 0) {
-            rc = mul(&A6.matrix, &A2.matrix, &A4.matrix, err);
+            rc = mul(fb, &A6.matrix, &A2.matrix, &A4.matrix, err);
             if (rc != RIGMAT_OK)
                 return rc;
             inf.products++;
@@ -574,7 +574,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             eta[2] = fmax(pow(n6, 1.0 / 6.0), d8);
             for (d = 2; d < 4 && m == 0; d++)
                 if (eta[2] <= ths[d] &&
-                    ell(degs[d], 0, log2_abs_power_norm(absA, 2 * degs[d] + 1, v, t), nrm) == 0)
+                    ell(degs[d], 0, log2_abs_power_norm(fb, absA, 2 * degs[d] + 1, v, t), nrm) == 0)
                     m = degs[d];
             if (!isfinite(n2 * n4 * n6)) {
                 by_norm = 1; /* a power overflowed: A2, A4, A6 are not usable */
@@ -586,7 +586,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
                 m = 13;
                 if (eta5 > theta13)
                     s = ceil_log2(eta5 / theta13);
-                s += ell(13, s, log2_abs_power_norm(absA, 27, v, t), nrm);
+                s += ell(13, s, log2_abs_power_norm(fb, absA, 27, v, t), nrm);
             }
         }
         if (!by_norm && m == 13 && s > 0) {
@@ -634,24 +634,24 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
     inf.squarings = s;
     if (m == 13)
         rc = pade13(have != 0, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &U.matrix, &V.matrix,
-                    &T.matrix, &inf.products, err);
+                    &T.matrix, &inf.products, fb, err);
     else
         rc = pade_low(m, have, &As.matrix, &A2.matrix, &A4.matrix, &A6.matrix, &A8.matrix,
-                      &U.matrix, &V.matrix, &T.matrix, &inf.products, err);
+                      &U.matrix, &V.matrix, &T.matrix, &inf.products, fb, err);
     if (rc != RIGMAT_OK)
         return rc;
     /* X = r_m in A2 (free now); P = V - U in A4 */
     /* LAPACK's int pivots live in the permutation's storage (allocated
      * memory, nmax size_t: room for nmax int), unused by that path */
     rc = pade_solve(&U.matrix, &V.matrix, &A4.matrix, &A2.matrix, &perm,
-                    (int *)(void *)w->perm->data, err);
+                    (int *)(void *)w->perm->data, fb, err);
     if (rc != RIGMAT_OK)
         return rc;
     X = &A2.matrix;
     Y = &A6.matrix;
     for (k = 0; k < s; k++) {
         gsl_matrix *const t = X;
-        rc = mul(Y, X, X, err);
+        rc = mul(fb, Y, X, X, err);
         if (rc != RIGMAT_OK)
             return rc;
         X = Y;

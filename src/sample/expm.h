@@ -14,7 +14,7 @@
  * "A new scaling and squaring algorithm for the matrix exponential", SIAM
  * J. Matrix Anal. Appl. 31(3):970-989, 2009, Algorithm 3.1; a non-normal
  * matrix whose powers shrink is then not overscaled.  The numerator and denominator are
- * formed with gsl_blas_dgemm; (V - U) X = V + U is solved by one LU
+ * formed with rigmat_dgemm (src/util/fastblas.h: OpenBLAS for large n); (V - U) X = V + U is solved by one LU
  * factorization and two triangular solves with n right-hand sides.
  *
  * Optional balancing (RIGMAT_EXPM_BALANCE) applies the diagonal similarity
@@ -33,6 +33,7 @@
 #define RIGMAT_EXPM_H
 
 #include "rigmat_internal.h"
+#include "fastblas.h"
 
 #include <gsl/gsl_permutation.h>
 
@@ -50,12 +51,15 @@ enum rigmat_expm_flags {
 };
 
 /* Scratch space for matrices up to nmax x nmax: eight n x n buffers, a
- * permutation and a scaling vector.  Opaque to callers. */
+ * permutation, a scaling vector and the handle of the optimized BLAS once
+ * a large call opened it (closed by rigmat_expm_ws_free).  Opaque to
+ * callers; one thread at a time. */
 typedef struct rigmat_expm_ws {
     size_t nmax;
     gsl_matrix *As, *A2, *A4, *A6, *A8, *U, *V, *T; /* nmax x nmax each */
     gsl_permutation *perm;                          /* nmax */
     gsl_vector *scale;                              /* nmax: balancing D */
+    rigmat_fastblas blas; /* OpenBLAS, opened by the first large product or LU */
 } rigmat_expm_ws;
 
 /* What one call did, for tests, the benchmark and diagnostics. */

@@ -206,10 +206,11 @@ static rigmat_status vanloan_doubling(const gsl_matrix *A, const gsl_matrix *W, 
     {
         gsl_matrix_const_view F22 = gsl_matrix_const_submatrix(&F.matrix, n, n, n, n);
         gsl_matrix_const_view F12 = gsl_matrix_const_submatrix(&F.matrix, 0, n, n, n);
-        gs = gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, &F22.matrix, &F12.matrix, 0.0, Q);
+        gs = rigmat_dgemm(&w->expm->blas, CblasTrans, CblasNoTrans, 1.0, &F22.matrix, &F12.matrix,
+                          0.0, Q);
         p = nrm(&Phi.matrix);
-        eP = 8.0 * (double)n * u * p;
-        eQ = 8.0 * (double)n * u * p * nrm(&F12.matrix) + gam * nrm(Q);
+        eP = 8.0 * (double)(2 * n) * u * p;
+        eQ = 8.0 * (double)(2 * n) * u * p * nrm(&F12.matrix) + gam * nrm(Q);
     }
     if (gs != GSL_SUCCESS)
         return gsl_fail(err, "matrix product", gs);
@@ -220,12 +221,14 @@ static rigmat_status vanloan_doubling(const gsl_matrix *A, const gsl_matrix *W, 
         eQ = (1.0 + p * p) * eQ + 2.0 * p * q * eP + gam * (2.0 * p * p + 1.0) * q;
         eP = 2.0 * p * eP + gam * p * p;
         /* Q <- Q + Phi Q Phi^T; Phi <- Phi^2 */
-        gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Phi.matrix, Q, 0.0, &T1.matrix);
+        gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, 1.0, &Phi.matrix, Q, 0.0,
+                          &T1.matrix);
         if (gs == GSL_SUCCESS)
-            gs = gsl_blas_dgemm(CblasNoTrans, CblasTrans, 1.0, &T1.matrix, &Phi.matrix, 1.0, Q);
+            gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasTrans, 1.0, &T1.matrix,
+                              &Phi.matrix, 1.0, Q);
         if (gs == GSL_SUCCESS)
-            gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Phi.matrix, &Phi.matrix, 0.0,
-                                &T1.matrix);
+            gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, 1.0, &Phi.matrix,
+                              &Phi.matrix, 0.0, &T1.matrix);
         if (gs == GSL_SUCCESS)
             gs = gsl_matrix_memcpy(&Phi.matrix, &T1.matrix);
         if (gs != GSL_SUCCESS)
@@ -390,13 +393,15 @@ static rigmat_status eigen_route(const gsl_matrix *A, const gsl_matrix *W, doubl
     dAd = nrm(&R.matrix);
     /* R = A Q + Q A^T - Ad W Ad^T + W */
     gsl_matrix_memcpy(&R.matrix, W);
-    gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, A, Q, 1.0, &R.matrix);
+    gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, 1.0, A, Q, 1.0, &R.matrix);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dgemm(CblasNoTrans, CblasTrans, 1.0, Q, A, 1.0, &R.matrix);
+        gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasTrans, 1.0, Q, A, 1.0, &R.matrix);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Ad.matrix, W, 0.0, &S.matrix);
+        gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasNoTrans, 1.0, &Ad.matrix, W, 0.0,
+                          &S.matrix);
     if (gs == GSL_SUCCESS)
-        gs = gsl_blas_dgemm(CblasNoTrans, CblasTrans, -1.0, &S.matrix, &Ad.matrix, 1.0, &R.matrix);
+        gs = rigmat_dgemm(&w->expm->blas, CblasNoTrans, CblasTrans, -1.0, &S.matrix, &Ad.matrix,
+                          1.0, &R.matrix);
     if (gs != GSL_SUCCESS) {
         rc = gsl_fail(err, "matrix product", gs);
         goto done;

@@ -165,10 +165,11 @@ rigmat_status rigmat_kalman_solve(const gsl_matrix *Ad, const gsl_matrix *Cd, co
             return st;
         }
         /* Re = Cd P Cd^T + Rd */
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, k->prior, &Ct.matrix, 0.0,
-                             &PCt.matrix);
+        gs |= rigmat_dgemm(&rw->blas, CblasNoTrans, CblasNoTrans, 1.0, k->prior, &Ct.matrix, 0.0,
+                           &PCt.matrix);
         gsl_matrix_memcpy(k->innovation, Rd);
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, Cd, &PCt.matrix, 1.0, k->innovation);
+        gs |= rigmat_dgemm(&rw->blas, CblasNoTrans, CblasNoTrans, 1.0, Cd, &PCt.matrix, 1.0,
+                           k->innovation);
         symmetrize(k->innovation);
         gsl_matrix_memcpy(&L.matrix, k->innovation);
         if (gs != 0 || gsl_linalg_cholesky_decomp1(&L.matrix) != 0) {
@@ -182,11 +183,12 @@ rigmat_status rigmat_kalman_solve(const gsl_matrix *Ad, const gsl_matrix *Cd, co
         gsl_matrix_transpose_memcpy(k->gain, &Mt.matrix);
         /* P+ = P - P Cd^T Re^-1 Cd P */
         gsl_matrix_memcpy(k->posterior, k->prior);
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, -1.0, &PCt.matrix, &Mt.matrix, 1.0,
-                             k->posterior);
+        gs |= rigmat_dgemm(&rw->blas, CblasNoTrans, CblasNoTrans, -1.0, &PCt.matrix, &Mt.matrix,
+                           1.0, k->posterior);
         symmetrize(k->posterior);
         /* Kp = (Ad P Cd^T + S) Re^-1 */
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, Ad, &PCt.matrix, 0.0, &T.matrix);
+        gs |= rigmat_dgemm(&rw->blas, CblasNoTrans, CblasNoTrans, 1.0, Ad, &PCt.matrix, 0.0,
+                           &T.matrix);
         if (S != NULL)
             gsl_matrix_add(&T.matrix, S);
         gsl_matrix_transpose_memcpy(&Mt.matrix, &T.matrix);

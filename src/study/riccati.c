@@ -86,6 +86,7 @@ void rigmat_riccati_ws_free(rigmat_riccati_ws *w)
         gsl_vector_complex_free(w->z);
     if (w->Z)
         gsl_matrix_complex_free(w->Z);
+    rigmat_fastblas_release(&w->blas);
     free(w);
 }
 
@@ -101,6 +102,7 @@ rigmat_riccati_ws *rigmat_riccati_ws_alloc(size_t n, size_t m)
         return NULL;
     w->n = n;
     w->m = m;
+    rigmat_fastblas_init(&w->blas);
     w->Ab = gsl_matrix_alloc(n, n);
     w->Qb = gsl_matrix_alloc(n, n);
     w->G = gsl_matrix_alloc(n, n);
@@ -244,12 +246,12 @@ static size_t gain(rigmat_riccati_ws *w, const gsl_matrix *Aop, const gsl_matrix
 {
     size_t bad;
 
-    *gs = gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, X, B, 0.0, w->XB);
+    *gs = rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, X, B, 0.0, w->XB);
     gsl_matrix_memcpy(w->Rx, R);
     symmetrize(w->Rx);
-    *gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, B, w->XB, 1.0, w->Rx);
+    *gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, B, w->XB, 1.0, w->Rx);
     symmetrize(w->Rx);
-    *gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->XB, Aop, 0.0, w->Nt);
+    *gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, w->XB, Aop, 0.0, w->Nt);
     if (S != NULL) {
         size_t i, j;
         for (i = 0; i < w->m; i++)
@@ -274,9 +276,9 @@ double rigmat_riccati_residual(const gsl_matrix *A, const gsl_matrix *B, const g
     if (gain(w, A, B, R, S, X, &gs) != RIGMAT_NONE || gs != 0)
         return (double)NAN;
     /* T2 = A^T X A; W = Nt^T K = (A^T X B + S) K */
-    gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, X, A, 0.0, w->T1);
-    gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, A, w->T1, 0.0, w->T2);
-    gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->Nt, w->Kt, 0.0, w->W);
+    gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, X, A, 0.0, w->T1);
+    gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, A, w->T1, 0.0, w->T2);
+    gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, w->Nt, w->Kt, 0.0, w->W);
     if (gs != 0)
         return (double)NAN;
     den = fro(X) + fro(w->T2) + fro(w->W) + fro(Q);
@@ -319,7 +321,7 @@ static int sda(rigmat_riccati_ws *w, const gsl_matrix *A0, const gsl_matrix *G0,
     for (k = 1; k <= o->max_iter; k++) {
         double upd, h;
         *iters = k;
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, w->Gk, w->Hk, 0.0, w->W);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, w->Gk, w->Hk, 0.0, w->W);
         for (i = 0; i < n; i++)
             gsl_matrix_set(w->W, i, i, gsl_matrix_get(w->W, i, i) + 1.0);
         gs |= gsl_linalg_LU_decomp(w->W, w->perm, &signum);
@@ -331,18 +333,18 @@ static int sda(rigmat_riccati_ws *w, const gsl_matrix *A0, const gsl_matrix *G0,
         gs |= lu_solve_cols(w, w->Y1);
         gs |= lu_solve_cols(w, w->Y2);
         /* H += A^T H W^-1 A */
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, w->Hk, w->Y1, 0.0, w->T1);
-        gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->Ak, w->T1, 0.0, w->T2);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, w->Hk, w->Y1, 0.0, w->T1);
+        gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, w->Ak, w->T1, 0.0, w->T2);
         upd = norm1(w->T2);
         gsl_matrix_add(w->Hk, w->T2);
         symmetrize(w->Hk);
         /* G += A W^-1 G A^T */
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasTrans, 1.0, w->Y2, w->Ak, 0.0, w->T1);
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, w->Ak, w->T1, 0.0, w->T2);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasTrans, 1.0, w->Y2, w->Ak, 0.0, w->T1);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, w->Ak, w->T1, 0.0, w->T2);
         gsl_matrix_add(w->Gk, w->T2);
         symmetrize(w->Gk);
         /* A = A W^-1 A */
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, w->Ak, w->Y1, 0.0, w->T1);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, w->Ak, w->Y1, 0.0, w->T1);
         gsl_matrix_memcpy(w->Ak, w->T1);
         if (gs != 0)
             return 1;
@@ -367,12 +369,12 @@ static int stein(rigmat_riccati_ws *w, const rigmat_riccati_opts *o)
     gsl_matrix_memcpy(w->Ak, w->Y1);
     for (k = 0; k < o->max_iter; k++) {
         double upd, h;
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, w->Hk, w->Ak, 0.0, w->T1);
-        gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->Ak, w->T1, 0.0, w->T2);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, w->Hk, w->Ak, 0.0, w->T1);
+        gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, w->Ak, w->T1, 0.0, w->T2);
         upd = norm1(w->T2);
         gsl_matrix_add(w->Hk, w->T2);
         symmetrize(w->Hk);
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, w->Ak, w->Ak, 0.0, w->T1);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, w->Ak, w->Ak, 0.0, w->T1);
         gsl_matrix_memcpy(w->Ak, w->T1);
         h = norm1(w->Hk);
         if (gs != 0 || !isfinite(upd) || !isfinite(h))
@@ -398,10 +400,10 @@ static int newton(rigmat_riccati_ws *w, const gsl_matrix *B, const gsl_matrix *R
         *steps = i;
         /* Ac = Ab - B K; Qk = Qb + K^T R K */
         gsl_matrix_memcpy(w->Y1, w->Ab);
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, -1.0, B, w->Kt, 1.0, w->Y1);
-        gs |= gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, R, w->Kt, 0.0, w->Nt);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, -1.0, B, w->Kt, 1.0, w->Y1);
+        gs |= rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, 1.0, R, w->Kt, 0.0, w->Nt);
         gsl_matrix_memcpy(w->Y2, w->Qb);
-        gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->Kt, w->Nt, 1.0, w->Y2);
+        gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, w->Kt, w->Nt, 1.0, w->Y2);
         symmetrize(w->Y2);
         if (gs != 0 || stein(w, o) != 0)
             return 1;
@@ -561,7 +563,7 @@ static int closed_loop(rigmat_riccati_ws *w, const gsl_matrix *A, const gsl_matr
     double r = 0.0;
 
     gsl_matrix_memcpy(w->T1, A);
-    if (gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, -1.0, B, w->Kt, 1.0, w->T1) != 0)
+    if (rigmat_dgemm(&w->blas, CblasNoTrans, CblasNoTrans, -1.0, B, w->Kt, 1.0, w->T1) != 0)
         return -1;
     if (gsl_eigen_nonsymmv(w->T1, w->z, w->Z, w->nw) != 0)
         return -1;
@@ -698,11 +700,11 @@ rigmat_status rigmat_riccati_solve(const gsl_matrix *A, const gsl_matrix *B, con
         gsl_matrix_set_zero(w->St);
     }
     /* G = B R^-1 B^T, Ab = A - B R^-1 S^T, Qb = Q - S R^-1 S^T */
-    gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->Bt, w->Bt, 0.0, w->G);
+    gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, w->Bt, w->Bt, 0.0, w->G);
     symmetrize(w->G);
     gsl_matrix_memcpy(w->Ab, A);
-    gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, -1.0, w->Bt, w->St, 1.0, w->Ab);
-    gs |= gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, w->St, w->St, 0.0, w->T2);
+    gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, -1.0, w->Bt, w->St, 1.0, w->Ab);
+    gs |= rigmat_dgemm(&w->blas, CblasTrans, CblasNoTrans, 1.0, w->St, w->St, 0.0, w->T2);
     gsl_matrix_memcpy(w->Qb, Q);
     symmetrize(w->Qb);
     qscale = fro(w->Qb) + fro(w->T2);

@@ -92,6 +92,7 @@
 #define RIGMAT_RICCATI_H
 
 #include "rigmat_internal.h"
+#include "fastblas.h"
 #include <gsl/gsl_eigen.h>
 #include <gsl/gsl_permutation.h>
 
@@ -153,6 +154,7 @@ typedef struct rigmat_riccati_ws {
     gsl_eigen_nonsymmv_workspace *nw; /* n */
     gsl_vector_complex *z;            /* n eigenvalues */
     gsl_matrix_complex *Z;            /* n x n eigenvectors */
+    rigmat_fastblas blas;             /* OpenBLAS, opened by the first large product */
 } rigmat_riccati_ws;
 
 rigmat_riccati_ws *rigmat_riccati_ws_alloc(size_t n, size_t m);

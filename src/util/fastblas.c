@@ -1,0 +1,133 @@
+/* fastblas.c - OpenBLAS opened with dlopen for large products and LUs
+ * (fastblas.h: the rule and its measured threshold). */
+#include "fastblas.h"
+
+#include <dlfcn.h>
+#include <gsl/gsl_errno.h>
+#include <limits.h>
+#include <string.h>
+
+const char *const rigmat_fastblas_names[] = { "libopenblas.so.0", "libopenblas.so", NULL };
+
+void rigmat_fastblas_init(rigmat_fastblas *fb)
+{
+    memset(fb, 0, sizeof *fb);
+}
+
+void rigmat_fastblas_release(rigmat_fastblas *fb)
+{
+    if (fb == NULL)
+        return;
+    if (fb->handle != NULL)
+        (void)dlclose(fb->handle);
+    rigmat_fastblas_init(fb);
+}
+
+int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
+{
+    const char *const *p;
+
+    if (fb == NULL)
+        return 0;
+    if (fb->tried)
+        return fb->dgemm != NULL;
+    fb->tried = 1;
+    for (p = names != NULL ? names : rigmat_fastblas_names; *p != NULL; p++) {
+        void *h = dlopen(*p, RTLD_NOW | RTLD_LOCAL | RTLD_NODELETE);
+        void *g, *f, *t, *v;
+        if (h == NULL)
+            continue;
+        g = dlsym(h, "cblas_dgemm");
+        if (g == NULL) {
+            (void)dlclose(h);
+            continue;
+        }
+        f = dlsym(h, "dgetrf_");
+        t = dlsym(h, "cblas_dtrsm");
+        v = dlsym(h, "cblas_dgemv");
+        fb->handle = h;
+        /* ISO C has no conversion from void * to a function pointer; POSIX
+         * guarantees the representation, so the bytes are copied */
+        memcpy(&fb->dgemm, &g, sizeof fb->dgemm);
+        if (f != NULL)
+            memcpy(&fb->dgetrf, &f, sizeof fb->dgetrf);
+        if (t != NULL)
+            memcpy(&fb->dtrsm, &t, sizeof fb->dtrsm);
+        if (v != NULL)
+            memcpy(&fb->dgemv, &v, sizeof fb->dgemv);
+        return 1;
+    }
+    (void)dlerror(); /* the failure is data (tried, no dgemm), not a message */
+    return 0;
+}
+
+static int fits_int(size_t v)
+{
+    return v <= (size_t)INT_MAX;
+}
+
+/* a call of m n k multiply-adds is large enough for the loaded BLAS */
+static int large(double m, double n, double k)
+{
+    const double lim = (double)RIGMAT_FASTBLAS_MIN_N;
+
+    return m * n * k >= lim * lim * lim;
+}
+
+int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb, double alpha,
+                 const gsl_matrix *A, const gsl_matrix *B, double beta, gsl_matrix *C)
+{
+    const size_t m = C->size1, n = C->size2;
+    const size_t k = ta == CblasNoTrans ? A->size2 : A->size1;
+    const size_t am = ta == CblasNoTrans ? A->size1 : A->size2;
+    const size_t bk = tb == CblasNoTrans ? B->size1 : B->size2;
+    const size_t bn = tb == CblasNoTrans ? B->size2 : B->size1;
+
+    if (fb == NULL || am != m || bk != k || bn != n || k == 0 ||
+        !large((double)m, (double)n, (double)k) || !fits_int(m) || !fits_int(n) || !fits_int(k) ||
+        !fits_int(A->tda) || !fits_int(B->tda) || !fits_int(C->tda) ||
+        !rigmat_fastblas_load(fb, NULL))
+        return gsl_blas_dgemm(ta, tb, alpha, A, B, beta, C);
+    fb->dgemm((int)CblasRowMajor, (int)ta, (int)tb, (int)m, (int)n, (int)k, alpha, A->data,
+              (int)A->tda, B->data, (int)B->tda, beta, C->data, (int)C->tda);
+    return GSL_SUCCESS;
+}
+
+int rigmat_dtrsm(rigmat_fastblas *fb, CBLAS_SIDE_t side, CBLAS_UPLO_t uplo, CBLAS_TRANSPOSE_t ta,
+                 CBLAS_DIAG_t diag, double alpha, const gsl_matrix *A, gsl_matrix *B)
+{
+    const size_t m = B->size1, n = B->size2, na = side == CblasLeft ? m : n;
+
+    if (fb == NULL || A->size1 != na || A->size2 != na || na == 0 ||
+        !large((double)m, (double)n, (double)na) || !fits_int(m) || !fits_int(n) ||
+        !fits_int(A->tda) || !fits_int(B->tda) || !rigmat_fastblas_load(fb, NULL) ||
+        fb->dtrsm == NULL)
+        return gsl_blas_dtrsm(side, uplo, ta, diag, alpha, A, B);
+    fb->dtrsm((int)CblasRowMajor, (int)side, (int)uplo, (int)ta, (int)diag, (int)m, (int)n, alpha,
+              A->data, (int)A->tda, B->data, (int)B->tda);
+    return GSL_SUCCESS;
+}
+
+int rigmat_dgemv(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, double alpha, const gsl_matrix *A,
+                 const gsl_vector *x, double beta, gsl_vector *y)
+{
+    const size_t m = A->size1, n = A->size2;
+    const size_t nx = ta == CblasNoTrans ? n : m, ny = ta == CblasNoTrans ? m : n;
+    const double lim = (double)RIGMAT_FASTBLAS_MIN_N;
+
+    if (fb == NULL || x->size != nx || y->size != ny || (double)m * (double)n < lim * lim ||
+        !fits_int(m) || !fits_int(n) || !fits_int(A->tda) || !fits_int(x->stride) ||
+        !fits_int(y->stride) || !rigmat_fastblas_load(fb, NULL) || fb->dgemv == NULL)
+        return gsl_blas_dgemv(ta, alpha, A, x, beta, y);
+    fb->dgemv((int)CblasRowMajor, (int)ta, (int)m, (int)n, alpha, A->data, (int)A->tda, x->data,
+              (int)x->stride, beta, y->data, (int)y->stride);
+    return GSL_SUCCESS;
+}
+
+rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n)
+{
+    if (fb == NULL || n < (size_t)RIGMAT_FASTBLAS_LU_MIN_N || !fits_int(n) ||
+        !rigmat_fastblas_load(fb, NULL))
+        return NULL;
+    return fb->dgetrf;
+}

@@ -1,0 +1,223 @@
+/* check_fastblas.c - OpenBLAS opened only for large calls
+ * (src/util/fastblas.c), the products, solves and LU it serves, and the
+ * silent fallback to GSL when it does not open. */
+#include "fastblas.h"
+#include "expm.h"
+#include "testutil.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+/* integer entries in [-3, 3]: every product of size <= 100 is exact in
+ * double, so any correct dgemm returns the same bits as the definition
+ * sum_k a_ik b_kj */
+static gsl_matrix *int_matrix(size_t r, size_t c, unsigned seed)
+{
+    gsl_matrix *m = gsl_matrix_alloc(r, c);
+    size_t i;
+
+    ck_assert_ptr_nonnull(m);
+    for (i = 0; i < r * c; i++)
+        m->data[i] = (double)((i * 7u + seed * 13u + i / 5u) % 7u) - 3.0;
+    return m;
+}
+
+/* C = op(A) op(B) by the definition of the product */
+static double defined_entry(CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb, const gsl_matrix *A,
+                            const gsl_matrix *B, size_t i, size_t j, size_t k)
+{
+    double s = 0.0;
+    size_t q;
+
+    for (q = 0; q < k; q++)
+        s += (ta == CblasNoTrans ? gsl_matrix_get(A, i, q) : gsl_matrix_get(A, q, i)) *
+             (tb == CblasNoTrans ? gsl_matrix_get(B, q, j) : gsl_matrix_get(B, j, q));
+    return s;
+}
+
+static void check_product(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb,
+                          size_t m, size_t n, size_t k)
+{
+    gsl_matrix *A = ta == CblasNoTrans ? int_matrix(m, k, 1) : int_matrix(k, m, 1);
+    gsl_matrix *B = tb == CblasNoTrans ? int_matrix(k, n, 2) : int_matrix(n, k, 2);
+    gsl_matrix *C = int_matrix(m, n, 3);
+    size_t i, j;
+
+    /* C = 2 op(A) op(B) - C */
+    ck_assert_int_eq(rigmat_dgemm(fb, ta, tb, 2.0, A, B, -1.0, C), GSL_SUCCESS);
+    for (i = 0; i < m; i++)
+        for (j = 0; j < n; j++) {
+            const double c0 = (double)(((i * n + j) * 7u + 39u + (i * n + j) / 5u) % 7u) - 3.0;
+            ck_assert_double_eq(gsl_matrix_get(C, i, j),
+                                2.0 * defined_entry(ta, tb, A, B, i, j, k) - c0);
+        }
+    gsl_matrix_free(A);
+    gsl_matrix_free(B);
+    gsl_matrix_free(C);
+}
+
+/* y = A^T x, A 64 x 64 (4096 >= 16^2 entries), exact integer values */
+static void check_gemv(rigmat_fastblas *fb)
+{
+    gsl_matrix *A = int_matrix(64, 64, 5);
+    gsl_vector *x = gsl_vector_alloc(64), *y = gsl_vector_alloc(64);
+    size_t i, q;
+
+    ck_assert(x != NULL && y != NULL);
+    for (i = 0; i < 64; i++)
+        gsl_vector_set(x, i, (double)(i % 5) - 2.0);
+    ck_assert_int_eq(rigmat_dgemv(fb, CblasTrans, 1.0, A, x, 0.0, y), GSL_SUCCESS);
+    for (i = 0; i < 64; i++) {
+        double s = 0.0;
+        for (q = 0; q < 64; q++)
+            s += gsl_matrix_get(A, q, i) * gsl_vector_get(x, q);
+        ck_assert_double_eq(gsl_vector_get(y, i), s);
+    }
+    gsl_matrix_free(A);
+    gsl_vector_free(x);
+    gsl_vector_free(y);
+}
+
+START_TEST(small_products_do_not_open_the_library)
+{
+    rigmat_fastblas fb;
+
+    rigmat_fastblas_init(&fb);
+    check_product(&fb, CblasNoTrans, CblasNoTrans, 15, 15, 15);
+    check_product(&fb, CblasTrans, CblasNoTrans, 60, 60, 1); /* many entries, little work */
+    ck_assert_int_eq(fb.tried, 0);
+    ck_assert_ptr_null(fb.handle);
+    rigmat_fastblas_release(&fb);
+}
+END_TEST
+
+START_TEST(large_products_open_openblas_and_agree_exactly)
+{
+    static const CBLAS_TRANSPOSE_t t[2] = { CblasNoTrans, CblasTrans };
+    rigmat_fastblas fb;
+    int a, b;
+
+    rigmat_fastblas_init(&fb);
+    for (a = 0; a < 2; a++)
+        for (b = 0; b < 2; b++)
+            check_product(&fb, t[a], t[b], 17, 13, 19); /* 4199 >= 16^3 multiply-adds */
+    check_gemv(&fb);
+    /* the build installs libopenblas0 (Makefile BUILD_PKGS): a silent
+     * fallback here would be a broken soname or symbol */
+    ck_assert_msg(fb.tried == 1 && fb.handle != NULL && fb.dgemm != NULL,
+                  "OpenBLAS did not open (is libopenblas0 installed?)");
+    ck_assert(fb.dtrsm != NULL);
+    ck_assert(fb.dgemv != NULL);
+    ck_assert(fb.dgetrf != NULL);
+    ck_assert(rigmat_fastblas_dgetrf(&fb, RIGMAT_FASTBLAS_LU_MIN_N) != NULL);
+    ck_assert(rigmat_fastblas_dgetrf(&fb, RIGMAT_FASTBLAS_LU_MIN_N - 1) == NULL);
+    rigmat_fastblas_release(&fb);
+    ck_assert_ptr_null(fb.handle);
+    ck_assert_int_eq(fb.tried, 0);
+}
+END_TEST
+
+START_TEST(a_library_that_does_not_open_falls_back_silently)
+{
+    static const char *const none[] = { "librigmat-no-such-blas.so.0", NULL };
+    rigmat_fastblas fb;
+
+    rigmat_fastblas_init(&fb);
+    ck_assert_int_eq(rigmat_fastblas_load(&fb, none), 0);
+    ck_assert_int_eq(fb.tried, 1);
+    ck_assert_ptr_null(fb.handle);
+    /* not retried: the large product and the LU go to GSL */
+    check_product(&fb, CblasNoTrans, CblasTrans, 64, 64, 64);
+    check_gemv(&fb);
+    ck_assert(rigmat_fastblas_dgetrf(&fb, 200) == NULL);
+    ck_assert_ptr_null(fb.handle);
+    rigmat_fastblas_release(&fb);
+}
+END_TEST
+
+/* e^A of A = P^T diag(w_i J) P, J = [[0, 1], [-1, 0]], P a permutation:
+ * e^(w J) = [[cos w, sin w], [-sin w, cos w]] (the rotation by -w), so
+ * e^A[p(2i), p(2i)] = cos w_i, e^A[p(2i), p(2i+1)] = sin w_i, ... */
+static void rotation_exponential(size_t n, int fast)
+{
+    gsl_matrix *A = gsl_matrix_calloc(n, n), *E = gsl_matrix_alloc(n, n);
+    rigmat_expm_ws *w = rigmat_expm_ws_alloc(n);
+    rigmat_expm_info info;
+    rigmat_error err = { 0 };
+    size_t *p = malloc(n * sizeof *p), i, j;
+    double worst = 0.0;
+
+    ck_assert(A != NULL && E != NULL && w != NULL && p != NULL);
+    for (i = 0; i < n; i++)
+        p[i] = (i * 37u + 11u) % n; /* 37 is prime to the even n used */
+    for (i = 0; i < n / 2; i++) {
+        const double wi = 0.05 * (double)(i + 1);
+        gsl_matrix_set(A, p[2 * i], p[2 * i + 1], wi);
+        gsl_matrix_set(A, p[2 * i + 1], p[2 * i], -wi);
+    }
+    if (!fast)
+        w->blas.tried = 1; /* as when OpenBLAS is not installed */
+    ck_assert_int_eq(rigmat_expm(A, E, RIGMAT_EXPM_POWERS, w, &info, &err), RIGMAT_OK);
+    for (i = 0; i < n; i++)
+        for (j = 0; j < n; j++) {
+            double want = 0.0, got = gsl_matrix_get(E, i, j);
+            size_t b;
+            for (b = 0; b < n / 2; b++) {
+                const double wb = 0.05 * (double)(b + 1);
+                const size_t r = p[2 * b], s = p[2 * b + 1];
+                if (i == r && j == r)
+                    want = cos(wb);
+                else if (i == s && j == s)
+                    want = cos(wb);
+                else if (i == r && j == s)
+                    want = sin(wb);
+                else if (i == s && j == r)
+                    want = -sin(wb);
+            }
+            if (fabs(got - want) > worst)
+                worst = fabs(got - want);
+        }
+    ck_assert_msg(worst < 1e-13, "n = %zu, fast = %d: largest error %g", n, fast, worst);
+    ck_assert_int_eq(w->blas.handle != NULL, fast);
+    free(p);
+    gsl_matrix_free(A);
+    gsl_matrix_free(E);
+    rigmat_expm_ws_free(w);
+}
+
+START_TEST(exponential_through_openblas_and_without_it)
+{
+    rotation_exponential(120, 1); /* products, dgetrf and dtrsm by OpenBLAS */
+    rotation_exponential(120, 0); /* GSL's CBLAS and LU */
+}
+END_TEST
+
+START_TEST(a_small_exponential_does_not_open_the_library)
+{
+    gsl_matrix *A = int_matrix(10, 10, 4), *E = gsl_matrix_alloc(10, 10);
+    rigmat_expm_ws *w = rigmat_expm_ws_alloc(10);
+    rigmat_error err = { 0 };
+
+    ck_assert(E != NULL && w != NULL);
+    ck_assert_int_eq(rigmat_expm(A, E, RIGMAT_EXPM_POWERS, w, NULL, &err), RIGMAT_OK);
+    ck_assert_int_eq(w->blas.tried, 0);
+    gsl_matrix_free(A);
+    gsl_matrix_free(E);
+    rigmat_expm_ws_free(w);
+}
+END_TEST
+
+Suite *fastblas_suite(void);
+Suite *fastblas_suite(void)
+{
+    Suite *s = suite_create("fastblas");
+    TCase *t = tcase_create("fastblas");
+
+    tcase_add_test(t, small_products_do_not_open_the_library);
+    tcase_add_test(t, large_products_open_openblas_and_agree_exactly);
+    tcase_add_test(t, a_library_that_does_not_open_falls_back_silently);
+    tcase_add_test(t, exponential_through_openblas_and_without_it);
+    tcase_add_test(t, a_small_exponential_does_not_open_the_library);
+    suite_add_tcase(s, t);
+    return s;
+}
