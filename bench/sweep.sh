@@ -13,6 +13,11 @@
 # every point, its linearize and sampling stages, and the counts behind an
 # estimate of the operations per point.
 set -eu
+# one thread for numpy's BLAS: the comparison is one thread against one
+# thread, and an oversubscribed OpenBLAS pool spinning in sched_yield made
+# the scipy loop 60 times slower on a loaded machine (a ratio of 65 that
+# meant nothing)
+export OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1
 D=$(mktemp -d)
 trap 'rm -rf "$D"' EXIT INT TERM
 RIGMAT=${RIGMAT:-build/rigmat} DEMO=$(dirname "$0")/../examples/balancer.yaml \
