@@ -82,12 +82,15 @@ static rigmat_status too_big(rigmat_error *err, const char *what, size_t n, size
     return RIGMAT_EMODEL;
 }
 
-rigmat_status rigmat_firmware_fits(const rigmat_model *m, rigmat_error *err)
+/* The evaluator's limits on the counts of a model: bodies (with ground)
+ * and coordinates as the caller knows them, the rest from m; states,
+ * inputs and outputs from L. */
+static rigmat_status check_counts(const rigmat_model *m, size_t nb, size_t ncoord,
+        const rigmat_layout *L, rigmat_error *err)
 {
-    const rigmat_layout *L = &m->layout;
-    const size_t counts[] = { m->nbodies, m->njoints, m->nmotors, m->nsprings + m->ndampers,
+    const size_t counts[] = { nb, m->njoints, ncoord, m->nmotors, m->nsprings + m->ndampers,
                               m->nforces, m->nsensors };
-    const char *const words[] = { "bodies (with ground)", "joints", "motors",
+    const char *const words[] = { "bodies (with ground)", "joints", "coordinates", "motors",
                                   "springs and dampers", "forces", "sensors" };
     size_t i;
 
@@ -101,6 +104,12 @@ rigmat_status rigmat_firmware_fits(const rigmat_model *m, rigmat_error *err)
     return RIGMAT_OK;
 }
 
+rigmat_status rigmat_firmware_fits(const rigmat_model *m, rigmat_error *err)
+{
+    /* a joint has at most one coordinate */
+    return check_counts(m, m->nbodies, m->njoints, &m->layout, err);
+}
+
 /* The table of m (canonical order, from the equations mech). */
 static rigmat_status fill_table(const rigmat_model *m, const rigmat_mech *mech, struct fw_model *t,
         rigmat_error *err)
@@ -111,17 +120,9 @@ static rigmat_status fill_table(const rigmat_model *m, const rigmat_mech *mech, 
 
     rigmat_mech_map_get(mech, &mp);
     {
-        const size_t counts[] = { mp.nb, m->njoints, mp.n, m->nmotors,
-                                  m->nsprings + m->ndampers, m->nforces, m->nsensors };
-        const char *const words[] = { "bodies (with ground)", "joints", "coordinates", "motors",
-                                      "springs and dampers", "forces", "sensors" };
-        for (i = 0; i < sizeof counts / sizeof counts[0]; i++)
-            if (counts[i] > RIGMAT_FW_MAX_ELEMENTS)
-                return too_big(err, words[i], counts[i], RIGMAT_FW_MAX_ELEMENTS);
-        if (C->nx > RIGMAT_FW_MAX_SIGNALS || C->nu > RIGMAT_FW_MAX_SIGNALS ||
-                C->ny > RIGMAT_FW_MAX_SIGNALS)
-            return too_big(err, "states, inputs or outputs (one group)",
-                    GSL_MAX(C->nx, GSL_MAX(C->nu, C->ny)), RIGMAT_FW_MAX_SIGNALS);
+        const rigmat_status st = check_counts(m, mp.nb, mp.n, C, err);
+        if (st != RIGMAT_OK)
+            return st;
     }
     memset(t, 0, sizeof *t);
     t->nb = (int)mp.nb;
