@@ -253,6 +253,25 @@ expect 0 "discretize warns of a free name in solve" -- "$R" discretize "$T/free.
 has "$T/err" "warning: 'rail.position' in solve is not fixed by the equations" "discretize free-unknown warning"
 expect 0 "trim text with a free coordinate" -- "$R" trim "$T/free.yaml"
 has "$T/out" "not fixed by the equations.*rail.position" "trim text names the free coordinate"
+# nothing in solve: the equations above the tolerance are the unmet ones,
+# at once, and only they (the pushed cart's, not the resting one's)
+cat >"$T/nosolve.yaml" <<'YAML'
+rigmat: 1
+bodies:
+  a: {mass: 1 kg}
+  b: {mass: 2 kg}
+joints:
+  ra: {type: slider, parent: ground, child: a}
+  rb: {type: slider, parent: ground, child: b}
+forces:
+  push: {on: a, direction: [1, 0]}
+operating_point:
+  inputs: {push: 0.5 N}
+YAML
+expect 3 "trim with nothing to solve" -- "$R" trim "$T/nosolve.yaml" --format json
+has "$T/err" "not a steady state and nothing is solved for: residual 0.5 " "trim with nothing to solve: message"
+got=$(json_val "$T/out" '" ".join(d["unmet_equations"])')
+[ "$got" = "d(ra.velocity)/dt" ] && ok || bad "nothing to solve: unmet '$got', want 'd(ra.velocity)/dt'"
 # no steady state exists: exit 3, the unmet equation named, nothing on stdout
 sed -e 's/solve: \[rail, push\]/solve: [rail]/' "$T/free.yaml" >"$T/push.yaml"
 expect 3 "trim with no steady state" -- "$R" trim "$T/push.yaml"
