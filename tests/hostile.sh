@@ -176,9 +176,16 @@ expect() {
     ne=$((ne + 1))
     save=$TIME_S
     TIME_S=$EXPECT_S
+    t0=$(date +%s%N)
     bounded "$@" >"$T/out" 2>"$T/err" </dev/null
     rc=$?
+    t1=$(date +%s%N)
     TIME_S=$save
+    # HOSTILE_LOG=FILE: one line per case (what, exit, wall s, peak KiB)
+    if [ -n "${HOSTILE_LOG:-}" ]; then
+        printf '%s\t%s\t%s\t%s\n' "$what" "$rc" \
+            "$(awk "BEGIN { printf \"%.2f\", ($t1 - $t0) / 1e9 }")" "$(cat "$T/rss")" >>"$HOSTILE_LOG"
+    fi
     why=
     if [ "$rc" = 137 ]; then
         why="killed: over ${EXPECT_S}s or out of memory"
