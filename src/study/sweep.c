@@ -301,6 +301,23 @@ static void diag_reason(char *reason, size_t len, const rigmat_diags *d)
     snprintf(reason, len, "the model is refused");
 }
 
+/* 1 when a step's status st ends the point: running out of memory goes
+ * to *rc (it stops the sweep), any other failure gives e's message as the
+ * point's reason. */
+static int step_failed(rigmat_status st, const rigmat_error *e, char *reason, size_t len,
+        rigmat_status *rc)
+{
+    if (st == RIGMAT_ENOMEM) {
+        *rc = st;
+        return 1;
+    }
+    if (st != RIGMAT_OK) {
+        snprintf(reason, len, "%s", e->message);
+        return 1;
+    }
+    return 0;
+}
+
 /* The point's slot from its linear model l (of model m) and, with a rate,
  * its sampled model: 0 when the point is good, else -1 with the reason
  * written, or RIGMAT_ENOMEM in *rc. */
@@ -345,14 +362,8 @@ static int finish_point(struct shared *sh, size_t p, const rigmat_model *m, cons
             }
         }
         st = rigmat_discretize_reuse(l, &o->dopts, w->ws, &w->d, &e);
-        if (st == RIGMAT_ENOMEM) {
-            *rc = st;
+        if (step_failed(st, &e, reason, reason_len, rc))
             return -1;
-        }
-        if (st != RIGMAT_OK) {
-            snprintf(reason, reason_len, "%s", e.message);
-            return -1;
-        }
         put_matrix(slot + s->off[RIGMAT_SB_AD], w->d->Ad, s->nx, s->nx);
         put_matrix(slot + s->off[RIGMAT_SB_BD], w->d->Bd, s->nx, s->nuc);
         put_matrix(slot + s->off[RIGMAT_SB_GD], w->d->Gd, s->nx, s->nw);
@@ -430,14 +441,8 @@ static rigmat_status reload_point(struct shared *sh, size_t p, struct worker_sta
         goto out;
     }
     st = rigmat_linearize(m, o->opt, &l, NULL, &e);
-    if (st == RIGMAT_ENOMEM) {
-        rc = st;
+    if (step_failed(st, &e, reason, reason_len, &rc))
         goto out;
-    }
-    if (st != RIGMAT_OK) {
-        snprintf(reason, reason_len, "%s", e.message);
-        goto out;
-    }
     good = finish_point(sh, p, m, l, w, &rc) == 0;
 out:
     mark_point(s, p, good, rc);
@@ -529,14 +534,8 @@ static rigmat_status fast_point(struct shared *sh, size_t p, struct worker_state
             goto out;
     }
     st = rigmat_linearizer_run(w->z, sh->o->opt, NULL, &e);
-    if (st == RIGMAT_ENOMEM) {
-        rc = st;
+    if (step_failed(st, &e, reason, reason_len, &rc))
         goto out;
-    }
-    if (st != RIGMAT_OK) {
-        snprintf(reason, reason_len, "%s", e.message);
-        goto out;
-    }
     good = finish_point(sh, p, m, rigmat_linearizer_lti(w->z), w, &rc) == 0;
 out:
     mark_point(s, p, good, rc);
