@@ -7,6 +7,7 @@
 
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
 /* integer entries in [-3, 3]: every product of size <= 100 is exact in
  * double, so any correct dgemm returns the same bits as the definition
@@ -77,6 +78,88 @@ static void check_gemv(rigmat_fastblas *fb)
     gsl_vector_free(x);
     gsl_vector_free(y);
 }
+
+/* a random double with a random exponent in [-40, 40], or (one in six) an
+ * exact zero, so the kernels' zero-multiplier skip is exercised */
+static double rand_entry(unsigned *state)
+{
+    double u;
+
+    *state = *state * 1103515245u + 12345u;
+    if ((*state >> 16) % 6u == 0)
+        return 0.0;
+    u = (double)((*state >> 8) & 0xffffu) / 65536.0 - 0.5;
+    *state = *state * 1103515245u + 12345u;
+    return ldexp(u, (int)((*state >> 16) % 81u) - 40);
+}
+
+static void fill_random(gsl_matrix *m, unsigned *state)
+{
+    size_t i, j;
+
+    for (i = 0; i < m->size1; i++)
+        for (j = 0; j < m->size2; j++)
+            gsl_matrix_set(m, i, j, rand_entry(state));
+}
+
+/* The small kernels that replace GSL's CBLAS below the threshold
+ * (fastblas.c) must give its bits exactly, not merely close values: the
+ * sweep's points equal single runs byte for byte, and results before and
+ * after the kernels were added are the same files.  Random sizes 1..15,
+ * rounding-sensitive entries over 80 binary orders, zeros, and every
+ * alpha/beta case the kernels branch on; the reference is GSL's own
+ * gsl_blas_dgemm and gsl_blas_dgemv on the same inputs. */
+START_TEST(small_kernels_give_gsl_cblas_bits)
+{
+    const double alphas[] = { 1.0, -0.7, 0.0 }, betas[] = { 0.0, 1.0, 0.3 };
+    unsigned state = 12345u, trial;
+    rigmat_fastblas fb;
+
+    rigmat_fastblas_init(&fb);
+    for (trial = 0; trial < 400; trial++) {
+        const size_t m = 1 + trial % 15, n = 1 + (trial / 3) % 15, k = 1 + (trial / 7) % 15;
+        const double alpha = alphas[trial % 3], beta = betas[(trial / 3) % 3];
+        gsl_matrix *A = gsl_matrix_alloc(m, k), *B = gsl_matrix_alloc(k, n);
+        gsl_matrix *C1 = gsl_matrix_alloc(m, n), *C2 = gsl_matrix_alloc(m, n);
+        gsl_matrix *G = gsl_matrix_alloc(m, n);
+        gsl_vector *x = gsl_vector_alloc(m), *y1 = gsl_vector_alloc(n), *y2 = gsl_vector_alloc(n);
+        size_t i;
+
+        fill_random(A, &state);
+        fill_random(B, &state);
+        fill_random(C1, &state);
+        fill_random(G, &state);
+        gsl_matrix_memcpy(C2, C1);
+        ck_assert_int_eq(rigmat_dgemm(&fb, CblasNoTrans, CblasNoTrans, alpha, A, B, beta, C1),
+                         GSL_SUCCESS);
+        ck_assert_int_eq(gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, alpha, A, B, beta, C2),
+                         GSL_SUCCESS);
+        ck_assert_msg(memcmp(C1->data, C2->data, m * n * sizeof(double)) == 0,
+                      "dgemm %zux%zux%zu alpha %g beta %g: bits differ from GSL's CBLAS", m, k, n,
+                      alpha, beta);
+        for (i = 0; i < m; i++)
+            gsl_vector_set(x, i, rand_entry(&state));
+        for (i = 0; i < n; i++)
+            gsl_vector_set(y1, i, rand_entry(&state));
+        gsl_vector_memcpy(y2, y1);
+        ck_assert_int_eq(rigmat_dgemv(&fb, CblasTrans, alpha, G, x, beta, y1), GSL_SUCCESS);
+        ck_assert_int_eq(gsl_blas_dgemv(CblasTrans, alpha, G, x, beta, y2), GSL_SUCCESS);
+        ck_assert_msg(memcmp(y1->data, y2->data, n * sizeof(double)) == 0,
+                      "dgemv^T %zux%zu alpha %g beta %g: bits differ from GSL's CBLAS", m, n,
+                      alpha, beta);
+        gsl_matrix_free(A);
+        gsl_matrix_free(B);
+        gsl_matrix_free(C1);
+        gsl_matrix_free(C2);
+        gsl_matrix_free(G);
+        gsl_vector_free(x);
+        gsl_vector_free(y1);
+        gsl_vector_free(y2);
+    }
+    ck_assert(!fb.tried); /* all below the threshold: nothing opened */
+    rigmat_fastblas_release(&fb);
+}
+END_TEST
 
 START_TEST(small_products_do_not_open_the_library)
 {
@@ -213,6 +296,7 @@ Suite *fastblas_suite(void)
     Suite *s = suite_create("fastblas");
     TCase *t = tcase_create("fastblas");
 
+    tcase_add_test(t, small_kernels_give_gsl_cblas_bits);
     tcase_add_test(t, small_products_do_not_open_the_library);
     tcase_add_test(t, large_products_open_openblas_and_agree_exactly);
     tcase_add_test(t, a_library_that_does_not_open_falls_back_silently);

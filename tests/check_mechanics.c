@@ -12,6 +12,48 @@
 
 /* ------------------------------------------------------------ tests */
 
+/* rigmat_mech_cossin replaces ccos and csin where the imaginary part is
+ * that of a complex step; the claim is glibc's bits (cosh y = 1 and
+ * sinh y = y exactly there), checked here against the library itself on
+ * angles over 12 decades of both signs, zero and the sign of a zero
+ * imaginary part, and a large imaginary part (the library's own path). */
+START_TEST(complex_cos_sin_of_a_step_angle_are_the_library_bits)
+{
+    unsigned state = 777u;
+    long i;
+
+    for (i = 0; i < 200000; i++) {
+        double x, y;
+        double complex z;
+        rigmat_mech_cs r;
+        state = state * 1103515245u + 12345u;
+        x = ldexp((double)((state >> 8) & 0xffffffu) / 16777216.0, (int)(state % 40u) - 20);
+        if (state & 0x10000000u)
+            x = -x;
+        state = state * 1103515245u + 12345u;
+        y = ldexp((double)((state >> 8) & 0xffffu) / 65536.0, -(int)(state % 90u) - 20);
+        if (state & 0x20000000u)
+            y = -y;
+        if (i % 1000 == 0)
+            x = 0.0;
+        if (i % 777 == 0)
+            y = (i % 2) ? -0.0 : 0.0;
+        if (i % 1999 == 0)
+            y = 0.5; /* not a step: the library's path */
+        ((double *)&z)[0] = x; /* C99 6.2.5: the parts, signs of zeros kept */
+        ((double *)&z)[1] = y;
+        r = rigmat_mech_cossin(z);
+        {
+            const double complex c = ccos(z), sn = csin(z);
+            ck_assert_msg(memcmp(&r.c, &c, sizeof c) == 0 && memcmp(&r.s, &sn, sizeof sn) == 0,
+                          "cos/sin of %a%+ai: (%a%+ai, %a%+ai), library (%a%+ai, %a%+ai)", x, y,
+                          creal(r.c), cimag(r.c), creal(r.s), cimag(r.s), creal(c), cimag(c),
+                          creal(sn), cimag(sn));
+        }
+    }
+}
+END_TEST
+
 START_TEST(cart_with_viscous_friction_matches_closed_form)
 {
     rigmat_model *m = tm_new("cart");
@@ -271,6 +313,7 @@ Suite *mechanics_suite(void)
     Suite *s = suite_create("mechanics");
     TCase *tc = tcase_create("closed_forms");
 
+    tcase_add_test(tc, complex_cos_sin_of_a_step_angle_are_the_library_bits);
     tcase_add_test(tc, cart_with_viscous_friction_matches_closed_form);
     tcase_add_test(tc, pendulum_hangs_at_sqrt_mgl_over_Ipivot_and_falls_upright);
     tcase_add_test(tc, mass_spring_damper_has_textbook_frequency_and_damping);

@@ -23,10 +23,14 @@ struct cli_file {
     char *buf;
     size_t len;
     FILE *f;
+    const char *tail; /* NULL, or tail_len bytes written after buf's: memory the
+                       * files keep (cli_files.keep), not copied */
+    size_t tail_len;
 };
 struct cli_files {
     struct cli_file items[64];
     size_t n;
+    void *keep[4]; /* freed with the files: storage the tails point into */
     int folder;   /* a folder format was rendered: -o names a folder */
     char ext[16]; /* the extension of its files (".mtx") */
 };

@@ -113,6 +113,18 @@ static int add_file_bytes(struct cli_env *env, const char *name, char *buf, size
     return 0;
 }
 
+/* 1 when a double's bytes in memory are little-endian IEEE (the host's
+ * integer and floating-point orders agree on every platform this builds
+ * on; the test reads 1.0's sign-and-exponent byte). */
+static int host_little_endian(void)
+{
+    const double one = 1.0;
+    unsigned char b[sizeof one];
+
+    memcpy(b, &one, sizeof one);
+    return sizeof one == 8 && b[7] == 0x3f && b[6] == 0xf0 && b[0] == 0;
+}
+
 /* One array in NumPy's .npy format, version 1.0 (NumPy documentation,
  * "numpy.lib.format"): the magic "\x93NUMPY", version 1 0, a little-endian
  * 16-bit header length, the header dict padded with spaces and ended by a
@@ -128,7 +140,7 @@ static int add_npy(struct cli_env *env, const char *name, const size_t *shape, s
     unsigned char *at;
     size_t used, total, i, j, k;
     uint64_t bits;
-    int w;
+    int w, borrow;
 
     w = snprintf(head, sizeof head, "{'descr': '<f8', 'fortran_order': False, 'shape': (");
     used = (size_t)w;
@@ -141,7 +153,10 @@ static int add_npy(struct cli_env *env, const char *name, const size_t *shape, s
     used += (size_t)w;
     total = (10 + used + 1 + 63) / 64 * 64;
     /* chunk x nchunks is at most the sweep's numbers (RIGMAT_SWEEP_MAX_DOUBLES) */
-    buf = malloc(total + 8 * chunk * nchunks + 1);
+    /* on a little-endian host one contiguous run is the file's data as it
+     * stands: the file borrows it (kept by the caller until written) */
+    borrow = host_little_endian() && nchunks == 1;
+    buf = malloc(total + (borrow ? 0 : 8 * chunk * nchunks) + 1);
     if (buf == NULL)
         return -1;
     memcpy(buf, "\x93NUMPY\x01\x00", 8);
@@ -150,13 +165,26 @@ static int add_npy(struct cli_env *env, const char *name, const size_t *shape, s
     memcpy(buf + 10, head, used);
     memset(buf + 10 + used, ' ', total - 11 - used);
     buf[total - 1] = '\n';
+    if (borrow) {
+        if (add_file_bytes(env, name, buf, total) != 0)
+            return -1;
+        env->files.items[env->files.n - 1].tail = (const char *)data;
+        env->files.items[env->files.n - 1].tail_len = 8 * chunk;
+        return 0;
+    }
     at = (unsigned char *)buf + total;
-    for (k = 0; k < nchunks; k++)
-        for (i = 0; i < chunk; i++) {
-            memcpy(&bits, &data[k * stride + i], sizeof bits);
-            for (j = 0; j < 8; j++)
-                *at++ = (unsigned char)(bits >> (8 * j));
-        }
+    if (host_little_endian()) {
+        /* the common case: the host's bytes are the file's, a run at a time */
+        for (k = 0; k < nchunks; k++, at += 8 * chunk)
+            memcpy(at, data + k * stride, 8 * chunk);
+    } else {
+        for (k = 0; k < nchunks; k++)
+            for (i = 0; i < chunk; i++) {
+                memcpy(&bits, &data[k * stride + i], sizeof bits);
+                for (j = 0; j < 8; j++)
+                    *at++ = (unsigned char)(bits >> (8 * j));
+            }
+    }
     return add_file_bytes(env, name, buf, total + 8 * chunk * nchunks);
 }
 
@@ -228,9 +256,9 @@ static rigmat_status write_npy(struct cli_env *env, const rigmat_model *m, const
         shape[0] = s->npoints;
         shape[1] = s->rows[b];
         shape[2] = s->cols[b];
-        /* each point's block (contiguous in its slot) in turn */
+        /* every point's block, one array in the sweep's storage */
         if (add_npy(env, name, shape, is_vector(b) ? 2 : 3, s->data + s->off[b],
-                    s->rows[b] * s->cols[b], s->stride, s->npoints) != 0)
+                    s->npoints * s->rows[b] * s->cols[b], 0, 1) != 0)
             return RIGMAT_ENOMEM;
     }
     shape[0] = s->npoints;
@@ -304,7 +332,7 @@ static rigmat_status write_npy(struct cli_env *env, const rigmat_model *m, const
 
 /* ------------------------------------------------------------ the result */
 
-static void add_block(rigmat_result *r, const rigmat_sweep *s, const double *slot, int b,
+static void add_block(rigmat_result *r, const rigmat_sweep *s, size_t p, int b,
         const rigmat_signal *rows, const rigmat_signal *cols)
 {
     const size_t nr = s->rows[b], nc = s->cols[b];
@@ -313,16 +341,16 @@ static void add_block(rigmat_result *r, const rigmat_sweep *s, const double *slo
     if (nr == 0 || nc == 0) {
         rigmat_result_matrix(r, NULL, nr, nc, rows, cols);
     } else {
-        gsl_matrix_const_view v = gsl_matrix_const_view_array(slot + s->off[b], nr, nc);
+        gsl_matrix_const_view v = gsl_matrix_const_view_array(rigmat_sweep_block(s, p, (size_t)b), nr, nc);
         rigmat_result_matrix(r, &v.matrix, nr, nc, rows, cols);
     }
 }
 
-static void add_vec(rigmat_result *r, const rigmat_sweep *s, const double *slot, int b,
+static void add_vec(rigmat_result *r, const rigmat_sweep *s, size_t p, int b,
         const char *key, const rigmat_signal *names)
 {
     rigmat_result_key(r, key);
-    rigmat_result_values(r, slot + s->off[b], s->rows[b], names);
+    rigmat_result_values(r, rigmat_sweep_block(s, p, (size_t)b), s->rows[b], names);
 }
 
 static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
@@ -387,26 +415,25 @@ static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
     rigmat_result_values(r, okv, s->npoints, NULL);
     rigmat_result_show(r, RIGMAT_SHOW_EXPORT);
     for (p = 0; p < s->npoints; p++) {
-        const double *slot = s->data + p * s->stride;
         if (!s->ok[p])
             continue;
         snprintf(key, sizeof key, "p%lu", (unsigned long)p);
         rigmat_result_key(r, key);
         rigmat_result_object(r);
-        add_block(r, s, slot, RIGMAT_SB_A, L->states, L->states);
-        add_block(r, s, slot, RIGMAT_SB_B, L->states, L->inputs);
-        add_block(r, s, slot, RIGMAT_SB_C, L->outputs, L->states);
-        add_block(r, s, slot, RIGMAT_SB_D, L->outputs, L->inputs);
-        add_vec(r, s, slot, RIGMAT_SB_X0, "x0", L->states);
-        add_vec(r, s, slot, RIGMAT_SB_U0, "u0", L->inputs);
-        add_vec(r, s, slot, RIGMAT_SB_Y0, "y0", L->outputs);
+        add_block(r, s, p, RIGMAT_SB_A, L->states, L->states);
+        add_block(r, s, p, RIGMAT_SB_B, L->states, L->inputs);
+        add_block(r, s, p, RIGMAT_SB_C, L->outputs, L->states);
+        add_block(r, s, p, RIGMAT_SB_D, L->outputs, L->inputs);
+        add_vec(r, s, p, RIGMAT_SB_X0, "x0", L->states);
+        add_vec(r, s, p, RIGMAT_SB_U0, "u0", L->inputs);
+        add_vec(r, s, p, RIGMAT_SB_Y0, "y0", L->outputs);
         if (o->discretize) {
-            add_block(r, s, slot, RIGMAT_SB_AD, L->states, L->states);
-            add_block(r, s, slot, RIGMAT_SB_BD, L->states, L->inputs);
-            add_block(r, s, slot, RIGMAT_SB_GD, L->states, w);
-            add_block(r, s, slot, RIGMAT_SB_CD, L->outputs, L->states);
-            add_block(r, s, slot, RIGMAT_SB_DD, L->outputs, L->inputs);
-            add_block(r, s, slot, RIGMAT_SB_ED, L->outputs, w);
+            add_block(r, s, p, RIGMAT_SB_AD, L->states, L->states);
+            add_block(r, s, p, RIGMAT_SB_BD, L->states, L->inputs);
+            add_block(r, s, p, RIGMAT_SB_GD, L->states, w);
+            add_block(r, s, p, RIGMAT_SB_CD, L->outputs, L->states);
+            add_block(r, s, p, RIGMAT_SB_DD, L->outputs, L->inputs);
+            add_block(r, s, p, RIGMAT_SB_ED, L->outputs, w);
         }
         rigmat_result_close(r);
         rigmat_result_show(r, RIGMAT_SHOW_EXPORT);
@@ -415,7 +442,6 @@ static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
     rigmat_result_key(r, "points");
     rigmat_result_array(r);
     for (p = 0; p < s->npoints; p++) {
-        const double *slot = s->data + p * s->stride;
         rigmat_result_object(r);
         rigmat_result_key(r, "index");
         rigmat_result_integer(r, (long)p);
@@ -436,23 +462,23 @@ static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
         else
             rigmat_result_string(r, s->reason[p]);
         if (s->ok[p]) {
-            add_block(r, s, slot, RIGMAT_SB_A, L->states, L->states);
-            add_block(r, s, slot, RIGMAT_SB_B, L->states, L->inputs);
-            add_block(r, s, slot, RIGMAT_SB_C, L->outputs, L->states);
-            add_block(r, s, slot, RIGMAT_SB_D, L->outputs, L->inputs);
+            add_block(r, s, p, RIGMAT_SB_A, L->states, L->states);
+            add_block(r, s, p, RIGMAT_SB_B, L->states, L->inputs);
+            add_block(r, s, p, RIGMAT_SB_C, L->outputs, L->states);
+            add_block(r, s, p, RIGMAT_SB_D, L->outputs, L->inputs);
             rigmat_result_key(r, "operating_point");
             rigmat_result_object(r);
-            add_vec(r, s, slot, RIGMAT_SB_X0, "x", L->states);
-            add_vec(r, s, slot, RIGMAT_SB_U0, "u", L->inputs);
-            add_vec(r, s, slot, RIGMAT_SB_Y0, "y", L->outputs);
+            add_vec(r, s, p, RIGMAT_SB_X0, "x", L->states);
+            add_vec(r, s, p, RIGMAT_SB_U0, "u", L->inputs);
+            add_vec(r, s, p, RIGMAT_SB_Y0, "y", L->outputs);
             rigmat_result_close(r);
             if (o->discretize) {
-                add_block(r, s, slot, RIGMAT_SB_AD, L->states, L->states);
-                add_block(r, s, slot, RIGMAT_SB_BD, L->states, L->inputs);
-                add_block(r, s, slot, RIGMAT_SB_GD, L->states, w);
-                add_block(r, s, slot, RIGMAT_SB_CD, L->outputs, L->states);
-                add_block(r, s, slot, RIGMAT_SB_DD, L->outputs, L->inputs);
-                add_block(r, s, slot, RIGMAT_SB_ED, L->outputs, w);
+                add_block(r, s, p, RIGMAT_SB_AD, L->states, L->states);
+                add_block(r, s, p, RIGMAT_SB_BD, L->states, L->inputs);
+                add_block(r, s, p, RIGMAT_SB_GD, L->states, w);
+                add_block(r, s, p, RIGMAT_SB_CD, L->outputs, L->states);
+                add_block(r, s, p, RIGMAT_SB_DD, L->outputs, L->inputs);
+                add_block(r, s, p, RIGMAT_SB_ED, L->outputs, w);
             }
         }
         rigmat_result_close(r);
@@ -647,6 +673,12 @@ rigmat_status cmd_sweep(int argc, char **argv, struct cli_env *env)
                     st == RIGMAT_ENOMEM ? "out of memory" : "a number is not finite");
             goto report;
         }
+        /* the files may borrow these (add_npy): they live until written */
+        env->files.keep[0] = s.data;
+        env->files.keep[1] = grid;
+        env->files.keep[2] = okv;
+        s.data = NULL;
+        grid = okv = NULL;
         goto done;
     }
     r = sweep_result(m, &s, &so, grid, okv);

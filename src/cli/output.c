@@ -62,6 +62,10 @@ void cli_files_release(struct cli_files *files)
         free(files->items[i].name);
     }
     files->n = 0;
+    for (i = 0; i < sizeof files->keep / sizeof files->keep[0]; i++) {
+        free(files->keep[i]);
+        files->keep[i] = NULL;
+    }
 }
 
 /* FNV-1a 64 of the model file (Fowler, Noll and Vo; the parameters of the
@@ -213,8 +217,11 @@ static rigmat_status write_one(const char *dir, const struct cli_file *cf, rigma
     fd = open(path, O_WRONLY | O_CREAT | O_EXCL, 0666); /* less the umask */
     if (fd < 0)
         return RIGMAT_FAIL(err, RIGMAT_EIO, "cannot create '%s': %s", path, strerror(errno));
-    while (done < cf->len) {
-        const ssize_t n = write(fd, cf->buf + done, cf->len - done);
+    /* buf's bytes, then the tail's */
+    while (done < cf->len + cf->tail_len) {
+        const char *at = done < cf->len ? cf->buf + done : cf->tail + (done - cf->len);
+        const size_t left = done < cf->len ? cf->len - done : cf->len + cf->tail_len - done;
+        const ssize_t n = write(fd, at, left);
         if (n < 0 && errno == EINTR)
             continue;
         if (n < 0) {

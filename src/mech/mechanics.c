@@ -23,10 +23,50 @@
 #include "kinds.h"
 #include "closure.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 #include <gsl/gsl_math.h>
+
+/* x + i y with the signs of zeros kept (x + I * y would add +0 to x);
+ * C99 6.2.5: a complex has the representation of an array of two reals. */
+static double complex cpair(double x, double y)
+{
+    double complex z;
+    double *p = (double *)&z;
+
+    p[0] = x;
+    p[1] = y;
+    return z;
+}
+
+rigmat_mech_cs rigmat_mech_cossin(double complex z)
+{
+    const double x = creal(z), y = cimag(z), ax = fabs(x);
+    rigmat_mech_cs r;
+    double sx, cx;
+
+    if (!(fabs(y) < 0x1p-28) || !isfinite(x)) {
+        r.c = ccos(z);
+        r.s = csin(z);
+        return r;
+    }
+    /* on |x| and signed after, as the library's csin does (sin is odd and
+     * cos even exactly); the compiler makes the two calls one sincos */
+    if (ax > DBL_MIN) {
+        sx = sin(ax);
+        cx = cos(ax);
+    } else {
+        sx = ax;
+        cx = 1.0;
+    }
+    if (signbit(x))
+        sx = -sx;
+    r.c = cpair(cx, -y * sx);
+    r.s = cpair(sx, y * cx);
+    return r;
+}
 
 /* complex step size: far below the square root of the machine epsilon, with no
  * subtraction to lose digits (J. R. R. A. Martins, P. Sturdza, J. J. Alonso,
@@ -214,7 +254,8 @@ static void kinematics(rigmat_mech *s)
         const size_t b = s->order[i];
         const rigmat_joint *jt = &m->joints[s->bjoint[b]];
         const size_t p = jt->parent, c = s->coord[s->bjoint[b]];
-        const double complex cp = ccos(s->bth[p]), sp = csin(s->bth[p]);
+        const rigmat_mech_cs trig = rigmat_mech_cossin(s->bth[p]);
+        const double complex cp = trig.c, sp = trig.s;
         const double complex q = c != RIGMAT_NONE ? s->q[c] : 0;
         const double complex qd = c != RIGMAT_NONE ? s->qd[c] : 0;
         const double complex omp = s->bom[p];
@@ -264,7 +305,8 @@ static void kinematics(rigmat_mech *s)
 static void point_kin(const rigmat_mech *s, size_t b, const double r[2], double complex p[2],
         double complex *J, double complex v[2], double complex a[2])
 {
-    const double complex c = ccos(s->bth[b]), sn = csin(s->bth[b]), om = s->bom[b];
+    const rigmat_mech_cs trig = rigmat_mech_cossin(s->bth[b]);
+    const double complex c = trig.c, sn = trig.s, om = s->bom[b];
     double complex ux, uy;
     size_t col;
 
@@ -406,7 +448,8 @@ static void point_force_work(rigmat_mech *s, const rigmat_force *fo, double comp
     size_t r;
     point_kin(s, fo->body, fo->at_m, p, s->tJa, NULL, NULL);
     if (fo->frame_body) {
-        const double complex c = ccos(s->bth[fo->body]), sn = csin(s->bth[fo->body]);
+        const rigmat_mech_cs trig = rigmat_mech_cossin(s->bth[fo->body]);
+        const double complex c = trig.c, sn = trig.s;
         rot(c, sn, w * fo->direction[0], w * fo->direction[1], &fx, &fy);
     }
     for (r = 0; r < n; r++)
@@ -759,7 +802,8 @@ static double complex read_specific_force(rigmat_mech *s, const rigmat_sensor *s
     const size_t n = s->n;
     const double gx = -m->gravity_m_s2 * sin(m->slope_rad);
     const double gy = -m->gravity_m_s2 * cos(m->slope_rad);
-    const double complex c = ccos(s->bth[se->body]), sn = csin(s->bth[se->body]);
+    const rigmat_mech_cs trig = rigmat_mech_cossin(s->bth[se->body]);
+    const double complex c = trig.c, sn = trig.s;
     double complex ax, ay, bx, by, p[2], a[2];
     size_t r;
     if (s->rec != NULL)

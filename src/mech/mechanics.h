@@ -82,6 +82,16 @@ rigmat_mech_path rigmat_mech_get_path(const rigmat_mech *s);
 /* The canonical sizes and signals (owned by the object). */
 const rigmat_layout *rigmat_mech_canonical(const rigmat_mech *s);
 
+/* cos z and sin z of a complex angle z: where |Im z| < 2^-28, as the
+ * complex step makes every angle, by one real sincos of Re z (cos z =
+ * cos x - i y sin x, sin z = sin x + i y cos x: cosh y rounds to 1 and
+ * sinh y to y there, so the values are glibc's ccos and csin bit for bit,
+ * tests/check_mechanics.c), else by ccos and csin. */
+typedef struct rigmat_mech_cs {
+    double complex c, s;
+} rigmat_mech_cs;
+rigmat_mech_cs rigmat_mech_cossin(double complex z);
+
 /* f and h at a complex point, canonical order.  f or y may be NULL.
  * RIGMAT_ENUMERIC for a singular mass matrix or a degenerate point spring. */
 rigmat_status rigmat_mech_eval(rigmat_mech *s, const double complex *x, const double complex *u,

@@ -169,7 +169,8 @@ static void kinematics(rigmat_rec *r)
         const size_t b = v->order[i];
         const rigmat_joint *jt = &m->joints[v->bjoint[b]];
         const size_t p = jt->parent, c = v->coord[v->bjoint[b]];
-        const double complex cp = ccos(v->bth[p]), sp = csin(v->bth[p]);
+        const rigmat_mech_cs trig = rigmat_mech_cossin(v->bth[p]);
+        const double complex cp = trig.c, sp = trig.s;
         const double complex q = c != RIGMAT_NONE ? v->q[c] : 0;
         const double complex qd = c != RIGMAT_NONE ? v->qd[c] : 0;
         const double complex omp = v->bom[p];
@@ -250,7 +251,8 @@ static void point(const rigmat_rec *r, size_t b, const double at[2], double comp
         double complex vel[2])
 {
     const rigmat_rec_view *v = &r->v;
-    const double complex c = ccos(v->bth[b]), sn = csin(v->bth[b]), om = v->bom[b];
+    const rigmat_mech_cs trig = rigmat_mech_cossin(v->bth[b]);
+    const double complex c = trig.c, sn = trig.s, om = v->bom[b];
     const double complex ux = c * at[0] - sn * at[1], uy = sn * at[0] + c * at[1];
 
     p[0] = v->bp[2 * b] + ux;
@@ -379,7 +381,8 @@ static rigmat_status forces(rigmat_rec *r, rigmat_error *err)
             double complex p[2], fx = w * fo->direction[0], fy = w * fo->direction[1];
             point(r, fo->body, fo->at_m, p, NULL);
             if (fo->frame_body) {
-                const double complex c = ccos(v->bth[fo->body]), sn = csin(v->bth[fo->body]);
+                const rigmat_mech_cs trig = rigmat_mech_cossin(v->bth[fo->body]);
+                const double complex c = trig.c, sn = trig.s;
                 fx = c * (w * fo->direction[0]) - sn * (w * fo->direction[1]);
                 fy = sn * (w * fo->direction[0]) + c * (w * fo->direction[1]);
             }
@@ -404,7 +407,8 @@ static void body_inertia(const rigmat_rec *r, size_t b, double complex Ib[9], do
     const rigmat_rec_view *v = &r->v;
     const rigmat_body *bd = &v->m->bodies[b];
     const double ms = bd->mass_kg;
-    const double complex c = ccos(v->bth[b]), sn = csin(v->bth[b]), om = v->bom[b];
+    const rigmat_mech_cs trig = rigmat_mech_cossin(v->bth[b]);
+    const double complex c = trig.c, sn = trig.s, om = v->bom[b];
     const double complex cx = c * bd->com_m[0] - sn * bd->com_m[1];
     const double complex cy = sn * bd->com_m[0] + c * bd->com_m[1];
 
@@ -595,7 +599,8 @@ void rigmat_rec_point_accel(const rigmat_rec *r, size_t b, const double at_m[2],
         double complex a[2])
 {
     const rigmat_rec_view *v = &r->v;
-    const double complex c = ccos(v->bth[b]), sn = csin(v->bth[b]), om = v->bom[b];
+    const rigmat_mech_cs trig = rigmat_mech_cossin(v->bth[b]);
+    const double complex c = trig.c, sn = trig.s, om = v->bom[b];
     const double complex ux = c * at_m[0] - sn * at_m[1], uy = sn * at_m[0] + c * at_m[1];
     const double complex *A = r->acc + 3 * b;
 

@@ -256,13 +256,21 @@ struct worker_state {
     rigmat_setting *set[RIGMAT_SWEEP_MAX_AXES];
 };
 
+/* m (rows x cols, or zeros when NULL) into dst, row-major: a row at a
+ * time from GSL's storage (row-major with its own row stride). */
 static void put_matrix(double *dst, const gsl_matrix *m, size_t rows, size_t cols)
 {
     size_t i, j;
 
+    if (rows == 0 || cols == 0)
+        return;
+    if (m == NULL) {
+        for (j = 0; j < rows * cols; j++)
+            dst[j] = 0.0;
+        return;
+    }
     for (i = 0; i < rows; i++)
-        for (j = 0; j < cols; j++)
-            dst[i * cols + j] = m != NULL ? gsl_matrix_get(m, i, j) : 0.0;
+        memcpy(dst + i * cols, m->data + i * m->tda, cols * sizeof *dst);
 }
 
 static void put_vector(double *dst, const gsl_vector *v, size_t n)
@@ -270,7 +278,7 @@ static void put_vector(double *dst, const gsl_vector *v, size_t n)
     size_t i;
 
     for (i = 0; i < n; i++)
-        dst[i] = v != NULL ? gsl_vector_get(v, i) : 0.0;
+        dst[i] = v != NULL ? v->data[i * v->stride] : 0.0;
 }
 
 /* The reason of a point the loader refuses, for an error placed within
@@ -326,12 +334,11 @@ static int finish_point(struct shared *sh, size_t p, const rigmat_model *m, cons
 {
     rigmat_sweep *s = sh->s;
     const rigmat_sweep_opts *o = sh->o;
-    double *slot = s->data + p * s->stride;
     char *reason = s->reason[p];
     const size_t reason_len = sizeof s->reason[p];
     rigmat_error e;
     rigmat_status st;
-    size_t i;
+    size_t i, b;
 
     memset(&e, 0, sizeof e);
     /* a backstop: linearize already refuses a point beyond an input limit
@@ -346,13 +353,13 @@ static int finish_point(struct shared *sh, size_t p, const rigmat_model *m, cons
             return -1;
         }
     }
-    put_matrix(slot + s->off[RIGMAT_SB_A], l->A, s->nx, s->nx);
-    put_matrix(slot + s->off[RIGMAT_SB_B], l->B, s->nx, s->nu);
-    put_matrix(slot + s->off[RIGMAT_SB_C], l->C, s->ny, s->nx);
-    put_matrix(slot + s->off[RIGMAT_SB_D], l->D, s->ny, s->nu);
-    put_vector(slot + s->off[RIGMAT_SB_X0], l->x0, s->nx);
-    put_vector(slot + s->off[RIGMAT_SB_U0], l->u0, s->nu);
-    put_vector(slot + s->off[RIGMAT_SB_Y0], l->y0, s->ny);
+    put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_A), l->A, s->nx, s->nx);
+    put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_B), l->B, s->nx, s->nu);
+    put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_C), l->C, s->ny, s->nx);
+    put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_D), l->D, s->ny, s->nu);
+    put_vector(rigmat_sweep_block(s, p, RIGMAT_SB_X0), l->x0, s->nx);
+    put_vector(rigmat_sweep_block(s, p, RIGMAT_SB_U0), l->u0, s->nu);
+    put_vector(rigmat_sweep_block(s, p, RIGMAT_SB_Y0), l->y0, s->ny);
     if (o->discretize) {
         if (w->ws == NULL) {
             w->ws = rigmat_discretize_ws_alloc(s->nx, s->nu, s->ny);
@@ -364,39 +371,51 @@ static int finish_point(struct shared *sh, size_t p, const rigmat_model *m, cons
         st = rigmat_discretize_reuse(l, &o->dopts, w->ws, &w->d, &e);
         if (step_failed(st, &e, reason, reason_len, rc))
             return -1;
-        put_matrix(slot + s->off[RIGMAT_SB_AD], w->d->Ad, s->nx, s->nx);
-        put_matrix(slot + s->off[RIGMAT_SB_BD], w->d->Bd, s->nx, s->nuc);
-        put_matrix(slot + s->off[RIGMAT_SB_GD], w->d->Gd, s->nx, s->nw);
-        put_matrix(slot + s->off[RIGMAT_SB_CD], w->d->Cd, s->ny, s->nx);
-        put_matrix(slot + s->off[RIGMAT_SB_DD], w->d->Dd, s->ny, s->nuc);
-        put_matrix(slot + s->off[RIGMAT_SB_ED], w->d->Ed, s->ny, s->nw);
+        put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_AD), w->d->Ad, s->nx, s->nx);
+        put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_BD), w->d->Bd, s->nx, s->nuc);
+        put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_GD), w->d->Gd, s->nx, s->nw);
+        put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_CD), w->d->Cd, s->ny, s->nx);
+        put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_DD), w->d->Dd, s->ny, s->nuc);
+        put_matrix(rigmat_sweep_block(s, p, RIGMAT_SB_ED), w->d->Ed, s->ny, s->nw);
     }
-    for (i = 0; i < s->stride; i++)
-        if (!isfinite(slot[i])) {
-            snprintf(reason, reason_len, "a result is not finite");
-            return -1;
-        }
+    for (b = 0; b < RIGMAT_SB_COUNT; b++) {
+        const double *v = rigmat_sweep_block(s, p, b);
+        for (i = 0; s->has[b] && i < s->rows[b] * s->cols[b]; i++)
+            if (!isfinite(v[i])) {
+                snprintf(reason, reason_len, "a result is not finite");
+                return -1;
+            }
+    }
     return 0;
+}
+
+double *rigmat_sweep_block(const rigmat_sweep *s, size_t p, size_t b)
+{
+    return s->data + s->off[b] + p * s->rows[b] * s->cols[b];
 }
 
 /* Mark point p good, or failed with its reason (NaN numbers). */
 static void mark_point(rigmat_sweep *s, size_t p, int good, rigmat_status rc)
 {
-    double *slot = s->data + p * s->stride;
     char *reason = s->reason[p];
-    size_t i;
+    size_t i, b;
 
     if (good) {
+        /* reason[0] is already '\0' (calloc, and nothing writes a good
+         * point's reason): not touching it keeps the reasons' pages unmapped
+         * when every point is good */
         s->ok[p] = 1;
-        reason[0] = '\0';
         return;
     }
     s->ok[p] = 0;
     if (reason[0] == '\0')
         snprintf(reason, sizeof s->reason[p], "%s",
                 rc == RIGMAT_ENOMEM ? "out of memory" : "failed");
-    for (i = 0; i < s->stride; i++)
-        slot[i] = (double)NAN;
+    for (b = 0; b < RIGMAT_SB_COUNT; b++) {
+        double *v = rigmat_sweep_block(s, p, b);
+        for (i = 0; s->has[b] && i < s->rows[b] * s->cols[b]; i++)
+            v[i] = (double)NAN;
+    }
 }
 
 /* Point p by reloading the model with its overrides: the general path.
@@ -661,7 +680,7 @@ rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes
     const rigmat_layout *L = &base->layout;
     pthread_t tid[RIGMAT_SWEEP_MAX_THREADS];
     struct shared sh;
-    size_t b, p, nthreads, started = 0;
+    size_t b, p, nthreads, started = 0, used;
 
     memset(s, 0, sizeof *s);
     if (naxes > RIGMAT_SWEEP_MAX_AXES)
@@ -697,7 +716,6 @@ rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes
     s->rows[RIGMAT_SB_ED] = s->ny; s->cols[RIGMAT_SB_ED] = s->nw;
     for (b = 0; b < RIGMAT_SB_COUNT; b++) {
         s->has[b] = b < RIGMAT_SB_AD || o->discretize;
-        s->off[b] = s->stride;
         if (s->has[b])
             s->stride += s->rows[b] * s->cols[b];
     }
@@ -707,6 +725,11 @@ rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes
                 RIGMAT_SWEEP_MAX_DOUBLES);
         rigmat_error_hint(err, "lower the COUNTs; sweep a larger range in several runs");
         return RIGMAT_EUSAGE;
+    }
+    for (b = 0, used = 0; b < RIGMAT_SB_COUNT; b++) {
+        s->off[b] = used;
+        if (s->has[b])
+            used += s->npoints * s->rows[b] * s->cols[b];
     }
     s->data = malloc((s->npoints * s->stride + 1) * sizeof *s->data);
     s->ok = calloc(s->npoints, 1);

@@ -100,10 +100,14 @@ typedef struct rigmat_sweep {
     rigmat_sweep_axis *axes;  /* borrowed from the caller */
     size_t npoints;           /* the product of the counts; last axis fastest */
     size_t nx, nu, nuc, nw, ny;
-    size_t rows[RIGMAT_SB_COUNT], cols[RIGMAT_SB_COUNT], off[RIGMAT_SB_COUNT];
+    size_t rows[RIGMAT_SB_COUNT], cols[RIGMAT_SB_COUNT];
+    size_t off[RIGMAT_SB_COUNT]; /* where block b's array starts in data */
     int has[RIGMAT_SB_COUNT]; /* the block is part of this sweep */
-    size_t stride;            /* doubles per point */
-    double *data;             /* npoints x stride; NaN at failed points */
+    size_t stride;            /* doubles per point (all blocks) */
+    double *data;             /* npoints x stride, block by block: block b of every point
+                               * in point order (an npoints x rows x cols array, as an
+                               * npy file holds it), then the next block; NaN at failed
+                               * points */
     unsigned char *ok;        /* npoints */
     char (*reason)[256];      /* npoints; "" at good points */
     size_t nfailed;
@@ -113,6 +117,9 @@ typedef struct rigmat_sweep {
 /* The number of grid points of the axes; 0 when it exceeds
  * RIGMAT_SWEEP_MAX_POINTS (or overflows). */
 size_t rigmat_sweep_points(const rigmat_sweep_axis *axes, size_t naxes);
+
+/* Point p's block b (rows[b] x cols[b], row-major) in s->data. */
+double *rigmat_sweep_block(const rigmat_sweep *s, size_t p, size_t b);
 
 /* The grid index of axis k at point p. */
 size_t rigmat_sweep_index(const rigmat_sweep *s, size_t p, size_t k);

@@ -66,12 +66,65 @@ static int fits_int(size_t v)
     return v <= (size_t)INT_MAX;
 }
 
+/* 1 when the storage of a and b may share memory (then the small kernel,
+ * which writes as it reads, is not used: GSL's CBLAS neither promises
+ * anything there) */
+static int overlaps(const gsl_matrix *a, const gsl_matrix *b)
+{
+    const double *a0 = a->data, *a1 = a->data + (a->size1 - 1) * a->tda + a->size2;
+    const double *b0 = b->data, *b1 = b->data + (b->size1 - 1) * b->tda + b->size2;
+
+    if (a->size1 == 0 || a->size2 == 0 || b->size1 == 0 || b->size2 == 0)
+        return 0;
+    return !(a1 <= b0 || b1 <= a0);
+}
+
 /* a call of m n k multiply-adds is large enough for the loaded BLAS */
 static int large(double m, double n, double k)
 {
     const double lim = (double)RIGMAT_FASTBLAS_MIN_N;
 
     return m * n * k >= lim * lim * lim;
+}
+
+/* C = alpha A B + beta C for small row-major matrices (m x k times k x n),
+ * without the library call: GSL's CBLAS takes a few hundred nanoseconds
+ * of argument checks and strided indexing for an 8 x 8 product.  The
+ * arithmetic is GSL CBLAS's, operation for operation (C scaled by beta
+ * first, then for each k in turn C(i, :) += (alpha A(i, k)) B(k, :),
+ * skipping a zero multiplier), so the results are its bits
+ * (tests/check_fastblas.c); the innermost loop runs along a row, which
+ * the compiler vectorizes without reordering any sum. */
+static void small_dgemm(size_t m, size_t n, size_t k, double alpha, const double *A, size_t lda,
+                        const double *B, size_t ldb, double beta, double *C, size_t ldc)
+{
+    size_t i, j, l;
+
+    if (alpha == 0.0 && beta == 1.0)
+        return;
+    for (i = 0; i < m; i++) {
+        double *c = C + i * ldc;
+        if (beta == 0.0)
+            for (j = 0; j < n; j++)
+                c[j] = 0.0;
+        else if (beta != 1.0)
+            for (j = 0; j < n; j++)
+                c[j] *= beta;
+    }
+    if (alpha == 0.0)
+        return;
+    /* C's rows are independent: row i takes the k-ordered updates that
+     * GSL's k-outer loop gives it, in the same order */
+    for (i = 0; i < m; i++) {
+        double *c = C + i * ldc;
+        for (l = 0; l < k; l++) {
+            const double t = alpha * A[i * lda + l];
+            const double *b = B + l * ldb;
+            if (t != 0.0)
+                for (j = 0; j < n; j++)
+                    c[j] += t * b[j];
+        }
+    }
 }
 
 int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb, double alpha,
@@ -86,8 +139,14 @@ int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb
     if (fb == NULL || am != m || bk != k || bn != n || k == 0 ||
         !large((double)m, (double)n, (double)k) || !fits_int(m) || !fits_int(n) || !fits_int(k) ||
         !fits_int(A->tda) || !fits_int(B->tda) || !fits_int(C->tda) ||
-        !rigmat_fastblas_load(fb, NULL))
+        !rigmat_fastblas_load(fb, NULL)) {
+        if (ta == CblasNoTrans && tb == CblasNoTrans && am == m && bk == k && bn == n &&
+            !large((double)m, (double)n, (double)k) && !overlaps(C, A) && !overlaps(C, B)) {
+            small_dgemm(m, n, k, alpha, A->data, A->tda, B->data, B->tda, beta, C->data, C->tda);
+            return GSL_SUCCESS;
+        }
         return gsl_blas_dgemm(ta, tb, alpha, A, B, beta, C);
+    }
     fb->dgemm((int)CblasRowMajor, (int)ta, (int)tb, (int)m, (int)n, (int)k, alpha, A->data,
               (int)A->tda, B->data, (int)B->tda, beta, C->data, (int)C->tda);
     return GSL_SUCCESS;
@@ -108,6 +167,32 @@ int rigmat_dtrsm(rigmat_fastblas *fb, CBLAS_SIDE_t side, CBLAS_UPLO_t uplo, CBLA
     return GSL_SUCCESS;
 }
 
+/* y = alpha A^T x + beta y for a small row-major m x n A, unit strides:
+ * GSL CBLAS's arithmetic and order (y scaled by beta, then for each row j
+ * of A in turn y += (alpha x_j) A(j, :), skipping a zero multiplier), so
+ * its bits, without the call's overhead. */
+static void small_dgemv_t(size_t m, size_t n, double alpha, const double *A, size_t lda,
+                          const double *x, double beta, double *y)
+{
+    size_t i, j;
+
+    if (beta == 0.0)
+        for (i = 0; i < n; i++)
+            y[i] = 0.0;
+    else if (beta != 1.0)
+        for (i = 0; i < n; i++)
+            y[i] *= beta;
+    if (alpha == 0.0)
+        return;
+    for (j = 0; j < m; j++) {
+        const double t = alpha * x[j];
+        const double *a = A + j * lda;
+        if (t != 0.0)
+            for (i = 0; i < n; i++)
+                y[i] += t * a[i];
+    }
+}
+
 int rigmat_dgemv(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, double alpha, const gsl_matrix *A,
                  const gsl_vector *x, double beta, gsl_vector *y)
 {
@@ -115,6 +200,13 @@ int rigmat_dgemv(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, double alpha, const 
     const size_t nx = ta == CblasNoTrans ? n : m, ny = ta == CblasNoTrans ? m : n;
     const double lim = (double)RIGMAT_FASTBLAS_MIN_N;
 
+    if (ta == CblasTrans && x->size == nx && y->size == ny && x->stride == 1 && y->stride == 1 &&
+        (double)m * (double)n < lim * lim && m > 0 && n > 0 && !(alpha == 0.0 && beta == 1.0) &&
+        (y->data + n <= A->data || y->data >= A->data + (m - 1) * A->tda + n) &&
+        (y->data + n <= x->data || y->data >= x->data + m)) {
+        small_dgemv_t(m, n, alpha, A->data, A->tda, x->data, beta, y->data);
+        return GSL_SUCCESS;
+    }
     if (fb == NULL || x->size != nx || y->size != ny || (double)m * (double)n < lim * lim ||
         !fits_int(m) || !fits_int(n) || !fits_int(A->tda) || !fits_int(x->stride) ||
         !fits_int(y->stride) || !rigmat_fastblas_load(fb, NULL) || fb->dgemv == NULL)
