@@ -133,6 +133,47 @@ static void check_against(const gsl_matrix *A, const gsl_matrix *want, unsigned 
     gsl_matrix_free(E);
 }
 
+/* rigmat_expm_balance must give GSL's gsl_linalg_balance_matrix bits
+ * (the exponentials before and after it replaced the library call are
+ * the same files): random n = 1..12 matrices with rows and columns scaled
+ * over 2^-30..2^30 (so the iteration has work to do), zeros, and a zero
+ * row; D and the balanced matrix compared bit for bit. */
+START_TEST(balancing_gives_the_library_bits)
+{
+    unsigned state = 99u, trial;
+
+    for (trial = 0; trial < 600; trial++) {
+        const size_t n = 1 + trial % 12;
+        gsl_matrix *a = gsl_matrix_alloc(n, n), *b = gsl_matrix_alloc(n, n);
+        gsl_vector *d1 = gsl_vector_alloc(n), *d2 = gsl_vector_alloc(n);
+        size_t i, j;
+        for (i = 0; i < n; i++)
+            for (j = 0; j < n; j++) {
+                double v;
+                state = state * 1103515245u + 12345u;
+                v = (double)((state >> 8) & 0xffffu) / 65536.0 - 0.5;
+                if ((state >> 24) % 5u == 0)
+                    v = 0.0;
+                gsl_matrix_set(a, i, j, ldexp(v, (int)((i * 7u + trial) % 61u) - 30 -
+                                                      (int)((j * 3u + trial) % 41u) + 20));
+            }
+        if (trial % 9 == 0 && n > 2)
+            for (j = 0; j < n; j++)
+                gsl_matrix_set(a, 1, j, 0.0);
+        gsl_matrix_memcpy(b, a);
+        rigmat_expm_balance(a->data, n, a->tda, d1->data);
+        ck_assert_int_eq(gsl_linalg_balance_matrix(b, d2), GSL_SUCCESS);
+        ck_assert_msg(memcmp(a->data, b->data, n * n * sizeof(double)) == 0 &&
+                              memcmp(d1->data, d2->data, n * sizeof(double)) == 0,
+                      "trial %u (n = %zu): the balancing differs from GSL's", trial, n);
+        gsl_matrix_free(a);
+        gsl_matrix_free(b);
+        gsl_vector_free(d1);
+        gsl_vector_free(d2);
+    }
+}
+END_TEST
+
 START_TEST(moler_van_loan_2x2)
 {
     /* Moler and Van Loan, SIAM Review 45(1):3-49, 2003, section 3:
@@ -669,6 +710,7 @@ Suite *expm_suite(void)
     Suite *s = suite_create("expm");
     TCase *tc = tcase_create("exact");
     TCase *tr = tcase_create("reference");
+    tcase_add_test(tc, balancing_gives_the_library_bits);
 
     tcase_add_test(tc, moler_van_loan_2x2);
     tcase_add_test(tc, rotation_generator_gives_cos_sin);

@@ -53,10 +53,15 @@ rigmat_mech_cs rigmat_mech_cossin(double complex z)
         return r;
     }
     /* on |x| and signed after, as the library's csin does (sin is odd and
-     * cos even exactly); the compiler makes the two calls one sincos */
+     * cos even exactly); with GCC or Clang one sincos call, the one the
+     * library's csin makes (strict C99 does not declare sincos) */
     if (ax > DBL_MIN) {
+#if defined(__GNUC__)
+        __builtin_sincos(ax, &sx, &cx);
+#else
         sx = sin(ax);
         cx = cos(ax);
+#endif
     } else {
         sx = ax;
         cx = 1.0;

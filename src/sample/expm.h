@@ -87,4 +87,9 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
 /* The 1-norm (largest column sum of absolute values) of a matrix. */
 double rigmat_expm_norm1(const gsl_matrix *A);
 
+/* Balance the n x n row-major a (row stride tda) in place, a <- D^-1 a D
+ * with D = diag(d) of powers of two (the Parlett-Reinsch iteration, GSL's
+ * gsl_linalg_balance_matrix bit for bit; see expm.c). */
+void rigmat_expm_balance(double *a, size_t n, size_t tda, double *d);
+
 #endif /* RIGMAT_EXPM_H */

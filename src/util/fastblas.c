@@ -116,13 +116,22 @@ static void small_dgemm(size_t m, size_t n, size_t k, double alpha, const double
     /* C's rows are independent: row i takes the k-ordered updates that
      * GSL's k-outer loop gives it, in the same order */
     for (i = 0; i < m; i++) {
-        double *c = C + i * ldc;
+        double *restrict c = C + i * ldc; /* C is apart from A and B (the caller checks) */
         for (l = 0; l < k; l++) {
             const double t = alpha * A[i * lda + l];
-            const double *b = B + l * ldb;
-            if (t != 0.0)
-                for (j = 0; j < n; j++)
-                    c[j] += t * b[j];
+            const double *restrict b = B + l * ldb;
+            if (t == 0.0)
+                continue;
+            /* pairs of independent updates, which the compiler's
+             * straight-line vectorizer packs two to a register */
+            for (j = 0; j + 4 <= n; j += 4) {
+                c[j] += t * b[j];
+                c[j + 1] += t * b[j + 1];
+                c[j + 2] += t * b[j + 2];
+                c[j + 3] += t * b[j + 3];
+            }
+            for (; j < n; j++)
+                c[j] += t * b[j];
         }
     }
 }
