@@ -53,10 +53,11 @@ rigmat_mech_cs rigmat_mech_cossin(double complex z)
         return r;
     }
     /* on |x| and signed after, as the library's csin does (sin is odd and
-     * cos even exactly); with GCC or Clang one sincos call, the one the
-     * library's csin makes (strict C99 does not declare sincos) */
+     * cos even exactly); with GCC one sincos call, the one the library's
+     * csin makes (strict C99 does not declare sincos; Clang has no such
+     * builtin and pairs sin and cos itself) */
     if (ax > DBL_MIN) {
-#if defined(__GNUC__)
+#if defined(__GNUC__) && !defined(__clang__)
         __builtin_sincos(ax, &sx, &cx);
 #else
         sx = sin(ax);

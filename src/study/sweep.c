@@ -13,6 +13,7 @@
 #include "load.h"
 #include "linearize.h"
 #include "invariant.h"
+#include "bigmem.h"
 
 #include <errno.h>
 #include <math.h>
@@ -732,6 +733,7 @@ rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes
             used += s->npoints * s->rows[b] * s->cols[b];
     }
     s->data = malloc((s->npoints * s->stride + 1) * sizeof *s->data);
+    rigmat_bigmem_advise(s->data, (s->npoints * s->stride + 1) * sizeof *s->data);
     s->ok = calloc(s->npoints, 1);
     s->reason = calloc(s->npoints, sizeof *s->reason);
     if (s->data == NULL || s->ok == NULL || s->reason == NULL)
