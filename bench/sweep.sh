@@ -10,8 +10,9 @@
 # the size (default 20000, so that the process start-up is spread thin).
 # Then bench/sweep_bench.c: the compute alone per point (rigmat_sweep_run,
 # no process, no output) on the fast path and by reloading the model at
-# every point, its linearize and sampling stages, and the counts behind an
-# estimate of the operations per point.
+# every point (from the kept tree, and by reading the file again), its
+# linearize and sampling stages, and the counts behind an estimate of the
+# operations per point.
 set -eu
 # one thread for numpy's BLAS: the comparison is one thread against one
 # thread, and an oversubscribed OpenBLAS pool spinning in sched_yield made
@@ -77,10 +78,12 @@ if [ -x "$B/bench/sweep_bench" ]; then
     DEMO=$(dirname "$0")/../examples/balancer.yaml
     F=$("$B/bench/sweep_bench" "$DEMO" "tilt=-10deg:10deg:${SWEEP_POINTS:-20000}" 200)
     R=$("$B/bench/sweep_bench" "$DEMO" "tilt=-10deg:10deg:1000" 200 --reload)
-    ${PYTHON:-/usr/bin/python3} - "$F" "$R" <<'PY'
+    W=$("$B/bench/sweep_bench" "$DEMO" "tilt=-10deg:10deg:1000" 200 --reread)
+    ${PYTHON:-/usr/bin/python3} - "$F" "$R" "$W" <<'PY'
 import sys
 f = dict(kv.split("=") for kv in sys.argv[1].split())
 r = dict(kv.split("=") for kv in sys.argv[2].split())
+w = dict(kv.split("=") for kv in sys.argv[3].split())
 n = int(f["expm_n"])
 prods = int(f["expm_products"])
 # ZOH: one exponential of the (nx + nu) block; a product of two n x n
@@ -91,8 +94,11 @@ flops = prods * 2 * n ** 3 + (2.0 / 3.0 + 2.0) * n ** 3
 print("  compute only (rigmat_sweep_run, 1 thread, no process, no output):")
 print("    fast path (model loaded once, values written in place): %s us/point CPU"
       " (%s us wall), %s points" % (f["sweep_us_cpu"], f["sweep_us_wall"], f["points"]))
-print("    reloading the model at every point:                       %s us/point CPU"
+print("    reloading the model at every point (the path of a parameter axis),")
+print("      from the tree kept after parsing:                       %s us/point CPU"
       " (%s us wall), %s points" % (r["sweep_us_cpu"], r["sweep_us_wall"], r["points"]))
+print("      reading and parsing the file again:                     %s us/point CPU"
+      " (%s us wall), %s points" % (w["sweep_us_cpu"], w["sweep_us_wall"], w["points"]))
 print("    stages: linearize %s us (%s complex evaluations of f and h), ZOH %s us"
       % (f["lin_us"], f["evals"], f["disc_us"]))
 print("    ZOH exponential: %dx%d, Pade degree %s, %s squarings, %d products: about %.0f"

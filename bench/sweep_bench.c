@@ -4,9 +4,11 @@
  * linearizer with the axis value written in place, and the sampling of
  * one linear model), with the counts an operation estimate needs.
  *
- *   sweep_bench FILE AXIS RATE_HZ [--reload]
+ *   sweep_bench FILE AXIS RATE_HZ [--reload | --reread]
  *       AXIS as --vary (tilt=-10deg:10deg:4000); --reload: every point
- *       reloads the model (the general path), for comparison.
+ *       reloads the model (the general path: from the tree kept after
+ *       the file is parsed and its parts merged); --reread: every point
+ *       reads and parses the file again, for comparison.
  *   prints one line of key=value pairs: points, fast (1: the fast path
  *       ran), sweep_us_wall, sweep_us_cpu (per point), lin_us, disc_us
  *       (per point, CPU), nx, nu, ny, evals (complex evaluations of f
@@ -68,7 +70,7 @@ int main(int argc, char **argv)
     size_t p, i, reps;
 
     if (argc < 4) {
-        fprintf(stderr, "usage: sweep_bench FILE AXIS RATE_HZ [--reload]\n");
+        fprintf(stderr, "usage: sweep_bench FILE AXIS RATE_HZ [--reload | --reread]\n");
         return 2;
     }
     gsl_set_error_handler_off();
@@ -85,7 +87,8 @@ int main(int argc, char **argv)
     o.dopts = rigmat_discretize_opts_default();
     o.dopts.period_s = 1.0 / atof(argv[3]);
     o.threads = 1;
-    o.reload = argc > 4 && strcmp(argv[4], "--reload") == 0;
+    o.reload = argc > 4 && (strcmp(argv[4], "--reload") == 0 || strcmp(argv[4], "--reread") == 0);
+    o.full_reload = argc > 4 && strcmp(argv[4], "--reread") == 0;
     w0 = clock_s(CLOCK_MONOTONIC);
     c0 = clock_s(CLOCK_PROCESS_CPUTIME_ID);
     if (rigmat_sweep_run(base, &ax, 1, &o, &s, &e) != RIGMAT_OK) {

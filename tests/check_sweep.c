@@ -159,10 +159,11 @@ START_TEST(points_match_single_runs_and_do_not_depend_on_threads)
 }
 END_TEST
 
-/* Sweep one axis over file's model twice, by the fast path (when it
- * applies) and by reloading the model at every point, on 1 and 2 threads:
- * every number, ok flag and reason must be the same bytes.  Returns
- * whether the fast path ran. */
+/* Sweep one axis over file's model three times: by the fast path (when it
+ * applies), by reloading the model at every point from the tree kept
+ * after the parts are merged, and by reading the file again at every
+ * point, on 2, 1 and 1 threads: every number, ok flag and reason must be
+ * the same bytes.  Returns whether the fast path ran. */
 static int fast_equals_reload(const char *file, const char *axis, double period_s,
         size_t want_failed)
 {
@@ -170,7 +171,7 @@ static int fast_equals_reload(const char *file, const char *axis, double period_
     rigmat_model *m = NULL;
     rigmat_sweep_axis ax;
     rigmat_sweep_opts o;
-    rigmat_sweep sf, sr;
+    rigmat_sweep sf, sr, sa;
     rigmat_diags d;
     rigmat_error e;
     int fast;
@@ -203,9 +204,16 @@ static int fast_equals_reload(const char *file, const char *axis, double period_
     ck_assert(memcmp(sf.ok, sr.ok, sf.npoints) == 0);
     ck_assert_msg(memcmp(sf.reason, sr.reason, sf.npoints * sizeof *sf.reason) == 0,
             "%s %s: reasons differ: '%s' vs '%s'", file, axis, sf.reason[0], sr.reason[0]);
+    o.full_reload = 1;
+    ck_assert_int_eq(rigmat_sweep_run(m, &ax, 1, &o, &sa, &e), RIGMAT_OK);
+    ck_assert_msg(memcmp(sa.data, sr.data, sa.npoints * sa.stride * sizeof *sa.data) == 0 &&
+                          memcmp(sa.ok, sr.ok, sa.npoints) == 0 &&
+                          memcmp(sa.reason, sr.reason, sa.npoints * sizeof *sa.reason) == 0,
+            "%s %s: loads from the kept tree differ from reading the file", file, axis);
     fast = sf.fast;
     rigmat_sweep_release(&sf);
     rigmat_sweep_release(&sr);
+    rigmat_sweep_release(&sa);
     rigmat_sweep_axis_release(&ax);
     rigmat_model_free(m);
     return fast;
@@ -258,6 +266,13 @@ START_TEST(the_fast_path_equals_reloading_on_every_example)
         if (m->layout.nu > 0) {
             snprintf(axis, sizeof axis, "%s=-0.01:0.01:3", m->layout.inputs[0].name);
             ck_assert_msg(fast_equals_reload(file, axis, 0, 0) == !closed, "%s", file);
+        }
+        /* a parameter (the first body's mass, +-10%, in kg): never the fast
+         * path; the kept tree against reading the file */
+        if (m->nbodies > 1 && m->bodies[1].mass_kg > 0) {
+            snprintf(axis, sizeof axis, "bodies.%s.mass=%.17g:%.17g:3", m->bodies[1].name,
+                    0.9 * m->bodies[1].mass_kg, 1.1 * m->bodies[1].mass_kg);
+            ck_assert_msg(!fast_equals_reload(file, axis, 0.005, 0), "%s", file);
         }
         rigmat_model_free(m);
         nfiles++;

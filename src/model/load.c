@@ -2592,6 +2592,119 @@ rigmat_status rigmat_load_schema(const rigmat_node *root, rigmat_model *m,
     return d->errors > before ? RIGMAT_EMODEL : RIGMAT_OK;
 }
 
+struct rigmat_load_base {
+    char *path;
+    rigmat_diags *files; /* the interned file names the tree's locs point to */
+    rigmat_node *root;   /* parsed, counted, parts merged; read-only after */
+};
+
+void rigmat_load_base_free(rigmat_load_base *b)
+{
+    if (b == NULL)
+        return;
+    rigmat_node_free(b->root);
+    if (b->files != NULL) {
+        rigmat_diags_release(b->files);
+        free(b->files);
+    }
+    free(b->path);
+    free(b);
+}
+
+rigmat_status rigmat_load_base_new(const char *path, const rigmat_options *opt,
+        rigmat_load_base **out, rigmat_diags *diags)
+{
+    rigmat_load_base *b;
+    rigmat_status st;
+    const size_t before = diags->errors;
+    size_t bytes = 0;
+    int stop = 0;
+
+    *out = NULL;
+    b = calloc(1, sizeof *b);
+    if (b == NULL)
+        return RIGMAT_ENOMEM;
+    b->files = calloc(1, sizeof *b->files);
+    b->path = malloc(strlen(path) + 1);
+    if (b->files == NULL || b->path == NULL) {
+        free(b->files);
+        b->files = NULL;
+        rigmat_load_base_free(b);
+        return RIGMAT_ENOMEM;
+    }
+    strcpy(b->path, path);
+    rigmat_diags_init(b->files);
+    /* the stages of rigmat_model_load before the overrides, in its order */
+    st = rigmat_load_yaml_file_sized(path, opt, b->files, diags, &b->root, &bytes);
+    if (st == RIGMAT_OK && b->root == NULL)
+        st = RIGMAT_EMODEL;
+    if (st == RIGMAT_OK)
+        st = rigmat_load_counts(b->root, opt, diags);
+    if (st == RIGMAT_OK)
+        st = rigmat_load_parts(b->root, path, bytes, opt, b->files, diags, &stop);
+    if (st == RIGMAT_OK && (stop || diags->errors > before))
+        st = RIGMAT_EMODEL;
+    if (st != RIGMAT_OK) {
+        rigmat_load_base_free(b);
+        return st;
+    }
+    *out = b;
+    return RIGMAT_OK;
+}
+
+rigmat_status rigmat_model_load_from(const rigmat_load_base *b, const char *const *sets,
+        size_t nsets, const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags)
+{
+    rigmat_model *m;
+    rigmat_node *root;
+    rigmat_status st2;
+    const size_t before = diags->errors;
+    struct ld L;
+
+    *out = NULL;
+    m = calloc(1, sizeof *m);
+    if (m == NULL)
+        return RIGMAT_ENOMEM;
+    m->owner_diags = calloc(1, sizeof *m->owner_diags);
+    L.m = m;
+    L.d = diags;
+    L.opt = opt;
+    L.nomem = 0;
+    m->file = m->owner_diags ? dup_s(&L, b->path) : NULL;
+    if (m->file == NULL) {
+        rigmat_model_free(m);
+        return RIGMAT_ENOMEM;
+    }
+    rigmat_diags_init(m->owner_diags);
+    root = rigmat_node_copy(b->root);
+    if (root == NULL) {
+        rigmat_model_free(m);
+        return RIGMAT_ENOMEM;
+    }
+    /* from here as rigmat_model_load after the parts */
+    st2 = rigmat_load_sets(root, sets, nsets, opt, m->owner_diags, diags);
+    if (st2 != RIGMAT_ENOMEM)
+        st2 = rigmat_load_schema(root, m, opt, diags);
+    rigmat_node_free(root);
+    if (st2 == RIGMAT_ENOMEM) {
+        rigmat_model_free(m);
+        return st2;
+    }
+    if (diags->errors == before) {
+        st2 = rigmat_layout_build(m, diags);
+        if (st2 == RIGMAT_ENOMEM) {
+            rigmat_model_free(m);
+            return st2;
+        }
+    }
+    if (diags->errors > before) {
+        rigmat_model_free(m);
+        return RIGMAT_EMODEL;
+    }
+    *out = m;
+    return RIGMAT_OK;
+}
+
 rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_t nsets,
         const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags)
 {

@@ -167,4 +167,23 @@ int rigmat_load_op_input_outside(const rigmat_model *m, const char *name, double
 rigmat_status rigmat_load_op_value(const rigmat_model *m, const char *set,
         const rigmat_options *opt, int *which, char *name, size_t name_len, double *value);
 
+/* rigmat_model_load's stages before the overrides (read, parse, the entry
+ * counts, parts merged), kept for many loads of one file with different
+ * overrides: a sweep over a parameter.  rigmat_model_load_from then runs
+ * the rest on a copy of the kept tree (the overrides, the schema, the
+ * layout), so its model and diagnostics equal rigmat_model_load's with the
+ * same overrides (tests/check_sweep.c compares them on every example);
+ * only the file and its parts are read once, not per load.  The base must
+ * outlive every model loaded from it (their locs name its file strings).
+ * rigmat_load_base_new refuses (RIGMAT_EMODEL, RIGMAT_EIO, RIGMAT_ENOMEM)
+ * a file with any error before the overrides: load such a file the plain
+ * way.  The base is read-only once made: threads may load from it at
+ * once. */
+typedef struct rigmat_load_base rigmat_load_base;
+rigmat_status rigmat_load_base_new(const char *path, const rigmat_options *opt,
+        rigmat_load_base **out, rigmat_diags *diags);
+void rigmat_load_base_free(rigmat_load_base *b);
+rigmat_status rigmat_model_load_from(const rigmat_load_base *b, const char *const *sets,
+        size_t nsets, const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags);
+
 #endif /* RIGMAT_LOAD_H */

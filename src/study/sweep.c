@@ -244,6 +244,9 @@ struct shared {
     const char *tsets[64 + RIGMAT_SWEEP_MAX_AXES];
     size_t ntsets;
     rigmat_model *first;
+    /* the reload path: the file parsed with its parts merged, once, or NULL
+     * (each point then reads the file) */
+    rigmat_load_base *lbase;
 };
 
 /* What one thread keeps from point to point. */
@@ -444,7 +447,10 @@ static rigmat_status reload_point(struct shared *sh, size_t p, struct worker_sta
         sets[nsets++] = s->axes[k].text[rigmat_sweep_index(s, p, k)];
     rigmat_diags_init(&diags);
     diags.max_errors = o->opt->max_errors;
-    st = rigmat_model_load(o->file, sets, nsets, o->opt, &m, &diags);
+    if (sh->lbase != NULL)
+        st = rigmat_model_load_from(sh->lbase, sets, nsets, o->opt, &m, &diags);
+    else
+        st = rigmat_model_load(o->file, sets, nsets, o->opt, &m, &diags);
     if (st == RIGMAT_OK)
         st = rigmat_model_check_equations(m, &diags);
     if (st == RIGMAT_ENOMEM) {
@@ -673,6 +679,7 @@ static void fast_release(struct shared *sh)
     for (k = 0; k < RIGMAT_SWEEP_MAX_AXES; k++)
         free(sh->fsi[k]);
     rigmat_model_free(sh->first);
+    rigmat_load_base_free(sh->lbase);
 }
 
 rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes, size_t naxes,
@@ -748,6 +755,19 @@ rigmat_status rigmat_sweep_run(const rigmat_model *base, rigmat_sweep_axis *axes
         return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
     }
     s->fast = sh.fast;
+    if (!sh.fast && !o->full_reload) {
+        /* the reload path reads and parses the file, and merges its parts,
+         * once; a file that does not give a clean base is read per point */
+        rigmat_diags bd;
+        rigmat_status bst;
+        rigmat_diags_init(&bd);
+        bst = rigmat_load_base_new(o->file, o->opt, &sh.lbase, &bd);
+        rigmat_diags_release(&bd);
+        if (bst == RIGMAT_ENOMEM) {
+            fast_release(&sh);
+            return RIGMAT_FAIL(err, RIGMAT_ENOMEM, "out of memory");
+        }
+    }
     if (pthread_mutex_init(&sh.lock, NULL) != 0) {
         fast_release(&sh);
         return RIGMAT_FAIL(err, RIGMAT_EINTERNAL, "cannot create a lock");

@@ -37,9 +37,18 @@
  * its own.  Every point writes only its own slot, so the numbers do not
  * depend on the thread count.
  *
- * Cost: one model load (fast path: one per thread), linearization and
- * (optionally) matrix exponential per point.  Memory: npoints x (the point's numbers) doubles, capped by
- * RIGMAT_SWEEP_MAX_POINTS and RIGMAT_SWEEP_MAX_DOUBLES.
+ * Reload path (any other axis, or a model with closures): the file is
+ * read and parsed, and its parts merged, once (rigmat_load_base_new);
+ * each point loads from a copy of that tree with its overrides
+ * (rigmat_model_load_from), which gives rigmat_model_load's model and
+ * diagnostics (tests/check_sweep.c on every example, with
+ * rigmat_sweep_opts.full_reload reading the file at every point).  A file
+ * whose base cannot be made cleanly is read at every point.
+ *
+ * Cost: per point, the fast path's linearization and (optionally) matrix
+ * exponential; the reload path adds the overrides, the schema and the
+ * layout of a load.  Memory: npoints x (the point's numbers) doubles,
+ * capped by RIGMAT_SWEEP_MAX_POINTS and RIGMAT_SWEEP_MAX_DOUBLES.
  */
 #ifndef RIGMAT_SWEEP_H
 #define RIGMAT_SWEEP_H
@@ -82,6 +91,9 @@ typedef struct rigmat_sweep_opts {
     unsigned threads;            /* >= 1 */
     int reload;                  /* 1: reload the model at every point even where the fast
                                   * path applies (to check the two agree) */
+    int full_reload;             /* 1: a reloaded point reads and parses the file again,
+                                  * instead of copying the tree kept after the parts are
+                                  * merged (to check the two agree) */
     /* called (under a lock, from any thread) after each point; may be NULL */
     void (*progress)(void *ctx, size_t done, size_t total);
     void *progress_ctx;
