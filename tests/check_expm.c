@@ -138,6 +138,47 @@ static void check_against(const gsl_matrix *A, const gsl_matrix *want, unsigned 
  * the same files): random n = 1..12 matrices with rows and columns scaled
  * over 2^-30..2^30 (so the iteration has work to do), zeros, and a zero
  * row; D and the balanced matrix compared bit for bit. */
+/* rigmat_expm_small_lu must give GSL's gsl_linalg_LU_decomp bits (factors
+ * and permutation) for every n up to RIGMAT_EXPM_SMALL_LU: random
+ * matrices over 20 binary orders, some with zeros and a repeated row (so
+ * ties and tiny pivots occur). */
+START_TEST(small_lu_gives_the_library_bits)
+{
+    unsigned state = 4242u, trial;
+
+    for (trial = 0; trial < 800; trial++) {
+        const size_t n = 1 + trial % RIGMAT_EXPM_SMALL_LU;
+        gsl_matrix *a = gsl_matrix_alloc(n, n), *b = gsl_matrix_alloc(n, n);
+        gsl_permutation *p = gsl_permutation_alloc(n);
+        size_t perm[RIGMAT_EXPM_SMALL_LU], i, j;
+        int signum;
+        for (i = 0; i < n; i++)
+            for (j = 0; j < n; j++) {
+                double v;
+                state = state * 1103515245u + 12345u;
+                v = (double)((state >> 8) & 0xffffu) / 65536.0 - 0.5;
+                if ((state >> 24) % 7u == 0)
+                    v = 0.0;
+                gsl_matrix_set(a, i, j, ldexp(v, (int)((state >> 4) % 21u) - 10));
+            }
+        if (trial % 5 == 0 && n > 2)
+            for (j = 0; j < n; j++)
+                gsl_matrix_set(a, 2, j, gsl_matrix_get(a, 0, j));
+        gsl_matrix_memcpy(b, a);
+        (void)rigmat_expm_small_lu(a->data, n, a->tda, perm);
+        ck_assert_int_eq(gsl_linalg_LU_decomp(b, p, &signum), GSL_SUCCESS);
+        ck_assert_msg(memcmp(a->data, b->data, n * n * sizeof(double)) == 0,
+                      "trial %u (n = %zu): the factors differ from GSL's", trial, n);
+        for (i = 0; i < n; i++)
+            ck_assert_msg(perm[i] == gsl_permutation_get(p, i),
+                          "trial %u (n = %zu): the permutation differs from GSL's", trial, n);
+        gsl_matrix_free(a);
+        gsl_matrix_free(b);
+        gsl_permutation_free(p);
+    }
+}
+END_TEST
+
 START_TEST(balancing_gives_the_library_bits)
 {
     unsigned state = 99u, trial;
@@ -711,6 +752,7 @@ Suite *expm_suite(void)
     TCase *tc = tcase_create("exact");
     TCase *tr = tcase_create("reference");
     tcase_add_test(tc, balancing_gives_the_library_bits);
+    tcase_add_test(tc, small_lu_gives_the_library_bits);
 
     tcase_add_test(tc, moler_van_loan_2x2);
     tcase_add_test(tc, rotation_generator_gives_cos_sin);

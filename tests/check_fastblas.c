@@ -102,13 +102,14 @@ static void fill_random(gsl_matrix *m, unsigned *state)
             gsl_matrix_set(m, i, j, rand_entry(state));
 }
 
-/* The small kernels that replace GSL's CBLAS below the threshold
- * (fastblas.c) must give its bits exactly, not merely close values: the
- * sweep's points equal single runs byte for byte, and results before and
- * after the kernels were added are the same files.  Random sizes 1..15,
- * rounding-sensitive entries over 80 binary orders, zeros, and every
- * alpha/beta case the kernels branch on; the reference is GSL's own
- * gsl_blas_dgemm and gsl_blas_dgemv on the same inputs. */
+/* The small kernels (products, A^T x, triangular solves) that replace
+ * GSL's CBLAS below the threshold (fastblas.c) must give its bits
+ * exactly, not merely close values: the sweep's points equal single runs
+ * byte for byte, and results before and after the kernels were added are
+ * the same files.  Random sizes 1..15, rounding-sensitive entries over 80
+ * binary orders, zeros, and every alpha/beta case the kernels branch on;
+ * the reference is GSL's own gsl_blas_dgemm, gsl_blas_dgemv and
+ * gsl_blas_dtrsm on the same inputs. */
 START_TEST(small_kernels_give_gsl_cblas_bits)
 {
     const double alphas[] = { 1.0, -0.7, 0.0 }, betas[] = { 0.0, 1.0, 0.3 };
@@ -155,6 +156,34 @@ START_TEST(small_kernels_give_gsl_cblas_bits)
         gsl_vector_free(x);
         gsl_vector_free(y1);
         gsl_vector_free(y2);
+    }
+    /* triangular solves on the left, no transpose: both triangles, unit
+     * and not, alpha 1 and not */
+    for (trial = 0; trial < 240; trial++) {
+        const size_t m = 1 + trial % 15, n = 1 + (trial / 5) % 15;
+        const CBLAS_UPLO_t uplo = trial % 2 ? CblasUpper : CblasLower;
+        const CBLAS_DIAG_t diag = (trial / 2) % 2 ? CblasUnit : CblasNonUnit;
+        const double alpha = (trial / 4) % 3 ? 1.0 : -0.5;
+        gsl_matrix *T = gsl_matrix_alloc(m, m), *X1 = gsl_matrix_alloc(m, n);
+        gsl_matrix *X2 = gsl_matrix_alloc(m, n);
+        size_t i;
+
+        fill_random(T, &state);
+        for (i = 0; i < m; i++) /* a diagonal away from zero */
+            gsl_matrix_set(T, i, i, 1.5 + (double)i);
+        fill_random(X1, &state);
+        gsl_matrix_memcpy(X2, X1);
+        ck_assert_int_eq(rigmat_dtrsm(&fb, CblasLeft, uplo, CblasNoTrans, diag, alpha, T, X1),
+                         GSL_SUCCESS);
+        ck_assert_int_eq(gsl_blas_dtrsm(CblasLeft, uplo, CblasNoTrans, diag, alpha, T, X2),
+                         GSL_SUCCESS);
+        ck_assert_msg(memcmp(X1->data, X2->data, m * n * sizeof(double)) == 0,
+                      "dtrsm %zux%zu %s %s alpha %g: bits differ from GSL's CBLAS", m, n,
+                      uplo == CblasUpper ? "upper" : "lower",
+                      diag == CblasUnit ? "unit" : "non-unit", alpha);
+        gsl_matrix_free(T);
+        gsl_matrix_free(X1);
+        gsl_matrix_free(X2);
     }
     ck_assert(!fb.tried); /* all below the threshold: nothing opened */
     rigmat_fastblas_release(&fb);

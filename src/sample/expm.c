@@ -13,6 +13,7 @@
 #include "sizes.h"
 
 #include <limits.h>
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -76,6 +77,8 @@ double rigmat_expm_norm1(const gsl_matrix *A)
     return best;
 }
 
+static void ell_constants(double *l2c);
+
 static gsl_matrix *alloc_or_flag(size_t n, int *bad)
 {
     gsl_matrix *m = rigmat_matrix_alloc(n, n);
@@ -97,6 +100,7 @@ rigmat_expm_ws *rigmat_expm_ws_alloc(size_t nmax)
         return NULL;
     w->nmax = nmax;
     rigmat_fastblas_init(&w->blas);
+    ell_constants(w->l2c);
     w->As = alloc_or_flag(nmax, &bad);
     w->A2 = alloc_or_flag(nmax, &bad);
     w->A4 = alloc_or_flag(nmax, &bad);
@@ -309,6 +313,63 @@ static rigmat_status lapack_solve(rigmat_fastblas *fb, rigmat_dgetrf_fn dgetrf, 
     return RIGMAT_OK;
 }
 
+/* LU with partial pivoting of the small n x n row-major a (row stride
+ * tda), in place, P a = L U, the permutation into perm (perm[i] = the
+ * original row now at i): GSL's gsl_linalg_LU_decomp bit for bit up to
+ * RIGMAT_EXPM_SMALL_LU (its unblocked loop: pivot on the first largest
+ * |a_ij|, rows swapped whole, the column below scaled by 1/a_jj, or
+ * divided by it when |a_jj| < DBL_MIN, then the rank-one update of the
+ * rest; tests/check_expm.c), without its per-call allocation and BLAS
+ * calls.  Returns 0, or -1 for a zero pivot (left as is, as GSL does). */
+int rigmat_expm_small_lu(double *a, size_t n, size_t tda, size_t *perm)
+{
+    size_t i, j, k, r;
+    int zero = 0;
+
+    for (i = 0; i < n; i++)
+        perm[i] = i;
+    for (j = 0; j < n; j++) {
+        double big = fabs(a[j * tda + j]), ajj;
+        size_t piv = j;
+        for (i = j + 1; i < n; i++)
+            if (fabs(a[i * tda + j]) > big) {
+                big = fabs(a[i * tda + j]);
+                piv = i;
+            }
+        if (piv != j) {
+            for (k = 0; k < n; k++) {
+                const double t = a[j * tda + k];
+                a[j * tda + k] = a[piv * tda + k];
+                a[piv * tda + k] = t;
+            }
+            r = perm[j];
+            perm[j] = perm[piv];
+            perm[piv] = r;
+        }
+        ajj = a[j * tda + j];
+        if (ajj == 0.0)
+            zero = 1;
+        if (fabs(ajj) >= DBL_MIN) {
+            const double inv = 1.0 / ajj;
+            for (i = j + 1; i < n; i++)
+                a[i * tda + j] *= inv;
+        } else {
+            for (i = j + 1; i < n; i++)
+                a[i * tda + j] /= ajj;
+        }
+        for (i = j + 1; i < n; i++) {
+            /* GSL adds rj[k] (-l); subtracting rj[k] l is the same bits
+             * (and keeps a NaN's sign, which a negated l would flip) */
+            const double l = a[i * tda + j];
+            double *restrict ri = a + i * tda;
+            const double *restrict rj = a + j * tda;
+            for (k = j + 1; k < n; k++)
+                ri[k] -= rj[k] * l;
+        }
+    }
+    return zero ? -1 : 0;
+}
+
 /* X = (V - U)^-1 (V + U).  P receives V - U and its LU factors; X must be
  * distinct from U, V and P.  ipiv has n entries (LAPACK's pivots). */
 static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl_matrix *X,
@@ -332,10 +393,15 @@ static rigmat_status pade_solve(gsl_matrix *U, gsl_matrix *V, gsl_matrix *P, gsl
     dgetrf = P->tda <= (size_t)INT_MAX ? rigmat_fastblas_dgetrf(fb, n) : NULL;
     if (dgetrf != NULL)
         return lapack_solve(fb, dgetrf, V, P, X, ipiv, err);
-    gs = gsl_linalg_LU_decomp(P, perm, &signum);
-    if (gs != GSL_SUCCESS)
-        return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "LU of the Pade denominator failed: %s",
-                           gsl_strerror(gs));
+    if (n <= RIGMAT_EXPM_SMALL_LU) {
+        (void)rigmat_expm_small_lu(P->data, n, P->tda, perm->data); /* GSL's bits, checked
+                                                                     * below as GSL's are */
+    } else {
+        gs = gsl_linalg_LU_decomp(P, perm, &signum);
+        if (gs != GSL_SUCCESS)
+            return RIGMAT_FAIL(err, RIGMAT_ENUMERIC, "LU of the Pade denominator failed: %s",
+                               gsl_strerror(gs));
+    }
     for (i = 0; i < n; i++) {
         const double d = gsl_matrix_get(P, i, i);
         if (d == 0.0 || !isfinite(d))
@@ -473,11 +539,21 @@ static double log2_factorial(unsigned k)
     return l;
 }
 
-static unsigned ell(unsigned m, unsigned s, double l2, double nrm)
+/* log2 |c_(2m+1)| for m = 0..13 (entries 3, 5, 7, 9, 13 used), into l2c:
+ * computed once per workspace, not per call (about 60 log2 calls an ell,
+ * 3% of a small exponential) */
+static void ell_constants(double *l2c)
+{
+    unsigned m;
+
+    for (m = 0; m < RIGMAT_EXPM_NL2C; m++)
+        l2c[m] = 2.0 * log2_factorial(m) - log2_factorial(2 * m) - log2_factorial(2 * m + 1);
+}
+
+static unsigned ell(const double *l2cs, unsigned m, unsigned s, double l2, double nrm)
 {
     const double md = (double)m;
-    const double l2c =
-            2.0 * log2_factorial(m) - log2_factorial(2 * m) - log2_factorial(2 * m + 1);
+    const double l2c = l2cs[m];
     const double l2alpha = l2c + l2 - log2(nrm) - 2.0 * md * (double)s;
     const double q = ceil((l2alpha + 53.0) / (2.0 * md)); /* u = 2^-53 */
 
@@ -600,7 +676,8 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
         n2 = rigmat_expm_norm1(&A2.matrix);
         eta[0] = sqrt(n2); /* bounds d_4 and d_6 */
         m = 0;
-        if (eta[0] <= theta3 && ell(3, 0, log2_abs_power_norm(fb, absA, 7, v, t), nrm) == 0)
+        if (eta[0] <= theta3 &&
+            ell(w->l2c, 3, 0, log2_abs_power_norm(fb, absA, 7, v, t), nrm) == 0)
             m = 3;
         if (m == 0) {
             rc = mul(fb, &A4.matrix, &A2.matrix, &A2.matrix, err);
@@ -610,7 +687,8 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             have = 4;
             n4 = rigmat_expm_norm1(&A4.matrix);
             eta[1] = fmax(pow(n4, 0.25), pow(n4 * n2, 1.0 / 6.0));
-            if (eta[1] <= theta5 && ell(5, 0, log2_abs_power_norm(fb, absA, 11, v, t), nrm) == 0)
+            if (eta[1] <= theta5 &&
+                ell(w->l2c, 5, 0, log2_abs_power_norm(fb, absA, 11, v, t), nrm) == 0)
                 m = 5;
         }
         if (m == 0) {
@@ -624,7 +702,8 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
             eta[2] = fmax(pow(n6, 1.0 / 6.0), d8);
             for (d = 2; d < 4 && m == 0; d++)
                 if (eta[2] <= ths[d] &&
-                    ell(degs[d], 0, log2_abs_power_norm(fb, absA, 2 * degs[d] + 1, v, t), nrm) == 0)
+                    ell(w->l2c, degs[d], 0,
+                        log2_abs_power_norm(fb, absA, 2 * degs[d] + 1, v, t), nrm) == 0)
                     m = degs[d];
             if (!isfinite(n2 * n4 * n6)) {
                 by_norm = 1; /* a power overflowed: A2, A4, A6 are not usable */
@@ -636,7 +715,7 @@ rigmat_status rigmat_expm(const gsl_matrix *A, gsl_matrix *eA, unsigned flags, r
                 m = 13;
                 if (eta5 > theta13)
                     s = ceil_log2(eta5 / theta13);
-                s += ell(13, s, log2_abs_power_norm(fb, absA, 27, v, t), nrm);
+                s += ell(w->l2c, 13, s, log2_abs_power_norm(fb, absA, 27, v, t), nrm);
             }
         }
         if (!by_norm && m == 13 && s > 0) {

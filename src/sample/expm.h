@@ -54,12 +54,15 @@ enum rigmat_expm_flags {
  * permutation, a scaling vector and the handle of the optimized BLAS once
  * a large call opened it (closed by rigmat_expm_ws_free).  Opaque to
  * callers; one thread at a time. */
+#define RIGMAT_EXPM_NL2C 14
+
 typedef struct rigmat_expm_ws {
     size_t nmax;
     gsl_matrix *As, *A2, *A4, *A6, *A8, *U, *V, *T; /* nmax x nmax each */
     gsl_permutation *perm;                          /* nmax */
     gsl_vector *scale;                              /* nmax: balancing D */
     rigmat_fastblas blas; /* OpenBLAS, opened by the first large product or LU */
+    double l2c[RIGMAT_EXPM_NL2C]; /* log2 |c_(2m+1)| by degree m (expm.c, ell) */
 } rigmat_expm_ws;
 
 /* What one call did, for tests, the benchmark and diagnostics. */
@@ -91,5 +94,11 @@ double rigmat_expm_norm1(const gsl_matrix *A);
  * with D = diag(d) of powers of two (the Parlett-Reinsch iteration, GSL's
  * gsl_linalg_balance_matrix bit for bit; see expm.c). */
 void rigmat_expm_balance(double *a, size_t n, size_t tda, double *d);
+
+/* LU with partial pivoting of a small row-major a in place (GSL's
+ * gsl_linalg_LU_decomp bit for bit for n <= RIGMAT_EXPM_SMALL_LU; see
+ * expm.c); perm[i] = the original row at i.  0, or -1 for a zero pivot. */
+#define RIGMAT_EXPM_SMALL_LU 16
+int rigmat_expm_small_lu(double *a, size_t n, size_t tda, size_t *perm);
 
 #endif /* RIGMAT_EXPM_H */

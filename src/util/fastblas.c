@@ -161,10 +161,48 @@ int rigmat_dgemm(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, CBLAS_TRANSPOSE_t tb
     return GSL_SUCCESS;
 }
 
+/* B = alpha op(A)^-1 B for a small triangular A on the left, no
+ * transpose: GSL CBLAS's operations in its order (B scaled by alpha, then
+ * row by row, each row divided by its diagonal entry unless unit, and
+ * eliminated from the rows still to do), so its bits. */
+static void small_dtrsm_left(int upper, int unit, size_t m, size_t n, double alpha,
+                             const double *A, size_t lda, double *B, size_t ldb)
+{
+    size_t i, j, k, r;
+
+    if (alpha != 1.0)
+        for (i = 0; i < m; i++)
+            for (j = 0; j < n; j++)
+                B[i * ldb + j] *= alpha;
+    for (r = 0; r < m; r++) {
+        double *restrict bi;
+        i = upper ? m - 1 - r : r;
+        bi = B + i * ldb;
+        if (!unit) {
+            const double aii = A[i * lda + i];
+            for (j = 0; j < n; j++)
+                bi[j] /= aii;
+        }
+        for (k = upper ? 0 : i + 1; k < (upper ? i : m); k++) {
+            const double aki = A[k * lda + i];
+            double *restrict bk = B + k * ldb;
+            for (j = 0; j < n; j++)
+                bk[j] -= aki * bi[j];
+        }
+    }
+}
+
 int rigmat_dtrsm(rigmat_fastblas *fb, CBLAS_SIDE_t side, CBLAS_UPLO_t uplo, CBLAS_TRANSPOSE_t ta,
                  CBLAS_DIAG_t diag, double alpha, const gsl_matrix *A, gsl_matrix *B)
 {
     const size_t m = B->size1, n = B->size2, na = side == CblasLeft ? m : n;
+
+    if (side == CblasLeft && ta == CblasNoTrans && A->size1 == na && A->size2 == na && na > 0 &&
+        n > 0 && !large((double)m, (double)n, (double)na) && !overlaps(B, A)) {
+        small_dtrsm_left(uplo == CblasUpper, diag == CblasUnit, m, n, alpha, A->data, A->tda,
+                         B->data, B->tda);
+        return GSL_SUCCESS;
+    }
 
     if (fb == NULL || A->size1 != na || A->size2 != na || na == 0 ||
         !large((double)m, (double)n, (double)na) || !fits_int(m) || !fits_int(n) ||
