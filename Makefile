@@ -87,6 +87,16 @@ BENCH_SRC := $(sort $(wildcard bench/*.c))
 VECTORIZE := $(shell $(CC) -fvect-cost-model=dynamic -x c -c -o /dev/null /dev/null 2>/dev/null \
                && echo -fvect-cost-model=dynamic)
 
+# The complex step's arithmetic (src/mech: mechanics.c, recursive.c,
+# closure.c) by the textbook formulas inline: C99's rules make every
+# complex division a library call (__divdc3) and every product check for
+# NaN to rescue infinities, which a finite model never needs (an infinite
+# result is refused as not finite either way).  The linearization of the
+# demo took 7.2 us, 5.9 us with the flag; the outputs of every example
+# stay the same bytes (72 runs compared).  Empty for a compiler without it.
+CXRULES := $(shell $(CC) -fcx-fortran-rules -x c -c -o /dev/null /dev/null 2>/dev/null \
+               && echo -fcx-fortran-rules)
+
 define flavour
 $(1)_OBJ_LIB  = $$(LIB_SRC:%.c=$(BUILD)/$(1)/%.o)
 $(1)_OBJ_CLI  = $$(CLI_SRC:%.c=$(BUILD)/$(1)/%.o)
@@ -96,6 +106,8 @@ $(BUILD)/$(1)/%.o: %.c | deps-build
 	$$(CC) $$(PROJECT_CFLAGS) $$(PKG_CFLAGS) $$(OBJ_EXTRA_CFLAGS) $$(CFLAGS) $(2) -c $$< -o $$@
 $(BUILD)/$(1)/tests/%.o: OBJ_EXTRA_CFLAGS = $$(CHECK_CFLAGS)
 $(BUILD)/$(1)/src/util/fastblas.o: OBJ_EXTRA_CFLAGS = $$(VECTORIZE)
+$(BUILD)/$(1)/src/mech/mechanics.o $(BUILD)/$(1)/src/mech/recursive.o \
+    $(BUILD)/$(1)/src/mech/closure.o: OBJ_EXTRA_CFLAGS = $$(CXRULES)
 $$($(1)_OBJ_TEST): | deps-test
 $(BUILD)/$(1)/librigmat.a: $$($(1)_OBJ_LIB)
 	@rm -f $$@
