@@ -268,7 +268,7 @@ static void put_matrix(double *dst, const gsl_matrix *m, size_t rows, size_t col
 
     if (rows == 0 || cols == 0)
         return;
-    if (m == NULL) {
+    if (m == NULL || RIGMAT_NEVER(m->size1 != rows || m->size2 != cols)) {
         for (j = 0; j < rows * cols; j++)
             dst[j] = 0.0;
         return;

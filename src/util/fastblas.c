@@ -122,8 +122,9 @@ static void small_dgemm(size_t m, size_t n, size_t k, double alpha, const double
             const double *restrict b = B + l * ldb;
             if (t == 0.0)
                 continue;
-            /* pairs of independent updates, which the compiler's
-             * straight-line vectorizer packs two to a register */
+            /* four independent updates a step (the elements' operations
+             * stay in order); built with VECTORIZE (Makefile) the
+             * compiler puts them in vector registers */
             for (j = 0; j + 4 <= n; j += 4) {
                 c[j] += t * b[j];
                 c[j + 1] += t * b[j + 1];
