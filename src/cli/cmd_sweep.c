@@ -353,6 +353,19 @@ static void add_vec(rigmat_result *r, const rigmat_sweep *s, size_t p, int b,
     rigmat_result_values(r, rigmat_sweep_block(s, p, (size_t)b), s->rows[b], names);
 }
 
+/* Point p's sampled blocks (Ad, Bd, Gd, Cd, Dd, Ed); w names the
+ * disturbance columns. */
+static void add_sampled(rigmat_result *r, const rigmat_sweep *s, size_t p, const rigmat_layout *L,
+        const rigmat_signal *w)
+{
+    add_block(r, s, p, RIGMAT_SB_AD, L->states, L->states);
+    add_block(r, s, p, RIGMAT_SB_BD, L->states, L->inputs);
+    add_block(r, s, p, RIGMAT_SB_GD, L->states, w);
+    add_block(r, s, p, RIGMAT_SB_CD, L->outputs, L->states);
+    add_block(r, s, p, RIGMAT_SB_DD, L->outputs, L->inputs);
+    add_block(r, s, p, RIGMAT_SB_ED, L->outputs, w);
+}
+
 static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
         const rigmat_sweep_opts *o, const double *grid, const double *okv)
 {
@@ -428,12 +441,7 @@ static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
         add_vec(r, s, p, RIGMAT_SB_U0, "u0", L->inputs);
         add_vec(r, s, p, RIGMAT_SB_Y0, "y0", L->outputs);
         if (o->discretize) {
-            add_block(r, s, p, RIGMAT_SB_AD, L->states, L->states);
-            add_block(r, s, p, RIGMAT_SB_BD, L->states, L->inputs);
-            add_block(r, s, p, RIGMAT_SB_GD, L->states, w);
-            add_block(r, s, p, RIGMAT_SB_CD, L->outputs, L->states);
-            add_block(r, s, p, RIGMAT_SB_DD, L->outputs, L->inputs);
-            add_block(r, s, p, RIGMAT_SB_ED, L->outputs, w);
+            add_sampled(r, s, p, L, w);
         }
         rigmat_result_close(r);
         rigmat_result_show(r, RIGMAT_SHOW_EXPORT);
@@ -473,12 +481,7 @@ static rigmat_result *sweep_result(const rigmat_model *m, const rigmat_sweep *s,
             add_vec(r, s, p, RIGMAT_SB_Y0, "y", L->outputs);
             rigmat_result_close(r);
             if (o->discretize) {
-                add_block(r, s, p, RIGMAT_SB_AD, L->states, L->states);
-                add_block(r, s, p, RIGMAT_SB_BD, L->states, L->inputs);
-                add_block(r, s, p, RIGMAT_SB_GD, L->states, w);
-                add_block(r, s, p, RIGMAT_SB_CD, L->outputs, L->states);
-                add_block(r, s, p, RIGMAT_SB_DD, L->outputs, L->inputs);
-                add_block(r, s, p, RIGMAT_SB_ED, L->outputs, w);
+                add_sampled(r, s, p, L, w);
             }
         }
         rigmat_result_close(r);

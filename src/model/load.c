@@ -2652,74 +2652,15 @@ rigmat_status rigmat_load_base_new(const char *path, const rigmat_options *opt,
     return RIGMAT_OK;
 }
 
-rigmat_status rigmat_model_load_from(const rigmat_load_base *b, const char *const *sets,
-        size_t nsets, const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags)
+/* A model with nothing loaded but its file name (path), and its own list
+ * for interned file names; NULL when out of memory. */
+static rigmat_model *model_shell(const char *path, const rigmat_options *opt, rigmat_diags *diags)
 {
-    rigmat_model *m;
-    rigmat_node *root;
-    rigmat_status st2;
-    const size_t before = diags->errors;
+    rigmat_model *m = calloc(1, sizeof *m);
     struct ld L;
 
-    *out = NULL;
-    m = calloc(1, sizeof *m);
     if (m == NULL)
-        return RIGMAT_ENOMEM;
-    m->owner_diags = calloc(1, sizeof *m->owner_diags);
-    L.m = m;
-    L.d = diags;
-    L.opt = opt;
-    L.nomem = 0;
-    m->file = m->owner_diags ? dup_s(&L, b->path) : NULL;
-    if (m->file == NULL) {
-        rigmat_model_free(m);
-        return RIGMAT_ENOMEM;
-    }
-    rigmat_diags_init(m->owner_diags);
-    root = rigmat_node_copy(b->root);
-    if (root == NULL) {
-        rigmat_model_free(m);
-        return RIGMAT_ENOMEM;
-    }
-    /* from here as rigmat_model_load after the parts */
-    st2 = rigmat_load_sets(root, sets, nsets, opt, m->owner_diags, diags);
-    if (st2 != RIGMAT_ENOMEM)
-        st2 = rigmat_load_schema(root, m, opt, diags);
-    rigmat_node_free(root);
-    if (st2 == RIGMAT_ENOMEM) {
-        rigmat_model_free(m);
-        return st2;
-    }
-    if (diags->errors == before) {
-        st2 = rigmat_layout_build(m, diags);
-        if (st2 == RIGMAT_ENOMEM) {
-            rigmat_model_free(m);
-            return st2;
-        }
-    }
-    if (diags->errors > before) {
-        rigmat_model_free(m);
-        return RIGMAT_EMODEL;
-    }
-    *out = m;
-    return RIGMAT_OK;
-}
-
-rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_t nsets,
-        const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags)
-{
-    rigmat_model *m;
-    rigmat_node *root = NULL;
-    rigmat_status st, st2;
-    const size_t before = diags->errors;
-    size_t bytes = 0;
-    int stop = 0;
-    struct ld L;
-
-    *out = NULL;
-    m = calloc(1, sizeof *m);
-    if (m == NULL)
-        return RIGMAT_ENOMEM;
+        return NULL;
     m->owner_diags = calloc(1, sizeof *m->owner_diags);
     L.m = m;
     L.d = diags;
@@ -2728,24 +2669,19 @@ rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_
     m->file = m->owner_diags ? dup_s(&L, path) : NULL;
     if (m->file == NULL) {
         rigmat_model_free(m);
-        return RIGMAT_ENOMEM;
+        return NULL;
     }
     rigmat_diags_init(m->owner_diags);
-    st = rigmat_load_yaml_file_sized(path, opt, m->owner_diags, diags, &root, &bytes);
-    if (st == RIGMAT_EIO || st == RIGMAT_ENOMEM || (st != RIGMAT_OK && root == NULL)) {
-        rigmat_node_free(root);
-        rigmat_model_free(m);
-        return st;
-    }
-    /* Entry counts before any part is read: 300 bodies that each name a
-     * large part are refused at once (issue 10).  Keep going after
-     * duplicate keys: more errors are worth reporting; not after a count
-     * or the parts' total budget, which leave nothing worth reading. */
-    st2 = rigmat_load_counts(root, opt, diags);
-    if (st2 == RIGMAT_OK)
-        st2 = rigmat_load_parts(root, path, bytes, opt, m->owner_diags, diags, &stop);
-    else
-        stop = 1;
+    return m;
+}
+
+/* The stages after the parts, on root (taken): the overrides and the
+ * schema unless st2 is RIGMAT_ENOMEM or stop, then the layout when no
+ * error was added since before.  *out = m, or m freed. */
+static rigmat_status load_rest(rigmat_model *m, rigmat_node *root, rigmat_status st2, int stop,
+        const char *const *sets, size_t nsets, const rigmat_options *opt, rigmat_diags *diags,
+        size_t before, rigmat_model **out)
+{
     if (st2 != RIGMAT_ENOMEM && !stop)
         st2 = rigmat_load_sets(root, sets, nsets, opt, m->owner_diags, diags);
     if (st2 != RIGMAT_ENOMEM && !stop)
@@ -2768,4 +2704,55 @@ rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_
     }
     *out = m;
     return RIGMAT_OK;
+}
+
+rigmat_status rigmat_model_load_from(const rigmat_load_base *b, const char *const *sets,
+        size_t nsets, const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags)
+{
+    const size_t before = diags->errors;
+    rigmat_model *m;
+    rigmat_node *root;
+
+    *out = NULL;
+    m = model_shell(b->path, opt, diags);
+    if (m == NULL)
+        return RIGMAT_ENOMEM;
+    root = rigmat_node_copy(b->root);
+    if (root == NULL) {
+        rigmat_model_free(m);
+        return RIGMAT_ENOMEM;
+    }
+    return load_rest(m, root, RIGMAT_OK, 0, sets, nsets, opt, diags, before, out);
+}
+
+rigmat_status rigmat_model_load(const char *path, const char *const *sets, size_t nsets,
+        const rigmat_options *opt, rigmat_model **out, rigmat_diags *diags)
+{
+    const size_t before = diags->errors;
+    rigmat_model *m;
+    rigmat_node *root = NULL;
+    rigmat_status st, st2;
+    size_t bytes = 0;
+    int stop = 0;
+
+    *out = NULL;
+    m = model_shell(path, opt, diags);
+    if (m == NULL)
+        return RIGMAT_ENOMEM;
+    st = rigmat_load_yaml_file_sized(path, opt, m->owner_diags, diags, &root, &bytes);
+    if (st == RIGMAT_EIO || st == RIGMAT_ENOMEM || (st != RIGMAT_OK && root == NULL)) {
+        rigmat_node_free(root);
+        rigmat_model_free(m);
+        return st;
+    }
+    /* Entry counts before any part is read: 300 bodies that each name a
+     * large part are refused at once (issue 10).  Keep going after
+     * duplicate keys: more errors are worth reporting; not after a count
+     * or the parts' total budget, which leave nothing worth reading. */
+    st2 = rigmat_load_counts(root, opt, diags);
+    if (st2 == RIGMAT_OK)
+        st2 = rigmat_load_parts(root, path, bytes, opt, m->owner_diags, diags, &stop);
+    else
+        stop = 1;
+    return load_rest(m, root, st2, stop, sets, nsets, opt, diags, before, out);
 }
