@@ -625,6 +625,64 @@ START_TEST(set_creates_missing_keys)
 }
 END_TEST
 
+/* The texts rigmat_load_op_value takes without the YAML parser are ones
+ * the parser reads as the plain scalar of the same characters: a fixed
+ * list both ways, then random texts over an alphabet with YAML's
+ * indicators (every accepted one parsed and compared). */
+static int parses_as_itself(const char *t)
+{
+    rigmat_options opt = rigmat_options_default();
+    rigmat_diags files, d;
+    rigmat_node *n = NULL;
+    int same;
+
+    rigmat_diags_init(&files);
+    rigmat_diags_init(&d);
+    same = rigmat_load_yaml_text(t, strlen(t), "--set", 1, 1, &opt, &files, &d, &n) ==
+                    RIGMAT_OK && d.errors == 0 && n != NULL && n->type == RIGMAT_NODE_SCALAR &&
+            n->plain && strcmp(n->text, t) == 0;
+    rigmat_node_free(n);
+    rigmat_diags_release(&d);
+    rigmat_diags_release(&files);
+    return same;
+}
+
+START_TEST(plain_number_text_is_its_own_scalar)
+{
+    static const char *const yes[] = { "0", "-10", "1.5 deg", "-1.2345678901234567e-05 rad/s",
+        "+.5", "-.5 m", "3 N*m", "9.80665 m/s^2", "2 kg*m^2", "1e400 deg", "7 (rad)" };
+    static const char *const no[] = { "", " 1", "1 ", "1  deg", "- 1", "-", ".", "deg",
+        "1 deg # c", "1: 2", "'1'", "\"1\"", "[1]", "{a: 1}", "1,2", "&a 1", "*a", "!x 1",
+        "%1", "1 #", "1\tdeg", "---", "~", "null", "1\n2" };
+    static const char alphabet[] = "0123456789.+-*/^_() eadgmsN:#'\"[]{},&!%|>?@`~\t";
+    unsigned long seed = 12345u;
+    size_t i, k, accepted = 0;
+    char t[24];
+
+    for (i = 0; i < sizeof yes / sizeof yes[0]; i++) {
+        ck_assert_msg(rigmat_load_plain_number_text(yes[i]), "'%s' refused", yes[i]);
+        ck_assert_msg(parses_as_itself(yes[i]), "'%s' parses otherwise", yes[i]);
+    }
+    for (i = 0; i < sizeof no / sizeof no[0]; i++)
+        ck_assert_msg(!rigmat_load_plain_number_text(no[i]), "'%s' taken", no[i]);
+    for (i = 0; i < 40000; i++) {
+        const size_t len = 1 + i % (sizeof t - 1);
+        for (k = 0; k < len; k++) {
+            seed = seed * 6364136223846793005ul + 1442695040888963407ul;
+            t[k] = alphabet[(seed >> 33) % (sizeof alphabet - 1)];
+        }
+        t[len] = '\0';
+        if (i % 2 == 0 && len > 1)
+            t[0] = (char)('0' + i % 10); /* half start as a number does */
+        if (rigmat_load_plain_number_text(t)) {
+            accepted++;
+            ck_assert_msg(parses_as_itself(t), "'%s' taken, but YAML reads it otherwise", t);
+        }
+    }
+    ck_assert_uint_gt(accepted, 1000);
+}
+END_TEST
+
 /* ------------------------------------------------------ parts and limits */
 
 START_TEST(part_lookup_order)
@@ -1240,6 +1298,7 @@ Suite *load_suite(void)
     tcase_add_loop_test(set, set_errors_point_at_the_command_line, 0,
             (int)(sizeof bad_sets / sizeof bad_sets[0]));
     tcase_add_test(set, set_creates_missing_keys);
+    tcase_add_test(set, plain_number_text_is_its_own_scalar);
     suite_add_tcase(s, set);
     tcase_add_test(lim, part_lookup_order);
     tcase_add_test(lim, part_symlink_cannot_escape);

@@ -167,6 +167,14 @@ int rigmat_load_op_input_outside(const rigmat_model *m, const char *name, double
 rigmat_status rigmat_load_op_value(const rigmat_model *m, const char *set,
         const rigmat_options *opt, int *which, char *name, size_t name_len, double *value);
 
+/* 1 when s is a text YAML reads as a plain scalar of exactly its own
+ * characters and the loader as a number with an optional unit: a digit,
+ * or a sign or point before one, first; then only letters, digits, one
+ * space at a time (not last) and . + - * / ^ _ ( ) (no ':', '#', quote,
+ * comma or bracket).  rigmat_load_op_value takes such a text as that
+ * scalar without the parser (tests/check_load.c holds the two equal). */
+int rigmat_load_plain_number_text(const char *s);
+
 /* rigmat_model_load's stages before the overrides (read, parse, the entry
  * counts, parts merged), kept for many loads of one file with different
  * overrides: a sweep over a parameter.  rigmat_model_load_from then runs
