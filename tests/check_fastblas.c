@@ -5,6 +5,8 @@
 #include "expm.h"
 #include "testutil.h"
 
+#include <gsl/gsl_complex_math.h>
+#include <gsl/gsl_linalg.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -319,6 +321,128 @@ START_TEST(a_small_exponential_does_not_open_the_library)
 }
 END_TEST
 
+/* Eigenvalues and eigenvectors (rigmat_eigen_nonsymmv) of A = S T S^-1,
+ * T block diagonal with 2 x 2 blocks [[a, b], [-b, a]] (eigenvalues
+ * a +- b i) and 1 x 1 blocks (real ones), S = I + a small random matrix:
+ * a similarity keeps the eigenvalues (so they are known by construction).
+ * Each computed eigenvalue is matched to a distinct known one, each
+ * vector has unit norm and a residual |A v - lambda v| at rounding. */
+static void check_eigen(rigmat_fastblas *fb, size_t n, unsigned seed)
+{
+    gsl_matrix *T = gsl_matrix_calloc(n, n), *S = gsl_matrix_alloc(n, n);
+    gsl_matrix *Si = gsl_matrix_alloc(n, n), *A = gsl_matrix_alloc(n, n);
+    gsl_matrix *W = gsl_matrix_alloc(n, n), *LU = gsl_matrix_alloc(n, n);
+    gsl_permutation *p = gsl_permutation_alloc(n);
+    gsl_vector_complex *ev = gsl_vector_complex_alloc(n);
+    gsl_matrix_complex *V = gsl_matrix_complex_alloc(n, n);
+    double *kre = malloc(n * sizeof *kre), *kim = malloc(n * sizeof *kim), anorm = 0.0;
+    int *used = calloc(n, sizeof *used), sg;
+    unsigned st = seed;
+    size_t i, j, k;
+
+    for (i = 0; i < n; i++) {
+        const double a = -1.0 - (double)(i % 7) * 3.0 - (double)i / (double)n;
+        if (i + 1 < n && i % 3 != 2) {
+            const double b = 2.0 + (double)i;
+            gsl_matrix_set(T, i, i, a);
+            gsl_matrix_set(T, i + 1, i + 1, a);
+            gsl_matrix_set(T, i, i + 1, b);
+            gsl_matrix_set(T, i + 1, i, -b);
+            kre[i] = kre[i + 1] = a;
+            kim[i] = b;
+            kim[i + 1] = -b;
+            i++;
+        } else {
+            gsl_matrix_set(T, i, i, a);
+            kre[i] = a;
+            kim[i] = 0.0;
+        }
+    }
+    for (i = 0; i < n; i++)
+        for (j = 0; j < n; j++) {
+            st = st * 1103515245u + 12345u;
+            gsl_matrix_set(S, i, j, (i == j ? 1.0 : 0.0) +
+                    ((double)((st >> 8) & 0xffffu) / 65536.0 - 0.5) / (double)n);
+        }
+    gsl_matrix_memcpy(LU, S);
+    ck_assert_int_eq(gsl_linalg_LU_decomp(LU, p, &sg), 0);
+    ck_assert_int_eq(gsl_linalg_LU_invert(LU, p, Si), 0);
+    gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, S, T, 0.0, W);
+    gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, W, Si, 0.0, A);
+    for (j = 0; j < n; j++) {
+        double c = 0.0;
+        for (i = 0; i < n; i++)
+            c += fabs(gsl_matrix_get(A, i, j));
+        anorm = fmax(anorm, c);
+    }
+    gsl_matrix_memcpy(W, A);
+    ck_assert_int_eq(rigmat_eigen_nonsymmv(fb, W, ev, V), 0);
+    for (k = 0; k < n; k++) {
+        const gsl_complex z = gsl_vector_complex_get(ev, k);
+        size_t best = n;
+        double dbest = HUGE_VAL, vn = 0.0, rn = 0.0;
+        for (j = 0; j < n; j++) {
+            const double d = hypot(GSL_REAL(z) - kre[j], GSL_IMAG(z) - kim[j]);
+            if (!used[j] && d < dbest) {
+                dbest = d;
+                best = j;
+            }
+        }
+        ck_assert_msg(best < n && dbest <= 1e-9 * anorm, "n %zu: eigenvalue %zu (%g, %g) "
+                "is %g from the nearest unused known one", n, k, GSL_REAL(z), GSL_IMAG(z), dbest);
+        used[best] = 1;
+        for (i = 0; i < n; i++) {
+            double rr = -GSL_REAL(z) * GSL_REAL(gsl_matrix_complex_get(V, i, k)) +
+                        GSL_IMAG(z) * GSL_IMAG(gsl_matrix_complex_get(V, i, k));
+            double ri = -GSL_REAL(z) * GSL_IMAG(gsl_matrix_complex_get(V, i, k)) -
+                        GSL_IMAG(z) * GSL_REAL(gsl_matrix_complex_get(V, i, k));
+            vn += gsl_complex_abs2(gsl_matrix_complex_get(V, i, k));
+            for (j = 0; j < n; j++) {
+                rr += gsl_matrix_get(A, i, j) * GSL_REAL(gsl_matrix_complex_get(V, j, k));
+                ri += gsl_matrix_get(A, i, j) * GSL_IMAG(gsl_matrix_complex_get(V, j, k));
+            }
+            rn += rr * rr + ri * ri;
+        }
+        ck_assert_msg(fabs(sqrt(vn) - 1.0) <= 1e-12, "n %zu: vector %zu has norm %.17g", n, k,
+                sqrt(vn));
+        ck_assert_msg(sqrt(rn) <= 1e-11 * anorm, "n %zu: residual of vector %zu is %g (|A| %g)",
+                n, k, sqrt(rn), anorm);
+    }
+    gsl_matrix_free(T);
+    gsl_matrix_free(S);
+    gsl_matrix_free(Si);
+    gsl_matrix_free(A);
+    gsl_matrix_free(W);
+    gsl_matrix_free(LU);
+    gsl_permutation_free(p);
+    gsl_vector_complex_free(ev);
+    gsl_matrix_complex_free(V);
+    free(kre);
+    free(kim);
+    free(used);
+}
+
+START_TEST(eigenvalues_by_lapack_and_by_gsl)
+{
+    static const char *const none[] = { "librigmat-no-such-blas.so.0", NULL };
+    rigmat_fastblas fb, off;
+
+    rigmat_fastblas_init(&fb);
+    check_eigen(&fb, 20, 7u); /* below the threshold: GSL, the library stays closed */
+    ck_assert_ptr_null(fb.handle);
+    check_eigen(&fb, RIGMAT_FASTBLAS_EIG_MIN_N, 11u);
+    check_eigen(&fb, 150, 13u);
+    ck_assert_ptr_nonnull(fb.handle);
+    ck_assert(fb.dgeev != NULL);
+    rigmat_fastblas_release(&fb);
+    rigmat_fastblas_init(&off);
+    ck_assert_int_eq(rigmat_fastblas_load(&off, none), 0);
+    check_eigen(&off, 150, 13u); /* no library: GSL at any size */
+    check_eigen(NULL, 90, 17u);
+    rigmat_fastblas_release(&off);
+}
+END_TEST
+
 Suite *fastblas_suite(void);
 Suite *fastblas_suite(void)
 {
@@ -331,6 +455,7 @@ Suite *fastblas_suite(void)
     tcase_add_test(t, a_library_that_does_not_open_falls_back_silently);
     tcase_add_test(t, exponential_through_openblas_and_without_it);
     tcase_add_test(t, a_small_exponential_does_not_open_the_library);
+    tcase_add_test(t, eigenvalues_by_lapack_and_by_gsl);
     suite_add_tcase(s, t);
     return s;
 }

@@ -458,6 +458,31 @@ START_TEST(direct_disturbance_adds_to_rd_and_cross_covariance)
 }
 END_TEST
 
+/* A workspace for no disturbance holds only what the zero Qd needs: the
+ * doubling's exponential refuses it instead of running on missing room. */
+START_TEST(workspace_without_disturbance_is_small_and_refuses_qd)
+{
+    rigmat_noise_opts o = rigmat_noise_opts_default();
+    rigmat_noise_ws *w = rigmat_noise_ws_alloc(3, 0);
+    gsl_matrix *A = gsl_matrix_calloc(3, 3), *G = gsl_matrix_calloc(3, 1);
+    gsl_matrix *Q = gsl_matrix_alloc(3, 3);
+    const double qc[] = { 1.0 };
+    rigmat_error err;
+
+    ck_assert_ptr_nonnull(w);
+    ck_assert_ptr_nonnull(w->T2);
+    ck_assert_ptr_null(w->expm);
+    ck_assert_ptr_null(w->M);
+    memset(&err, 0, sizeof err);
+    ck_assert_int_eq(rigmat_noise_qd(A, G, qc, 0.01, &o, w, Q, NULL, &err), RIGMAT_EUSAGE);
+    ck_assert_ptr_nonnull(strstr(err.message, "no disturbance"));
+    rigmat_noise_ws_free(w);
+    gsl_matrix_free(A);
+    gsl_matrix_free(G);
+    gsl_matrix_free(Q);
+}
+END_TEST
+
 START_TEST(bad_intensity_is_refused)
 {
     const double a[] = { -1 }, g[] = { 1 }, q = -0.5;
@@ -497,6 +522,7 @@ Suite *noise_suite(void)
     tcase_add_test(tq, stiff_oscillators_right_or_refused);
     tcase_add_test(tq, random_qd_symmetric_psd_and_doubling_exact);
     tcase_add_test(tq, bad_intensity_is_refused);
+    tcase_add_test(tq, workspace_without_disturbance_is_small_and_refuses_qd);
     suite_add_tcase(s, tq);
     tcase_add_test(tr, sensor_variances_follow_the_convention);
     tcase_add_test(tr, direct_disturbance_adds_to_rd_and_cross_covariance);

@@ -57,6 +57,17 @@ rigmat_noise_ws *rigmat_noise_ws_alloc(size_t nx, size_t nw)
         return NULL;
     w->nx = nx;
     w->nw = nw;
+    if (nw == 0) {
+        /* no disturbance: Qd is zero and nothing reads an exponential;
+         * rigmat_noise_build needs T2 only (the doubling's workspace of a
+         * 2000-state model was 1.3 GB of pages cleared and never used) */
+        w->T2 = sq(nx, &bad);
+        if (bad) {
+            rigmat_noise_ws_free(w);
+            return NULL;
+        }
+        return w;
+    }
     w->expm = rigmat_expm_ws_alloc(nb);
     w->M = sq(nb, &bad);
     w->F = sq(nb, &bad);
@@ -460,6 +471,9 @@ rigmat_status rigmat_noise_qd(const gsl_matrix *A, const gsl_matrix *G, const do
     if (n > w->nx)
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
                            "process noise: workspace is for %zu states, model has %zu", w->nx, n);
+    if (w->expm == NULL)
+        return RIGMAT_FAIL(err, RIGMAT_EUSAGE,
+                           "process noise: the workspace was made for no disturbance");
     if (!(period_s > 0.0) || !isfinite(period_s))
         return RIGMAT_FAIL(err, RIGMAT_EUSAGE, "the sample period must be positive, got %g s",
                            period_s);

@@ -95,7 +95,9 @@ typedef enum rigmat_qd_route {
 
 rigmat_noise_opts rigmat_noise_opts_default(void);
 
-/* Scratch space for models of up to nx states and nw disturbances. */
+/* Scratch space for models of up to nx states and nw disturbances.  With
+ * nw = 0 only T2 is allocated (rigmat_noise_build's zero Qd; the others
+ * are NULL and rigmat_noise_qd refuses the workspace). */
 typedef struct rigmat_noise_ws {
     size_t nx, nw;
     rigmat_expm_ws *expm;              /* max(2 nx, nx + nw) */

@@ -3,8 +3,11 @@
 #include "fastblas.h"
 
 #include <dlfcn.h>
+#include <gsl/gsl_complex_math.h>
+#include <gsl/gsl_eigen.h>
 #include <gsl/gsl_errno.h>
 #include <limits.h>
+#include <stdlib.h>
 #include <string.h>
 
 const char *const rigmat_fastblas_names[] = { "libopenblas.so.0", "libopenblas.so", NULL };
@@ -34,7 +37,7 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
     fb->tried = 1;
     for (p = names != NULL ? names : rigmat_fastblas_names; *p != NULL; p++) {
         void *h = dlopen(*p, RTLD_NOW | RTLD_LOCAL | RTLD_NODELETE);
-        void *g, *f, *t, *v;
+        void *g, *f, *t, *v, *e;
         if (h == NULL)
             continue;
         g = dlsym(h, "cblas_dgemm");
@@ -45,6 +48,7 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
         f = dlsym(h, "dgetrf_");
         t = dlsym(h, "cblas_dtrsm");
         v = dlsym(h, "cblas_dgemv");
+        e = dlsym(h, "dgeev_");
         fb->handle = h;
         /* ISO C has no conversion from void * to a function pointer; POSIX
          * guarantees the representation, so the bytes are copied */
@@ -55,6 +59,8 @@ int rigmat_fastblas_load(rigmat_fastblas *fb, const char *const *names)
             memcpy(&fb->dtrsm, &t, sizeof fb->dtrsm);
         if (v != NULL)
             memcpy(&fb->dgemv, &v, sizeof fb->dgemv);
+        if (e != NULL)
+            memcpy(&fb->dgeev, &e, sizeof fb->dgeev);
         return 1;
     }
     (void)dlerror(); /* the failure is data (tried, no dgemm), not a message */
@@ -270,4 +276,90 @@ rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n)
         !rigmat_fastblas_load(fb, NULL))
         return NULL;
     return fb->dgetrf;
+}
+
+/* dgeev_ on a column-major copy of A (n >= 1): eigenvalues into ev and
+ * eigenvectors into V in GSL's form (a complex pair's columns j, j + 1 of
+ * VR are the real and imaginary parts of the first vector; the second is
+ * its conjugate).  LAPACK scales each vector to unit Euclidean norm, as
+ * GSL does.  A GSL status. */
+static int lapack_eigen(rigmat_dgeev_fn dgeev, gsl_matrix *A, gsl_vector_complex *ev,
+                        gsl_matrix_complex *V)
+{
+    const size_t n = A->size1;
+    const int ni = (int)n;
+    double *a = malloc(n * n * sizeof *a), *vr = malloc(n * n * sizeof *vr);
+    double *wr = malloc(n * sizeof *wr), *wi = malloc(n * sizeof *wi), *work = NULL;
+    double query = 0.0, dummy = 0.0;
+    int lwork = -1, info = 0, one = 1, rc = GSL_SUCCESS;
+    size_t i, j;
+
+    if (a == NULL || vr == NULL || wr == NULL || wi == NULL) {
+        rc = GSL_ENOMEM;
+        goto done;
+    }
+    for (i = 0; i < n; i++)
+        for (j = 0; j < n; j++)
+            a[j * n + i] = gsl_matrix_get(A, i, j);
+    dgeev("N", "V", &ni, a, &ni, wr, wi, &dummy, &one, vr, &ni, &query, &lwork, &info, 1, 1);
+    if (info != 0 || !(query >= 1.0) || query > (double)INT_MAX) {
+        rc = GSL_EFAILED;
+        goto done;
+    }
+    lwork = (int)query;
+    work = malloc((size_t)lwork * sizeof *work);
+    if (work == NULL) {
+        rc = GSL_ENOMEM;
+        goto done;
+    }
+    dgeev("N", "V", &ni, a, &ni, wr, wi, &dummy, &one, vr, &ni, work, &lwork, &info, 1, 1);
+    if (info != 0) {
+        rc = info > 0 ? GSL_EMAXITER : GSL_EFAILED; /* > 0: the QR did not converge */
+        goto done;
+    }
+    for (j = 0; j < n; j++) {
+        gsl_vector_complex_set(ev, j, gsl_complex_rect(wr[j], wi[j]));
+        if (wi[j] != 0.0 && j + 1 < n) {
+            /* the pair's first vector is column j + i column j + 1 */
+            gsl_vector_complex_set(ev, j + 1, gsl_complex_rect(wr[j + 1], wi[j + 1]));
+            for (i = 0; i < n; i++) {
+                const double re = vr[j * n + i], im = vr[(j + 1) * n + i];
+                gsl_matrix_complex_set(V, i, j, gsl_complex_rect(re, im));
+                gsl_matrix_complex_set(V, i, j + 1, gsl_complex_rect(re, -im));
+            }
+            j++;
+        } else {
+            for (i = 0; i < n; i++)
+                gsl_matrix_complex_set(V, i, j, gsl_complex_rect(vr[j * n + i], 0.0));
+        }
+    }
+done:
+    free(a);
+    free(vr);
+    free(wr);
+    free(wi);
+    free(work);
+    return rc;
+}
+
+int rigmat_eigen_nonsymmv(rigmat_fastblas *fb, gsl_matrix *A, gsl_vector_complex *ev,
+                          gsl_matrix_complex *V)
+{
+    const size_t n = A->size1;
+    gsl_eigen_nonsymmv_workspace *w;
+    int gs;
+
+    if (A->size2 != n || ev->size != n || V->size1 != n || V->size2 != n)
+        return GSL_EBADLEN;
+    if (n == 0)
+        return GSL_SUCCESS;
+    if (fb != NULL && n >= (size_t)RIGMAT_FASTBLAS_EIG_MIN_N && fits_int(n) &&
+        n <= (size_t)INT_MAX / n && rigmat_fastblas_load(fb, NULL) && fb->dgeev != NULL)
+        return lapack_eigen(fb->dgeev, A, ev, V);
+    w = gsl_eigen_nonsymmv_alloc(n);
+    if (w == NULL)
+        return GSL_ENOMEM;
+    gs = gsl_eigen_nonsymmv(A, ev, V, w);
+    gsl_eigen_nonsymmv_free(w);
+    return gs;
 }

@@ -33,6 +33,8 @@
 #include <stddef.h>
 #include <gsl/gsl_blas.h>
 #include <gsl/gsl_matrix.h>
+#include <gsl/gsl_vector_complex.h>
+#include <gsl/gsl_matrix_complex_double.h>
 
 /* OpenBLAS's cblas_dgemm (32-bit integers; the CBLAS enum values, the
  * same as GSL's) */
@@ -51,6 +53,14 @@ typedef void (*rigmat_cblas_dgemv_fn)(int order, int trans, int m, int n, double
 typedef void (*rigmat_dgetrf_fn)(const int *m, const int *n, double *a, const int *lda, int *ipiv,
                                  int *info);
 
+/* LAPACK's dgeev_ (column-major eigenvalues and eigenvectors of a general
+ * real matrix), with the two hidden lengths of its character arguments
+ * that Fortran compilers pass after the others */
+typedef void (*rigmat_dgeev_fn)(const char *jobvl, const char *jobvr, const int *n, double *a,
+                                const int *lda, double *wr, double *wi, double *vl,
+                                const int *ldvl, double *vr, const int *ldvr, double *work,
+                                const int *lwork, int *info, size_t len_jobvl, size_t len_jobvr);
+
 typedef struct rigmat_fastblas {
     void *handle; /* dlopen handle; NULL until loaded, or when none opened */
     int tried;    /* 1 once a load was attempted (a failure is not retried) */
@@ -58,6 +68,7 @@ typedef struct rigmat_fastblas {
     rigmat_cblas_dtrsm_fn dtrsm;
     rigmat_cblas_dgemv_fn dgemv;
     rigmat_dgetrf_fn dgetrf; /* NULL when the library has no LAPACK */
+    rigmat_dgeev_fn dgeev;   /* NULL when the library has no LAPACK */
 } rigmat_fastblas;
 
 /* Nothing loaded yet. */
@@ -97,6 +108,17 @@ int rigmat_dgemv(rigmat_fastblas *fb, CBLAS_TRANSPOSE_t ta, double alpha, const 
  * LU).  fb may be NULL. */
 rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n);
 
+/* The eigenvalues and right eigenvectors of a general square A, as
+ * gsl_eigen_nonsymmv (A destroyed; eigenvector k in column k of V, unit
+ * Euclidean norm; a GSL status: GSL_EMAXITER when the iteration does not
+ * converge, GSL_ENOMEM).  From RIGMAT_FASTBLAS_EIG_MIN_N states by the
+ * loaded library's dgeev_ when it has one (blocked Hessenberg reduction
+ * and multishift QR), else by gsl_eigen_nonsymmv on a workspace it
+ * allocates.  The order of the eigenvalues is the method's own: callers
+ * must not depend on it.  fb may be NULL (GSL). */
+int rigmat_eigen_nonsymmv(rigmat_fastblas *fb, gsl_matrix *A, gsl_vector_complex *ev,
+                          gsl_matrix_complex *V);
+
 /* The thresholds, measured on the 2-core build machine, shared
  * (build/bench/scale_bench --blas; bench/RESULTS.md, "lazyblas"), seconds
  * per square call, GSL's CBLAS / OpenBLAS (one thread):
@@ -115,6 +137,6 @@ rigmat_dgetrf_fn rigmat_fastblas_dgetrf(rigmat_fastblas *fb, size_t n);
  * lost inside the whole exponential (0.26 ms with dgetrf against 0.18 ms
  * with GSL's LU at n = 32, 0.87 against 1.21 at n = 48; src/sample/expm.c
  * before this module). */
-enum { RIGMAT_FASTBLAS_MIN_N = 16, RIGMAT_FASTBLAS_LU_MIN_N = 48 };
+enum { RIGMAT_FASTBLAS_MIN_N = 16, RIGMAT_FASTBLAS_LU_MIN_N = 48, RIGMAT_FASTBLAS_EIG_MIN_N = 64 };
 
 #endif /* RIGMAT_FASTBLAS_H */
